@@ -1,0 +1,1 @@
+//! Airflow through a drying trailer: plenum, floor, bed and fan solved together.

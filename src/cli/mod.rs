@@ -1,0 +1,44 @@
+//! The thin command-line front end: parse, load, call the library, write outputs. Only this module uses `anyhow`.
+use clap::{Parser, Subcommand};
+
+pub mod airflow;
+pub mod demo;
+pub mod props;
+pub mod weather;
+
+/// dryfront: curing farmer-stock peanuts in forced-air drying trailers, from property look-ups to whole seasons.
+///
+/// A simulation is no substitute for a calibrated moisture meter. Propane burners, hot plenums and wet peanuts
+/// carry fire, carbon-monoxide and mycotoxin risks: follow local codes, the equipment manuals and licensed practice.
+#[derive(Debug, Parser)]
+#[command(name = "dryfront", version, about, long_about = None, propagate_version = true)]
+pub struct Args {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Run the bundled demo scenario end to end and write its outputs to a folder.
+    Demo(demo::DemoArgs),
+    /// Quick property look-ups at the dryer: EMC, heated-air state, bed pressure drop.
+    #[command(subcommand)]
+    Props(props::PropsCommand),
+    /// Summarise, clean or synthesise hourly weather.
+    #[command(subcommand)]
+    Weather(weather::WeatherCommand),
+    /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
+    Airflow(airflow::AirflowArgs),
+}
+
+/// Run one parsed command line.
+pub fn run(args: Args) -> anyhow::Result<()> {
+    match args.command {
+        Command::Demo(a) => demo::run(a),
+        Command::Props(c) => props::run(c),
+        Command::Weather(c) => weather::run(c),
+        Command::Airflow(a) => airflow::run(a),
+    }
+}

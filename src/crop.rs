@@ -1,0 +1,1 @@
+//! Crop models: constants loaded and validated from `models/crops/*.json`.

@@ -1,0 +1,1 @@
+//! Deep-bed drying of one load (Thompson-style layer model), heater strategies, batch runs.

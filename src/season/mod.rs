@@ -1,0 +1,1 @@
+//! Season planner: arrivals, dispatch policies and the event simulation of a buying point.

@@ -1,0 +1,1 @@
+//! Hourly weather series, readers (EPW, CSV) with strict checks, and a seeded synthetic season generator.
