@@ -1,1 +1,7 @@
-//! Deep-bed drying of one load (Thompson-style layer model), heater strategies, batch runs.
+//! Deep-bed drying of one load (Thompson-style layer model), heater strategies, batch runs and zone accounting.
+//! Pure computation: no I/O.
+
+pub mod bed;
+pub mod heater;
+pub mod layer;
+pub mod run;

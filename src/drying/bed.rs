@@ -1,0 +1,159 @@
+//! The state of a load: hull and kernel moisture (dry basis) and peanut temperature in every cell, with the pod
+//! dry matter each cell holds. Cells are indexed `[x, y, z]`: columns over the floor, layers bottom (z = 0) to top.
+//! Each column's depth is split into `nz` equal layers (a terrain-following grid), so an uneven fill keeps the same
+//! layer count everywhere.
+
+use ndarray::{Array2, Array3};
+
+use super::layer::{CellMoisture, LayerMaterial};
+use crate::units::{db_from_wb, wb_from_db};
+
+/// Moisture, temperature and dry matter of every cell of a load.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BedState {
+    /// Hull moisture, kg water / kg hull dry matter, `[nx, ny, nz]`.
+    pub hull_db: Array3<f64>,
+    /// Kernel moisture, kg water / kg kernel dry matter.
+    pub kernel_db: Array3<f64>,
+    /// Peanut temperature, °C.
+    pub temp_c: Array3<f64>,
+    /// Pod dry matter per cell per m² of floor, kg/m².
+    pub dry_matter_kg_per_m2: Array3<f64>,
+    /// Floor area of one column, m².
+    pub column_area_m2: f64,
+    /// Fill depth of each column, m, `[nx, ny]`.
+    pub depth_m: Array2<f64>,
+}
+
+/// How moisture varies through a fresh load.
+#[derive(Debug, Clone, PartialEq)]
+pub enum InitialMoisture {
+    /// The same kernel moisture (wet basis, decimal) everywhere.
+    Uniform(f64),
+    /// Kernel moisture (wet basis, decimal) rising or falling linearly from the bottom layer to the top layer.
+    Layered {
+        /// Bottom layer, wet basis decimal.
+        bottom_wb: f64,
+        /// Top layer, wet basis decimal.
+        top_wb: f64,
+    },
+}
+
+impl InitialMoisture {
+    fn kernel_wb(&self, k: usize, nz: usize) -> f64 {
+        match *self {
+            InitialMoisture::Uniform(m) => m,
+            InitialMoisture::Layered { bottom_wb, top_wb } => {
+                let f = if nz > 1 {
+                    k as f64 / (nz - 1) as f64
+                } else {
+                    0.5
+                };
+                bottom_wb + f * (top_wb - bottom_wb)
+            }
+        }
+    }
+}
+
+impl BedState {
+    /// A fresh load: `depth_m` per column, `nz` layers, dry-matter bulk density `dry_density_kg_per_m3`, kernel
+    /// moisture from `initial`, hulls in equilibrium with their kernels, everything at `temp_c`.
+    pub fn new<M: LayerMaterial + ?Sized>(
+        material: &M,
+        depth_m: Array2<f64>,
+        column_area_m2: f64,
+        nz: usize,
+        dry_density_kg_per_m3: f64,
+        initial: &InitialMoisture,
+        temp_c: f64,
+    ) -> Self {
+        let (nx, ny) = depth_m.dim();
+        let mut hull = Array3::zeros((nx, ny, nz));
+        let mut kernel = Array3::zeros((nx, ny, nz));
+        let mut dm = Array3::zeros((nx, ny, nz));
+        for ((i, j, k), v) in dm.indexed_iter_mut() {
+            *v = dry_density_kg_per_m3 * depth_m[[i, j]] / nz as f64;
+            let cell = material.initial_state(db_from_wb(initial.kernel_wb(k, nz)), temp_c);
+            hull[[i, j, k]] = cell.hull_db;
+            kernel[[i, j, k]] = cell.kernel_db;
+        }
+        BedState {
+            hull_db: hull,
+            kernel_db: kernel,
+            temp_c: Array3::from_elem((nx, ny, nz), temp_c),
+            dry_matter_kg_per_m2: dm,
+            column_area_m2,
+            depth_m,
+        }
+    }
+
+    /// Grid shape `(nx, ny, nz)`.
+    pub fn dim(&self) -> (usize, usize, usize) {
+        self.hull_db.dim()
+    }
+
+    /// Moisture of one cell.
+    pub fn cell(&self, i: usize, j: usize, k: usize) -> CellMoisture {
+        CellMoisture {
+            hull_db: self.hull_db[[i, j, k]],
+            kernel_db: self.kernel_db[[i, j, k]],
+        }
+    }
+
+    /// Total pod dry matter, kg.
+    pub fn dry_matter_kg(&self) -> f64 {
+        self.dry_matter_kg_per_m2.sum() * self.column_area_m2
+    }
+
+    /// Total water held, kg.
+    pub fn water_kg<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
+        let mut sum = 0.0;
+        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
+            sum += material.pod_db(self.cell(i, j, k)) * dm;
+        }
+        sum * self.column_area_m2
+    }
+
+    /// Mass-weighted mean kernel moisture, wet basis decimal (the trade's moisture).
+    pub fn mean_kernel_wb<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
+        let (mut water, mut dry) = (0.0, 0.0);
+        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
+            let kdm = dm * material.kernel_fraction();
+            water += self.kernel_db[[i, j, k]] * kdm;
+            dry += kdm;
+        }
+        wb_from_db(water / dry)
+    }
+
+    /// Kernel moisture (wet basis) below which the given mass fraction of the load lies: `quantile(0.9)` is the
+    /// moisture that the driest 90 % of the dry matter are at or below.
+    pub fn kernel_wb_quantile(&self, fraction: f64) -> f64 {
+        let mut cells: Vec<(f64, f64)> = self
+            .kernel_db
+            .iter()
+            .zip(self.dry_matter_kg_per_m2.iter())
+            .map(|(&m, &d)| (m, d))
+            .collect();
+        cells.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let total: f64 = cells.iter().map(|c| c.1).sum();
+        let mut acc = 0.0;
+        for (m, d) in &cells {
+            acc += d;
+            if acc >= fraction * total - 1e-12 * total {
+                return wb_from_db(*m);
+            }
+        }
+        cells.last().map(|c| wb_from_db(c.0)).unwrap_or(0.0)
+    }
+
+    /// Total heat held by the peanuts and their water above 0 °C, J (sensible only).
+    pub fn sensible_heat_j<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
+        let cp_dm = material.cp_dry_j_per_kg_k();
+        let mut sum = 0.0;
+        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
+            let pod = material.pod_db(self.cell(i, j, k));
+            sum += dm * (cp_dm + crate::props::psychro::CP_WATER * pod) * self.temp_c[[i, j, k]];
+        }
+        sum * self.column_area_m2
+    }
+}

@@ -1,0 +1,252 @@
+//! The Thompson-style layer step: one column of thin layers crossed bottom to top by the column's air over one
+//! time step, with a heat balance between air and peanuts, moisture change from the thin-layer law toward the
+//! equilibrium moisture of the air, humidity and temperature from exact mass and enthalpy balances (latent heat of
+//! bound water from the isotherm), and a condensation check (air never leaves above saturation; condensed water goes
+//! back to the peanuts).
+//!
+//! Per layer, with R = dry matter in the layer / dry air through it in the step (DOMAIN.md §6.1):
+//! 1. air and peanuts mix sensibly to a common T_e;
+//! 2. the material's thin-layer law runs at (T_e, RH(T_e, W_in)) for dt, giving ΔM (dry basis, pod);
+//! 3. W_out = W_in + R·ΔM;
+//! 4. T_out from the enthalpy balance: air enthalpy (ASHRAE eq. 32, liquid water at 0 °C datum) + peanut sensible
+//!    enthalpy (c_dm + c_w·M)·θ is conserved, less the heat of sorption R·ΔM·(ratio − 1)·h_fg(T_e) that bound water
+//!    takes beyond free water (stored in the peanuts, counted in the energy balance);
+//! 5. if RH(T_out, W_out) > 1, the air is brought to saturation on the same energy line and the condensate is
+//!    returned to the peanuts as liquid water;
+//! 6. if drying would leave the air more humid than the hulls' equilibrium RH, ΔM is scaled down until the two meet
+//!    (air cannot leave wetter than equilibrium with the pods it has just passed).
+//!
+//! References: Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (layer structure; step details in our own
+//! notation, DOMAIN.md §6.1); ASHRAE Handbook—Fundamentals 2017 ch. 1 (moist-air enthalpy).
+
+use crate::props::psychro::{
+    rh_from_humidity_ratio, saturation_humidity_ratio, CP_DRY_AIR, CP_VAPOUR, CP_WATER, HFG0,
+};
+
+/// Moisture state of one cell's pods: up to two compartments (hull and kernel), dry basis decimal, each per kg of
+/// its own dry matter. Single-compartment crops use `hull` only and leave `kernel` equal to it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CellMoisture {
+    /// Hull (outer, fast) compartment moisture, kg water / kg hull dry matter.
+    pub hull_db: f64,
+    /// Kernel (inner, slow) compartment moisture, kg water / kg kernel dry matter.
+    pub kernel_db: f64,
+}
+
+/// What the layer step needs to know about the crop. Implemented by `crop::Crop`; tests use small stand-ins.
+pub trait LayerMaterial: Sync {
+    /// Advance the thin-layer law over `dt_s` at constant air temperature and RH (decimal).
+    fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture;
+    /// Whole-pod moisture, dry basis (dry-matter-weighted mean of the compartments).
+    fn pod_db(&self, m: CellMoisture) -> f64;
+    /// Equilibrium RH (decimal) of the outer compartment at `t_c`: the air leaving a layer cannot be wetter.
+    fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64;
+    /// Latent heat of bound water over that of free water (≥ 1) at pod moisture `pod_db`.
+    fn latent_heat_ratio(&self, t_c: f64, pod_db: f64) -> f64;
+    /// Specific heat of pod dry matter, J/(kg·K).
+    fn cp_dry_j_per_kg_k(&self) -> f64;
+    /// Add (or remove, if negative) water, in pod dry-basis terms, e.g. returned condensate (to the outer
+    /// compartment first).
+    fn add_water(&self, m: CellMoisture, d_pod_db: f64) -> CellMoisture;
+    /// Kernel share of pod dry matter (1 for single-compartment crops).
+    fn kernel_fraction(&self) -> f64;
+    /// A fresh cell with kernel moisture `kernel_db` and its hull in moisture equilibrium with it at `t_c`.
+    fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture;
+}
+
+/// Air crossing a layer: dry bulb °C and humidity ratio kg/kg dry air (pressure is the column's).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LayerAir {
+    /// Dry bulb, °C.
+    pub t_c: f64,
+    /// Humidity ratio, kg/kg dry air.
+    pub w: f64,
+}
+
+/// Totals of one column step, per m² of floor, for the balances.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct ColumnStepTotals {
+    /// Water that left the peanuts (net of condensate and rewetting), kg/m².
+    pub water_removed_kg_per_m2: f64,
+    /// Heat of sorption stored in the peanuts beyond free-water latent heat, J/m².
+    pub sorption_heat_j_per_m2: f64,
+    /// Condensate returned to the peanuts, kg/m².
+    pub condensate_kg_per_m2: f64,
+    /// Largest RH (decimal) of air leaving any layer.
+    pub max_rh_out: f64,
+}
+
+/// Latent heat of free water consistent with the enthalpy datum of ASHRAE eq. 32 (h_fg0 + (c_v − c_w)·T), J/kg.
+/// Using the same datum for the step keeps the energy balance exact.
+#[inline]
+pub fn free_water_latent_j_per_kg(t_c: f64) -> f64 {
+    HFG0 + (CP_VAPOUR - CP_WATER) * t_c
+}
+
+/// One column's cells, bottom layer first. All slices have the same length.
+pub struct ColumnMut<'a> {
+    /// Hull moisture per layer, dry basis.
+    pub hull_db: &'a mut [f64],
+    /// Kernel moisture per layer, dry basis.
+    pub kernel_db: &'a mut [f64],
+    /// Peanut temperature per layer, °C.
+    pub temp_c: &'a mut [f64],
+    /// Pod dry matter per layer per m² of floor, kg/m².
+    pub dry_matter_kg_per_m2: &'a [f64],
+}
+
+/// The air driving one column over one step.
+#[derive(Debug, Clone, Copy)]
+pub struct ColumnForcing {
+    /// Plenum air entering the bottom layer.
+    pub air_in: LayerAir,
+    /// Dry-air mass flux through the column, kg/(s·m²).
+    pub dry_air_kg_per_m2_s: f64,
+    /// Barometric pressure, Pa.
+    pub p_pa: f64,
+    /// Time step, s.
+    pub dt_s: f64,
+}
+
+/// Advance one column over one time step.
+///
+/// `hull_db`, `kernel_db`, `temp_c` and `dry_matter_kg_per_m2` are the column's layers bottom to top (see
+/// [`CellMoisture`]); `air_in` is the plenum
+/// air; `dry_air_kg_per_m2_s` the column's dry-air mass flux; `p_pa` barometric pressure. Returns the exhaust air
+/// and the step totals. With no air flow the peanuts keep their state (no air, no exchange in this model).
+pub fn step_column<M: LayerMaterial + ?Sized>(
+    material: &M,
+    column: ColumnMut<'_>,
+    forcing: ColumnForcing,
+) -> (LayerAir, ColumnStepTotals) {
+    let ColumnMut {
+        hull_db,
+        kernel_db,
+        temp_c,
+        dry_matter_kg_per_m2,
+    } = column;
+    let ColumnForcing {
+        air_in,
+        dry_air_kg_per_m2_s,
+        p_pa,
+        dt_s,
+    } = forcing;
+    let mut totals = ColumnStepTotals::default();
+    let air_kg = dry_air_kg_per_m2_s * dt_s;
+    if air_kg <= 0.0 {
+        return (air_in, totals);
+    }
+    let cp_dm = material.cp_dry_j_per_kg_k();
+    let mut air = air_in;
+    for k in 0..dry_matter_kg_per_m2.len() {
+        let dm = dry_matter_kg_per_m2[k];
+        if dm <= 0.0 {
+            continue;
+        }
+        let m = &CellMoisture {
+            hull_db: hull_db[k],
+            kernel_db: kernel_db[k],
+        };
+        let th = &mut temp_c[k];
+        let r = dm / air_kg;
+        let pod0 = material.pod_db(*m);
+        let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
+        let c_grain = cp_dm + CP_WATER * pod0;
+        // 1. sensible mixing
+        let t_e = (c_air * air.t_c + r * c_grain * *th) / (c_air + r * c_grain);
+        let rh_e = rh_from_humidity_ratio(t_e, air.w, p_pa).min(1.0);
+        // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
+        let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
+        let ratio = material.latent_heat_ratio(t_e, pod0);
+        let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
+        // 2. thin-layer law
+        let m_new = material.thin_layer_step(*m, t_e, rh_e, dt_s);
+        let mut d_m = pod0 - material.pod_db(m_new);
+        let out_state = |d_m: f64| {
+            let w_out = air.w + r * d_m;
+            let pod1 = pod0 - d_m;
+            let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
+                / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
+            (w_out, t_out)
+        };
+        let (mut w_out, mut t_out) = out_state(d_m);
+        let mut m_next = m_new;
+        // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
+        // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
+        if d_m > 0.0 {
+            let full = m_new;
+            let partial = |s: f64| CellMoisture {
+                hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
+                kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
+            };
+            let d_m_full = d_m;
+            let excess = |s: f64| {
+                let (w, t) = out_state(s * d_m_full);
+                rh_from_humidity_ratio(t, w, p_pa) - material.surface_erh(partial(s), t)
+            };
+            if excess(1.0) > 0.0 {
+                let (mut lo, mut hi) = (0.0, 1.0);
+                for _ in 0..30 {
+                    let mid = 0.5 * (lo + hi);
+                    if excess(mid) > 0.0 {
+                        hi = mid;
+                    } else {
+                        lo = mid;
+                    }
+                }
+                m_next = partial(lo);
+                d_m = lo * d_m_full;
+                (w_out, t_out) = out_state(d_m);
+            }
+        }
+        // 5. condensation check
+        let w_sat = saturation_humidity_ratio(t_out, p_pa);
+        if w_out > w_sat {
+            let pod1 = pod0 - d_m;
+            let e_rhs = e_in - r * d_m * extra_latent;
+            // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
+            let f = |t: f64| {
+                let ws = saturation_humidity_ratio(t, p_pa);
+                let pod = pod1 + (w_out - ws) / r;
+                CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t
+                    - e_rhs
+            };
+            let (mut lo, mut hi) = (t_out, t_out + 30.0);
+            while f(hi) < 0.0 {
+                hi += 30.0;
+            }
+            for _ in 0..60 {
+                let mid = 0.5 * (lo + hi);
+                if f(mid) > 0.0 {
+                    hi = mid;
+                } else {
+                    lo = mid;
+                }
+            }
+            let t_s = 0.5 * (lo + hi);
+            let w_s = saturation_humidity_ratio(t_s, p_pa);
+            let condensate = w_out - w_s;
+            m_next = material.add_water(m_next, condensate / r);
+            totals.condensate_kg_per_m2 += condensate * air_kg;
+            d_m -= condensate / r;
+            t_out = t_s;
+            w_out = w_s;
+            // The condensate's share of sorption heat is not counted: it returns as free water.
+            totals.sorption_heat_j_per_m2 += (pod0 - pod1) * dm * extra_latent;
+        } else {
+            totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
+        }
+        totals.water_removed_kg_per_m2 += d_m * dm;
+        totals.max_rh_out = totals
+            .max_rh_out
+            .max(rh_from_humidity_ratio(t_out, w_out, p_pa));
+        hull_db[k] = m_next.hull_db;
+        kernel_db[k] = m_next.kernel_db;
+        *th = t_out;
+        air = LayerAir {
+            t_c: t_out,
+            w: w_out,
+        };
+    }
+    (air, totals)
+}
