@@ -6,6 +6,7 @@
 use ndarray::{Array2, Array3};
 
 use super::layer::{CellMoisture, LayerMaterial};
+use crate::error::{check_range, InputError};
 use crate::units::{db_from_wb, wb_from_db};
 
 /// Moisture, temperature and dry matter of every cell of a load.
@@ -37,12 +38,15 @@ pub enum InitialMoisture {
         /// Top layer, wet basis decimal.
         top_wb: f64,
     },
+    /// Kernel moisture (wet basis, decimal) given for every cell, `[nx, ny, nz]` (zones of a load that differ).
+    Cells(ndarray::Array3<f64>),
 }
 
 impl InitialMoisture {
-    fn kernel_wb(&self, k: usize, nz: usize) -> f64 {
+    fn kernel_wb(&self, (i, j, k): (usize, usize, usize), nz: usize) -> f64 {
         match *self {
             InitialMoisture::Uniform(m) => m,
+            InitialMoisture::Cells(ref a) => a[[i, j, k]],
             InitialMoisture::Layered { bottom_wb, top_wb } => {
                 let f = if nz > 1 {
                     k as f64 / (nz - 1) as f64
@@ -66,25 +70,64 @@ impl BedState {
         dry_density_kg_per_m3: f64,
         initial: &InitialMoisture,
         temp_c: f64,
-    ) -> Self {
+    ) -> Result<Self, InputError> {
         let (nx, ny) = depth_m.dim();
+        if nx == 0 || ny == 0 || nz == 0 {
+            return Err(InputError::argument(
+                "grid",
+                format!("{nx} × {ny} × {nz}"),
+                "must have at least one cell",
+            ));
+        }
+        if let Some(d) = depth_m.iter().find(|d| !(d.is_finite() && **d > 0.0)) {
+            return Err(InputError::argument(
+                "fill depth",
+                format!("{d} m"),
+                "must be positive",
+            ));
+        }
+        check_range("column area", column_area_m2, 1e-6, 1e6, "m²")?;
+        check_range(
+            "dry-matter density",
+            dry_density_kg_per_m3,
+            10.0,
+            2000.0,
+            "kg/m³",
+        )?;
+        check_range("initial peanut temperature", temp_c, -20.0, 60.0, "°C")?;
+        match initial {
+            InitialMoisture::Cells(a) if a.dim() != (nx, ny, nz) => {
+                return Err(InputError::argument(
+                    "initial moisture map",
+                    format!("{:?}", a.dim()),
+                    &format!("must have the bed's shape {:?}", (nx, ny, nz)),
+                ));
+            }
+            _ => {}
+        }
+        for (idx, _) in depth_m.indexed_iter() {
+            for k in 0..nz {
+                let m = initial.kernel_wb((idx.0, idx.1, k), nz);
+                check_range("initial kernel moisture", m * 100.0, 1.0, 60.0, "% w.b.")?;
+            }
+        }
         let mut hull = Array3::zeros((nx, ny, nz));
         let mut kernel = Array3::zeros((nx, ny, nz));
         let mut dm = Array3::zeros((nx, ny, nz));
         for ((i, j, k), v) in dm.indexed_iter_mut() {
             *v = dry_density_kg_per_m3 * depth_m[[i, j]] / nz as f64;
-            let cell = material.initial_state(db_from_wb(initial.kernel_wb(k, nz)), temp_c);
+            let cell = material.initial_state(db_from_wb(initial.kernel_wb((i, j, k), nz)), temp_c);
             hull[[i, j, k]] = cell.hull_db;
             kernel[[i, j, k]] = cell.kernel_db;
         }
-        BedState {
+        Ok(BedState {
             hull_db: hull,
             kernel_db: kernel,
             temp_c: Array3::from_elem((nx, ny, nz), temp_c),
             dry_matter_kg_per_m2: dm,
             column_area_m2,
             depth_m,
-        }
+        })
     }
 
     /// Grid shape `(nx, ny, nz)`.

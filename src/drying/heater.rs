@@ -34,6 +34,115 @@ pub enum HeaterStrategy {
     },
 }
 
+/// A strategy as written on the command line or in a scenario, with an optional daily burner window:
+/// `none`, `rise=8`, `plenum=35`, `rh=55,max=38`, each optionally followed by `@20-6` (burner on from 20:00 to
+/// 06:00 local time).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StrategySpec {
+    /// The control rule.
+    pub strategy: HeaterStrategy,
+    /// Local hours `[start, end)` when the burner may run.
+    pub window_h: Option<(u32, u32)>,
+}
+
+impl std::str::FromStr for StrategySpec {
+    type Err = String;
+    fn from_str(text: &str) -> Result<Self, String> {
+        let text = text.trim();
+        let (rule, window) = match text.split_once('@') {
+            Some((r, w)) => (r.trim(), Some(w.trim())),
+            None => (text, None),
+        };
+        let num = |s: &str, what: &str| -> Result<f64, String> {
+            s.trim()
+                .parse::<f64>()
+                .ok()
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| format!("{what}: {s:?} is not a number"))
+        };
+        let mut parts = rule.split(',');
+        let head = parts.next().unwrap_or("");
+        let (key, value) = head
+            .split_once('=')
+            .map(|(k, v)| (k.trim(), Some(v)))
+            .unwrap_or((head.trim(), None));
+        let strategy = match (key, value) {
+            ("none", None) => HeaterStrategy::None,
+            ("rise", Some(v)) => {
+                let rise_k = num(v, "rise")?;
+                if !(0.0..=40.0).contains(&rise_k) {
+                    return Err(format!("rise: {rise_k} K must be between 0 and 40 K"));
+                }
+                HeaterStrategy::FixedRise { rise_k }
+            }
+            ("plenum", Some(v)) => HeaterStrategy::FixedPlenum { plenum_c: num(v, "plenum")? },
+            ("rh", Some(v)) => {
+                let target_rh_pct = num(v, "rh")?;
+                if !(5.0..=95.0).contains(&target_rh_pct) {
+                    return Err(format!("rh: {target_rh_pct} % must be between 5 and 95 %"));
+                }
+                let max = parts.next().and_then(|p| p.trim().strip_prefix("max=")).ok_or("rh needs a cap: rh=55,max=38")?;
+                HeaterStrategy::HumidityLimited { target_rh_pct, max_c: num(max, "max")? }
+            }
+            _ => {
+                return Err(format!(
+                    "unknown heater strategy {text:?}: expected none, rise=K, plenum=°C or rh=%,max=°C, optionally @start-end hours"
+                ))
+            }
+        };
+        if let Some(extra) = parts.next() {
+            return Err(format!("unexpected {extra:?} in heater strategy {text:?}"));
+        }
+        let window_h = match window {
+            None => None,
+            Some(w) => {
+                let (a, b) = w.split_once('-').ok_or_else(|| {
+                    format!("burner window {w:?}: expected START-END hours, e.g. 20-6")
+                })?;
+                let hour = |s: &str| {
+                    s.trim()
+                        .parse::<u32>()
+                        .ok()
+                        .filter(|h| *h <= 24)
+                        .ok_or_else(|| format!("burner window: {s:?} is not an hour 0–24"))
+                };
+                Some((hour(a)? % 24, hour(b)? % 24))
+            }
+        };
+        Ok(StrategySpec { strategy, window_h })
+    }
+}
+
+impl std::fmt::Display for StrategySpec {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.strategy {
+            HeaterStrategy::None => write!(f, "none")?,
+            HeaterStrategy::FixedRise { rise_k } => write!(f, "rise={rise_k}")?,
+            HeaterStrategy::FixedPlenum { plenum_c } => write!(f, "plenum={plenum_c}")?,
+            HeaterStrategy::HumidityLimited {
+                target_rh_pct,
+                max_c,
+            } => write!(f, "rh={target_rh_pct},max={max_c}")?,
+        }
+        if let Some((a, b)) = self.window_h {
+            write!(f, "@{a}-{b}")?;
+        }
+        Ok(())
+    }
+}
+
+impl HeaterStrategy {
+    /// The highest plenum temperature this strategy asks for on air at `ambient_c` (for safety checks).
+    pub fn highest_setpoint_c(&self, ambient_c: f64) -> f64 {
+        match *self {
+            HeaterStrategy::None => ambient_c,
+            HeaterStrategy::FixedPlenum { plenum_c } => plenum_c,
+            HeaterStrategy::FixedRise { rise_k } => ambient_c + rise_k,
+            HeaterStrategy::HumidityLimited { max_c, .. } => max_c,
+        }
+    }
+}
+
 /// A fuel and the burner that burns it.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -247,6 +356,29 @@ mod tests {
         assert!(out.heat_w.abs() < 1e-12);
         let out = heater(HeaterStrategy::FixedPlenum { plenum_c: 50.0 }).plenum_air(amb, 3, 5.0);
         assert!(out.plenum.t_c <= 35.0 + 1e-9);
+    }
+
+    #[test]
+    fn strategy_specs_parse_and_print() {
+        for text in ["none", "rise=8", "plenum=35", "rh=55,max=38", "rise=6@20-6"] {
+            let spec: StrategySpec = text.parse().unwrap();
+            assert_eq!(spec.to_string(), text);
+        }
+        assert_eq!(
+            "rise=8@20-6".parse::<StrategySpec>().unwrap().window_h,
+            Some((20, 6))
+        );
+        for bad in [
+            "warm",
+            "rise=hot",
+            "rh=55",
+            "rise=8@25-3",
+            "rise=8,max=3",
+            "rh=140,max=30",
+            "rise=-3",
+        ] {
+            assert!(bad.parse::<StrategySpec>().is_err(), "{bad}");
+        }
     }
 
     #[test]

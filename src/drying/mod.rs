@@ -5,3 +5,4 @@ pub mod bed;
 pub mod heater;
 pub mod layer;
 pub mod run;
+pub mod zones;

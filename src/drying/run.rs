@@ -782,7 +782,8 @@ pub(crate) mod tests {
             270.0,
             &InitialMoisture::Uniform(0.20),
             25.0,
-        );
+        )
+        .unwrap();
         // 10 m³/min per m³ of peanuts at 1.25 m → 0.208 m/s.
         let q = 10.0 / 60.0 * 1.25;
         let field = FlowField {
