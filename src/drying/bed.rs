@@ -16,6 +16,8 @@ pub struct BedState {
     pub hull_db: Array3<f64>,
     /// Kernel moisture, kg water / kg kernel dry matter.
     pub kernel_db: Array3<f64>,
+    /// Start of each cell's present drying curve, dry basis (see `layer::CellMoisture`).
+    pub curve_start_db: Array3<f64>,
     /// Peanut temperature, °C.
     pub temp_c: Array3<f64>,
     /// Pod dry matter per cell per m² of floor, kg/m².
@@ -113,16 +115,19 @@ impl BedState {
         }
         let mut hull = Array3::zeros((nx, ny, nz));
         let mut kernel = Array3::zeros((nx, ny, nz));
+        let mut start = Array3::zeros((nx, ny, nz));
         let mut dm = Array3::zeros((nx, ny, nz));
         for ((i, j, k), v) in dm.indexed_iter_mut() {
             *v = dry_density_kg_per_m3 * depth_m[[i, j]] / nz as f64;
             let cell = material.initial_state(db_from_wb(initial.kernel_wb((i, j, k), nz)), temp_c);
             hull[[i, j, k]] = cell.hull_db;
             kernel[[i, j, k]] = cell.kernel_db;
+            start[[i, j, k]] = cell.curve_start_db;
         }
         Ok(BedState {
             hull_db: hull,
             kernel_db: kernel,
+            curve_start_db: start,
             temp_c: Array3::from_elem((nx, ny, nz), temp_c),
             dry_matter_kg_per_m2: dm,
             column_area_m2,
@@ -140,6 +145,7 @@ impl BedState {
         CellMoisture {
             hull_db: self.hull_db[[i, j, k]],
             kernel_db: self.kernel_db[[i, j, k]],
+            curve_start_db: self.curve_start_db[[i, j, k]],
         }
     }
 

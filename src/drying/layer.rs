@@ -31,6 +31,9 @@ pub struct CellMoisture {
     pub hull_db: f64,
     /// Kernel (inner, slow) compartment moisture, kg water / kg kernel dry matter.
     pub kernel_db: f64,
+    /// Moisture at the start of the present drying or wetting curve (the M₀ of the equivalent-time method, used
+    /// by single-compartment crops whose curve is not first order).
+    pub curve_start_db: f64,
 }
 
 /// What the layer step needs to know about the crop. Implemented by `crop::Crop`; tests use small stand-ins.
@@ -41,8 +44,8 @@ pub trait LayerMaterial: Sync {
     fn pod_db(&self, m: CellMoisture) -> f64;
     /// Equilibrium RH (decimal) of the outer compartment at `t_c`: the air leaving a layer cannot be wetter.
     fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64;
-    /// Latent heat of bound water over that of free water (≥ 1) at pod moisture `pod_db`.
-    fn latent_heat_ratio(&self, t_c: f64, pod_db: f64) -> f64;
+    /// Latent heat of bound water over that of free water (≥ 1) for a cell in state `m`.
+    fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64;
     /// Specific heat of pod dry matter, J/(kg·K).
     fn cp_dry_j_per_kg_k(&self) -> f64;
     /// Add (or remove, if negative) water, in pod dry-basis terms, e.g. returned condensate (to the outer
@@ -89,6 +92,8 @@ pub struct ColumnMut<'a> {
     pub hull_db: &'a mut [f64],
     /// Kernel moisture per layer, dry basis.
     pub kernel_db: &'a mut [f64],
+    /// Start of each layer's present drying curve, dry basis (see [`CellMoisture`]).
+    pub curve_start_db: &'a mut [f64],
     /// Peanut temperature per layer, °C.
     pub temp_c: &'a mut [f64],
     /// Pod dry matter per layer per m² of floor, kg/m².
@@ -122,6 +127,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
     let ColumnMut {
         hull_db,
         kernel_db,
+        curve_start_db,
         temp_c,
         dry_matter_kg_per_m2,
     } = column;
@@ -146,6 +152,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         let m = &CellMoisture {
             hull_db: hull_db[k],
             kernel_db: kernel_db[k],
+            curve_start_db: curve_start_db[k],
         };
         let th = &mut temp_c[k];
         let r = dm / air_kg;
@@ -157,7 +164,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         let rh_e = rh_from_humidity_ratio(t_e, air.w, p_pa).min(1.0);
         // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
         let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
-        let ratio = material.latent_heat_ratio(t_e, pod0);
+        let ratio = material.latent_heat_ratio(t_e, *m);
         let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
         // 2. thin-layer law
         let m_new = material.thin_layer_step(*m, t_e, rh_e, dt_s);
@@ -178,6 +185,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             let partial = |s: f64| CellMoisture {
                 hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
                 kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
+                curve_start_db: full.curve_start_db,
             };
             let d_m_full = d_m;
             let excess = |s: f64| {
@@ -242,6 +250,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             .max(rh_from_humidity_ratio(t_out, w_out, p_pa));
         hull_db[k] = m_next.hull_db;
         kernel_db[k] = m_next.kernel_db;
+        curve_start_db[k] = m_next.curve_start_db;
         *th = t_out;
         air = LayerAir {
             t_c: t_out,

@@ -468,6 +468,10 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
             .kernel_db
             .as_slice_mut()
             .expect("bed arrays are in standard layout");
+        let start = bed
+            .curve_start_db
+            .as_slice_mut()
+            .expect("bed arrays are in standard layout");
         let temp = bed
             .temp_c
             .as_slice_mut()
@@ -478,10 +482,11 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
             .expect("bed arrays are in standard layout");
         hull.par_chunks_mut(nz)
             .zip(kernel.par_chunks_mut(nz))
+            .zip(start.par_chunks_mut(nz))
             .zip(temp.par_chunks_mut(nz))
             .zip(dm.par_chunks(nz))
             .zip(flux.par_iter())
-            .map(|((((h, k), t), d), &g)| {
+            .map(|(((((h, k), c), t), d), &g)| {
                 let forcing = ColumnForcing {
                     dry_air_kg_per_m2_s: g,
                     ..forcing_base
@@ -489,6 +494,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
                 let column = ColumnMut {
                     hull_db: h,
                     kernel_db: k,
+                    curve_start_db: c,
                     temp_c: t,
                     dry_matter_kg_per_m2: d,
                 };
@@ -740,6 +746,7 @@ pub(crate) mod tests {
             CellMoisture {
                 hull_db: he + (hull_in - he) * (-0.6 * h).exp(),
                 kernel_db: kernel,
+                curve_start_db: kernel,
             }
         }
         fn pod_db(&self, m: CellMoisture) -> f64 {
@@ -748,7 +755,7 @@ pub(crate) mod tests {
         fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
             cromarty_erh(t_c, m.hull_db, 0.0)
         }
-        fn latent_heat_ratio(&self, _: f64, _: f64) -> f64 {
+        fn latent_heat_ratio(&self, _: f64, _: CellMoisture) -> f64 {
             1.1
         }
         fn cp_dry_j_per_kg_k(&self) -> f64 {
@@ -768,6 +775,7 @@ pub(crate) mod tests {
             CellMoisture {
                 hull_db: cromarty_emc_db(t_c, erh, 0.0),
                 kernel_db,
+                curve_start_db: kernel_db,
             }
         }
     }
