@@ -165,7 +165,11 @@ impl Crop {
                 }
             }
         }
-        dirs.push(Path::new(env!("CARGO_MANIFEST_DIR")).join("models").join("crops"));
+        dirs.push(
+            Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("models")
+                .join("crops"),
+        );
         dirs
     }
 
@@ -307,11 +311,32 @@ impl Crop {
         let th = rd.object(rd.req(top, "", "thermal")?, "thermal", th_keys)?;
         let (cp_k, cp_h) = if two {
             (
-                rd.constant(th, "thermal", "cp_dry_kernel_j_per_kg_k", "J/(kg K)", 500.0, 5000.0)?,
-                rd.constant(th, "thermal", "cp_dry_hull_j_per_kg_k", "J/(kg K)", 500.0, 5000.0)?,
+                rd.constant(
+                    th,
+                    "thermal",
+                    "cp_dry_kernel_j_per_kg_k",
+                    "J/(kg K)",
+                    500.0,
+                    5000.0,
+                )?,
+                rd.constant(
+                    th,
+                    "thermal",
+                    "cp_dry_hull_j_per_kg_k",
+                    "J/(kg K)",
+                    500.0,
+                    5000.0,
+                )?,
             )
         } else {
-            let cp = rd.constant(th, "thermal", "cp_dry_j_per_kg_k", "J/(kg K)", 500.0, 5000.0)?;
+            let cp = rd.constant(
+                th,
+                "thermal",
+                "cp_dry_j_per_kg_k",
+                "J/(kg K)",
+                500.0,
+                5000.0,
+            )?;
             (cp, cp)
         };
         let thermal = CropThermal {
@@ -354,7 +379,14 @@ impl Crop {
             ],
         )?;
         let safety = CropSafety {
-            max_plenum_temp_c: rd.constant(sf, "safety", "max_plenum_temp_c", "degC", 5.0, 100.0)?,
+            max_plenum_temp_c: rd.constant(
+                sf,
+                "safety",
+                "max_plenum_temp_c",
+                "degC",
+                5.0,
+                100.0,
+            )?,
             max_temp_rise_k: rd.constant(sf, "safety", "max_temp_rise_k", "K", 0.0, 60.0)?,
             max_drying_rate_pct_wb_per_h: rd.constant(
                 sf,
@@ -419,7 +451,11 @@ impl Reader<'_> {
         prefix: &str,
         allowed: &[&str],
     ) -> Result<&'v Map<String, Value>, InputError> {
-        let field = if prefix.is_empty() { "(top level)" } else { prefix };
+        let field = if prefix.is_empty() {
+            "(top level)"
+        } else {
+            prefix
+        };
         let map = v
             .as_object()
             .ok_or_else(|| self.err(field, "must be a JSON object"))?;
@@ -465,12 +501,8 @@ impl Reader<'_> {
         options: &str,
     ) -> Result<T, InputError> {
         let v = self.req(map, prefix, key)?;
-        serde_json::from_value(v.clone()).map_err(|_| {
-            self.err(
-                &join(prefix, key),
-                &format!("{v} is not one of: {options}"),
-            )
-        })
+        serde_json::from_value(v.clone())
+            .map_err(|_| self.err(&join(prefix, key), &format!("{v} is not one of: {options}")))
     }
 
     /// A constant object with the expected unit (`None`: any non-empty unit) and value in [lo, hi].
@@ -496,10 +528,7 @@ impl Reader<'_> {
         }
         if let Some(u) = unit {
             if c.unit.trim() != u {
-                return Err(self.err(
-                    &field,
-                    &format!("unit must be {u:?} (got {:?})", c.unit),
-                ));
+                return Err(self.err(&field, &format!("unit must be {u:?} (got {:?})", c.unit)));
             }
         } else if c.unit.trim().is_empty() {
             return Err(self.err(&field, "unit must not be empty"));

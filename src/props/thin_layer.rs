@@ -380,7 +380,8 @@ pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> 
             kernel,
             hull_fraction,
         } => {
-            let first = two_compartment_pass(hull, kernel, *hull_fraction, s, s.m_hull_db, t_c, rh, dt_s);
+            let first =
+                two_compartment_pass(hull, kernel, *hull_fraction, s, s.m_hull_db, t_c, rh, dt_s);
             let mid = 0.5 * (s.m_hull_db + first.m_hull_db);
             two_compartment_pass(hull, kernel, *hull_fraction, s, mid, t_c, rh, dt_s)
         }
@@ -445,10 +446,7 @@ fn expm2(a: [[f64; 2]; 2], t: f64) -> [[f64; 2]; 2] {
     let e2 = (l2 * t).exp();
     // exp(At) = c0·I + c1·A
     let (c0, c1) = if (l1 - l2) * t > 1e-6 {
-        (
-            (l1 * e2 - l2 * e1) / (l1 - l2),
-            (e1 - e2) / (l1 - l2),
-        )
+        ((l1 * e2 - l2 * e1) / (l1 - l2), (e1 - e2) / (l1 - l2))
     } else {
         let l = 0.5 * (l1 + l2);
         let e = (l * t).exp();
