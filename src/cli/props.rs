@@ -5,8 +5,6 @@
 //! Temperatures given with `--temp` / `--rise` are °C / K with `--units si` (default) and °F / °F-difference with
 //! `--units us`; options whose name carries a unit (`--depth-m`, `--airflow-m3-min`, `--pressure-kpa`…) always
 //! take that unit. Output follows `--units`.
-use anyhow::Context;
-
 use crate::crop::Crop;
 use crate::error::{check_range, InputError};
 use crate::props::psychro::{self, AirState};
@@ -177,7 +175,8 @@ fn rh_decimal(rh_pct: f64) -> Result<f64, InputError> {
 }
 
 fn load_crop(name: &str) -> anyhow::Result<Crop> {
-    Crop::load_named(name).with_context(|| format!("loading crop {name:?}"))
+    // The library error already names the file and field (or the --crop argument).
+    Ok(Crop::load_named(name)?)
 }
 
 fn line(out: &mut String, label: &str, value: String) {
