@@ -192,10 +192,13 @@ fn broken_crop(dir: &Path, edit: impl FnOnce(&mut serde_json::Value)) -> String 
     path.to_string_lossy().into_owned()
 }
 
+/// An edit that breaks a crop file.
+type Edit = Box<dyn FnOnce(&mut serde_json::Value)>;
+
 #[test]
 fn broken_crop_files_exit_2_naming_file_and_field() {
     let dir = tempfile::tempdir().unwrap();
-    let cases: [(&str, Box<dyn FnOnce(&mut serde_json::Value)>); 3] = [
+    let cases: [(&str, Edit); 3] = [
         (
             "compartments.kernel.isotherm.a\": missing field",
             Box::new(|v| {

@@ -18,6 +18,8 @@ const PROPANE_LHV_J_PER_KG: f64 = 46.0e6;
 const PROPANE_KG_PER_L: f64 = 0.508;
 /// J/kg per Btu/lb (exact, IT Btu).
 const J_PER_KG_PER_BTU_PER_LB: f64 = 2326.0;
+/// J per IT Btu (exact).
+const J_PER_BTU: f64 = 1_055.055_852_62;
 /// kg/m³ per lb/ft³.
 const KG_M3_PER_LB_FT3: f64 = 16.018_463;
 
@@ -388,7 +390,7 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
                     UnitSystem::Us => line(
                         &mut out,
                         "heater power",
-                        format!("{:.0} Btu/h", power_w * 3600.0 / 1055.055_852_62),
+                        format!("{:.0} Btu/h", power_w * 3600.0 / J_PER_BTU),
                     ),
                 }
                 line(

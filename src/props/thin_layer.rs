@@ -410,7 +410,7 @@ fn two_compartment_pass(
     };
     let rh_inside = hull.sorption.desorption.erh(t_c, m_lin);
     let k_kh = kernel.thin_layer.k_per_h(t_c, rh_inside);
-    let s0 = kernel_star(m_lin);
+    let s0 = kernel.sorption.desorption.emc_db(t_c, rh_inside);
     let dm = 1e-6 * m_lin.abs().max(1e-2);
     let slope = ((kernel_star(m_lin + dm) - kernel_star((m_lin - dm).max(0.0)))
         / (m_lin + dm - (m_lin - dm).max(0.0)))
