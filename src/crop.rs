@@ -145,6 +145,18 @@ impl Crop {
         matches!(self.moisture, PodModel::TwoCompartment { .. })
     }
 
+    /// Specific heat of pod (or grain) dry matter, J/(kg·K): hull and kernel weighted by dry-matter fraction.
+    pub fn cp_dry_pod_j_per_kg_k(&self) -> f64 {
+        let f_h = self.moisture.hull_fraction();
+        f_h * self.thermal.cp_dry_hull_j_per_kg_k
+            + (1.0 - f_h) * self.thermal.cp_dry_kernel_j_per_kg_k
+    }
+
+    /// Dry matter per m³ of bed, kg/m³, at pod moisture `m_wb_pct` (% w.b.): `ρ_bulk(m)·(1 − m)`.
+    pub fn dry_matter_density_kg_per_m3(&self, m_wb_pct: f64) -> f64 {
+        self.thermal.bulk_density_at_kg_per_m3(m_wb_pct) * (1.0 - m_wb_pct / 100.0)
+    }
+
     /// Directories searched for built-in crop files, in order: `$DRYFRONT_MODELS_DIR/crops`, `models/crops`
     /// beside the executable and up to three levels above it (covers `target/<profile>/`), and the source
     /// tree's `models/crops` (compile-time `CARGO_MANIFEST_DIR`).

@@ -228,3 +228,24 @@ fn names_resolve_to_files_and_unknown_names_are_refused() {
         other => panic!("expected an argument error, got {other:?}"),
     }
 }
+
+#[test]
+fn peanut_dry_matter_per_bed_volume_matches_domain_example() {
+    // DOMAIN.md §4 (common practice, no source): 330 kg/m³ at 18 % w.b. → 270 kg dry matter per m³.
+    let crop = Crop::load_named("peanut-inshell").unwrap();
+    assert_relative_eq!(
+        crop.dry_matter_density_kg_per_m3(18.0),
+        270.6,
+        max_relative = 1e-9
+    );
+    // The slope in the file was computed for constant dry matter per volume, so it stays within 1 % at 10–25 %.
+    for m in [10.0, 25.0] {
+        assert_relative_eq!(
+            crop.dry_matter_density_kg_per_m3(m),
+            270.6,
+            max_relative = 0.01
+        );
+    }
+    let cp = crop.cp_dry_pod_j_per_kg_k();
+    assert!(cp > crop.thermal.cp_dry_hull_j_per_kg_k && cp < crop.thermal.cp_dry_kernel_j_per_kg_k);
+}
