@@ -1,1 +1,405 @@
-//! Placeholder: see issue 2.
+//! Equilibrium moisture content (EMC) of a crop from air temperature and relative humidity, and its inverse, the
+//! equilibrium relative humidity (ERH) of air over a crop at a given moisture.
+//!
+//! Forms (T in °C throughout, RH decimal):
+//!
+//! | form | RH(T, M) | M(T, RH) |
+//! |---|---|---|
+//! | modified Henderson | `1 − exp[−A·(T+C)·M^B]` | `[ln(1−RH) / (−A·(T+C))]^(1/B)` |
+//! | modified Chung-Pfost | `exp[−A/(T+C)·exp(−B·M)]` | `−(1/B)·ln[−(T+C)·ln(RH)/A]` |
+//! | modified Halsey | `exp[−exp(A+B·T)/M^C]` | `[−exp(A+B·T)/ln RH]^(1/C)` |
+//! | modified Oswin | `1/{[(A+B·T)/M]^C + 1}` | `(A+B·T)/[(1/RH) − 1]^(1/C)` |
+//! | modified GAB | solved in closed form (below) | `A·B·(C/T)·RH / [(1−B·RH)(1−B·RH+B·(C/T)·RH)]` |
+//! | Cromarty seed equation | `1 − exp{−[M·(1.1+T/90)/(1−D_o)]²/440}` | `√(−440·ln(1−RH))·(1−D_o)/(1.1+T/90)` |
+//!
+//! **Moisture basis.** Every constant set declares the unit of M it was fitted in ([`MoistureUnit`]); the public
+//! API always takes and returns **dry-basis decimal** (kg water per kg dry matter) and converts inside. The
+//! Cromarty equation is defined in percent dry basis, with the oil content `D_o` as a decimal.
+//!
+//! **Modified GAB inverse.** With y = B·RH and G = C/T the GAB relation is the quadratic
+//! `M·(G−1)·y² + (A·G − M·(G−2))·y − M = 0` in y; its physical root is taken in the cancellation-free form
+//! `y = 2M / (q + √(q² + 4·M²·(G−1)))`, `q = A·G − M·(G−2)`, which stays finite as G → 1. If the discriminant is
+//! negative (no real root, only possible for G < 1 at very high M) the air is taken as saturated.
+//!
+//! **Outside the data range.** RH is clamped to `[RH_MIN, RH_MAX]` before the EMC forms are evaluated (the forms
+//! diverge at 0 and 1), ERH results are clamped to `[0, 1]`, a non-positive moisture gives ERH 0, and a
+//! temperature at which a form's temperature term is non-positive (`T + C ≤ 0`, `A + B·T ≤ 0`, `T ≤ 0` for GAB)
+//! is moved to the nearest valid temperature. Nothing here panics or returns NaN for finite input. Fitted ranges
+//! (typically ≈ 0–50 °C, 10–90 % RH for grains) are flagged by [`DataRange::contains`], which crop loading
+//! attaches to each constant set; callers decide whether to warn.
+//!
+//! **Hysteresis.** [`Sorption`] pairs a desorption isotherm with an adsorption offset (dry-basis decimal): the
+//! adsorption EMC is the desorption EMC less the offset (DOMAIN.md §2.3, common practice, no source).
+//!
+//! References: ASAE D245.5 OCT1995 / ASABE D245.6 (forms from memory, unverified; DOMAIN.md §2.1); Cromarty,
+//! Ellis & Roberts (1982) *The Design of Seed Storage Facilities for Genetic Conservation*, IBPGR (DOMAIN.md §2.3).
+
+/// Lowest RH (decimal) at which the EMC forms are evaluated; lower values are clamped to it.
+pub const RH_MIN: f64 = 1e-6;
+/// Highest RH (decimal) at which the EMC forms are evaluated; higher values are clamped to it.
+pub const RH_MAX: f64 = 1.0 - 1e-9;
+/// Smallest value a form's temperature term (`T + C`, `A + B·T`, `T` for GAB) is allowed to take.
+const TEMP_TERM_MIN: f64 = 1e-3;
+
+/// The unit of moisture content a constant set was fitted in.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum MoistureUnit {
+    /// kg water per kg dry matter (0.25 = 25 % d.b.).
+    DecimalDb,
+    /// percent dry basis (25.0 = 25 % d.b.).
+    PercentDb,
+}
+
+impl MoistureUnit {
+    /// Multiply a dry-basis decimal by this to get the fitted unit.
+    #[inline]
+    pub fn scale(self) -> f64 {
+        match self {
+            MoistureUnit::DecimalDb => 1.0,
+            MoistureUnit::PercentDb => 100.0,
+        }
+    }
+}
+
+/// The name of an isotherm form, as written in crop files.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum IsothermForm {
+    /// Modified Henderson.
+    ModifiedHenderson,
+    /// Modified Chung-Pfost.
+    ModifiedChungPfost,
+    /// Modified Halsey.
+    ModifiedHalsey,
+    /// Modified Oswin.
+    ModifiedOswin,
+    /// Modified Guggenheim–Anderson–de Boer.
+    ModifiedGab,
+    /// Cromarty, Ellis & Roberts (1982) seed equation (oil content as the one constant).
+    Cromarty,
+}
+
+/// An equilibrium-moisture relation with its constants. All methods take and return dry-basis decimal moisture.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Isotherm {
+    /// Modified Henderson: A, B, C with M in `unit`.
+    ModifiedHenderson {
+        /// A.
+        a: f64,
+        /// B.
+        b: f64,
+        /// C, °C.
+        c: f64,
+        /// Unit of M the constants were fitted in.
+        unit: MoistureUnit,
+    },
+    /// Modified Chung-Pfost: A, B, C with M in `unit`.
+    ModifiedChungPfost {
+        /// A.
+        a: f64,
+        /// B.
+        b: f64,
+        /// C, °C.
+        c: f64,
+        /// Unit of M the constants were fitted in.
+        unit: MoistureUnit,
+    },
+    /// Modified Halsey: A, B, C with M in `unit`.
+    ModifiedHalsey {
+        /// A.
+        a: f64,
+        /// B, per °C.
+        b: f64,
+        /// C.
+        c: f64,
+        /// Unit of M the constants were fitted in.
+        unit: MoistureUnit,
+    },
+    /// Modified Oswin: A, B, C with M in `unit`.
+    ModifiedOswin {
+        /// A.
+        a: f64,
+        /// B, per °C.
+        b: f64,
+        /// C.
+        c: f64,
+        /// Unit of M the constants were fitted in.
+        unit: MoistureUnit,
+    },
+    /// Modified GAB: A (monolayer moisture, in `unit`), B (0 < B < 1), C (°C).
+    ModifiedGab {
+        /// A, monolayer moisture.
+        a: f64,
+        /// B.
+        b: f64,
+        /// C, °C.
+        c: f64,
+        /// Unit of M the constants were fitted in.
+        unit: MoistureUnit,
+    },
+    /// Cromarty seed equation (defined in percent dry basis).
+    Cromarty {
+        /// Oil content, decimal dry basis (0.48 for peanut kernels).
+        oil_content_db: f64,
+    },
+}
+
+#[inline]
+fn clamp_rh(rh: f64) -> f64 {
+    rh.clamp(RH_MIN, RH_MAX)
+}
+
+#[inline]
+fn positive(term: f64) -> f64 {
+    term.max(TEMP_TERM_MIN)
+}
+
+impl Isotherm {
+    /// Which form this is.
+    pub fn form(&self) -> IsothermForm {
+        match self {
+            Isotherm::ModifiedHenderson { .. } => IsothermForm::ModifiedHenderson,
+            Isotherm::ModifiedChungPfost { .. } => IsothermForm::ModifiedChungPfost,
+            Isotherm::ModifiedHalsey { .. } => IsothermForm::ModifiedHalsey,
+            Isotherm::ModifiedOswin { .. } => IsothermForm::ModifiedOswin,
+            Isotherm::ModifiedGab { .. } => IsothermForm::ModifiedGab,
+            Isotherm::Cromarty { .. } => IsothermForm::Cromarty,
+        }
+    }
+
+    /// The unit of M the constants were fitted in.
+    pub fn unit(&self) -> MoistureUnit {
+        match *self {
+            Isotherm::ModifiedHenderson { unit, .. }
+            | Isotherm::ModifiedChungPfost { unit, .. }
+            | Isotherm::ModifiedHalsey { unit, .. }
+            | Isotherm::ModifiedOswin { unit, .. }
+            | Isotherm::ModifiedGab { unit, .. } => unit,
+            Isotherm::Cromarty { .. } => MoistureUnit::PercentDb,
+        }
+    }
+
+    /// Equilibrium moisture content, dry-basis decimal, of the crop in air at `t_c` (°C) and `rh` (decimal).
+    /// RH is clamped to `[RH_MIN, RH_MAX]`; the result is never negative.
+    #[inline]
+    pub fn emc_db(&self, t_c: f64, rh: f64) -> f64 {
+        let rh = clamp_rh(rh);
+        let m_fit = match *self {
+            Isotherm::ModifiedHenderson { a, b, c, .. } => {
+                ((-(-rh).ln_1p()) / (a * positive(t_c + c))).powf(1.0 / b)
+            }
+            Isotherm::ModifiedChungPfost { a, b, c, .. } => {
+                -(positive(t_c + c) * (-rh.ln()) / a).ln() / b
+            }
+            Isotherm::ModifiedHalsey { a, b, c, .. } => {
+                ((a + b * t_c).exp() / (-rh.ln())).powf(1.0 / c)
+            }
+            Isotherm::ModifiedOswin { a, b, c, .. } => {
+                positive(a + b * t_c) / (1.0 / rh - 1.0).powf(1.0 / c)
+            }
+            Isotherm::ModifiedGab { a, b, c, .. } => {
+                let g = c / positive(t_c);
+                let y = b * rh;
+                a * g * y / ((1.0 - y) * (1.0 - y + g * y))
+            }
+            Isotherm::Cromarty { oil_content_db } => {
+                (-440.0 * (-rh).ln_1p()).sqrt() * (1.0 - oil_content_db) / (1.1 + t_c / 90.0)
+            }
+        };
+        (m_fit / self.unit().scale()).max(0.0)
+    }
+
+    /// Equilibrium relative humidity (decimal, 0–1) of air over the crop at `t_c` (°C) and moisture `m_db`
+    /// (dry-basis decimal). Non-positive moisture gives 0.
+    #[inline]
+    pub fn erh(&self, t_c: f64, m_db: f64) -> f64 {
+        if m_db <= 0.0 || m_db.is_nan() {
+            return 0.0;
+        }
+        let m = m_db * self.unit().scale();
+        let rh = match *self {
+            Isotherm::ModifiedHenderson { a, b, c, .. } => {
+                -(-a * positive(t_c + c) * m.powf(b)).exp_m1()
+            }
+            Isotherm::ModifiedChungPfost { a, b, c, .. } => {
+                (-a / positive(t_c + c) * (-b * m).exp()).exp()
+            }
+            Isotherm::ModifiedHalsey { a, b, c, .. } => (-(a + b * t_c).exp() / m.powf(c)).exp(),
+            Isotherm::ModifiedOswin { a, b, c, .. } => {
+                1.0 / ((positive(a + b * t_c) / m).powf(c) + 1.0)
+            }
+            Isotherm::ModifiedGab { a, b, c, .. } => gab_rh(a, b, c / positive(t_c), m),
+            Isotherm::Cromarty { oil_content_db } => {
+                let x = m * (1.1 + t_c / 90.0) / (1.0 - oil_content_db);
+                -(-x * x / 440.0).exp_m1()
+            }
+        };
+        if rh.is_nan() {
+            1.0
+        } else {
+            rh.clamp(0.0, 1.0)
+        }
+    }
+
+    /// Check the constants are usable (finite, right signs). Returns the name of the first bad constant and why.
+    pub fn check(&self) -> Result<(), (&'static str, &'static str)> {
+        let finite = |name, v: f64| {
+            if v.is_finite() {
+                Ok(())
+            } else {
+                Err((name, "must be a finite number"))
+            }
+        };
+        let pos = |name, v: f64| {
+            if v.is_finite() && v > 0.0 {
+                Ok(())
+            } else {
+                Err((name, "must be a finite number greater than 0"))
+            }
+        };
+        match *self {
+            Isotherm::ModifiedHenderson { a, b, c, .. } => {
+                pos("a", a)?;
+                pos("b", b)?;
+                finite("c", c)
+            }
+            Isotherm::ModifiedChungPfost { a, b, c, .. } => {
+                pos("a", a)?;
+                pos("b", b)?;
+                finite("c", c)
+            }
+            Isotherm::ModifiedHalsey { a, b, c, .. } => {
+                finite("a", a)?;
+                finite("b", b)?;
+                pos("c", c)
+            }
+            Isotherm::ModifiedOswin { a, b, c, .. } => {
+                pos("a", a)?;
+                finite("b", b)?;
+                pos("c", c)
+            }
+            Isotherm::ModifiedGab { a, b, c, .. } => {
+                pos("a", a)?;
+                if !(b.is_finite() && b > 0.0 && b < 1.0) {
+                    return Err(("b", "must be between 0 and 1 (exclusive)"));
+                }
+                pos("c", c)
+            }
+            Isotherm::Cromarty { oil_content_db } => {
+                if oil_content_db.is_finite() && (0.0..0.95).contains(&oil_content_db) {
+                    Ok(())
+                } else {
+                    Err(("a", "oil content must be between 0 and 0.95 (decimal d.b.)"))
+                }
+            }
+        }
+    }
+}
+
+/// RH from the modified GAB relation at monolayer moisture `a`, `b`, `g = C/T`, moisture `m` (fitted unit):
+/// the physical root of the quadratic in y = b·RH (module docs).
+#[inline]
+fn gab_rh(a: f64, b: f64, g: f64, m: f64) -> f64 {
+    let q = a * g - m * (g - 2.0);
+    let disc = q * q + 4.0 * m * m * (g - 1.0);
+    if disc < 0.0 {
+        return 1.0;
+    }
+    let denom = q + disc.sqrt();
+    if denom <= 0.0 {
+        return 1.0;
+    }
+    (2.0 * m / denom / b).clamp(0.0, 1.0)
+}
+
+/// The temperature and RH range a constant set was fitted over.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DataRange {
+    /// Lowest fitted temperature, °C.
+    pub t_min_c: f64,
+    /// Highest fitted temperature, °C.
+    pub t_max_c: f64,
+    /// Lowest fitted RH, decimal.
+    pub rh_min: f64,
+    /// Highest fitted RH, decimal.
+    pub rh_max: f64,
+}
+
+impl DataRange {
+    /// Whether (t_c, rh) lies inside the fitted range.
+    pub fn contains(&self, t_c: f64, rh: f64) -> bool {
+        (self.t_min_c..=self.t_max_c).contains(&t_c) && (self.rh_min..=self.rh_max).contains(&rh)
+    }
+}
+
+/// A desorption isotherm with an optional adsorption (rewetting) offset.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Sorption {
+    /// The desorption (drying) isotherm.
+    pub desorption: Isotherm,
+    /// Adsorption EMC = desorption EMC − this, dry-basis decimal (0 = no hysteresis).
+    pub adsorption_offset_db: f64,
+}
+
+impl Sorption {
+    /// Desorption EMC, dry-basis decimal.
+    #[inline]
+    pub fn emc_desorption_db(&self, t_c: f64, rh: f64) -> f64 {
+        self.desorption.emc_db(t_c, rh)
+    }
+
+    /// Adsorption EMC, dry-basis decimal (never negative).
+    #[inline]
+    pub fn emc_adsorption_db(&self, t_c: f64, rh: f64) -> f64 {
+        (self.desorption.emc_db(t_c, rh) - self.adsorption_offset_db).max(0.0)
+    }
+
+    /// The moisture a product at `m_db` moves toward in air at (t_c, rh): the desorption EMC if it is wetter
+    /// than that, the adsorption EMC if it is drier than that, and its own moisture inside the hysteresis band.
+    #[inline]
+    pub fn target_db(&self, t_c: f64, rh: f64, m_db: f64) -> f64 {
+        let des = self.emc_desorption_db(t_c, rh);
+        if m_db >= des {
+            return des;
+        }
+        let ads = (des - self.adsorption_offset_db).max(0.0);
+        if m_db <= ads {
+            ads
+        } else {
+            m_db
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn clamped_extremes_stay_finite() {
+        let iso = Isotherm::ModifiedChungPfost {
+            a: 312.40,
+            b: 16.958,
+            c: 30.205,
+            unit: MoistureUnit::DecimalDb,
+        };
+        for rh in [-1.0, 0.0, 1.0, 2.0] {
+            assert!(iso.emc_db(25.0, rh).is_finite());
+        }
+        assert!(iso.emc_db(-40.0, 0.5).is_finite());
+        assert!(iso.erh(25.0, -0.1).abs() < 1e-15);
+        assert!((0.0..=1.0).contains(&iso.erh(25.0, 5.0)));
+    }
+
+    #[test]
+    fn gab_rejects_b_outside_unit_interval() {
+        let iso = Isotherm::ModifiedGab {
+            a: 0.06,
+            b: 1.2,
+            c: 300.0,
+            unit: MoistureUnit::DecimalDb,
+        };
+        assert_eq!(iso.check().unwrap_err().0, "b");
+    }
+}

@@ -1,1 +1,485 @@
-//! Placeholder: see issue 2.
+//! Thin-layer drying and rewetting: moisture-ratio curves MR(t) = (M − M_e)/(M₀ − M_e), their temperature
+//! dependence, the equivalent-time step a deep-bed model needs, and the two-compartment (hull + kernel) pod.
+//!
+//! Forms (t in hours): exponential (Lewis/Newton) `MR = exp(−k·t)`; Page `MR = exp(−k·tⁿ)`; Henderson–Pabis
+//! `MR = a·exp(−k·t)`; two-term `MR = a·exp(−k·t) + (1−a)·exp(−r·k·t)`; Thompson's corn time form
+//! `t = A·ln MR + B·(ln MR)²`, `A = −1.862 + 0.00488·T`, `B = 427.4·exp(−0.033·T)` with T in °F (DOMAIN.md §3.2,
+//! from memory, unverified). The rate constant follows Arrhenius about a reference temperature,
+//! `k = k_ref·exp(−E_a/R·(1/T − 1/T_ref))·exp(−β·RH)`, where the optional RH factor `exp(−β·RH)` (β ≥ 0, own
+//! choice of form) lowers the rate in humid air; β = 0 switches it off.
+//!
+//! **Equivalent time** (Thompson's approach, DOMAIN.md §3.2, from memory): convert the present MR to the time the
+//! curve at the present (T, RH) would need to reach it, add Δt, read the new MR. With the exponential form this is
+//! exactly `MR_new = MR·exp(−k·Δt)`; Henderson–Pabis gives the same step (its `a` cancels), so it only differs
+//! from the exponential in [`ThinLayer::moisture_ratio`]. MR is measured from the start of the present drying (or
+//! wetting) curve, kept in [`PodState::m_curve_start_db`]; when the target EMC moves past it (the product starts
+//! to rewet, or the air gets drier than the curve start) the curve restarts at the present moisture (MR = 1).
+//!
+//! **Rewetting.** The product moves toward [`Sorption::target_db`]: the desorption EMC when it is wetter, the
+//! adsorption EMC (desorption less an offset) when it is drier, and nowhere inside the hysteresis band.
+//!
+//! **Two compartments** (DOMAIN.md §3.3 recommended structure, own formulation): hull (fraction f_h of pod dry
+//! matter) and kernel (f_k = 1 − f_h), each first order:
+//! `dM_h/dt = −k_h·(M_h − M_e,h) + (f_k/f_h)·k_kh·(M_k − M_k*(M_h))`, `dM_k/dt = −k_kh·(M_k − M_k*(M_h))`,
+//! where `M_k*(M_h) = EMC_kernel(T, ERH_hull(T, M_h))` is the kernel moisture in equilibrium with the humidity
+//! inside the hull. The hull exchanges with the air, the kernel only with the hull, and the exchange term moves
+//! water without creating or losing any. The step linearises M_k* about the hull moisture and solves the linear
+//! 2×2 system exactly with its matrix exponential (real, negative eigenvalues), so it is stable and bounded for any
+//! Δt; a second pass re-linearises about the mid-step hull moisture to cut the linearisation error on long steps.
+//!
+//! References: ASAE S448 (thin-layer drying); Page, Henderson–Pabis and two-term forms as tabulated in thin-layer
+//! papers (DOMAIN.md §3.2); Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (time form from memory).
+
+use crate::props::sorption::Sorption;
+use crate::units::wb_from_db;
+
+/// Molar gas constant, J/(mol·K) (CODATA 2018, exact).
+pub const R_GAS_J_PER_MOL_K: f64 = 8.314_462_618;
+const KELVIN: f64 = 273.15;
+
+/// Arrhenius rate law about a reference temperature, with an optional RH factor.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ArrheniusRate {
+    /// Rate constant at `t_ref_c` and RH = 0, per hour (per hourⁿ for Page).
+    pub k_ref_per_h: f64,
+    /// Reference temperature, °C.
+    pub t_ref_c: f64,
+    /// Activation energy, J/mol.
+    pub activation_energy_j_per_mol: f64,
+    /// β in the RH factor `exp(−β·RH)` (0 = no RH dependence).
+    pub rh_slope: f64,
+}
+
+impl ArrheniusRate {
+    /// Rate constant at air temperature `t_c` (°C) and relative humidity `rh` (decimal), per hour.
+    #[inline]
+    pub fn k_per_h(&self, t_c: f64, rh: f64) -> f64 {
+        let inv = 1.0 / (t_c + KELVIN) - 1.0 / (self.t_ref_c + KELVIN);
+        self.k_ref_per_h
+            * (-self.activation_energy_j_per_mol / R_GAS_J_PER_MOL_K * inv - self.rh_slope * rh)
+                .exp()
+    }
+}
+
+/// A thin-layer moisture-ratio curve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ThinLayer {
+    /// `MR = exp(−k·t)`.
+    Exponential {
+        /// k(T, RH).
+        rate: ArrheniusRate,
+    },
+    /// `MR = exp(−k·tⁿ)`.
+    Page {
+        /// k(T, RH), per hourⁿ.
+        rate: ArrheniusRate,
+        /// Exponent n (> 0).
+        n: f64,
+    },
+    /// `MR = a·exp(−k·t)`.
+    HendersonPabis {
+        /// k(T, RH).
+        rate: ArrheniusRate,
+        /// Shape constant a (> 0).
+        a: f64,
+    },
+    /// `MR = a·exp(−k·t) + (1−a)·exp(−r·k·t)`.
+    TwoTerm {
+        /// k(T, RH) of the first term.
+        rate: ArrheniusRate,
+        /// Weight of the first term, 0–1.
+        a: f64,
+        /// r: second rate over the first (> 0).
+        k2_ratio: f64,
+    },
+    /// Thompson's corn time form (T in °F inside; rate set by the formula, no constants).
+    ThompsonCorn,
+}
+
+/// Thompson's A and B at `t_c`; temperature clamped to 0–150 °C where the form stays monotone.
+#[inline]
+fn thompson_ab(t_c: f64) -> (f64, f64) {
+    let t_f = crate::units::c_to_f(t_c.clamp(0.0, 150.0));
+    (-1.862 + 0.00488 * t_f, 427.4 * (-0.033 * t_f).exp())
+}
+
+impl ThinLayer {
+    /// Whether the curve is first order in the equivalent-time step (exponential or Henderson–Pabis).
+    pub fn is_first_order(&self) -> bool {
+        matches!(
+            self,
+            ThinLayer::Exponential { .. } | ThinLayer::HendersonPabis { .. }
+        )
+    }
+
+    /// The first (or only) rate constant at (t_c, rh), per hour; Thompson's form returns the equivalent
+    /// first-order rate at MR = 0.5 (ln 2 / t½) for comparison only.
+    pub fn k_per_h(&self, t_c: f64, rh: f64) -> f64 {
+        match self {
+            ThinLayer::Exponential { rate }
+            | ThinLayer::Page { rate, .. }
+            | ThinLayer::HendersonPabis { rate, .. }
+            | ThinLayer::TwoTerm { rate, .. } => rate.k_per_h(t_c, rh),
+            ThinLayer::ThompsonCorn => {
+                std::f64::consts::LN_2 / self.equivalent_time_h(0.5, t_c, rh)
+            }
+        }
+    }
+
+    /// MR after `t_h` hours at constant (t_c, rh).
+    pub fn moisture_ratio(&self, t_h: f64, t_c: f64, rh: f64) -> f64 {
+        let t_h = t_h.max(0.0);
+        match *self {
+            ThinLayer::Exponential { rate } => (-rate.k_per_h(t_c, rh) * t_h).exp(),
+            ThinLayer::Page { rate, n } => (-rate.k_per_h(t_c, rh) * t_h.powf(n)).exp(),
+            ThinLayer::HendersonPabis { rate, a } => a * (-rate.k_per_h(t_c, rh) * t_h).exp(),
+            ThinLayer::TwoTerm { rate, a, k2_ratio } => {
+                let k = rate.k_per_h(t_c, rh);
+                a * (-k * t_h).exp() + (1.0 - a) * (-k2_ratio * k * t_h).exp()
+            }
+            ThinLayer::ThompsonCorn => {
+                let (a, b) = thompson_ab(t_c);
+                // t = A·L + B·L², L = ln MR ≤ 0: the root with L ≤ 0.
+                let l = (-a - (a * a + 4.0 * b * t_h).sqrt()) / (2.0 * b);
+                l.min(0.0).exp()
+            }
+        }
+    }
+
+    /// Hours the curve at (t_c, rh) needs to reach `mr` (0 < mr ≤ 1). Henderson–Pabis may give a negative time
+    /// when mr > a.
+    pub fn equivalent_time_h(&self, mr: f64, t_c: f64, rh: f64) -> f64 {
+        let mr = mr.clamp(1e-300, 1.0);
+        match *self {
+            ThinLayer::Exponential { rate } => -mr.ln() / rate.k_per_h(t_c, rh),
+            ThinLayer::Page { rate, n } => (-mr.ln() / rate.k_per_h(t_c, rh)).powf(1.0 / n),
+            ThinLayer::HendersonPabis { rate, a } => (a / mr).ln() / rate.k_per_h(t_c, rh),
+            ThinLayer::TwoTerm { .. } => self.invert_monotone(mr, t_c, rh),
+            ThinLayer::ThompsonCorn => {
+                let (a, b) = thompson_ab(t_c);
+                let l = mr.ln();
+                a * l + b * l * l
+            }
+        }
+    }
+
+    /// Invert a decreasing MR(t) by bracketing and bisection (two-term form has no closed-form inverse).
+    fn invert_monotone(&self, mr: f64, t_c: f64, rh: f64) -> f64 {
+        if mr >= 1.0 {
+            return 0.0;
+        }
+        let mut hi = 1.0;
+        let mut guard = 0;
+        while self.moisture_ratio(hi, t_c, rh) > mr && guard < 200 {
+            hi *= 2.0;
+            guard += 1;
+        }
+        let mut lo = 0.0;
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if self.moisture_ratio(mid, t_c, rh) > mr {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+            if hi - lo <= 1e-14 * hi {
+                break;
+            }
+        }
+        0.5 * (lo + hi)
+    }
+
+    /// New MR after `dt_s` seconds at (t_c, rh), starting from `mr`, by the equivalent-time method.
+    pub fn step_ratio(&self, mr: f64, t_c: f64, rh: f64, dt_s: f64) -> f64 {
+        let dt_h = dt_s.max(0.0) / 3600.0;
+        match *self {
+            ThinLayer::Exponential { rate } | ThinLayer::HendersonPabis { rate, .. } => {
+                mr * (-rate.k_per_h(t_c, rh) * dt_h).exp()
+            }
+            _ => {
+                let t_eq = self.equivalent_time_h(mr, t_c, rh);
+                self.moisture_ratio(t_eq + dt_h, t_c, rh)
+            }
+        }
+    }
+}
+
+/// One moisture compartment: its isotherm (with hysteresis) and its thin-layer curve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Compartment {
+    /// Equilibrium moisture.
+    pub sorption: Sorption,
+    /// Drying/rewetting curve.
+    pub thin_layer: ThinLayer,
+}
+
+/// How a crop's moisture is modelled: one compartment (grains) or hull + kernel (peanut pods).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PodModel {
+    /// One compartment exchanging with the air.
+    Single(Compartment),
+    /// Hull exchanging with the air and kernel exchanging with the hull (both curves first order).
+    TwoCompartment {
+        /// The hull.
+        hull: Compartment,
+        /// The kernel.
+        kernel: Compartment,
+        /// Hull fraction of pod dry matter, 0–1 exclusive.
+        hull_fraction: f64,
+    },
+}
+
+/// Moisture state of one layer of product, dry-basis decimal. For single-compartment crops both moistures are
+/// equal and mean the grain moisture.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PodState {
+    /// Hull moisture, kg water per kg hull dry matter.
+    pub m_hull_db: f64,
+    /// Kernel moisture, kg water per kg kernel dry matter.
+    pub m_kernel_db: f64,
+    /// Moisture at the start of the present drying/wetting curve (M₀ of the equivalent-time method; used by
+    /// single-compartment crops with a non-first-order curve).
+    pub m_curve_start_db: f64,
+}
+
+impl PodState {
+    /// A single-compartment state at `m_db`.
+    pub fn uniform(m_db: f64) -> Self {
+        PodState {
+            m_hull_db: m_db,
+            m_kernel_db: m_db,
+            m_curve_start_db: m_db,
+        }
+    }
+}
+
+impl PodModel {
+    /// Hull fraction of dry matter (0 for single-compartment crops).
+    pub fn hull_fraction(&self) -> f64 {
+        match self {
+            PodModel::Single(_) => 0.0,
+            PodModel::TwoCompartment { hull_fraction, .. } => *hull_fraction,
+        }
+    }
+
+    /// The compartment whose moisture the trade reports (kernel, or the only one).
+    pub fn kernel(&self) -> &Compartment {
+        match self {
+            PodModel::Single(c) => c,
+            PodModel::TwoCompartment { kernel, .. } => kernel,
+        }
+    }
+
+    /// The compartment that meets the air (hull, or the only one).
+    pub fn hull(&self) -> &Compartment {
+        match self {
+            PodModel::Single(c) => c,
+            PodModel::TwoCompartment { hull, .. } => hull,
+        }
+    }
+
+    /// Pod moisture, dry basis decimal: dry-mass-weighted mean of hull and kernel.
+    pub fn pod_moisture_db(&self, s: &PodState) -> f64 {
+        match self {
+            PodModel::Single(_) => s.m_kernel_db,
+            PodModel::TwoCompartment { hull_fraction, .. } => {
+                hull_fraction * s.m_hull_db + (1.0 - hull_fraction) * s.m_kernel_db
+            }
+        }
+    }
+
+    /// Pod moisture, wet basis decimal.
+    pub fn pod_moisture_wb(&self, s: &PodState) -> f64 {
+        wb_from_db(self.pod_moisture_db(s))
+    }
+
+    /// Kernel moisture, wet basis decimal (the trade's moisture).
+    pub fn kernel_moisture_wb(&self, s: &PodState) -> f64 {
+        wb_from_db(s.m_kernel_db)
+    }
+
+    /// Hull moisture, wet basis decimal.
+    pub fn hull_moisture_wb(&self, s: &PodState) -> f64 {
+        wb_from_db(s.m_hull_db)
+    }
+
+    /// Desorption equilibrium state in air at (t_c, rh).
+    pub fn equilibrium(&self, t_c: f64, rh: f64) -> PodState {
+        let m_h = self.hull().sorption.emc_desorption_db(t_c, rh);
+        let m_k = self.kernel().sorption.emc_desorption_db(t_c, rh);
+        PodState {
+            m_hull_db: m_h,
+            m_kernel_db: m_k,
+            m_curve_start_db: m_k,
+        }
+    }
+
+    /// A state with the kernel at `m_kernel_db` and the hull in equilibrium with it at `t_c` (hull moisture from
+    /// the kernel's ERH), as for pods that have rested in a closed sample.
+    pub fn state_from_kernel(&self, t_c: f64, m_kernel_db: f64) -> PodState {
+        match self {
+            PodModel::Single(_) => PodState::uniform(m_kernel_db),
+            PodModel::TwoCompartment { hull, kernel, .. } => {
+                let erh = kernel.sorption.desorption.erh(t_c, m_kernel_db);
+                PodState {
+                    m_hull_db: hull.sorption.desorption.emc_db(t_c, erh),
+                    m_kernel_db,
+                    m_curve_start_db: m_kernel_db,
+                }
+            }
+        }
+    }
+
+    /// Advance the state by `dt_s` seconds in air at (t_c, rh). Stable for any `dt_s ≥ 0`.
+    pub fn step(&self, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> PodState {
+        step_pod(self, s, t_c, rh, dt_s)
+    }
+}
+
+/// Advance a single compartment by the equivalent-time method; returns (new M, new curve start).
+pub fn step_compartment(
+    c: &Compartment,
+    m_db: f64,
+    m_start_db: f64,
+    t_c: f64,
+    rh: f64,
+    dt_s: f64,
+) -> (f64, f64) {
+    let target = c.sorption.target_db(t_c, rh, m_db);
+    let gap = m_db - target;
+    if gap.abs() < 1e-15 {
+        return (m_db, m_db);
+    }
+    if c.thin_layer.is_first_order() {
+        let mr = c.thin_layer.step_ratio(1.0, t_c, rh, dt_s);
+        return (target + gap * mr, m_start_db);
+    }
+    let span = m_start_db - target;
+    let (start, mr) = if span.signum() == gap.signum() && span.abs() >= gap.abs() {
+        (m_start_db, gap / span)
+    } else {
+        (m_db, 1.0)
+    };
+    let mr_new = c.thin_layer.step_ratio(mr, t_c, rh, dt_s);
+    (target + mr_new * (start - target), start)
+}
+
+/// Advance a pod (or grain) by `dt_s` seconds in air at (t_c, rh). See the module docs for the equations.
+pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> PodState {
+    match model {
+        PodModel::Single(c) => {
+            let (m, start) = step_compartment(c, s.m_kernel_db, s.m_curve_start_db, t_c, rh, dt_s);
+            PodState {
+                m_hull_db: m,
+                m_kernel_db: m,
+                m_curve_start_db: start,
+            }
+        }
+        PodModel::TwoCompartment {
+            hull,
+            kernel,
+            hull_fraction,
+        } => {
+            let first =
+                two_compartment_pass(hull, kernel, *hull_fraction, s, s.m_hull_db, t_c, rh, dt_s);
+            let mid = 0.5 * (s.m_hull_db + first.m_hull_db);
+            two_compartment_pass(hull, kernel, *hull_fraction, s, mid, t_c, rh, dt_s)
+        }
+    }
+}
+
+/// One exact solve of the two-compartment system linearised about hull moisture `m_lin`.
+#[allow(clippy::too_many_arguments)]
+fn two_compartment_pass(
+    hull: &Compartment,
+    kernel: &Compartment,
+    f_h: f64,
+    s: PodState,
+    m_lin: f64,
+    t_c: f64,
+    rh: f64,
+    dt_s: f64,
+) -> PodState {
+    let dt_h = dt_s.max(0.0) / 3600.0;
+    let r = (1.0 - f_h) / f_h;
+    let m_e_h = hull.sorption.target_db(t_c, rh, s.m_hull_db);
+    let k_h = hull.thin_layer.k_per_h(t_c, rh);
+    let kernel_star = |m_h: f64| {
+        let erh = hull.sorption.desorption.erh(t_c, m_h);
+        kernel.sorption.desorption.emc_db(t_c, erh)
+    };
+    let rh_inside = hull.sorption.desorption.erh(t_c, m_lin);
+    let k_kh = kernel.thin_layer.k_per_h(t_c, rh_inside);
+    let s0 = kernel.sorption.desorption.emc_db(t_c, rh_inside);
+    let dm = 1e-6 * m_lin.abs().max(1e-2);
+    let slope = ((kernel_star(m_lin + dm) - kernel_star((m_lin - dm).max(0.0)))
+        / (m_lin + dm - (m_lin - dm).max(0.0)))
+    .max(0.0);
+    // x' = A·x + c; A = [[−k_h − r·k_kh·s, r·k_kh], [k_kh·s, −k_kh]]; fixed point below.
+    let a11 = -k_h - r * k_kh * slope;
+    let a12 = r * k_kh;
+    let a21 = k_kh * slope;
+    let a22 = -k_kh;
+    let eq_h = m_e_h;
+    let eq_k = s0 + slope * (m_e_h - m_lin);
+    let d_h = s.m_hull_db - eq_h;
+    let d_k = s.m_kernel_db - eq_k;
+    let [[e11, e12], [e21, e22]] = expm2([[a11, a12], [a21, a22]], dt_h);
+    PodState {
+        m_hull_db: (eq_h + e11 * d_h + e12 * d_k).max(0.0),
+        m_kernel_db: (eq_k + e21 * d_h + e22 * d_k).max(0.0),
+        m_curve_start_db: s.m_curve_start_db,
+    }
+}
+
+/// exp(A·t) for a 2×2 matrix with real eigenvalues (Putzer's formula; the equal-eigenvalue limit near a double
+/// root). The two-compartment matrix always has real, non-positive eigenvalues (its discriminant is
+/// (k_h + r·k_kh·s + k_kh)² − 4·k_h·k_kh ≥ (k_h − k_kh)²).
+fn expm2(a: [[f64; 2]; 2], t: f64) -> [[f64; 2]; 2] {
+    let tr = a[0][0] + a[1][1];
+    let det = a[0][0] * a[1][1] - a[0][1] * a[1][0];
+    let disc = (0.25 * tr * tr - det).max(0.0);
+    let root = disc.sqrt();
+    let l1 = 0.5 * tr + root;
+    let l2 = 0.5 * tr - root;
+    let e1 = (l1 * t).exp();
+    let e2 = (l2 * t).exp();
+    // exp(At) = c0·I + c1·A
+    let (c0, c1) = if (l1 - l2) * t > 1e-6 {
+        ((l1 * e2 - l2 * e1) / (l1 - l2), (e1 - e2) / (l1 - l2))
+    } else {
+        let l = 0.5 * (l1 + l2);
+        let e = (l * t).exp();
+        (e * (1.0 - l * t), e * t)
+    };
+    [
+        [c0 + c1 * a[0][0], c1 * a[0][1]],
+        [c1 * a[1][0], c0 + c1 * a[1][1]],
+    ]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn matrix_exponential_of_diagonal_is_elementwise() {
+        let e = expm2([[-1.0, 0.0], [0.0, -3.0]], 0.5);
+        assert!((e[0][0] - (-0.5f64).exp()).abs() < 1e-14);
+        assert!((e[1][1] - (-1.5f64).exp()).abs() < 1e-14);
+        assert!(e[0][1].abs() < 1e-15 && e[1][0].abs() < 1e-15);
+        let same = expm2([[-2.0, 0.0], [0.0, -2.0]], 1.0);
+        assert!((same[0][0] - (-2.0f64).exp()).abs() < 1e-12);
+    }
+
+    #[test]
+    fn arrhenius_is_k_ref_at_reference_temperature() {
+        let r = ArrheniusRate {
+            k_ref_per_h: 0.5,
+            t_ref_c: 35.0,
+            activation_energy_j_per_mol: 30_000.0,
+            rh_slope: 0.0,
+        };
+        assert!((r.k_per_h(35.0, 0.4) - 0.5).abs() < 1e-15);
+    }
+}
