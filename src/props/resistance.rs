@@ -314,6 +314,20 @@ pub const PEANUT_HORIZONTAL_RATIO: f64 = 1.0;
 
 /// A bed law scaled for one bed or one cell: pressure drop = `multiplier` × the law's, and horizontal resistivity =
 /// `horizontal_ratio` × vertical. The permeability multiplier a solver sees is `1 / multiplier`.
+///
+/// ```
+/// use dryfront::props::resistance::{BedAirflowLaw, BedResistance, Shedd, HIGH_MOISTURE_FACTOR};
+/// // Illustrative constants; real ones come from the crop file.
+/// let shedd = Shedd::new(3.80e3, 111.0)?;
+/// // Packed trailer (1.5) of wet, clean pods (0.80): 1.2 × the loose-fill pressure drop.
+/// let law = BedAirflowLaw::with_factors(BedResistance::Shedd(shedd), 1.5, HIGH_MOISTURE_FACTOR)?;
+/// let g_pa_per_m = law.pressure_gradient_pa_per_m(0.2);
+/// assert!((law.velocity_from_gradient(g_pa_per_m) - 0.2).abs() < 1e-12);
+/// // A cell dumped denser than the rest of the bed.
+/// let cell = law.scaled(1.3)?;
+/// assert!(cell.velocity_from_gradient(g_pa_per_m) < 0.2);
+/// # Ok::<(), dryfront::error::InputError>(())
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct BedAirflowLaw {
     law: BedResistance,
