@@ -73,19 +73,23 @@ impl Shedd {
     #[inline]
     pub fn velocity_from_gradient(&self, g_pa_per_m: f64) -> f64 {
         let g = g_pa_per_m.abs();
-        let big_g = g * self.b * self.b / self.a;
+        // One division serves both scalings: G = g·b²/a = g·b³/(ab) and q = x/b = x·a/(ab).
+        let inv_ab = 1.0 / (self.a * self.b);
+        let big_g = g * self.b * self.b * self.b * inv_ab;
+        let to_q = self.a * inv_ab;
         if big_g < 1e-8 {
             // Darcy limit with its first correction: x = G − G²/2 + O(G³), relative error < 1e-16 here (and
             // G = 0 gives 0 rather than the 0/0 of a Halley step).
-            return (big_g - 0.5 * big_g * big_g) / self.b;
+            return (big_g - 0.5 * big_g * big_g) * to_q;
         }
         let mut x = if big_g < 0.1 {
             big_g * (1.0 + big_g / 6.0) / (1.0 + big_g * (2.0 / 3.0))
         } else {
             let x1 = (big_g * ln_approx(1.0 + big_g)).sqrt();
             let x2 = (big_g * ln_approx(1.0 + x1)).sqrt();
-            let r = big_g / (2.0 * x2 * (1.0 + x2));
-            (x2 - r * x1) / (1.0 - r)
+            // (x₂ − r·x₁)/(1 − r) with r = G/D, D = 2x₂(1 + x₂), as one division.
+            let d = 2.0 * x2 * (1.0 + x2);
+            (x2 * d - big_g * x1) / (d - big_g)
         };
         for _ in 0..2 {
             // Halley: x ← x − 2h·h′/(2h′² − h·h″), with h′ = 2x − G/y and h″ = 2 + G/y², y = 1 + x; multiplying
@@ -96,7 +100,7 @@ impl Shedd {
             let d2y2 = 2.0 * y * y + big_g;
             x -= 2.0 * h * d1y * y / (2.0 * d1y * d1y - h * d2y2);
         }
-        x / self.b
+        x * to_q
     }
 }
 
@@ -112,17 +116,17 @@ fn ln_1p_fast(x: f64) -> f64 {
 }
 
 /// Crude natural logarithm of a positive normal number (absolute error below 6e-3), for starting guesses only:
-/// exponent from the bits, mantissa m in [1/√2, √2) by the cubic Taylor polynomial of ln(1 + u), u = m − 1.
+/// x = 2^e·m with m in [1/√2, √2) taken from the bits without a branch (the offset trick of musl's `log`: adding
+/// bits(1) − bits(1/√2) carries into the exponent exactly when the mantissa is at or above √2), then the cubic
+/// Taylor polynomial of ln(1 + u), u = m − 1.
 #[inline]
 fn ln_approx(x: f64) -> f64 {
     const MANTISSA: u64 = (1u64 << 52) - 1;
-    let bits = x.to_bits();
-    let mut e = ((bits >> 52) & 0x7ff) as i64 - 1023;
-    let mut m = f64::from_bits((bits & MANTISSA) | (1023u64 << 52));
-    if m > std::f64::consts::SQRT_2 {
-        m *= 0.5;
-        e += 1;
-    }
+    const BITS_SQRT_HALF: u64 = 0x3fe6_a09e_667f_3bcd;
+    const OFFSET: u64 = 0x3ff0_0000_0000_0000 - BITS_SQRT_HALF;
+    let ix = x.to_bits() + OFFSET;
+    let e = (ix >> 52) as i64 - 1023;
+    let m = f64::from_bits((ix & MANTISSA) + BITS_SQRT_HALF);
     let u = m - 1.0;
     e as f64 * std::f64::consts::LN_2 + u * (1.0 + u * (-0.5 + u * (1.0 / 3.0)))
 }
