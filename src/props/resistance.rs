@@ -611,6 +611,9 @@ mod tests {
             assert_relative_eq!(s.velocity_from_gradient(g), q, max_relative = 1e-12);
         }
         assert!(s.velocity_from_gradient(0.0).abs() < f64::MIN_POSITIVE);
+        // Garbage in stays visibly garbage (the solver's physical checks stop on it).
+        assert!(!s.velocity_from_gradient(f64::NAN).is_finite());
+        assert!(!s.velocity_from_gradient(f64::INFINITY).is_finite());
     }
 
     /// Root of x² = G·ln(1 + x) by bisection (200 halvings of [0, √(G·ln(1+G))]): slow, obviously right.
