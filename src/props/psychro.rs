@@ -4,7 +4,7 @@
 //! Formulation: ASHRAE Handbook—Fundamentals (2017), chapter 1 — Hyland–Wexler saturation pressure over ice and
 //! water (eqs. 5–6, switching at the triple point 0.01 °C), humidity ratio (eq. 20), enthalpy (eq. 32), specific
 //! volume (eq. 26), wet-bulb relation (eqs. 33 and 35), standard atmosphere pressure from elevation (eq. 3). The latent
-//! heat of free water uses the ASABE D271 linear form (from memory; within 0.05 % of IAPWS-95 at 25 °C, see tests).
+//! heat of free water uses the ASABE D271 forms (from memory; within 0.06 % of IAPWS-95 at 25–70 °C, see tests).
 //! Temperatures in °C, pressures in Pa, humidity ratio in kg water per kg dry air, enthalpy per kg dry air.
 
 /// Standard sea-level atmospheric pressure, Pa.
@@ -117,11 +117,22 @@ pub fn moist_air_density_kg_per_m3(t_c: f64, w: f64, p_pa: f64) -> f64 {
     (1.0 + w) / specific_volume_m3_per_kg(t_c, w, p_pa)
 }
 
-/// Latent heat of vaporisation of free water (J/kg) at `t_c`: ASABE D271 linear form, 0–65.6 °C
-/// (`2 502 535.259 − 2 385.76424·(T − 273.16)`, T in K; from memory, checked against IAPWS-95 in tests).
+/// Latent heat of vaporisation of free water (J/kg) at `t_c`, ASABE D271 forms (from memory, unverified; checked
+/// against IAPWS-95 to 0.06 % at 25–70 °C in `tests/psychrometrics.rs`):
+/// `2 502 535.259 − 2 385.764 24·(T − 273.16)` for 273.16–338.72 K and
+/// `(7 329 155 978 000 − 15 995 964.08·T²)^0.5` for 338.72–533.16 K (T in K). The remembered branches meet with a
+/// 0.09 % step at 338.72 K (65.57 °C), above any drying-air temperature used here. Below 0.01 °C the linear form
+/// is extrapolated (vaporisation from supercooled water; sublimation is not modelled).
 #[inline]
 pub fn latent_heat_water_j_per_kg(t_c: f64) -> f64 {
-    2_502_535.259 - 2_385.764_24 * (t_c - 0.01)
+    let t_k = t_c + 273.15;
+    if t_k <= 338.72 {
+        2_502_535.259 - 2_385.764_24 * (t_k - 273.16)
+    } else {
+        (7_329_155_978_000.0 - 15_995_964.08 * t_k * t_k)
+            .max(0.0)
+            .sqrt()
+    }
 }
 
 /// Dew-point temperature (°C) of air with partial vapour pressure `p_w_pa`: inverts the Hyland–Wexler curve by
