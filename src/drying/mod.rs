@@ -4,5 +4,6 @@
 pub mod bed;
 pub mod heater;
 pub mod layer;
+pub mod material;
 pub mod run;
 pub mod zones;

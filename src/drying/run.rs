@@ -207,6 +207,8 @@ pub struct Balances {
     pub sorption_heat_j: f64,
     /// Fan electricity, J.
     pub fan_electric_j: f64,
+    /// Water condensed from over-saturated air back onto the peanuts, kg.
+    pub condensate_kg: f64,
     /// Largest one-step water removal relative to the adiabatic-saturation bound of the plenum air (can pass 1
     /// briefly while warm peanuts give up their own heat).
     pub max_removal_vs_adiabatic: f64,
@@ -353,6 +355,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
     let mut next_record;
     let mut hours_mean = None;
     let mut hours_frac = None;
+    let mut prev_levels = (f64::NAN, f64::NAN);
     let mut fuel_heat_j = 0.0;
     let mut max_peanut = bed.temp_c.iter().cloned().fold(f64::MIN, f64::max);
     let mut series = Vec::new();
@@ -375,12 +378,31 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         let hours = t_s / 3600.0;
         let mean_kernel = bed.mean_kernel_wb(material);
         let target = settings.target_kernel_wb;
+        // Crossing times are interpolated within the step, so they do not jump by whole steps.
+        let quantile = bed.kernel_wb_quantile(fraction);
+        let crossing = |prev: f64, now: f64| {
+            let f = if prev > now {
+                ((prev - target) / (prev - now)).clamp(0.0, 1.0)
+            } else {
+                1.0
+            };
+            (hours - settings.dt_s / 3600.0 * (1.0 - f)).max(0.0)
+        };
         if hours_mean.is_none() && mean_kernel <= target {
-            hours_mean = Some(hours);
+            hours_mean = Some(if t_s > 0.0 {
+                crossing(prev_levels.0, mean_kernel)
+            } else {
+                0.0
+            });
         }
-        if hours_frac.is_none() && bed.kernel_wb_quantile(fraction) <= target {
-            hours_frac = Some(hours);
+        if hours_frac.is_none() && quantile <= target {
+            hours_frac = Some(if t_s > 0.0 {
+                crossing(prev_levels.1, quantile)
+            } else {
+                0.0
+            });
         }
+        prev_levels = (mean_kernel, quantile);
         let done = match settings.stop {
             StopRule::Mean => hours_mean.is_some(),
             StopRule::Fraction(_) => hours_frac.is_some(),
@@ -522,6 +544,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
             bal.exhaust_excess_j +=
                 air_kg * (psychro::enthalpy_j_per_kg(r.exhaust.t_c, r.exhaust.w) - h_amb);
             bal.sorption_heat_j += r.totals.sorption_heat_j_per_m2 * area;
+            bal.condensate_kg += r.totals.condensate_kg_per_m2 * area;
         }
         // Physical bound: the air cannot take up more than it would leaving saturated at its wet bulb.
         let t_wb = psychro::wet_bulb_c(plenum.t_c, plenum.w, plenum.p_pa);

@@ -1,0 +1,123 @@
+//! A crop model as the layer step sees it: the crop's two-compartment (or single) moisture model, dry-matter
+//! specific heat, and the latent heat of bound water tabulated from the hull isotherm by the Othmer /
+//! Clausius–Clapeyron method (`props::thermal`), so the inner loop does a table look-up instead of four isotherm
+//! evaluations per cell.
+
+use crate::crop::Crop;
+use crate::drying::layer::{CellMoisture, LayerMaterial};
+use crate::props::thermal::bound_water_latent_heat_ratio;
+use crate::props::thin_layer::{PodModel, PodState};
+
+const T_MIN_C: f64 = -10.0;
+const T_STEP_K: f64 = 1.0;
+const NT: usize = 91;
+const M_MIN_DB: f64 = 0.01;
+const M_STEP_DB: f64 = 0.005;
+const NM: usize = 240;
+
+/// The layer step's view of a crop.
+#[derive(Debug, Clone)]
+pub struct CropMaterial {
+    model: PodModel,
+    cp_dry_j_per_kg_k: f64,
+    latent_ratio: Vec<f64>,
+}
+
+impl CropMaterial {
+    /// Build from a loaded crop.
+    pub fn new(crop: &Crop) -> Self {
+        let model = crop.moisture;
+        let cp = crop.cp_dry_pod_j_per_kg_k();
+        let iso = model.hull().sorption.desorption;
+        let mut latent_ratio = Vec::with_capacity(NT * NM);
+        for it in 0..NT {
+            let t_c = T_MIN_C + it as f64 * T_STEP_K;
+            for im in 0..NM {
+                let m = M_MIN_DB + im as f64 * M_STEP_DB;
+                let r = bound_water_latent_heat_ratio(|t, m| iso.erh(t, m), t_c, m);
+                latent_ratio.push(if r.is_finite() {
+                    r.clamp(1.0, 3.0)
+                } else {
+                    1.0
+                });
+            }
+        }
+        CropMaterial {
+            model,
+            cp_dry_j_per_kg_k: cp,
+            latent_ratio,
+        }
+    }
+
+    /// The crop's moisture model.
+    pub fn model(&self) -> &PodModel {
+        &self.model
+    }
+}
+
+fn to_pod(m: CellMoisture) -> PodState {
+    PodState {
+        m_hull_db: m.hull_db,
+        m_kernel_db: m.kernel_db,
+        m_curve_start_db: m.curve_start_db,
+    }
+}
+
+fn from_pod(s: PodState) -> CellMoisture {
+    CellMoisture {
+        hull_db: s.m_hull_db,
+        kernel_db: s.m_kernel_db,
+        curve_start_db: s.m_curve_start_db,
+    }
+}
+
+impl LayerMaterial for CropMaterial {
+    #[inline]
+    fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture {
+        from_pod(self.model.step(to_pod(m), t_c, rh, dt_s))
+    }
+    #[inline]
+    fn pod_db(&self, m: CellMoisture) -> f64 {
+        self.model.pod_moisture_db(&to_pod(m))
+    }
+    #[inline]
+    fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
+        self.model.hull().sorption.desorption.erh(t_c, m.hull_db)
+    }
+    #[inline]
+    fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {
+        // Water leaves the pod through the hull: its isotherm sets the heat of desorption. Bilinear look-up,
+        // clamped at the table's edges.
+        let x = ((t_c - T_MIN_C) / T_STEP_K).clamp(0.0, (NT - 1) as f64 - 1e-9);
+        let y = ((m.hull_db - M_MIN_DB) / M_STEP_DB).clamp(0.0, (NM - 1) as f64 - 1e-9);
+        let (i, j) = (x as usize, y as usize);
+        let (fx, fy) = (x - i as f64, y - j as f64);
+        let at = |i: usize, j: usize| self.latent_ratio[i * NM + j];
+        let a = at(i, j) + fy * (at(i, j + 1) - at(i, j));
+        let b = at(i + 1, j) + fy * (at(i + 1, j + 1) - at(i + 1, j));
+        a + fx * (b - a)
+    }
+    #[inline]
+    fn cp_dry_j_per_kg_k(&self) -> f64 {
+        self.cp_dry_j_per_kg_k
+    }
+    fn add_water(&self, m: CellMoisture, d_pod_db: f64) -> CellMoisture {
+        match self.model {
+            PodModel::Single(_) => CellMoisture {
+                hull_db: m.hull_db + d_pod_db,
+                kernel_db: m.kernel_db + d_pod_db,
+                curve_start_db: m.kernel_db + d_pod_db,
+            },
+            PodModel::TwoCompartment { hull_fraction, .. } => CellMoisture {
+                hull_db: m.hull_db + d_pod_db / hull_fraction,
+                ..m
+            },
+        }
+    }
+    fn kernel_fraction(&self) -> f64 {
+        1.0 - self.model.hull_fraction()
+    }
+    fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture {
+        from_pod(self.model.state_from_kernel(t_c, kernel_db))
+    }
+}

@@ -1,0 +1,114 @@
+//! Shared set-up for the deep-bed tests: the real peanut crop model on a uniform bed under fixed weather.
+#![allow(dead_code)]
+
+use dryfront::crop::Crop;
+use dryfront::drying::bed::{BedState, InitialMoisture};
+use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
+use dryfront::drying::layer::LayerMaterial;
+use dryfront::drying::material::CropMaterial;
+use dryfront::drying::run::{
+    run_batch, ConstantAmbient, FixedFlow, FlowField, Outcome, RunSettings,
+};
+use dryfront::props::psychro::AirState;
+use ndarray::Array2;
+
+/// The bundled peanut model.
+pub fn peanut() -> (Crop, CropMaterial) {
+    let crop = Crop::load_named("peanut-inshell").expect("bundled peanut model loads");
+    let material = CropMaterial::new(&crop);
+    (crop, material)
+}
+
+/// A uniform-bed case.
+#[derive(Debug, Clone, Copy)]
+pub struct Case {
+    pub depth_m: f64,
+    pub nz: usize,
+    pub columns: (usize, usize),
+    /// Airflow, m³/min per m³ of peanuts.
+    pub specific_airflow: f64,
+    pub strategy: HeaterStrategy,
+    pub ambient_c: f64,
+    pub ambient_rh: f64,
+    pub initial_kernel_wb: f64,
+    pub dt_s: f64,
+    pub max_hours: f64,
+    /// Initial peanut temperature, °C (ambient when `None`).
+    pub peanut_c: Option<f64>,
+}
+
+impl Default for Case {
+    fn default() -> Self {
+        Case {
+            depth_m: 1.25,
+            nz: 25,
+            columns: (1, 1),
+            specific_airflow: 10.0,
+            strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
+            ambient_c: 25.0,
+            ambient_rh: 0.70,
+            initial_kernel_wb: 0.20,
+            dt_s: 360.0,
+            max_hours: 120.0,
+            peanut_c: None,
+        }
+    }
+}
+
+impl Case {
+    pub fn run(&self) -> (Outcome, BedState) {
+        let (crop, material) = peanut();
+        let depth = Array2::from_elem(self.columns, self.depth_m);
+        let pod_db = material.pod_db(material.initial_state(
+            self.initial_kernel_wb / (1.0 - self.initial_kernel_wb),
+            self.ambient_c,
+        ));
+        let dry_density = crop.dry_matter_density_kg_per_m3(100.0 * pod_db / (1.0 + pod_db));
+        let mut bed = BedState::new(
+            &material,
+            depth,
+            1.0,
+            self.nz,
+            dry_density,
+            &InitialMoisture::Uniform(self.initial_kernel_wb),
+            self.peanut_c.unwrap_or(self.ambient_c),
+        )
+        .unwrap();
+        let q = self.specific_airflow / 60.0 * self.depth_m;
+        let field = FlowField {
+            velocity_m_per_s: Array2::from_elem(self.columns, q),
+            fan_power_w: 0.0,
+            electric_power_w: 0.0,
+            leakage_m3_per_s: 0.0,
+            plenum_pa: 0.0,
+        };
+        let heater = Heater {
+            strategy: self.strategy,
+            window_h: None,
+            capacity_w: None,
+            max_plenum_c: crop.safety.max_plenum_temp_c + 20.0,
+            fuel: Fuel::propane(),
+        };
+        let settings = RunSettings {
+            dt_s: self.dt_s,
+            max_hours: self.max_hours,
+            ..RunSettings::default()
+        };
+        let ambient = ConstantAmbient(AirState::from_rh(
+            self.ambient_c,
+            self.ambient_rh,
+            101_325.0,
+        ));
+        let out = run_batch(
+            &material,
+            &mut bed,
+            &ambient,
+            &mut FixedFlow(field),
+            &heater,
+            &settings,
+            &mut (),
+        )
+        .expect("run");
+        (out, bed)
+    }
+}
