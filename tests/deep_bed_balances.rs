@@ -3,7 +3,8 @@
 //! peanuts store (sensible heat and heat of sorption), within 1 %. Checked on steady weather and on a day–night
 //! cycle with condensation, over several strategies. Also: no run removes water faster over the run than the air
 //! could carry leaving saturated at its wet bulb plus what the peanuts' own heat evaporates (DOMAIN.md §6.3).
-mod common;
+mod deep_bed_support;
+use deep_bed_support as common;
 
 use common::Case;
 use dryfront::drying::heater::HeaterStrategy;

@@ -3,7 +3,8 @@
 //! m³ of peanuts hours to target do not depend on bed depth (the thin-layer rate has no velocity term); humid nights
 //! without heat rewet the top layer's hulls (pod moisture rises) while kernel moisture barely moves; results do not
 //! depend on thread count; refining the time step and layers changes hours to target by less than 2 %.
-mod common;
+mod deep_bed_support;
+use deep_bed_support as common;
 
 use common::Case;
 use dryfront::drying::bed::{BedState, InitialMoisture};
