@@ -361,7 +361,7 @@ pub fn parse_timestamp(s: &str, default: Option<FixedOffset>) -> Option<DateTime
     let (main, off) = if let Some(m) = s.strip_suffix('Z').or_else(|| s.strip_suffix('z')) {
         (m, Some(FixedOffset::east_opt(0)?))
     } else if s.len() > 16 {
-        let tail_start = s[10..].rfind(['+', '-']).map(|i| i + 10);
+        let tail_start = s.get(10..)?.rfind(['+', '-']).map(|i| i + 10);
         match tail_start {
             Some(i) => (&s[..i], Some(parse_offset(&s[i..])?)),
             None => (s, None),

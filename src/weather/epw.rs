@@ -6,8 +6,8 @@
 //! Programs* documentation, "Weather Converter Program" chapter, section "EnergyPlus Weather File (EPW) Data
 //! Dictionary" (a value at or above the `\missing` number is missing): N1 year, N2 month, N3 day, N4 hour, N5 minute,
 //! A1 data source flags, N6 dry bulb °C (missing 99.9), N7 dew point °C (99.9), N8 relative humidity % (999),
-//! N9 atmospheric station pressure Pa (999999), … N21 wind speed m/s (999), … N32 liquid precipitation depth mm (999),
-//! N33 liquid precipitation quantity h (99). LOCATION: city, state, country, source, WMO, latitude, longitude,
+//! N9 atmospheric station pressure Pa (999999), … N21 wind speed m/s (999), … N33 liquid precipitation depth mm (999),
+//! N34 liquid precipitation quantity h (99). Field k of the row (0-based) is N_k for k ≥ 6, because A1 sits at 5. LOCATION: city, state, country, source, WMO, latitude, longitude,
 //! time zone (h from GMT), elevation (m).
 use std::path::Path;
 
@@ -19,7 +19,7 @@ use super::series::{
 };
 use crate::error::InputError;
 
-/// Number of fields in an EPW data row (data dictionary: N1–N5, A1, N6–N34 … 35 in all).
+/// Number of fields in an EPW data row (data dictionary: N1–N5, A1, N6–N34: 35 in all).
 pub const EPW_FIELDS: usize = 35;
 /// Header lines before the first data row.
 pub const EPW_HEADER_LINES: usize = 8;
@@ -46,7 +46,7 @@ pub mod field {
     pub const PRESSURE: usize = 9;
     /// N21 Wind Speed, m/s; missing 999.
     pub const WIND_SPEED: usize = 21;
-    /// N32 Liquid Precipitation Depth, mm; missing 999.
+    /// N33 Liquid Precipitation Depth, mm; missing 999.
     pub const PRECIP_DEPTH: usize = 33;
 }
 

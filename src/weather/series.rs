@@ -25,6 +25,9 @@ pub const RAIN_RANGE_MM: (f64, f64) = (0.0, 500.0);
 /// Accepted wind speed, m/s.
 pub const WIND_RANGE_M_S: (f64, f64) = (0.0, 75.0);
 
+/// The longest gap a reader may be asked to fill, h (one week).
+pub const MAX_GAP_LIMIT_H: usize = 168;
+
 /// Where the weather was measured (or imagined).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Site {
@@ -454,6 +457,13 @@ impl Assembler<'_> {
             });
         };
         let start = first.time.with_timezone(&site.utc_offset);
+        if max_gap_h > MAX_GAP_LIMIT_H {
+            return Err(InputError::argument(
+                "--max-gap-h",
+                format!("{max_gap_h} h"),
+                &format!("must be at most {MAX_GAP_LIMIT_H} h"),
+            ));
+        }
         let fmt = |t: DateTime<FixedOffset>| t.format("%Y-%m-%dT%H:%M%:z").to_string();
         // Place rows on the grid.
         let mut grid: Vec<RawHour> = Vec::with_capacity(self.rows.len());
@@ -688,8 +698,13 @@ pub(crate) fn number(
         return Err(err("is not a finite number".into()));
     }
     if x < range.0 || x > range.1 {
+        let unit = if unit.is_empty() {
+            String::new()
+        } else {
+            format!(" {unit}")
+        };
         return Err(err(format!(
-            "must be between {} and {} {unit}",
+            "must be between {} and {}{unit}",
             range.0, range.1
         )));
     }
@@ -728,6 +743,13 @@ pub(crate) fn local_time(
 
 /// Refuse a leap year as the year for a typical-year file (they have no 29 February, so a day would be missing).
 pub(crate) fn check_typical_year(path: &Path, year: i32) -> Result<(), InputError> {
+    if !(1000..=9998).contains(&year) {
+        return Err(InputError::argument(
+            "--year",
+            year,
+            "must be between 1000 and 9998",
+        ));
+    }
     if NaiveDate::from_ymd_opt(year, 2, 29).is_some() {
         return Err(InputError::Parse {
             path: path.to_path_buf(),
