@@ -422,8 +422,8 @@ pub fn generate_season(
         let t_range = m.t_diurnal_range_k * range_factor * day_var;
         let rh_range = m.rh_diurnal_range_pct * range_factor * day_var;
         for s in shape {
-            e_t = 0.7 * e_t + 0.3 * rng.sample(normal);
-            e_rh = 0.7 * e_rh + 1.2 * rng.sample(normal);
+            e_t = 0.7 * e_t + 0.15 * rng.sample(normal);
+            e_rh = 0.7 * e_rh + 0.6 * rng.sample(normal);
             t.push((t_day + t_range * s + e_t).clamp(-45.0, 55.0));
             rh.push(((rh_day - rh_range * s + e_rh) / 100.0).clamp(0.03, 1.0));
         }
