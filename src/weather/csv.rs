@@ -7,7 +7,7 @@
 //! Reference: ISO 8601 date and time formats; RFC 4180 CSV (parsed with the `csv` crate).
 use std::path::Path;
 
-use chrono::{DateTime, FixedOffset, NaiveDateTime, TimeZone};
+use chrono::{DateTime, FixedOffset, NaiveDate, NaiveDateTime, TimeZone};
 
 use super::series::{
     self, humidity_from, number, Assembler, FieldNames, RawHour, ReadOptions, Site, WeatherSeries,
@@ -86,13 +86,14 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
     let mut rdr = ::csv::ReaderBuilder::new()
         .has_headers(true)
         .flexible(true)
-        .trim(::csv::Trim::All)
         .from_reader(body.as_bytes());
     let header_line = skipped_lines + 1;
     let headers = rdr
         .headers()
         .map_err(|e| perr(Some(header_line), format!("unreadable header row: {e}")))?
-        .clone();
+        .iter()
+        .map(str::trim)
+        .collect::<::csv::StringRecord>();
     if headers.len() == 1 && headers[0].contains(';') {
         return Err(perr(
             Some(header_line),
@@ -186,7 +187,7 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             break;
         }
         let line = record.position().map_or(0, |p| p.line()) + skipped_lines;
-        if record.len() == 1 && record[0].is_empty() {
+        if record.len() == 1 && record[0].trim().is_empty() {
             continue; // blank line
         }
         if record.len() != headers.len() {
@@ -199,12 +200,12 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
                 ),
             ));
         }
-        let time = parse_timestamp(&record[ts], offset).ok_or_else(|| InputError::Field {
+        let time = parse_timestamp(record[ts].trim(), offset).ok_or_else(|| InputError::Field {
             path: path.to_path_buf(),
             line,
             field: "timestamp".into(),
-            value: record[ts].to_string(),
-            expected: if offset.is_none() && parse_naive(&record[ts]).is_some() {
+            value: record[ts].trim().to_string(),
+            expected: if offset.is_none() && parse_naive(record[ts].trim()).is_some() {
                 "has no UTC offset: add one (2026-09-01T06:00-05:00), a '# utc_offset=-05:00' line, or \
                  --utc-offset"
                     .into()
@@ -261,7 +262,7 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             None => f64::NAN,
         };
         let filled = match filled_col {
-            Some(i) => match &record[i] {
+            Some(i) => match record[i].trim() {
                 "0" | "" => false,
                 "1" => true,
                 other => {
@@ -340,18 +341,35 @@ pub fn parse_offset(s: &str) -> Option<FixedOffset> {
     FixedOffset::east_opt(sign * (h * 3600 + m * 60))
 }
 
+/// `YYYY-MM-DDTHH:MM[:SS]` (or a space for `T`), parsed by hand: chrono's format parser dominated read time.
 fn parse_naive(s: &str) -> Option<NaiveDateTime> {
-    for f in [
-        "%Y-%m-%dT%H:%M:%S",
-        "%Y-%m-%dT%H:%M",
-        "%Y-%m-%d %H:%M:%S",
-        "%Y-%m-%d %H:%M",
-    ] {
-        if let Ok(t) = NaiveDateTime::parse_from_str(s, f) {
-            return Some(t);
-        }
+    let b = s.as_bytes();
+    if !(b.len() == 16 || b.len() == 19)
+        || b[4] != b'-'
+        || b[7] != b'-'
+        || !matches!(b[10], b'T' | b' ')
+        || b[13] != b':'
+    {
+        return None;
     }
-    None
+    let num = |r: std::ops::Range<usize>| -> Option<u32> {
+        let d = &b[r];
+        if d.iter().all(u8::is_ascii_digit) {
+            Some(d.iter().fold(0, |a, c| a * 10 + u32::from(c - b'0')))
+        } else {
+            None
+        }
+    };
+    let sec = if b.len() == 19 {
+        if b[16] != b':' {
+            return None;
+        }
+        num(17..19)?
+    } else {
+        0
+    };
+    let date = NaiveDate::from_ymd_opt(num(0..4)? as i32, num(5..7)?, num(8..10)?)?;
+    date.and_hms_opt(num(11..13)?, num(14..16)?, sec)
 }
 
 /// An ISO 8601 local time with optional offset; `default` applies when the text has none.

@@ -1,5 +1,5 @@
 //! The hourly weather series: a regular hourly grid of columns (`Vec<f64>`) starting at a stated local time with the
-//! site's fixed UTC offset, so a lookup is O(1). Readers hand their checked rows to [`Assembler`], which enforces the
+//! site's fixed UTC offset, so a lookup is O(1). Readers hand their checked rows to `Assembler`, which enforces the
 //! time grid (no duplicate, out-of-order or off-grid hours) and fills short gaps linearly, counting every filled hour.
 //!
 //! Interpolation between hours (for sub-hourly steps) is linear in dry bulb, humidity ratio and pressure: mixing
@@ -674,7 +674,7 @@ pub(crate) fn humidity_from(
     Ok((psychro::saturation_pressure_pa(dew_c) / psychro::saturation_pressure_pa(t_c)).min(1.0))
 }
 
-/// Parse a number, checking its range; `missing` says which texts mean "no value" (→ NaN).
+/// Parse a number, checking its range.
 pub(crate) fn number(
     path: &Path,
     line: u64,
@@ -683,30 +683,54 @@ pub(crate) fn number(
     range: (f64, f64),
     unit: &str,
 ) -> Result<f64, InputError> {
-    let err = |expected: String| InputError::Field {
+    let x = parse_finite(path, line, field, text)?;
+    check_in(path, line, field, text, x, range, unit)
+}
+
+/// Parse a finite number (no range check).
+pub(crate) fn parse_finite(
+    path: &Path,
+    line: u64,
+    field: &str,
+    text: &str,
+) -> Result<f64, InputError> {
+    let err = |expected: &str| InputError::Field {
         path: path.to_path_buf(),
         line,
         field: field.to_string(),
         value: text.to_string(),
-        expected,
+        expected: expected.to_string(),
     };
-    let x: f64 = text
-        .trim()
-        .parse()
-        .map_err(|_| err("is not a number".into()))?;
+    let x: f64 = text.trim().parse().map_err(|_| err("is not a number"))?;
     if !x.is_finite() {
-        return Err(err("is not a finite number".into()));
+        return Err(err("is not a finite number"));
     }
+    Ok(x)
+}
+
+/// Check a parsed number against its range.
+pub(crate) fn check_in(
+    path: &Path,
+    line: u64,
+    field: &str,
+    text: &str,
+    x: f64,
+    range: (f64, f64),
+    unit: &str,
+) -> Result<f64, InputError> {
     if x < range.0 || x > range.1 {
         let unit = if unit.is_empty() {
             String::new()
         } else {
             format!(" {unit}")
         };
-        return Err(err(format!(
-            "must be between {} and {}{unit}",
-            range.0, range.1
-        )));
+        return Err(InputError::Field {
+            path: path.to_path_buf(),
+            line,
+            field: field.to_string(),
+            value: text.to_string(),
+            expected: format!("must be between {} and {}{unit}", range.0, range.1),
+        });
     }
     Ok(x)
 }

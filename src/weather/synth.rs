@@ -12,6 +12,7 @@
 //!   fall; common practice, no source), RH moving opposite to temperature, wet days with half the diurnal range,
 //!   plus small AR(1) hourly noise;
 //! - rain: on wet days an exponential (statrs `Exp`) daily total spread over a block of 2–8 consecutive hours.
+//!
 //! Pressure is the standard atmosphere at the site's elevation (ASHRAE 2017 ch. 1 eq. 3); wind is not generated.
 //!
 //! Each season draws from its own `ChaCha8Rng` seeded from `(seed, season index)` only, so a season does not depend

@@ -59,7 +59,6 @@ pub fn parse_tmy3(
     let mut rdr = ::csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
-        .trim(::csv::Trim::All)
         .from_reader(text.as_bytes());
     let mut rec = ::csv::StringRecord::new();
     let read = |rdr: &mut ::csv::Reader<&[u8]>,
@@ -87,14 +86,14 @@ pub fn parse_tmy3(
     }
     let offset = offset_from_hours(path, 1, "time zone", &rec[3])?;
     let elevation_m = number(path, 1, "elevation", &rec[6], (-500.0, 9000.0), "m")?;
-    let name = format!("{} ({}), {}", &rec[1], &rec[0], &rec[2]);
+    let name = format!("{} ({}), {}", rec[1].trim(), rec[0].trim(), rec[2].trim());
     if !read(&mut rdr, &mut rec)? {
         return Err(perr(
             Some(2),
             "file ends before the TMY3 header line".into(),
         ));
     }
-    let header = rec.clone();
+    let header: ::csv::StringRecord = rec.iter().map(str::trim).collect();
     let col = |name: &str| -> Result<usize, InputError> {
         header
             .iter()
@@ -114,7 +113,7 @@ pub fn parse_tmy3(
     let mut rows = Vec::with_capacity(8760);
     while read(&mut rdr, &mut rec)? {
         let line = rec.position().map_or(0, |p| p.line());
-        if rec.len() == 1 && rec[0].is_empty() {
+        if rec.len() == 1 && rec[0].trim().is_empty() {
             continue;
         }
         if rec.len() != header.len() {
@@ -134,13 +133,18 @@ pub fn parse_tmy3(
             value: value.into(),
             expected: expected.into(),
         };
-        let d = &rec[c_date];
-        let date = NaiveDate::parse_from_str(d, "%m/%d/%Y")
-            .map_err(|_| ferr(DATE, d, "is not a date MM/DD/YYYY"))?;
-        let (m, day) = (chrono::Datelike::month(&date), chrono::Datelike::day(&date));
+        let d = rec[c_date].trim();
+        // MM/DD/YYYY by hand (chrono's format parser dominated read time); the file's year is replaced.
+        let md = d
+            .split_once('/')
+            .and_then(|(m, rest)| Some((m.parse::<u32>().ok()?, rest.split_once('/')?)))
+            .and_then(|(m, (day, y))| Some((m, day.parse::<u32>().ok()?, y.parse::<u32>().ok()?)))
+            .filter(|&(m, day, y)| NaiveDate::from_ymd_opt(y as i32, m, day).is_some())
+            .ok_or_else(|| ferr(DATE, d, "is not a date MM/DD/YYYY"))?;
+        let (m, day) = (md.0, md.1);
         let date = NaiveDate::from_ymd_opt(year, m, day)
             .ok_or_else(|| ferr(DATE, d, "is 29 February, which the chosen year lacks"))?;
-        let t = &rec[c_time];
+        let t = rec[c_time].trim();
         let (hh, mm) = t
             .split_once(':')
             .and_then(|(h, m)| Some((h.parse::<u32>().ok()?, m.parse::<u32>().ok()?)))
@@ -149,11 +153,11 @@ pub fn parse_tmy3(
         let time = local_time(offset, date, hh, mm).expect("fixed offsets have no gaps");
         let val =
             |i: usize, name: &str, range: (f64, f64), unit: &str| -> Result<f64, InputError> {
-                let raw = number(path, line, name, &rec[i], (f64::MIN, f64::MAX), unit)?;
+                let raw = series::parse_finite(path, line, name, &rec[i])?;
                 if raw <= TMY3_MISSING {
                     Ok(f64::NAN)
                 } else {
-                    number(path, line, name, &rec[i], range, unit)
+                    series::check_in(path, line, name, &rec[i], raw, range, unit)
                 }
             };
         let t_c = val(c_t, DRY_BULB, series::T_RANGE_C, "°C")?;
@@ -168,7 +172,7 @@ pub fn parse_tmy3(
             Some(i) => val(i, RAIN, series::RAIN_RANGE_MM, "mm")?,
             None => f64::NAN,
         };
-        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, DEW_POINT, &rec[c_dp])?;
+        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, DEW_POINT, rec[c_dp].trim())?;
         rows.push(RawHour {
             line,
             time,
