@@ -68,7 +68,7 @@ fn pool(seasons: &[WeatherSeries], month: u32) -> Pool {
             p.range_t.push(mx(&t) - mn(&t));
             p.range_rh.push(mx(&rh) - mn(&rh));
             p.rain
-                .push(d.iter().map(|&i| s.rain_mm().unwrap()[i]).sum());
+                .push(s.rain_mm().map_or(0.0, |r| d.iter().map(|&i| r[i]).sum()));
             dt.push(mean(&t));
             drh.push(mean(&rh));
             p.t.extend(t);

@@ -310,13 +310,17 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         write_atomic(&path, s.to_csv(&[note]).as_bytes(), &inputs)?;
         let sum = summarize(s, &[60.0], None);
         println!(
-            "wrote {} ({} h; mean {:.1} °C, mean RH {:.1} %, mean daily range {:.1} K, rain {:.0} mm)",
+            "wrote {} ({} h; mean {:.1} °C, mean RH {:.1} %, mean daily range {:.1} K, {})",
             path.display(),
             s.len(),
             sum.t_mean_c,
             sum.rh_mean_pct,
             sum.diurnal_range_k,
-            s.rain_mm().map_or(0.0, |r| r.iter().sum())
+            s.rain_mm()
+                .map_or("no rain amounts".to_string(), |r| format!(
+                    "rain {:.0} mm",
+                    r.iter().sum::<f64>()
+                ))
         );
     }
     println!("wrote {}", a.out.join("stats.json").display());

@@ -788,7 +788,7 @@ pub(crate) fn check_typical_year(path: &Path, year: i32) -> Result<(), InputErro
 }
 
 /// Read a file to a string, naming it on failure; a UTF-8 byte-order mark is dropped.
-pub(crate) fn read_text(path: &Path) -> Result<String, InputError> {
+pub fn read_text(path: &Path) -> Result<String, InputError> {
     let bytes = std::fs::read(path).map_err(|source| InputError::Io {
         path: PathBuf::from(path),
         source,
@@ -797,7 +797,7 @@ pub(crate) fn read_text(path: &Path) -> Result<String, InputError> {
 }
 
 /// Decode bytes as UTF-8 (dropping a byte-order mark), naming the file and line of the first bad byte.
-pub(crate) fn text_from_bytes(path: &Path, bytes: &[u8]) -> Result<String, InputError> {
+pub fn text_from_bytes(path: &Path, bytes: &[u8]) -> Result<String, InputError> {
     let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
     match std::str::from_utf8(bytes) {
         Ok(s) => Ok(s.to_string()),

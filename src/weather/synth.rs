@@ -454,7 +454,13 @@ pub fn generate_season(
         t,
         rh,
         vec![p0; n],
-        Some(rain),
+        // No rain amounts in the statistics (e.g. estimated from a file without rain): no rain column, rather than
+        // a column of zeros that would read as "dry".
+        stats
+            .months
+            .iter()
+            .any(|m| m.rain_mm_per_wet_day > 0.0)
+            .then_some(rain),
         None,
     )
 }

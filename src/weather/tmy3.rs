@@ -2,7 +2,9 @@
 //! (USAF id, name, state, time zone h, latitude, longitude, elevation m), a header line naming 71 columns, then one
 //! row per hour with `Date (MM/DD/YYYY)` and `Time (HH:MM)`, 01:00–24:00 local standard time, hour ending.
 //!
-//! Columns used: `Dry-bulb (C)`, `Dew-point (C)`, `RHum (%)`, `Pressure (mbar)`, `Wspd (m/s)`, `Lprecip depth (mm)`.
+//! Columns used: `Dry-bulb (C)`, `Dew-point (C)`, `RHum (%)`, `Pressure (mbar)`, `Wspd (m/s)`. `Lprecip depth (mm)`
+//! is deliberately not read: in the bundled Greensboro file it sums to 8345 "mm" a year, several times the site's
+//! real rainfall (about 1100 mm a year, from memory), so its unit or meaning is not what the header says.
 //! A typical year's months come from different years, so the reader places every row in one chosen year (the last
 //! 24:00 of 31 December falls on 1 January of the next), as pvlib's `read_tmy3(coerce_year=…)` does; the test
 //! `tests/weather_tmy3_reference.rs` compares every hour with pvlib 0.16.1. Reference: Wilcox & Marion (2008),
@@ -28,7 +30,6 @@ const DEW_POINT: &str = "Dew-point (C)";
 const RH: &str = "RHum (%)";
 const PRESSURE: &str = "Pressure (mbar)";
 const WIND: &str = "Wspd (m/s)";
-const RAIN: &str = "Lprecip depth (mm)";
 
 /// Read a TMY3 CSV, placing the typical year in `opts.year` (required: a typical year has no calendar year).
 pub fn read_tmy3(path: &Path, opts: &ReadOptions) -> Result<WeatherSeries, InputError> {
@@ -109,7 +110,6 @@ pub fn parse_tmy3(
         col(PRESSURE)?,
     );
     let c_wind = header.iter().position(|h| h == WIND);
-    let c_rain = header.iter().position(|h| h == RAIN);
     let mut rows = Vec::with_capacity(8760);
     while read(&mut rdr, &mut rec)? {
         let line = rec.position().map_or(0, |p| p.line());
@@ -168,10 +168,7 @@ pub fn parse_tmy3(
             Some(i) => val(i, WIND, series::WIND_RANGE_M_S, "m/s")?,
             None => f64::NAN,
         };
-        let rain_mm = match c_rain {
-            Some(i) => val(i, RAIN, series::RAIN_RANGE_MM, "mm")?,
-            None => f64::NAN,
-        };
+        let rain_mm = f64::NAN;
         let rh = humidity_from(path, line, t_c, rh_pct, dew_c, DEW_POINT, rec[c_dp].trim())?;
         rows.push(RawHour {
             line,
@@ -194,11 +191,11 @@ pub fn parse_tmy3(
             t: DRY_BULB,
             rh: RH,
             p: PRESSURE,
-            rain: RAIN,
+            rain: "rain",
             wind: WIND,
         },
         rows,
-        has_rain: c_rain.is_some(),
+        has_rain: false,
         has_wind: c_wind.is_some(),
         default_p_pa: None,
     }
