@@ -199,6 +199,11 @@ fn bom_crlf_and_a_dew_point_within_tolerance_are_accepted() {
     );
     let s = read(&dew).unwrap();
     approx::assert_abs_diff_eq!(s.rh()[0], 1.0, epsilon = 1e-12);
+    // Daylight-saving labels (-04:00) in a standard-time (-05:00) site: compared as instants, stored in -05:00.
+    let dst = write_case(dir.path(), "dst.csv", b"# utc_offset=-05:00\ntimestamp,temp_c,rh_pct\n2026-09-01T01:00-04:00,20,50\n2026-09-01T01:00,21,50\n");
+    let s = read(&dst).unwrap();
+    assert_eq!(s.len(), 2);
+    assert_eq!(s.start().to_rfc3339(), "2026-09-01T00:00:00-05:00");
     // A short gap (2 missing rows) is filled and counted, never silently.
     let gap = write_case(
         dir.path(),

@@ -179,6 +179,14 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
             Some(n) => Duration::days(n as i64),
             None => full.end() - start + Duration::hours(1),
         };
+        if start + dur > full.end() + Duration::hours(1) {
+            anyhow::bail!(
+                "{}: --from/--days reach {}, but the file ends at {}",
+                a.file.display(),
+                (start + dur - Duration::hours(1)).format("%Y-%m-%d %H:%M%:z"),
+                full.end().format("%Y-%m-%d %H:%M%:z")
+            );
+        }
         full.slice(start, dur)
             .with_context(|| format!("{}: cannot take --from/--days", a.file.display()))?
     } else {

@@ -876,6 +876,19 @@ mod tests {
         assert!(s.at(s.time(2) + Duration::minutes(1)).is_err());
     }
 
+    proptest::proptest! {
+        #[test]
+        fn at_between_hours_stays_between_the_neighbours(frac in 0.0..1.0f64, i in 0usize..2) {
+            let s = series();
+            let a = s.at(s.time(i) + Duration::milliseconds((frac * 3.6e6) as i64)).unwrap();
+            let (lo, hi) = (s.t_c()[i].min(s.t_c()[i + 1]), s.t_c()[i].max(s.t_c()[i + 1]));
+            proptest::prop_assert!(a.t_c >= lo - 1e-12 && a.t_c <= hi + 1e-12);
+            let (lo, hi) = (s.w()[i].min(s.w()[i + 1]), s.w()[i].max(s.w()[i + 1]));
+            proptest::prop_assert!(a.air.w >= lo - 1e-15 && a.air.w <= hi + 1e-15);
+            proptest::prop_assert!(a.rh > 0.0 && a.rh <= 1.0);
+        }
+    }
+
     #[test]
     fn slice_takes_the_hours_in_a_half_open_window() {
         let s = series();
