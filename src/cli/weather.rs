@@ -227,12 +227,14 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
             100.0 * *h as f64 / s.hours as f64
         );
     }
-    if let Some(m) = s.mean_emc_db {
+    if let (Some(m), Some(med)) = (s.mean_emc_db, s.median_emc_db) {
         println!(
-            "drying potential: mean kernel EMC of ambient air {:.2} % d.b. ({:.2} % w.b.) [temporary isotherm: \
-             Cromarty 1982 kernel, oil 0.48 d.b.]",
+            "drying potential: kernel EMC of ambient air, mean {:.2} % d.b. ({:.2} % w.b.), median {:.2} % d.b. \
+             ({:.2} % w.b.) [temporary isotherm: Cromarty 1982 kernel, oil 0.48 d.b.]",
             100.0 * m,
-            100.0 * crate::units::wb_from_db(m)
+            100.0 * crate::units::wb_from_db(m),
+            100.0 * med,
+            100.0 * crate::units::wb_from_db(med)
         );
     }
     let day_means = |f: fn(&weather::DailyStats) -> f64| {

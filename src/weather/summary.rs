@@ -47,6 +47,9 @@ pub struct Summary {
     pub hours_rh_below: Vec<(f64, usize)>,
     /// Mean equilibrium moisture content (decimal, dry basis) of the ambient air, if an isotherm was given.
     pub mean_emc_db: Option<f64>,
+    /// Median of the hourly EMC (decimal, dry basis): less swayed than the mean by saturated (fog) hours, where
+    /// isotherms climb steeply.
+    pub median_emc_db: Option<f64>,
     /// Per-day statistics.
     pub daily: Vec<DailyStats>,
 }
@@ -92,6 +95,7 @@ pub fn summarize(
     } else {
         full.iter().map(|d| d.t_max_c - d.t_min_c).sum::<f64>() / full.len() as f64
     };
+    let emc_values: Option<Vec<f64>> = emc.map(|f| (0..n).map(|k| f(t[k], rh[k])).collect());
     Summary {
         hours: n,
         filled_hours: series.filled_hours(),
@@ -102,7 +106,17 @@ pub fn summarize(
             .iter()
             .map(|&th| (th, rh.iter().filter(|&&r| 100.0 * r < th).count()))
             .collect(),
-        mean_emc_db: emc.map(|f| (0..n).map(|k| f(t[k], rh[k])).sum::<f64>() / n as f64),
+        mean_emc_db: emc_values
+            .as_ref()
+            .map(|v| v.iter().sum::<f64>() / n as f64),
+        median_emc_db: emc_values.map(|mut v| {
+            v.sort_by(f64::total_cmp);
+            if n % 2 == 1 {
+                v[n / 2]
+            } else {
+                0.5 * (v[n / 2 - 1] + v[n / 2])
+            }
+        }),
         daily,
     }
 }
