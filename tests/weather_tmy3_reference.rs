@@ -45,10 +45,13 @@ fn tmy3_reader_matches_pvlib_hour_by_hour() {
     }
     // The file's dew point and RH are each rounded (0.1 K, 1 %), and at the joins between months taken from
     // different years the two disagree by several kelvin (the typical-year months are spliced and smoothed there).
-    // So the check is statistical: mean |Δ| < 0.2 K and 99 % of hours within 1.5 K (measured: 0.12 K and 1.2 K).
+    // So the check is statistical: mean |Δ| < 0.2 K and 99 % of hours within 1.5 K (measured: 0.165 K and 1.42 K;
+    // the worst hour, 6.2 K, is at the 31 January / 1 February join).
     dew_diffs_k.sort_by(f64::total_cmp);
     let mean = dew_diffs_k.iter().sum::<f64>() / dew_diffs_k.len() as f64;
     let p99 = dew_diffs_k[dew_diffs_k.len() * 99 / 100];
+    let max = dew_diffs_k[dew_diffs_k.len() - 1];
+    eprintln!("dew point vs pvlib: mean {mean:.3} K, 99th percentile {p99:.3} K, max {max:.3} K");
     assert!(mean < 0.2, "mean dew-point difference {mean} K");
     assert!(p99 < 1.5, "99th percentile dew-point difference {p99} K");
 }
