@@ -1,13 +1,365 @@
 //! `dryfront weather …`: summarise, clean and synthesise hourly weather.
+//!
+//! The drying-potential figure uses a temporary kernel isotherm (Cromarty, Ellis & Roberts 1982 seed equation with
+//! oil content 0.48 d.b., DOMAIN.md §2.3) until the crop models are wired in.
+use std::path::{Path, PathBuf};
+
+use anyhow::Context;
+use chrono::{Datelike, Duration, FixedOffset, NaiveDate, TimeZone};
+
+use crate::outfile::write_atomic;
+use crate::weather::{
+    self, csv::parse_offset, summarize, ClimateStats, ReadOptions, SeasonPlan, WeatherFormat,
+    WeatherSeries,
+};
 
 /// Weather commands.
 #[derive(Debug, clap::Subcommand)]
 pub enum WeatherCommand {
-    /// Summarise a weather file.
-    Summary,
+    /// Check and summarise a weather file (EPW, TMY3 or our CSV); optionally write the cleaned hourly series.
+    Summary(SummaryArgs),
+    /// Generate seeded synthetic seasons from a sample weather file or from monthly statistics (JSON).
+    Synth(SynthArgs),
+}
+
+/// File-format choice.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FormatArg {
+    /// Detect from the extension and first line.
+    Auto,
+    /// EnergyPlus EPW.
+    Epw,
+    /// The project's CSV schema.
+    Csv,
+    /// NSRDB TMY3 CSV.
+    Tmy3,
+}
+
+/// How to read a weather file.
+#[derive(Debug, clap::Args)]
+pub struct ReadArgs {
+    /// File format.
+    #[arg(long, value_enum, default_value = "auto")]
+    pub format: FormatArg,
+    /// Longest gap (hours, per quantity) filled by linear interpolation; longer gaps are errors.
+    #[arg(long = "max-gap-h", default_value_t = 3)]
+    pub max_gap_h: usize,
+    /// UTC offset for CSV timestamps without one, e.g. -05:00 (overrides a `# utc_offset=` line).
+    #[arg(long = "utc-offset", allow_hyphen_values = true)]
+    pub utc_offset: Option<String>,
+    /// Calendar year to place a typical-year file (TMY3, or an EPW mixing years) in; must not be a leap year.
+    /// Default for TMY3: the year of --from, else 2025.
+    #[arg(long)]
+    pub year: Option<i32>,
+}
+
+/// `weather summary` arguments.
+#[derive(Debug, clap::Args)]
+pub struct SummaryArgs {
+    /// Weather file.
+    pub file: PathBuf,
+    /// How to read the file.
+    #[command(flatten)]
+    pub read: ReadArgs,
+    /// First local day to summarise (YYYY-MM-DD); default the start of the file.
+    #[arg(long)]
+    pub from: Option<NaiveDate>,
+    /// Number of days from --from (default: to the end of the file).
+    #[arg(long)]
+    pub days: Option<u32>,
+    /// RH thresholds (%) for the "hours below" counts.
+    #[arg(long = "rh-below", value_delimiter = ',', default_values_t = [50.0, 60.0, 70.0])]
+    pub rh_below: Vec<f64>,
+    /// Write the cleaned hourly series (our CSV schema, filled hours flagged) here.
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Print one line per day.
+    #[arg(long)]
+    pub daily: bool,
+}
+
+/// `weather synth` arguments.
+#[derive(Debug, clap::Args)]
+#[command(group(clap::ArgGroup::new("input").required(true).args(["from_sample", "stats"])))]
+pub struct SynthArgs {
+    /// Estimate monthly statistics from this weather file.
+    #[arg(long = "from-sample")]
+    pub from_sample: Option<PathBuf>,
+    /// Monthly statistics (JSON; see weather-samples/README.md).
+    #[arg(long)]
+    pub stats: Option<PathBuf>,
+    /// How to read the file.
+    #[command(flatten)]
+    pub read: ReadArgs,
+    /// Number of seasons.
+    #[arg(long, default_value_t = 1)]
+    pub seasons: u64,
+    /// Master seed.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// First local day of each season.
+    #[arg(long)]
+    pub start: NaiveDate,
+    /// Days per season.
+    #[arg(long, default_value_t = 91)]
+    pub days: u32,
+    /// Output folder: season_000.csv, … and stats.json.
+    #[arg(long)]
+    pub out: PathBuf,
 }
 
 /// Run a weather command.
-pub fn run(_cmd: WeatherCommand) -> anyhow::Result<()> {
-    anyhow::bail!("not built yet")
+pub fn run(cmd: WeatherCommand) -> anyhow::Result<()> {
+    match cmd {
+        WeatherCommand::Summary(a) => run_summary(a),
+        WeatherCommand::Synth(a) => run_synth(a),
+    }
+}
+
+/// Temporary in-shell peanut drying-potential isotherm: kernel EMC (decimal d.b.) from the Cromarty, Ellis &
+/// Roberts (1982) seed equation, 1 − RH = exp{−[M%·(1.1 + T/90)/(1 − D_o)]²/440}, solved for M with D_o = 0.48
+/// (DOMAIN.md §2.3; oil content from memory, unverified).
+// INTEGRATE: replace with crop::Crop kernel isotherm
+pub fn temporary_kernel_emc_db(t_c: f64, rh: f64) -> f64 {
+    const OIL_DB: f64 = 0.48;
+    let rh = rh.clamp(1e-6, 0.999_999);
+    let m_pct = (440.0 * -(1.0 - rh).ln()).sqrt() * (1.0 - OIL_DB) / (1.1 + t_c / 90.0);
+    m_pct / 100.0
+}
+
+fn read_options(r: &ReadArgs, default_year: Option<i32>) -> anyhow::Result<ReadOptions> {
+    let utc_offset = match &r.utc_offset {
+        Some(s) => Some(parse_offset(s).ok_or_else(|| {
+            crate::error::InputError::argument("--utc-offset", s, "must be an offset like -05:00")
+        })?),
+        None => None,
+    };
+    Ok(ReadOptions {
+        max_gap_h: r.max_gap_h,
+        utc_offset,
+        year: r.year.or(default_year),
+    })
+}
+
+fn load(path: &Path, r: &ReadArgs, from: Option<NaiveDate>) -> anyhow::Result<WeatherSeries> {
+    let text = std::fs::read(path).map_err(|source| crate::error::InputError::Io {
+        path: path.into(),
+        source,
+    })?;
+    let text = weather::series::text_from_bytes(path, &text)?;
+    let format = match r.format {
+        FormatArg::Auto => weather::detect_format(path, &text),
+        FormatArg::Epw => WeatherFormat::Epw,
+        FormatArg::Csv => WeatherFormat::Csv,
+        FormatArg::Tmy3 => WeatherFormat::Tmy3,
+    };
+    let default_year = (format == WeatherFormat::Tmy3).then(|| from.map_or(2025, |d| d.year()));
+    let opts = read_options(r, default_year)?;
+    Ok(weather::parse(path, &text, format, &opts)?)
+}
+
+fn local_midnight(offset: FixedOffset, d: NaiveDate) -> chrono::DateTime<FixedOffset> {
+    offset
+        .from_local_datetime(&d.and_hms_opt(0, 0, 0).expect("midnight"))
+        .single()
+        .expect("fixed offsets have no gaps")
+}
+
+fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
+    let full = load(&a.file, &a.read, a.from)?;
+    for th in &a.rh_below {
+        crate::error::check_range("--rh-below", *th, 0.0, 100.0, "%")?;
+    }
+    let series = if a.from.is_some() || a.days.is_some() {
+        let start = a
+            .from
+            .map_or(full.start(), |d| local_midnight(full.site().utc_offset, d));
+        let dur = match a.days {
+            Some(0) => anyhow::bail!("--days: 0 must be at least 1"),
+            Some(n) => Duration::days(n as i64),
+            None => full.end() - start + Duration::hours(1),
+        };
+        if start + dur > full.end() + Duration::hours(1) {
+            anyhow::bail!(
+                "{}: --from/--days reach {}, but the file ends at {}",
+                a.file.display(),
+                (start + dur - Duration::hours(1)).format("%Y-%m-%d %H:%M%:z"),
+                full.end().format("%Y-%m-%d %H:%M%:z")
+            );
+        }
+        full.slice(start, dur)
+            .with_context(|| format!("{}: cannot take --from/--days", a.file.display()))?
+    } else {
+        full
+    };
+    let emc = temporary_kernel_emc_db;
+    let s = summarize(&series, &a.rh_below, Some(&emc));
+    let fc = series.fill_counts();
+    println!("file: {}", a.file.display());
+    if !series.site().name.is_empty() {
+        println!("site: {}", series.site().name);
+    }
+    println!(
+        "period: {} to {} ({} h, UTC offset {})",
+        series.start().format("%Y-%m-%d %H:%M"),
+        series.end().format("%Y-%m-%d %H:%M"),
+        s.hours,
+        series.site().utc_offset
+    );
+    println!(
+        "filled by interpolation: {} h with any value filled (whole rows absent in the file: {} h; dry bulb {} h, \
+         humidity {} h, pressure {} h)",
+        s.filled_hours, fc.missing_rows, fc.t, fc.rh, fc.p
+    );
+    if series.pressure_assumed() {
+        println!(
+            "pressure: not in the file; standard atmosphere at the site elevation used ({:.1} kPa)",
+            series.p_pa()[0] / 1000.0
+        );
+    }
+    println!(
+        "mean dry bulb: {:.1} °C; mean RH: {:.1} %; mean daily range: {:.1} K",
+        s.t_mean_c, s.rh_mean_pct, s.diurnal_range_k
+    );
+    for (th, h) in &s.hours_rh_below {
+        println!(
+            "hours with RH below {th:.0} %: {h} h ({:.1} % of hours)",
+            100.0 * *h as f64 / s.hours as f64
+        );
+    }
+    if let (Some(m), Some(med)) = (s.mean_emc_db, s.median_emc_db) {
+        println!(
+            "drying potential: kernel EMC of ambient air, mean {:.2} % d.b. ({:.2} % w.b.), median {:.2} % d.b. \
+             ({:.2} % w.b.) [temporary isotherm: Cromarty 1982 kernel, oil 0.48 d.b.]",
+            100.0 * m,
+            100.0 * crate::units::wb_from_db(m),
+            100.0 * med,
+            100.0 * crate::units::wb_from_db(med)
+        );
+    }
+    let day_means = |f: fn(&weather::DailyStats) -> f64| {
+        s.daily.iter().map(f).sum::<f64>() / s.daily.len() as f64
+    };
+    println!(
+        "daily means over {} days: T min {:.1} °C, mean {:.1} °C, max {:.1} °C; RH min {:.1} %, mean {:.1} %, \
+         max {:.1} %",
+        s.daily.len(),
+        day_means(|d| d.t_min_c),
+        day_means(|d| d.t_mean_c),
+        day_means(|d| d.t_max_c),
+        day_means(|d| d.rh_min_pct),
+        day_means(|d| d.rh_mean_pct),
+        day_means(|d| d.rh_max_pct)
+    );
+    if a.daily {
+        println!("date,hours,t_min_c,t_mean_c,t_max_c,rh_min_pct,rh_mean_pct,rh_max_pct,rain_mm");
+        for d in &s.daily {
+            println!(
+                "{},{},{:.1},{:.1},{:.1},{:.1},{:.1},{:.1},{}",
+                d.date,
+                d.hours,
+                d.t_min_c,
+                d.t_mean_c,
+                d.t_max_c,
+                d.rh_min_pct,
+                d.rh_mean_pct,
+                d.rh_max_pct,
+                d.rain_mm.map_or(String::new(), |r| format!("{r:.1}"))
+            );
+        }
+    }
+    if let Some(out) = &a.out {
+        let csv = series.to_csv(&[format!("cleaned from {}", a.file.display())]);
+        write_atomic(out, csv.as_bytes(), &[&a.file])?;
+        println!("wrote {} ({} h)", out.display(), series.len());
+    }
+    Ok(())
+}
+
+fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
+    let mut inputs: Vec<&Path> = Vec::new();
+    let stats = match (&a.from_sample, &a.stats) {
+        (Some(sample), None) => {
+            inputs.push(sample);
+            let series = load(sample, &a.read, Some(a.start))?;
+            let st = ClimateStats::from_series(
+                &series,
+                &format!("estimated from {}", sample.display()),
+            )?;
+            st.validate(sample)?;
+            st
+        }
+        (None, Some(path)) => {
+            inputs.push(path);
+            let text =
+                std::fs::read_to_string(path).map_err(|source| crate::error::InputError::Io {
+                    path: path.clone(),
+                    source,
+                })?;
+            ClimateStats::from_json(path, &text)?
+        }
+        _ => anyhow::bail!("give exactly one of --from-sample FILE or --stats FILE.json"),
+    };
+    if a.seasons == 0 || a.seasons > 10_000 {
+        anyhow::bail!("--seasons: {} must be between 1 and 10000", a.seasons);
+    }
+    let plan = SeasonPlan {
+        start: a.start,
+        days: a.days,
+        seed: a.seed,
+    };
+    let seasons = weather::generate_seasons(&stats, &plan, a.seasons)?;
+    let json = serde_json::to_string_pretty(&stats)? + "\n";
+    write_atomic(&a.out.join("stats.json"), json.as_bytes(), &inputs)?;
+    for (i, s) in seasons.iter().enumerate() {
+        let path = a.out.join(format!("season_{i:03}.csv"));
+        let note = format!(
+            "synthetic season {i} of {}: dryfront weather synth --seed {} --start {} --days {}",
+            a.seasons, a.seed, a.start, a.days
+        );
+        write_atomic(&path, s.to_csv(&[note]).as_bytes(), &inputs)?;
+        let sum = summarize(s, &[60.0], None);
+        println!(
+            "wrote {} ({} h; mean {:.1} °C, mean RH {:.1} %, mean daily range {:.1} K, {})",
+            path.display(),
+            s.len(),
+            sum.t_mean_c,
+            sum.rh_mean_pct,
+            sum.diurnal_range_k,
+            s.rain_mm()
+                .map_or("no rain amounts".to_string(), |r| format!(
+                    "rain {:.0} mm",
+                    r.iter().sum::<f64>()
+                ))
+        );
+    }
+    println!("wrote {}", a.out.join("stats.json").display());
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    #[test]
+    fn temporary_isotherm_matches_domain_check_values() {
+        // Source: DOMAIN.md §2.3 table (Cromarty 1982 form, D_o = 0.48, computed there): 25 °C/60 % → 7.58 % d.b.,
+        // 35 °C/40 % → 5.24 % d.b.; tolerance 0.01 point (the table's rounding).
+        assert_relative_eq!(
+            100.0 * temporary_kernel_emc_db(25.0, 0.60),
+            7.58,
+            epsilon = 0.01
+        );
+        assert_relative_eq!(
+            100.0 * temporary_kernel_emc_db(35.0, 0.40),
+            5.24,
+            epsilon = 0.01
+        );
+        assert_relative_eq!(
+            100.0 * temporary_kernel_emc_db(15.0, 0.80),
+            10.92,
+            epsilon = 0.01
+        );
+    }
 }
