@@ -8,10 +8,27 @@ use dryfront::airflow::{solve, AirflowSolution, Fill, FlowSpec, Grid, SolverSett
 
 fn run() -> AirflowSolution {
     let mut c = common::container("trailer-6m");
-    c.fill = Fill::Crowned { edge_depth_m: 1.1, peak_depth_m: 1.4 };
-    let settings = SolverSettings { grid: Grid { nx: 24, ny: 10, nz: 12 }, ..SolverSettings::default() };
+    c.fill = Fill::Crowned {
+        edge_depth_m: 1.1,
+        peak_depth_m: 1.4,
+    };
+    let settings = SolverSettings {
+        grid: Grid {
+            nx: 24,
+            ny: 10,
+            nz: 12,
+        },
+        ..SolverSettings::default()
+    };
     let fan = common::fan("vane-3kw");
-    solve(&c, &FlowSpec::Fan(fan), &common::peanut(1.5), &common::air(), &settings).unwrap()
+    solve(
+        &c,
+        &FlowSpec::Fan(fan),
+        &common::peanut(1.5),
+        &common::air(),
+        &settings,
+    )
+    .unwrap()
 }
 
 #[test]
@@ -29,16 +46,31 @@ fn top_outflow_plus_leakage_equals_fan_flow() {
     assert_relative_eq!(columns, sum.bed_flow_m3_per_s, max_relative = 1e-12);
     // the dry-air mass flux is the volumetric flux over the dry-air specific volume (ASHRAE 2017 eq. 26)
     let v = common::air().specific_volume_m3_per_kg();
-    assert_relative_eq!(s.mass_flux_kg_per_m2_s[[5, 5]], s.top_velocity_m_per_s[[5, 5]] / v, max_relative = 1e-12);
+    assert_relative_eq!(
+        s.mass_flux_kg_per_m2_s[[5, 5]],
+        s.top_velocity_m_per_s[[5, 5]] / v,
+        max_relative = 1e-12
+    );
 }
 
 #[test]
 fn results_do_not_depend_on_thread_count() {
-    let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().unwrap().install(run);
-    let two = rayon::ThreadPoolBuilder::new().num_threads(2).build().unwrap().install(run);
+    let one = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .unwrap()
+        .install(run);
+    let two = rayon::ThreadPoolBuilder::new()
+        .num_threads(2)
+        .build()
+        .unwrap()
+        .install(run);
     assert_eq!(one.converged, two.converged);
     for (a, b) in one.pressure_pa.iter().zip(two.pressure_pa.iter()) {
         assert_eq!(a.to_bits(), b.to_bits());
     }
-    assert_eq!(one.operating_point.flow_m3_per_s.to_bits(), two.operating_point.flow_m3_per_s.to_bits());
+    assert_eq!(
+        one.operating_point.flow_m3_per_s.to_bits(),
+        two.operating_point.flow_m3_per_s.to_bits()
+    );
 }

@@ -5,7 +5,9 @@
 mod common;
 
 use dryfront::airflow::geometry::{Floor, Inlet, InletWall, Permeability};
-use dryfront::airflow::{solve_prescribed, BedLaw, Container, Fill, Grid, ResistanceLaw, SolverSettings};
+use dryfront::airflow::{
+    solve_prescribed, BedLaw, Container, Fill, Grid, ResistanceLaw, SolverSettings,
+};
 use ndarray::Array2;
 use std::f64::consts::PI;
 
@@ -17,7 +19,8 @@ const A: f64 = 30.0;
 
 fn exact(x: f64, y: f64, z: f64) -> f64 {
     let k = PI * (1.0 / (L * L) + 1.0 / (W * W)).sqrt();
-    P0 * (1.0 - z / H) + A * (PI * x / L).cos() * (PI * y / W).cos() * (k * (H - z)).sinh() / (k * H).sinh()
+    P0 * (1.0 - z / H)
+        + A * (PI * x / L).cos() * (PI * y / W).cos() * (k * (H - z)).sinh() / (k * H).sinh()
 }
 
 fn max_error(n: usize) -> f64 {
@@ -28,16 +31,31 @@ fn max_error(n: usize) -> f64 {
         width_m: W,
         wall_height_m: 1.0,
         plenum_height_m: 0.3,
-        floor: Floor { open_area_fraction: 1.0, discharge_coefficient: 1.0 },
-        inlet: Inlet { wall: InletWall::Front, width_m: 0.5, height_m: 0.3, offset_m: 0.0, transition_loss_coefficient: 0.0 },
+        floor: Floor {
+            open_area_fraction: 1.0,
+            discharge_coefficient: 1.0,
+        },
+        inlet: Inlet {
+            wall: InletWall::Front,
+            width_m: 0.5,
+            height_m: 0.3,
+            offset_m: 0.0,
+            transition_loss_coefficient: 0.0,
+        },
         fill: Fill::Level { depth_m: H },
         permeability: Permeability::default(),
         leakage_m3_per_s_per_sqrt_pa: 0.0,
     };
-    let grid = Grid { nx: 2 * n, ny: n, nz: n };
+    let grid = Grid {
+        nx: 2 * n,
+        ny: n,
+        nz: n,
+    };
     let d = c.discretize(grid).unwrap();
     let law = BedLaw {
-        law: ResistanceLaw::Darcy { resistivity_pa_s_per_m2: 500.0 },
+        law: ResistanceLaw::Darcy {
+            resistivity_pa_s_per_m2: 500.0,
+        },
         packing_factor: 1.0,
         horizontal_ratio: 1.0,
     };
@@ -45,12 +63,20 @@ fn max_error(n: usize) -> f64 {
     let pl = Array2::from_shape_fn((grid.nx, grid.ny), |(i, j)| {
         exact((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dy, 0.0)
     });
-    let settings = SolverSettings { grid, linear_tolerance: 1e-13, ..SolverSettings::default() };
+    let settings = SolverSettings {
+        grid,
+        linear_tolerance: 1e-13,
+        ..SolverSettings::default()
+    };
     let s = solve_prescribed(&d, &law, None, 1.2, &pl, &settings).unwrap();
     let dz = H / n as f64;
     let mut e: f64 = 0.0;
     for ((i, j, k), &p) in s.pressure_pa.indexed_iter() {
-        let ex = exact((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dy, (k as f64 + 0.5) * dz);
+        let ex = exact(
+            (i as f64 + 0.5) * dx,
+            (j as f64 + 0.5) * dy,
+            (k as f64 + 0.5) * dz,
+        );
         e = e.max((p - ex).abs());
     }
     e

@@ -8,9 +8,24 @@ use dryfront::airflow::geometry::InletWall;
 use dryfront::airflow::{solve, AirflowSolution, Container, FlowSpec, Grid, SolverSettings};
 
 fn run(c: &Container) -> AirflowSolution {
-    let settings = SolverSettings { grid: Grid { nx: 32, ny: 6, nz: 10 }, ..SolverSettings::default() };
-    solve(c, &FlowSpec::Fixed { total_m3_per_s: 230.0 / 60.0 }, &common::peanut(1.5), &common::air(), &settings)
-        .unwrap()
+    let settings = SolverSettings {
+        grid: Grid {
+            nx: 32,
+            ny: 6,
+            nz: 10,
+        },
+        ..SolverSettings::default()
+    };
+    solve(
+        c,
+        &FlowSpec::Fixed {
+            total_m3_per_s: 230.0 / 60.0,
+        },
+        &common::peanut(1.5),
+        &common::air(),
+        &settings,
+    )
+    .unwrap()
 }
 
 fn row_mean(a: &ndarray::Array2<f64>, i: usize) -> f64 {
@@ -33,7 +48,9 @@ fn static_pressure_rises_from_inlet_toward_far_wall() {
     assert!(p_far > p_in + 5.0);
     // the rise is monotone over the far half, where the jet has mixed out and static regain dominates
     for i in nx / 2..nx - 1 {
-        assert!(row_mean(&s.plenum_pressure_pa, i + 1) >= row_mean(&s.plenum_pressure_pa, i) - 1e-9);
+        assert!(
+            row_mean(&s.plenum_pressure_pa, i + 1) >= row_mean(&s.plenum_pressure_pa, i) - 1e-9
+        );
     }
     assert!(row_mean(&s.top_velocity_m_per_s, 0) < row_mean(&s.top_velocity_m_per_s, nx - 1));
 }
@@ -47,7 +64,10 @@ fn taller_plenum_is_more_uniform() {
     let b = run(&tall);
     eprintln!(
         "range {:.1} → {:.1} Pa, cv {:.4} → {:.4}",
-        a.summary.plenum_pressure_range_pa, b.summary.plenum_pressure_range_pa, a.summary.column_flow_cv, b.summary.column_flow_cv
+        a.summary.plenum_pressure_range_pa,
+        b.summary.plenum_pressure_range_pa,
+        a.summary.column_flow_cv,
+        b.summary.column_flow_cv
     );
     assert!(b.summary.plenum_pressure_range_pa < a.summary.plenum_pressure_range_pa);
     assert!(b.summary.column_flow_cv < a.summary.column_flow_cv);
@@ -64,6 +84,9 @@ fn rear_inlet_mirrors_the_pressure_map() {
     for i in 0..nx {
         let a = row_mean(&front.plenum_pressure_pa, i);
         let b = row_mean(&rear.plenum_pressure_pa, nx - 1 - i);
-        assert!((a - b).abs() < 1e-6 * a.abs().max(1.0), "row {i}: {a} vs {b}");
+        assert!(
+            (a - b).abs() < 1e-6 * a.abs().max(1.0),
+            "row {i}: {a} vs {b}"
+        );
     }
 }

@@ -306,68 +306,100 @@ impl BedSystem {
         }
     }
 
-    /// y = A·x.
+    /// y = A·x, column by column (each vertical line is a contiguous slice, so the inner loops vectorise).
     fn matvec(&self, x: &[f64], y: &mut [f64]) {
-        let (ny, nz) = (self.ny, self.nz);
+        let (nx, ny, nz) = (self.nx, self.ny, self.nz);
         let nyz = ny * nz;
-        let n = x.len();
         let cols_per_block = (BLOCK / nz).max(1);
         y.par_chunks_mut(cols_per_block * nz)
             .enumerate()
-            .for_each(|(b, chunk)| {
-                let start = b * cols_per_block * nz;
-                for (off, yv) in chunk.iter_mut().enumerate() {
-                    let idx = start + off;
-                    let k = idx % nz;
-                    let j = (idx / nz) % ny;
-                    let mut v = self.diag[idx] * x[idx];
-                    if idx + nyz < n {
-                        v -= self.tx[idx] * x[idx + nyz];
+            .for_each(|(blk, chunk)| {
+                let c0 = blk * cols_per_block;
+                for (ci, yc) in chunk.chunks_mut(nz).enumerate() {
+                    let c = c0 + ci;
+                    let (i, j) = (c / ny, c % ny);
+                    let base = c * nz;
+                    let xs = &x[base..base + nz];
+                    let d = &self.diag[base..base + nz];
+                    for k in 0..nz {
+                        yc[k] = d[k] * xs[k];
                     }
-                    if idx >= nyz {
-                        v -= self.tx[idx - nyz] * x[idx - nyz];
+                    let mut sub = |t: &[f64], xn: &[f64]| {
+                        for k in 0..nz {
+                            yc[k] -= t[k] * xn[k];
+                        }
+                    };
+                    if i + 1 < nx {
+                        sub(&self.tx[base..base + nz], &x[base + nyz..base + nyz + nz]);
+                    }
+                    if i > 0 {
+                        sub(
+                            &self.tx[base - nyz..base - nyz + nz],
+                            &x[base - nyz..base - nyz + nz],
+                        );
                     }
                     if j + 1 < ny {
-                        v -= self.ty[idx] * x[idx + nz];
+                        sub(&self.ty[base..base + nz], &x[base + nz..base + 2 * nz]);
                     }
                     if j > 0 {
-                        v -= self.ty[idx - nz] * x[idx - nz];
+                        sub(&self.ty[base - nz..base], &x[base - nz..base]);
                     }
-                    if k + 1 < nz {
-                        v -= self.tz[idx] * x[idx + 1];
+                    let tz = &self.tz[base..base + nz];
+                    for k in 0..nz - 1 {
+                        yc[k] -= tz[k] * xs[k + 1];
+                        yc[k + 1] -= tz[k] * xs[k];
                     }
-                    if k > 0 {
-                        v -= self.tz[idx - 1] * x[idx - 1];
-                    }
-                    *yv = v;
                 }
             });
     }
 
-    /// z = M⁻¹·r with M the block-diagonal of vertical lines.
+    /// z = M⁻¹·r with M the block-diagonal of vertical lines (Thomas algorithm with stored factors), four
+    /// columns at a time so that the sweeps' dependency chains overlap.
     fn precondition(&self, r: &[f64], z: &mut [f64]) {
         let nz = self.nz;
         let cols_per_block = (BLOCK / nz).max(1);
         z.par_chunks_mut(cols_per_block * nz)
             .zip(r.par_chunks(cols_per_block * nz))
             .enumerate()
-            .for_each(|(b, (zc, rc))| {
-                let start = b * cols_per_block * nz;
-                for (ci, (col_z, col_r)) in zc.chunks_mut(nz).zip(rc.chunks(nz)).enumerate() {
-                    let base = start + ci * nz;
-                    // forward sweep
+            .for_each(|(blk, (zc, rc))| {
+                let start = blk * cols_per_block * nz;
+                let ncols = zc.len() / nz;
+                let mut c = 0;
+                while c + 4 <= ncols {
+                    let b = [0, 1, 2, 3].map(|q| (c + q) * nz);
+                    let mut prev = [0.0f64; 4];
+                    for k in 0..nz {
+                        for q in 0..4 {
+                            let idx = start + b[q] + k;
+                            let lower = if k > 0 { self.tz[idx - 1] } else { 0.0 };
+                            let v = (rc[b[q] + k] + lower * prev[q]) * self.inv_den[idx];
+                            zc[b[q] + k] = v;
+                            prev[q] = v;
+                        }
+                    }
+                    for k in (0..nz - 1).rev() {
+                        for q in 0..4 {
+                            let next = zc[b[q] + k + 1];
+                            zc[b[q] + k] -= self.cprime[start + b[q] + k] * next;
+                        }
+                    }
+                    c += 4;
+                }
+                while c < ncols {
+                    let b = c * nz;
                     let mut prev = 0.0;
                     for k in 0..nz {
-                        let idx = base + k;
-                        let lower = if k > 0 { -self.tz[idx - 1] } else { 0.0 };
-                        let v = (col_r[k] - lower * prev) * self.inv_den[idx];
-                        col_z[k] = v;
+                        let idx = start + b + k;
+                        let lower = if k > 0 { self.tz[idx - 1] } else { 0.0 };
+                        let v = (rc[b + k] + lower * prev) * self.inv_den[idx];
+                        zc[b + k] = v;
                         prev = v;
                     }
-                    // back substitution
-                    for k in (0..nz.saturating_sub(1)).rev() {
-                        col_z[k] -= self.cprime[base + k] * col_z[k + 1];
+                    for k in (0..nz - 1).rev() {
+                        let next = zc[b + k + 1];
+                        zc[b + k] -= self.cprime[start + b + k] * next;
                     }
+                    c += 1;
                 }
             });
     }
@@ -529,17 +561,11 @@ impl BedSystem {
                 };
                 let uz = 0.5 * (fb + ft) / axy;
                 let face_x = |a: usize, b: usize, ca: usize, cb: usize| {
-                    let area = self.dy_m
-                        * 0.5
-                        * (self.depth_m[ca] + self.depth_m[cb])
-                        / nz as f64;
+                    let area = self.dy_m * 0.5 * (self.depth_m[ca] + self.depth_m[cb]) / nz as f64;
                     self.tx[a] * (p[a] - p[b]) / area
                 };
                 let face_y = |a: usize, b: usize, ca: usize, cb: usize| {
-                    let area = self.dx_m
-                        * 0.5
-                        * (self.depth_m[ca] + self.depth_m[cb])
-                        / nz as f64;
+                    let area = self.dx_m * 0.5 * (self.depth_m[ca] + self.depth_m[cb]) / nz as f64;
                     self.ty[a] * (p[a] - p[b]) / area
                 };
                 let uw = if i > 0 {

@@ -167,7 +167,10 @@ impl FanCurve {
 
     /// Flow range covered by the rating points, m³/s.
     pub fn flow_range_m3_per_s(&self) -> (f64, f64) {
-        (self.flow_m3_per_s[0], *self.flow_m3_per_s.last().unwrap_or(&0.0))
+        (
+            self.flow_m3_per_s[0],
+            *self.flow_m3_per_s.last().unwrap_or(&0.0),
+        )
     }
 
     /// Static pressure (Pa) at flow `q_m3_per_s` for rated-density air; clamped to the rated range ends.
@@ -291,13 +294,24 @@ mod tests {
     fn density_scales_pressure_at_same_flow() {
         // DOMAIN.md §8.1: Q unchanged, P ∝ ρ.
         let f = FanCurve::new("f", &pts(&[(0.0, 400.0), (300.0, 0.0)]), 1.204).unwrap();
-        assert_relative_eq!(f.pressure_pa(2.5, 1.1), 200.0 * 1.1 / 1.204, max_relative = 1e-12);
+        assert_relative_eq!(
+            f.pressure_pa(2.5, 1.1),
+            200.0 * 1.1 / 1.204,
+            max_relative = 1e-12
+        );
     }
 
     #[test]
     fn rising_pressure_is_rejected_naming_the_point() {
-        let e = FanCurve::new("f", &pts(&[(0.0, 400.0), (100.0, 380.0), (200.0, 410.0)]), 1.204)
-            .unwrap_err();
-        assert!(e.to_string().contains("point 3: 410 Pa after 380 Pa"), "{e}");
+        let e = FanCurve::new(
+            "f",
+            &pts(&[(0.0, 400.0), (100.0, 380.0), (200.0, 410.0)]),
+            1.204,
+        )
+        .unwrap_err();
+        assert!(
+            e.to_string().contains("point 3: 410 Pa after 380 Pa"),
+            "{e}"
+        );
     }
 }

@@ -307,7 +307,8 @@ impl Container {
                 format!("{} must be 0 or more", inl.transition_loss_coefficient),
             ));
         }
-        if !(self.leakage_m3_per_s_per_sqrt_pa.is_finite() && self.leakage_m3_per_s_per_sqrt_pa >= 0.0)
+        if !(self.leakage_m3_per_s_per_sqrt_pa.is_finite()
+            && self.leakage_m3_per_s_per_sqrt_pa >= 0.0)
         {
             return Err(model_err(
                 path,
@@ -448,7 +449,8 @@ impl Container {
                 } => {
                     let xi = 2.0 * x / self.length_m - 1.0;
                     let eta = 2.0 * y / self.width_m - 1.0;
-                    edge_depth_m + (peak_depth_m - edge_depth_m) * (1.0 - xi * xi) * (1.0 - eta * eta)
+                    edge_depth_m
+                        + (peak_depth_m - edge_depth_m) * (1.0 - xi * xi) * (1.0 - eta * eta)
                 }
                 Fill::Sloped {
                     front_depth_m,
@@ -517,9 +519,19 @@ mod tests {
 
     #[test]
     fn rear_inlet_is_mirrored_so_index_zero_is_the_inlet_end() {
-        let d = sample().discretize(Grid { nx: 4, ny: 1, nz: 2 }).unwrap();
+        let d = sample()
+            .discretize(Grid {
+                nx: 4,
+                ny: 1,
+                nz: 2,
+            })
+            .unwrap();
         assert!(d.depth_m[[0, 0]] > d.depth_m[[3, 0]]);
-        approx::assert_relative_eq!(d.depth_m[[0, 0]], 1.0 + 0.4 * 5.25 / 6.0, max_relative = 1e-12);
+        approx::assert_relative_eq!(
+            d.depth_m[[0, 0]],
+            1.0 + 0.4 * 5.25 / 6.0,
+            max_relative = 1e-12
+        );
     }
 
     #[test]
@@ -529,7 +541,13 @@ mod tests {
             edge_depth_m: 1.0,
             peak_depth_m: 1.4,
         };
-        let d = c.discretize(Grid { nx: 5, ny: 5, nz: 2 }).unwrap();
+        let d = c
+            .discretize(Grid {
+                nx: 5,
+                ny: 5,
+                nz: 2,
+            })
+            .unwrap();
         assert!(d.depth_m[[2, 2]] > d.depth_m[[0, 2]]);
         assert!(d.depth_m[[2, 2]] > d.depth_m[[2, 0]]);
     }

@@ -31,14 +31,26 @@ pub enum FillShape {
     Sloped,
 }
 
-/// Arguments of `dryfront airflow`.
+/// Arguments of `dryfront airflow` (boxed, so the subcommand enum stays small).
 #[derive(Debug, clap::Args)]
 pub struct AirflowArgs {
+    /// The options.
+    #[command(flatten)]
+    pub opts: Box<AirflowOptions>,
+}
+
+/// The options of `dryfront airflow`.
+#[derive(Debug, clap::Args)]
+pub struct AirflowOptions {
     /// Container name (in <models>/containers) or path to its JSON file.
     #[arg(long)]
     pub container: String,
     /// Fan name (in <models>/fans) or path: the flow is where its curve meets the load's.
-    #[arg(long, conflicts_with = "flow_m3_min", required_unless_present = "flow_m3_min")]
+    #[arg(
+        long,
+        conflicts_with = "flow_m3_min",
+        required_unless_present = "flow_m3_min"
+    )]
     pub fan: Option<String>,
     /// A fixed total flow into the plenum instead of a fan, m³/min.
     #[arg(long)]
@@ -185,6 +197,7 @@ fn mean_depth(c: &Container) -> f64 {
 
 /// Run the airflow solve.
 pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
+    let args = *args.opts;
     let models = models_dir(&args.models);
     let container_path = resolve(&models, "containers", &args.container);
     let mut container = Container::from_json_str(&read(&container_path)?, &container_path)?;
@@ -227,7 +240,10 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     let (flow, fan_path) = match (&args.fan, args.flow_m3_min) {
         (Some(name), _) => {
             let p = resolve(&models, "fans", name);
-            (FlowSpec::Fan(FanCurve::from_json_str(&read(&p)?, &p)?), Some(p))
+            (
+                FlowSpec::Fan(FanCurve::from_json_str(&read(&p)?, &p)?),
+                Some(p),
+            )
         }
         (None, Some(q)) => {
             let q = check_range("--flow-m3-min", q, 0.1, 1e5, "m³/min")?;
@@ -270,12 +286,7 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     Ok(())
 }
 
-fn human_summary(
-    c: &Container,
-    flow: &FlowSpec,
-    s: &AirflowSolution,
-    u: UnitSystem,
-) -> String {
+fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSystem) -> String {
     let sm = &s.summary;
     let op = &s.operating_point;
     let g = s.grid;

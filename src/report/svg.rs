@@ -31,7 +31,11 @@ pub fn ramp_colour(t: f64) -> String {
 }
 
 fn ramp_rgb(t: f64) -> [u8; 3] {
-    let t = if t.is_finite() { t.clamp(0.0, 1.0) } else { 0.0 };
+    let t = if t.is_finite() {
+        t.clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
     let k = RAMP
         .windows(2)
         .position(|w| t <= w[1].0)
@@ -279,9 +283,8 @@ pub fn line_chart(c: &LineChart) -> String {
             .flat_map(|s| s.points.iter())
             .filter(|(x, y)| x.is_finite() && y.is_finite())
     };
-    let fold = |f: fn(&(f64, f64)) -> f64, init: f64, op: fn(f64, f64) -> f64| {
-        pts().map(f).fold(init, op)
-    };
+    let fold =
+        |f: fn(&(f64, f64)) -> f64, init: f64, op: fn(f64, f64) -> f64| pts().map(f).fold(init, op);
     let (mut x0, mut x1) = (
         fold(|p| p.0, f64::INFINITY, f64::min),
         fold(|p| p.0, f64::NEG_INFINITY, f64::max),
@@ -420,7 +423,10 @@ mod tests {
 
     #[test]
     fn ticks_are_nice_and_cover_the_range() {
-        assert_eq!(nice_ticks(0.0, 6.4, 8), vec![0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0]);
+        assert_eq!(
+            nice_ticks(0.0, 6.4, 8),
+            vec![0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0]
+        );
         let t = nice_ticks(0.17, 0.26, 5);
         assert!(t.len() >= 3 && t[0] >= 0.17 && *t.last().unwrap() <= 0.26);
     }
@@ -467,7 +473,13 @@ mod tests {
         });
         assert_eq!(svg.matches("<path").count(), 2);
         // the NaN breaks series a into two pieces
-        let first = svg.split("<path d=\"").nth(1).unwrap().split('"').next().unwrap();
+        let first = svg
+            .split("<path d=\"")
+            .nth(1)
+            .unwrap()
+            .split('"')
+            .next()
+            .unwrap();
         assert_eq!(first.matches('M').count(), 2, "{first}");
         assert!(svg.contains("pressure (Pa)") && svg.contains(">b</text>"));
     }

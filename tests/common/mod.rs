@@ -23,7 +23,10 @@ pub fn fan(name: &str) -> FanCurve {
 /// Peanut in-shell Shedd constants a = 3.80e3, b = 111 (DOMAIN.md §1.1, from memory, unverified).
 pub fn peanut(packing: f64) -> BedLaw {
     BedLaw {
-        law: ResistanceLaw::Shedd(Shedd { a: 3.80e3, b: 111.0 }),
+        law: ResistanceLaw::Shedd(Shedd {
+            a: 3.80e3,
+            b: 111.0,
+        }),
         packing_factor: packing,
         horizontal_ratio: 1.0,
     }
