@@ -548,7 +548,6 @@ impl BedSystem {
                 let c = idx / nz;
                 let i = c / ny;
                 let j = c % ny;
-                let dz = self.depth_m[c] / nz as f64;
                 let fb = if k == 0 {
                     floor_q[c] * axy
                 } else {
@@ -588,7 +587,6 @@ impl BedSystem {
                 } else {
                     0.0
                 };
-                let _ = dz;
                 let ux = 0.5 * (uw + ue);
                 let uy = 0.5 * (us + un);
                 let new = (ux * ux + uy * uy + uz * uz).sqrt().max(1e-12);

@@ -326,6 +326,7 @@ pub fn solve_prescribed(
     let mut p = vec![0.0; n];
     let mut total = 0;
     let mut prev = vec![0.0; n];
+    let mut last = f64::INFINITY;
     for it in 1..=settings.max_outer_iters {
         sys.rhs(&pl, &mut b);
         linear(&mut sys, &b, &mut p, settings, &mut total)?;
@@ -350,13 +351,14 @@ pub fn solve_prescribed(
                 },
             });
         }
+        last = change;
         prev.copy_from_slice(&p);
         sys.update_speeds(&p, &pl);
         sys.assemble();
     }
     Err(AirflowError::NotConverged {
         iters: settings.max_outer_iters,
-        residual: f64::NAN,
+        residual: last,
     })
 }
 
