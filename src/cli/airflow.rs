@@ -42,10 +42,10 @@ pub struct AirflowArgs {
 /// The options of `dryfront airflow`.
 #[derive(Debug, clap::Args)]
 pub struct AirflowOptions {
-    /// Container name (in <models>/containers) or path to its JSON file.
+    /// Container name (in MODELS/containers) or path to its JSON file.
     #[arg(long)]
     pub container: String,
-    /// Fan name (in <models>/fans) or path: the flow is where its curve meets the load's.
+    /// Fan name (in MODELS/fans) or path: the flow is where its curve meets the load's.
     #[arg(
         long,
         conflicts_with = "flow_m3_min",
@@ -55,7 +55,7 @@ pub struct AirflowOptions {
     /// A fixed total flow into the plenum instead of a fan, m³/min.
     #[arg(long)]
     pub flow_m3_min: Option<f64>,
-    /// Crop name (in <models>/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
+    /// Crop name (in MODELS/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
     #[arg(long, default_value = "peanut-inshell")]
     pub crop: String,
     /// Override the fill shape.
