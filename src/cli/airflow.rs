@@ -1,10 +1,465 @@
-//! `dryfront airflow`: solve a container + fan + fill.
+//! `dryfront airflow`: solve a loaded container (plenum, floor, bed and fan together) and write the per-column
+//! table, a JSON summary and SVG maps of the top-surface airflow and the plenum pressure.
+//!
+//! Loading happens here, at the edge: container, fan and crop files are read, checked and converted before the
+//! library is called. Names resolve to `<models>/containers/NAME.json`, `<models>/fans/NAME.json` and
+//! `<models>/crops/NAME.json`; anything with a `/` or ending in `.json` is taken as a path.
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
 
-/// Arguments of `dryfront airflow`.
+use anyhow::Context;
+
+use crate::airflow::{
+    solve, AirflowSolution, BedLaw, Container, FanCurve, Fill, FlowSpec, Grid, PlenumModel,
+    ResistanceLaw, SolverSettings,
+};
+use crate::error::{check_range, InputError};
+use crate::outfile::write_atomic;
+use crate::props::psychro::{pressure_at_elevation_pa, AirState};
+use crate::props::resistance::Shedd;
+use crate::report::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
+use crate::units::UnitSystem;
+
+/// Fill shape chosen on the command line (overrides the container file's).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FillShape {
+    /// Level at the mean depth.
+    Level,
+    /// A dome `--crown-m` higher in the middle than at the walls, same mean depth.
+    Crowned,
+    /// Sloping along the length, `--slope-m` deeper at the rear than the front, same mean depth.
+    Sloped,
+}
+
+/// Arguments of `dryfront airflow` (boxed, so the subcommand enum stays small).
 #[derive(Debug, clap::Args)]
-pub struct AirflowArgs {}
+pub struct AirflowArgs {
+    /// The options.
+    #[command(flatten)]
+    pub opts: Box<AirflowOptions>,
+}
+
+/// The options of `dryfront airflow`.
+#[derive(Debug, clap::Args)]
+pub struct AirflowOptions {
+    /// Container name (in MODELS/containers) or path to its JSON file.
+    #[arg(long)]
+    pub container: String,
+    /// Fan name (in MODELS/fans) or path: the flow is where its curve meets the load's.
+    #[arg(
+        long,
+        conflicts_with = "flow_m3_min",
+        required_unless_present = "flow_m3_min"
+    )]
+    pub fan: Option<String>,
+    /// A fixed total flow into the plenum instead of a fan, m³/min.
+    #[arg(long)]
+    pub flow_m3_min: Option<f64>,
+    /// Crop name (in MODELS/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
+    #[arg(long, default_value = "peanut-inshell")]
+    pub crop: String,
+    /// Override the fill shape.
+    #[arg(long, value_enum)]
+    pub fill: Option<FillShape>,
+    /// Mean fill depth for `--fill`, m (default: the container file's mean).
+    #[arg(long)]
+    pub depth_m: Option<f64>,
+    /// Crown height (peak minus edge) for `--fill crowned`, m.
+    #[arg(long, default_value_t = 0.3)]
+    pub crown_m: f64,
+    /// Rear-minus-front depth for `--fill sloped`, m.
+    #[arg(long, default_value_t = 0.3)]
+    pub slope_m: f64,
+    /// Override the crop file's packing factor.
+    #[arg(long)]
+    pub packing: Option<f64>,
+    /// Columns along the length.
+    #[arg(long, default_value_t = 32)]
+    pub nx: usize,
+    /// Columns across the width.
+    #[arg(long, default_value_t = 12)]
+    pub ny: usize,
+    /// Layers in each column.
+    #[arg(long, default_value_t = 16)]
+    pub nz: usize,
+    /// Inlet (plenum) air temperature, °C.
+    #[arg(long, default_value_t = 30.0)]
+    pub air_temp_c: f64,
+    /// Inlet air relative humidity, %.
+    #[arg(long, default_value_t = 50.0)]
+    pub rh_pct: f64,
+    /// Site elevation, m (sets the barometric pressure).
+    #[arg(long, default_value_t = 0.0)]
+    pub elevation_m: f64,
+    /// Treat the plenum as one pressure (the classical assumption) instead of the manifold model.
+    #[arg(long)]
+    pub uniform_plenum: bool,
+    /// Folder for columns.csv, summary.json and the SVG maps (nothing is written without it).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Folder holding containers/, fans/ and crops/.
+    #[arg(long)]
+    pub models: Option<PathBuf>,
+    /// Units for the printed summary.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
+}
+
+fn models_dir(arg: &Option<PathBuf>) -> PathBuf {
+    if let Some(p) = arg {
+        return p.clone();
+    }
+    let local = PathBuf::from("models");
+    if local.is_dir() {
+        local
+    } else {
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("models")
+    }
+}
+
+fn resolve(models: &Path, kind: &str, name: &str) -> PathBuf {
+    if name.contains('/') || name.contains('\\') || name.ends_with(".json") {
+        PathBuf::from(name)
+    } else {
+        models.join(kind).join(format!("{name}.json"))
+    }
+}
+
+fn read(path: &Path) -> Result<String, InputError> {
+    std::fs::read_to_string(path).map_err(|source| InputError::Io {
+        path: path.to_path_buf(),
+        source,
+    })
+}
+
+/// Read the bed law from a crop file's `resistance` section.
+// INTEGRATE: use crop::Crop once the crop loader lands; this reads only the four resistance constants.
+pub fn read_bed_law(path: &Path) -> Result<BedLaw, InputError> {
+    let text = read(path)?;
+    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| InputError::Parse {
+        path: path.to_path_buf(),
+        line: Some(e.line() as u64),
+        message: e.to_string(),
+    })?;
+    let get = |key: &str, lo: f64, hi: f64| -> Result<f64, InputError> {
+        let field = format!("resistance.{key}.value");
+        let x = v
+            .get("resistance")
+            .and_then(|r| r.get(key))
+            .and_then(|k| k.get("value"))
+            .ok_or_else(|| InputError::Model {
+                path: path.to_path_buf(),
+                field: field.clone(),
+                message: "missing".into(),
+            })?;
+        let x = x.as_f64().ok_or_else(|| InputError::Model {
+            path: path.to_path_buf(),
+            field: field.clone(),
+            message: format!("{x} is not a number"),
+        })?;
+        if x.is_finite() && x >= lo && x <= hi {
+            Ok(x)
+        } else {
+            Err(InputError::Model {
+                path: path.to_path_buf(),
+                field,
+                message: format!("{x} must be between {lo} and {hi}"),
+            })
+        }
+    };
+    Ok(BedLaw {
+        law: ResistanceLaw::Shedd(Shedd {
+            a: get("shedd_a", 1e-3, 1e9)?,
+            b: get("shedd_b", 1e-3, 1e6)?,
+        }),
+        packing_factor: get("packing_factor", 0.1, 10.0)?,
+        horizontal_ratio: get("horizontal_ratio", 0.01, 100.0)?,
+    })
+}
+
+fn mean_depth(c: &Container) -> f64 {
+    match &c.fill {
+        Fill::Level { depth_m } => *depth_m,
+        Fill::Crowned {
+            edge_depth_m,
+            peak_depth_m,
+        } => edge_depth_m + 4.0 / 9.0 * (peak_depth_m - edge_depth_m),
+        Fill::Sloped {
+            front_depth_m,
+            rear_depth_m,
+        } => 0.5 * (front_depth_m + rear_depth_m),
+        Fill::Grid { depths_m } => {
+            let n: usize = depths_m.iter().map(|r| r.len()).sum();
+            depths_m.iter().flatten().sum::<f64>() / n as f64
+        }
+    }
+}
 
 /// Run the airflow solve.
-pub fn run(_args: AirflowArgs) -> anyhow::Result<()> {
-    anyhow::bail!("not built yet")
+pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
+    let args = *args.opts;
+    let models = models_dir(&args.models);
+    let container_path = resolve(&models, "containers", &args.container);
+    let mut container = Container::from_json_str(&read(&container_path)?, &container_path)?;
+    let crop_path = resolve(&models, "crops", &args.crop);
+    let mut law = read_bed_law(&crop_path).context(
+        "reading the crop's resistance constants (a stand-in is at tests/fixtures/peanut-resistance.json; pass it with --crop)",
+    )?;
+    if let Some(p) = args.packing {
+        law.packing_factor = check_range("--packing", p, 0.1, 10.0, "")?;
+    }
+    if let Some(shape) = args.fill {
+        let mean = match args.depth_m {
+            Some(d) => check_range("--depth-m", d, 0.01, container.wall_height_m, "m")?,
+            None => mean_depth(&container),
+        };
+        container.fill = match shape {
+            FillShape::Level => Fill::Level { depth_m: mean },
+            FillShape::Crowned => {
+                let crown = check_range("--crown-m", args.crown_m, 0.0, 10.0, "m")?;
+                let edge = mean - 4.0 / 9.0 * crown;
+                Fill::Crowned {
+                    edge_depth_m: edge,
+                    peak_depth_m: edge + crown,
+                }
+            }
+            FillShape::Sloped => {
+                let slope = check_range("--slope-m", args.slope_m, -10.0, 10.0, "m")?;
+                Fill::Sloped {
+                    front_depth_m: mean - 0.5 * slope,
+                    rear_depth_m: mean + 0.5 * slope,
+                }
+            }
+        };
+        container
+            .validate(&container_path)
+            .context("the fill chosen on the command line does not fit this container")?;
+    } else if args.depth_m.is_some() {
+        anyhow::bail!("--depth-m needs --fill level|crowned|sloped");
+    }
+    let (flow, fan_path) = match (&args.fan, args.flow_m3_min) {
+        (Some(name), _) => {
+            let p = resolve(&models, "fans", name);
+            (
+                FlowSpec::Fan(FanCurve::from_json_str(&read(&p)?, &p)?),
+                Some(p),
+            )
+        }
+        (None, Some(q)) => {
+            let q = check_range("--flow-m3-min", q, 0.1, 1e5, "m³/min")?;
+            (
+                FlowSpec::Fixed {
+                    total_m3_per_s: q / 60.0,
+                },
+                None,
+            )
+        }
+        (None, None) => anyhow::bail!("give either --fan NAME or --flow-m3-min VALUE"),
+    };
+    let t = check_range("--air-temp-c", args.air_temp_c, -30.0, 80.0, "°C")?;
+    let rh = check_range("--rh-pct", args.rh_pct, 0.0, 100.0, "%")?;
+    let elev = check_range("--elevation-m", args.elevation_m, -500.0, 5000.0, "m")?;
+    let air = AirState::from_rh(t, rh / 100.0, pressure_at_elevation_pa(elev));
+    let settings = SolverSettings {
+        grid: Grid {
+            nx: args.nx,
+            ny: args.ny,
+            nz: args.nz,
+        },
+        plenum: if args.uniform_plenum {
+            PlenumModel::Uniform
+        } else {
+            PlenumModel::default()
+        },
+        ..SolverSettings::default()
+    };
+    let sol = solve(&container, &flow, &law, &air, &settings)?;
+    print!("{}", human_summary(&container, &flow, &sol, args.units));
+    if let Some(dir) = &args.out {
+        let mut inputs: Vec<&Path> = vec![&container_path, &crop_path];
+        if let Some(p) = &fan_path {
+            inputs.push(p);
+        }
+        write_outputs(dir, &container, &flow, &law, &settings, &sol, &inputs)?;
+        println!("wrote columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
+    }
+    Ok(())
+}
+
+fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSystem) -> String {
+    let sm = &s.summary;
+    let op = &s.operating_point;
+    let g = s.grid;
+    let mut o = String::new();
+    let source = match flow {
+        FlowSpec::Fan(f) => format!("fan {}", f.name),
+        FlowSpec::Fixed { .. } => "fixed flow".to_string(),
+    };
+    let _ = writeln!(
+        o,
+        "{}: {:.1} m³ of peanuts, mean depth {}, grid {}×{} columns × {} layers",
+        c.name,
+        sm.bed_volume_m3,
+        u.length(sm.bed_volume_m3 / c.floor_area_m2()),
+        g.nx,
+        g.ny,
+        g.nz
+    );
+    let _ = writeln!(
+        o,
+        "air in: {} ({source}); through the bed {}, leakage {}",
+        u.flow(op.flow_m3_per_s),
+        u.flow(sm.bed_flow_m3_per_s),
+        u.flow(sm.leakage_m3_per_s)
+    );
+    let _ = writeln!(
+        o,
+        "fan static pressure {}; inlet jet {:.1} m/s; plenum {} to {} (mean {})",
+        u.pressure(op.fan_static_pressure_pa),
+        op.inlet_velocity_m_per_s,
+        u.pressure(fold(s, f64::INFINITY, f64::min)),
+        u.pressure(fold(s, f64::NEG_INFINITY, f64::max)),
+        u.pressure(sm.mean_plenum_pressure_pa)
+    );
+    let _ = writeln!(
+        o,
+        "air leaving the top: mean {:.3} m/s (lowest column {:.3}, highest {:.3}), CV {:.1} %, lowest/mean {:.2}",
+        sm.mean_column_velocity_m_per_s,
+        sm.min_column_velocity_m_per_s,
+        sm.max_column_velocity_m_per_s,
+        100.0 * sm.column_flow_cv,
+        sm.min_over_mean
+    );
+    let _ = writeln!(
+        o,
+        "specific airflow {:.1} m³/min per m³ of peanuts; mean dry-air flux {:.3} kg/(s·m²)",
+        sm.specific_airflow_m3_per_min_per_m3, sm.mean_mass_flux_kg_per_m2_s
+    );
+    let _ = writeln!(
+        o,
+        "solved: {} outer iterations, {} CG iterations, last relative change {:.1e}",
+        s.converged.iters, s.converged.linear_iters, s.converged.residual
+    );
+    o
+}
+
+fn fold(s: &AirflowSolution, init: f64, f: fn(f64, f64) -> f64) -> f64 {
+    s.plenum_pressure_pa.iter().copied().fold(init, f)
+}
+
+fn write_outputs(
+    dir: &Path,
+    c: &Container,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    settings: &SolverSettings,
+    s: &AirflowSolution,
+    inputs: &[&Path],
+) -> anyhow::Result<()> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "i",
+        "j",
+        "x_m",
+        "y_m",
+        "depth_m",
+        "top_velocity_m_per_s",
+        "dry_air_mass_flux_kg_per_m2_s",
+        "bed_bottom_pressure_pa",
+        "plenum_pressure_pa",
+    ])?;
+    for ((i, j), &v) in s.top_velocity_m_per_s.indexed_iter() {
+        w.write_record([
+            i.to_string(),
+            j.to_string(),
+            format!("{:.4}", (i as f64 + 0.5) * s.dx_m),
+            format!("{:.4}", (j as f64 + 0.5) * s.dy_m),
+            format!("{:.4}", s.depth_m[[i, j]]),
+            format!("{v:.6}"),
+            format!("{:.6}", s.mass_flux_kg_per_m2_s[[i, j]]),
+            format!("{:.3}", s.bottom_pressure_pa[[i, j]]),
+            format!("{:.3}", s.plenum_pressure_pa[[i, j]]),
+        ])?;
+    }
+    let csv_bytes = w.into_inner().context("building columns.csv")?;
+    let summary = serde_json::json!({
+        "container": c.name,
+        "flow": match flow {
+            FlowSpec::Fan(f) => serde_json::json!({ "fan": f.name }),
+            FlowSpec::Fixed { total_m3_per_s } => serde_json::json!({ "fixed_m3_per_min": total_m3_per_s * 60.0 }),
+        },
+        "bed_law": law,
+        "fill": c.fill,
+        "settings": settings,
+        "operating_point": s.operating_point,
+        "summary": s.summary,
+        "converged": s.converged,
+    });
+    let json = serde_json::to_string_pretty(&summary)? + "\n";
+    let top = heat_map(&HeatMap {
+        values: s.top_velocity_m_per_s.view(),
+        x_extent_m: c.length_m,
+        y_extent_m: c.width_m,
+        title: format!("{}: air leaving the top surface", c.name),
+        x_label: "distance from front wall".into(),
+        y_label: "across".into(),
+        quantity: "superficial velocity".into(),
+        unit: "m/s".into(),
+        range: None,
+    });
+    let plenum = heat_map(&HeatMap {
+        values: s.plenum_pressure_pa.view(),
+        x_extent_m: c.length_m,
+        y_extent_m: c.width_m,
+        title: format!("{}: plenum static pressure", c.name),
+        x_label: "distance from front wall".into(),
+        y_label: "across".into(),
+        quantity: "static pressure".into(),
+        unit: "Pa".into(),
+        range: None,
+    });
+    let rows: Vec<(f64, f64)> = (0..s.grid.nx)
+        .map(|i| {
+            (
+                (i as f64 + 0.5) * s.dx_m,
+                s.plenum_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
+            )
+        })
+        .collect();
+    let bottoms: Vec<(f64, f64)> = (0..s.grid.nx)
+        .map(|i| {
+            (
+                (i as f64 + 0.5) * s.dx_m,
+                s.bottom_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
+            )
+        })
+        .collect();
+    let profile = line_chart(&LineChart {
+        title: format!("{}: pressure along the length", c.name),
+        x_label: "distance from front wall".into(),
+        x_unit: "m".into(),
+        y_label: "static pressure".into(),
+        y_unit: "Pa".into(),
+        series: vec![
+            Series {
+                name: "plenum".into(),
+                points: rows,
+            },
+            Series {
+                name: "bed bottom (above floor)".into(),
+                points: bottoms,
+            },
+        ],
+    });
+    // build everything first, then write: a failure to build leaves nothing behind
+    for (name, bytes) in [
+        ("columns.csv", csv_bytes),
+        ("summary.json", json.into_bytes()),
+        ("top_airflow.svg", top.into_bytes()),
+        ("plenum_pressure.svg", plenum.into_bytes()),
+        ("plenum_profile.svg", profile.into_bytes()),
+    ] {
+        write_atomic(&dir.join(name), &bytes, inputs)?;
+    }
+    Ok(())
 }

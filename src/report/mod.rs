@@ -1,1 +1,3 @@
 //! Reports: tables, SVG charts and heat maps.
+
+pub mod svg;

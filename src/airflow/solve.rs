@@ -1,0 +1,681 @@
+//! The coupled steady solve: bed ↔ floor ↔ plenum ↔ fan (or fixed flow) ↔ leakage, by Picard iteration around the
+//! linear bed solver, and the `AirflowSolution` it returns.
+//!
+//! Each outer step freezes the bed resistivities, the floor's linearised resistance and the plenum's pressure
+//! shape δ(x) = p(x) − p_inlet. With K frozen the bed is linear, so for any inlet static pressure p_in the
+//! pressures are `p = p_in·φ₁ + φ_δ` (φ₁: response to a uniform 1 Pa plenum; φ_δ: to the shape alone) and the
+//! bed's flow is `Q_bed = G₁·p_in + G_δ`. To spend one linear solve per step rather than two, the step solves for
+//! the whole field p_s at the previous p_in (warm-started from the last pressures) and sets
+//! `φ_δ = p_s − p_in,prev·φ₁`; φ₁ itself is re-solved only on the first two steps and every fourth step. A stale
+//! φ₁ affects only the part `(p_in − p_in,prev)·φ₁`, which vanishes as the iteration converges, and the linear
+//! solves' tolerance follows the outer change (inexact Picard) down to `linear_tolerance`. The scalar closure then finds p_in: for a fixed
+//! flow, `Q_bed + C·√p̄ = Q_total`; for a fan, bisection on Q for `P_fan(Q)·ρ/ρ_rated − K_t·ρ·(Q/A_in)²/2 = p_in(Q)`,
+//! which is the intersection of the fan and system curves (DOMAIN.md §8.1). The plenum profile is then re-marched
+//! from the new floor outflows and the resistivities re-evaluated from the new velocities. The loop stops when the
+//! largest pressure change falls below the tolerance relative to the largest pressure.
+//!
+//! References: DOMAIN.md §1.6 (Picard on the nonlinear Darcy form), §8.1 (fan and system curves, density).
+use ndarray::{Array2, Array3};
+use serde::Serialize;
+
+use super::bed::{BedLaw, BedSystem, LinearStats};
+use super::fan::{leakage_m3_per_s, FanError, FlowSpec};
+use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
+use super::plenum::{profile, PlenumGeometry, PlenumModel};
+use crate::error::InputError;
+use crate::props::psychro::AirState;
+
+/// The air entering the plenum (after any heater).
+pub type AirInlet = AirState;
+
+/// Errors from an airflow solve.
+#[derive(Debug, thiserror::Error)]
+pub enum AirflowError {
+    /// Bad geometry, grid or model input.
+    #[error(transparent)]
+    Input(#[from] InputError),
+    /// A bad fan curve.
+    #[error(transparent)]
+    Fan(#[from] FanError),
+    /// The fan cannot meet the system within its rated range.
+    #[error("fan {fan:?}: {message}")]
+    OffCurve {
+        /// Fan name.
+        fan: String,
+        /// What happened, with numbers and units.
+        message: String,
+    },
+    /// The outer (Picard) iteration did not converge.
+    #[error("airflow solve did not converge: {iters} outer iterations, relative pressure change {residual:.3e}")]
+    NotConverged {
+        /// Outer iterations done.
+        iters: u32,
+        /// Last relative change.
+        residual: f64,
+    },
+    /// The inner linear solver did not converge.
+    #[error("linear bed solve did not converge: {iters} CG iterations, relative residual {residual:.3e}")]
+    LinearNotConverged {
+        /// CG iterations.
+        iters: u32,
+        /// Final relative residual.
+        residual: f64,
+    },
+    /// A result is not finite or not physical.
+    #[error("airflow solve gave a non-physical {quantity} = {value}")]
+    NonPhysical {
+        /// Which quantity.
+        quantity: &'static str,
+        /// Its value.
+        value: f64,
+    },
+}
+
+/// Numerical settings (all have defaults).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SolverSettings {
+    /// Grid resolution.
+    pub grid: Grid,
+    /// Plenum model.
+    pub plenum: PlenumModel,
+    /// Outer iterations allowed.
+    pub max_outer_iters: u32,
+    /// Stop when max |Δp| / max |p| between outer steps falls below this.
+    pub tolerance: f64,
+    /// Relative residual for each linear solve.
+    pub linear_tolerance: f64,
+    /// CG iterations allowed per linear solve.
+    pub max_linear_iters: u32,
+}
+
+impl Default for SolverSettings {
+    /// Default grid, manifold plenum, tolerance 1e-8 on pressure, 1e-10 on the linear residual.
+    fn default() -> Self {
+        SolverSettings {
+            grid: Grid::default(),
+            plenum: PlenumModel::default(),
+            max_outer_iters: 300,
+            tolerance: 1e-8,
+            linear_tolerance: 1e-10,
+            max_linear_iters: 5000,
+        }
+    }
+}
+
+/// How the outer loop stopped.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Converged {
+    /// Outer (Picard) iterations.
+    pub iters: u32,
+    /// CG iterations summed over all linear solves.
+    pub linear_iters: u32,
+    /// Final relative pressure change between outer steps.
+    pub residual: f64,
+}
+
+/// Where fan and system meet (or the fixed flow).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct OperatingPoint {
+    /// Total flow delivered into the plenum, m³/s.
+    pub flow_m3_per_s: f64,
+    /// Fan static pressure at that flow (density-corrected), Pa; for a fixed flow, the pressure the fan would need.
+    pub fan_static_pressure_pa: f64,
+    /// Static pressure in the jet at the inlet plane, Pa.
+    pub inlet_static_pressure_pa: f64,
+    /// Mean velocity through the inlet opening, m/s.
+    pub inlet_velocity_m_per_s: f64,
+}
+
+/// Whole-load figures.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct AirflowSummary {
+    /// Total flow into the plenum, m³/s.
+    pub total_flow_m3_per_s: f64,
+    /// Flow through the bed (out of the top), m³/s.
+    pub bed_flow_m3_per_s: f64,
+    /// Flow lost through leakage, m³/s.
+    pub leakage_m3_per_s: f64,
+    /// Mean superficial velocity out of the top, m/s (= m³/(s·m²)).
+    pub mean_column_velocity_m_per_s: f64,
+    /// Lowest column velocity, m/s.
+    pub min_column_velocity_m_per_s: f64,
+    /// Highest column velocity, m/s.
+    pub max_column_velocity_m_per_s: f64,
+    /// Coefficient of variation of column flow (population standard deviation / mean).
+    pub column_flow_cv: f64,
+    /// Lowest column flow / mean column flow.
+    pub min_over_mean: f64,
+    /// Mean dry-air mass flux, kg/(s·m²).
+    pub mean_mass_flux_kg_per_m2_s: f64,
+    /// Volume of peanuts, m³.
+    pub bed_volume_m3: f64,
+    /// Bed flow per bed volume, m³/min per m³.
+    pub specific_airflow_m3_per_min_per_m3: f64,
+    /// Mean plenum static pressure, Pa.
+    pub mean_plenum_pressure_pa: f64,
+    /// Plenum static pressure range (max − min), Pa.
+    pub plenum_pressure_range_pa: f64,
+    /// Moist-air density used, kg/m³.
+    pub air_density_kg_per_m3: f64,
+}
+
+/// Everything one airflow solve gives. 2-D arrays are [nx, ny] with i = 0 at the **front** wall (x = 0) and
+/// j = 0 at y = 0, whichever end the inlet is in; 3-D arrays add k = 0 at the floor.
+#[derive(Debug, Clone, Serialize)]
+pub struct AirflowSolution {
+    /// Grid used.
+    pub grid: Grid,
+    /// Column size along the length, m.
+    pub dx_m: f64,
+    /// Column size across the width, m.
+    pub dy_m: f64,
+    /// Bed depth per column, m.
+    pub depth_m: Array2<f64>,
+    /// Dry-air mass flux out of the top of each column, kg/(s·m²): what the deep-bed model uses.
+    pub mass_flux_kg_per_m2_s: Array2<f64>,
+    /// Superficial velocity out of the top of each column, m/s.
+    pub top_velocity_m_per_s: Array2<f64>,
+    /// Pressure at the bottom of the bed (just above the floor), Pa gauge.
+    pub bottom_pressure_pa: Array2<f64>,
+    /// Plenum static pressure under each column, Pa gauge.
+    pub plenum_pressure_pa: Array2<f64>,
+    /// Cell-centre pressures, Pa gauge, [nx, ny, nz].
+    pub pressure_pa: Array3<f64>,
+    /// Fan operating point.
+    pub operating_point: OperatingPoint,
+    /// Whole-load summary.
+    pub summary: AirflowSummary,
+    /// Convergence record.
+    pub converged: Converged,
+}
+
+/// Solve the airflow through a loaded container.
+pub fn solve(
+    container: &Container,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    inlet: &AirInlet,
+    settings: &SolverSettings,
+) -> Result<AirflowSolution, AirflowError> {
+    check_law(law)?;
+    let disc = container.discretize(settings.grid)?;
+    solve_discrete(container, &disc, flow, law, inlet, settings)
+}
+
+fn check_law(law: &BedLaw) -> Result<(), InputError> {
+    crate::error::check_range("packing_factor", law.packing_factor, 0.1, 10.0, "")?;
+    crate::error::check_range("horizontal_ratio", law.horizontal_ratio, 0.01, 100.0, "")?;
+    let ok = match law.law {
+        super::bed::ResistanceLaw::Shedd(s) => {
+            s.a.is_finite() && s.a > 0.0 && s.b.is_finite() && s.b > 0.0
+        }
+        super::bed::ResistanceLaw::Darcy {
+            resistivity_pa_s_per_m2,
+        } => resistivity_pa_s_per_m2.is_finite() && resistivity_pa_s_per_m2 > 0.0,
+    };
+    if ok {
+        Ok(())
+    } else {
+        Err(InputError::argument(
+            "resistance",
+            format!("{:?}", law.law),
+            "constants must be positive and finite",
+        ))
+    }
+}
+
+/// Monotone increasing root of `f` by bracket expansion and bisection.
+fn root_increasing(f: impl Fn(f64) -> f64, scale: f64) -> f64 {
+    let mut lo = -scale;
+    let mut hi = scale;
+    let mut n = 0;
+    while f(lo) > 0.0 && n < 200 {
+        lo *= 2.0;
+        n += 1;
+    }
+    n = 0;
+    while f(hi) < 0.0 && n < 200 {
+        hi *= 2.0;
+        n += 1;
+    }
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if f(mid) < 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+        if hi - lo <= 1e-14 * hi.abs().max(lo.abs()).max(1e-300) {
+            break;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+fn linear(
+    sys: &mut BedSystem,
+    b: &[f64],
+    x: &mut [f64],
+    s: &SolverSettings,
+    total: &mut u32,
+) -> Result<LinearStats, AirflowError> {
+    match sys.solve_linear(b, x, s.linear_tolerance, s.max_linear_iters) {
+        Ok(st) => {
+            *total += st.iters;
+            Ok(st)
+        }
+        Err(st) => Err(AirflowError::LinearNotConverged {
+            iters: st.iters,
+            residual: st.relative_residual,
+        }),
+    }
+}
+
+/// Bed pressures and flows for a prescribed plenum pressure under each column (no fan, no plenum model):
+/// the building block for limit and convergence checks. `floor = None` means no floor resistance.
+pub struct PrescribedFlow {
+    /// Cell pressures [nx, ny, nz], Pa.
+    pub pressure_pa: Array3<f64>,
+    /// Top superficial velocity per column, m/s.
+    pub top_velocity_m_per_s: Array2<f64>,
+    /// Bed-bottom face pressure per column, Pa.
+    pub bottom_pressure_pa: Array2<f64>,
+    /// Total flow in through the floor, m³/s.
+    pub inflow_m3_per_s: f64,
+    /// Convergence record.
+    pub converged: Converged,
+}
+
+/// Solve the bed alone under prescribed plenum pressures `plenum_pa` [nx, ny] (in the discretisation's own
+/// orientation, i = 0 at the inlet wall).
+pub fn solve_prescribed(
+    disc: &DiscreteContainer,
+    law: &BedLaw,
+    floor: Option<&Floor>,
+    rho_kg_per_m3: f64,
+    plenum_pa: &Array2<f64>,
+    settings: &SolverSettings,
+) -> Result<PrescribedFlow, AirflowError> {
+    check_law(law)?;
+    let Grid { nx, ny, nz } = disc.grid;
+    let depth: Vec<f64> = disc.depth_m.iter().copied().collect();
+    let perm: Vec<f64> = disc.permeability.iter().copied().collect();
+    let pl: Vec<f64> = plenum_pa.iter().copied().collect();
+    let mean_p = pl.iter().sum::<f64>() / pl.len() as f64;
+    let mean_d = depth.iter().sum::<f64>() / depth.len() as f64;
+    let guess = mean_p.abs() / mean_d / law.resistivity(0.1);
+    let (phi, cd) = floor
+        .map(|f| (f.open_area_fraction, f.discharge_coefficient))
+        .unwrap_or((f64::INFINITY, 1.0));
+    let mut sys = BedSystem::new(
+        nx,
+        ny,
+        nz,
+        disc.dx_m,
+        disc.dy_m,
+        depth,
+        perm,
+        *law,
+        phi,
+        cd,
+        rho_kg_per_m3,
+        guess,
+    );
+    let n = sys.cells();
+    let mut b = vec![0.0; n];
+    let mut p = vec![0.0; n];
+    let mut total = 0;
+    let mut prev = vec![0.0; n];
+    let mut last = f64::INFINITY;
+    for it in 1..=settings.max_outer_iters {
+        sys.rhs(&pl, &mut b);
+        linear(&mut sys, &b, &mut p, settings, &mut total)?;
+        let change = rel_change(&p, &prev);
+        if change < settings.tolerance {
+            let top = sys.top_flow_m3_per_s(&p);
+            let bot = sys.bottom_flow_m3_per_s(&p, &pl);
+            let bfp = sys.bottom_face_pressure_pa(&p, &pl);
+            let area = disc.dx_m * disc.dy_m;
+            return Ok(PrescribedFlow {
+                pressure_pa: Array3::from_shape_vec((nx, ny, nz), p)
+                    .expect("n = nx·ny·nz by construction"),
+                top_velocity_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| {
+                    top[i * ny + j] / area
+                }),
+                bottom_pressure_pa: Array2::from_shape_fn((nx, ny), |(i, j)| bfp[i * ny + j]),
+                inflow_m3_per_s: bot.iter().sum(),
+                converged: Converged {
+                    iters: it,
+                    linear_iters: total,
+                    residual: change,
+                },
+            });
+        }
+        last = change;
+        prev.copy_from_slice(&p);
+        sys.update_speeds(&p, &pl);
+        sys.assemble();
+    }
+    Err(AirflowError::NotConverged {
+        iters: settings.max_outer_iters,
+        residual: last,
+    })
+}
+
+fn rel_change(p: &[f64], prev: &[f64]) -> f64 {
+    let mut dmax: f64 = 0.0;
+    let mut pmax: f64 = 0.0;
+    for (a, b) in p.iter().zip(prev) {
+        dmax = dmax.max((a - b).abs());
+        pmax = pmax.max(a.abs());
+    }
+    if pmax == 0.0 {
+        0.0
+    } else {
+        dmax / pmax
+    }
+}
+
+/// As [`solve`], for a container already on its grid.
+pub fn solve_discrete(
+    container: &Container,
+    disc: &DiscreteContainer,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    inlet: &AirInlet,
+    settings: &SolverSettings,
+) -> Result<AirflowSolution, AirflowError> {
+    let Grid { nx, ny, nz } = disc.grid;
+    let rho = inlet.density_kg_per_m3();
+    let v_dry = inlet.specific_volume_m3_per_kg();
+    if !(rho.is_finite() && rho > 0.3 && rho < 3.0 && v_dry.is_finite()) {
+        return Err(AirflowError::NonPhysical {
+            quantity: "inlet air density (kg/m³)",
+            value: rho,
+        });
+    }
+    if let FlowSpec::Fixed { total_m3_per_s } = flow {
+        crate::error::check_range("--flow-m3-min", total_m3_per_s * 60.0, 1e-3, 1e5, "m³/min")?;
+    }
+    let a_in = container.inlet_area_m2();
+    let inl = container.inlet;
+    let geom = PlenumGeometry {
+        length_m: container.length_m,
+        width_m: container.width_m,
+        height_m: container.plenum_height_m,
+        inlet_area_m2: a_in,
+        inlet_hydraulic_diameter_m: 2.0 * inl.width_m * inl.height_m / (inl.width_m + inl.height_m),
+    };
+    let floor_area = container.floor_area_m2();
+    let q_guess = match flow {
+        FlowSpec::Fixed { total_m3_per_s } => *total_m3_per_s,
+        FlowSpec::Fan(f) => {
+            let (a, b) = f.flow_range_m3_per_s();
+            0.5 * (a + b)
+        }
+    };
+    let depth: Vec<f64> = disc.depth_m.iter().copied().collect();
+    let perm: Vec<f64> = disc.permeability.iter().copied().collect();
+    let mut sys = BedSystem::new(
+        nx,
+        ny,
+        nz,
+        disc.dx_m,
+        disc.dy_m,
+        depth.clone(),
+        perm,
+        *law,
+        container.floor.open_area_fraction,
+        container.floor.discharge_coefficient,
+        rho,
+        q_guess / floor_area,
+    );
+    let n = sys.cells();
+    let nc = nx * ny;
+    let manifold = !matches!(settings.plenum, PlenumModel::Uniform);
+    let leak_c = container.leakage_m3_per_s_per_sqrt_pa;
+    let ones = vec![1.0; nc];
+    let mut b = vec![0.0; n];
+    let mut phi1 = vec![0.0; n];
+    let mut phid = vec![0.0; n];
+    let mut ps = vec![0.0; n];
+    let mut p_in_prev = 0.0;
+    let mut p = vec![0.0; n];
+    let mut prev = vec![0.0; n];
+    let mut delta_row = vec![0.0; nx];
+    let mut linear_total = 0;
+    let mut last_change: f64 = 1.0;
+    for it in 1..=settings.max_outer_iters {
+        // Inexact Picard: solve each frozen linear problem only as well as the outer iteration can use it
+        // (a hundredth of the last outer change), down to the requested linear tolerance at convergence.
+        let lin = SolverSettings {
+            linear_tolerance: (0.01 * last_change).clamp(settings.linear_tolerance, 1e-3),
+            ..*settings
+        };
+        let settings_lin = &lin;
+        // φ₁ (response to a uniform 1 Pa plenum) is refreshed on the first steps and every fourth after; in
+        // between the stale φ₁ only carries the small change of p_in within one step (see module docs).
+        let refresh = !manifold || it <= 2 || it % 4 == 0;
+        if refresh {
+            sys.rhs(&ones, &mut b);
+            linear(&mut sys, &b, &mut phi1, settings_lin, &mut linear_total)?;
+        }
+        let delta_col: Vec<f64> = (0..nc).map(|c| delta_row[c / ny]).collect();
+        let g1: f64 = sys.bottom_flow_m3_per_s(&phi1, &ones).iter().sum();
+        let gd: f64 = if manifold {
+            // Solve once for the whole plenum field at the previous inlet pressure, warm-started from the last
+            // pressures, and split off the inlet-pressure part: φ_δ = p_s − p_in,prev·φ₁.
+            let p_pl_prev: Vec<f64> = delta_col.iter().map(|d| p_in_prev + d).collect();
+            sys.rhs(&p_pl_prev, &mut b);
+            ps.copy_from_slice(&p);
+            linear(&mut sys, &b, &mut ps, settings_lin, &mut linear_total)?;
+            for ((d, s_), f) in phid.iter_mut().zip(&ps).zip(&phi1) {
+                *d = s_ - p_in_prev * f;
+            }
+            sys.bottom_flow_m3_per_s(&phid, &delta_col).iter().sum()
+        } else {
+            0.0
+        };
+        let dbar = delta_row.iter().sum::<f64>() / nx as f64;
+        let p_in_for = |q: f64| {
+            root_increasing(
+                |pin| g1 * pin + gd + leakage_m3_per_s(leak_c, pin + dbar) - q,
+                100.0,
+            )
+        };
+        let (q_total, p_in, p_fan) = match flow {
+            FlowSpec::Fixed { total_m3_per_s } => {
+                let pin = p_in_for(*total_m3_per_s);
+                let u = total_m3_per_s / a_in;
+                (
+                    *total_m3_per_s,
+                    pin,
+                    pin + inl.transition_loss_coefficient * 0.5 * rho * u * u,
+                )
+            }
+            FlowSpec::Fan(fan) => {
+                let g = |q: f64| {
+                    let u = q / a_in;
+                    fan.pressure_pa(q, rho)
+                        - inl.transition_loss_coefficient * 0.5 * rho * u * u
+                        - p_in_for(q)
+                };
+                let (mut lo, mut hi) = fan.flow_range_m3_per_s();
+                if g(hi) > 0.0 {
+                    return Err(AirflowError::OffCurve {
+                        fan: fan.name.clone(),
+                        message: format!(
+                            "the system needs less pressure than the fan gives at its last rating point ({:.1} m³/min): extend the curve to free delivery",
+                            hi * 60.0
+                        ),
+                    });
+                }
+                if g(lo) < 0.0 {
+                    return Err(AirflowError::OffCurve {
+                        fan: fan.name.clone(),
+                        message: format!(
+                            "the system needs more pressure than the fan gives at its first rating point ({:.1} m³/min, {:.0} Pa): the fan cannot push air through this load",
+                            lo * 60.0,
+                            fan.pressure_pa(lo, rho)
+                        ),
+                    });
+                }
+                for _ in 0..200 {
+                    let mid = 0.5 * (lo + hi);
+                    if g(mid) > 0.0 {
+                        lo = mid;
+                    } else {
+                        hi = mid;
+                    }
+                    if hi - lo <= 1e-14 * hi {
+                        break;
+                    }
+                }
+                let q = 0.5 * (lo + hi);
+                (q, p_in_for(q), fan.pressure_pa(q, rho))
+            }
+        };
+        p_in_prev = p_in;
+        let p_pl: Vec<f64> = delta_col.iter().map(|d| p_in + d).collect();
+        // p = p_in·φ₁ + φ_δ
+        for ((v, a), d) in p.iter_mut().zip(&phi1).zip(&phid) {
+            *v = p_in * a + d;
+        }
+        let change = rel_change(&p, &prev);
+        last_change = change;
+        let bottom = sys.bottom_flow_m3_per_s(&p, &p_pl);
+        let leak = leakage_m3_per_s(leak_c, p_in + dbar);
+        if it > 1 && change < settings.tolerance {
+            let top = sys.top_flow_m3_per_s(&p);
+            let bfp = sys.bottom_face_pressure_pa(&p, &p_pl);
+            return finish(
+                container,
+                disc,
+                &depth,
+                FinishInputs {
+                    top: &top,
+                    bfp: &bfp,
+                    p_pl: &p_pl,
+                    p: &p,
+                    q_total,
+                    leak,
+                    p_in,
+                    p_fan,
+                    rho,
+                    v_dry,
+                    a_in,
+                },
+                Converged {
+                    iters: it,
+                    linear_iters: linear_total,
+                    residual: change,
+                },
+            );
+        }
+        prev.copy_from_slice(&p);
+        if manifold {
+            let mut rows = vec![leak / nx as f64; nx];
+            for (c, q) in bottom.iter().enumerate() {
+                rows[c / ny] += q;
+            }
+            delta_row = profile(&settings.plenum, &geom, &rows, rho).rise_pa;
+        }
+        sys.update_speeds(&p, &p_pl);
+        sys.assemble();
+    }
+    Err(AirflowError::NotConverged {
+        iters: settings.max_outer_iters,
+        residual: rel_change(&p, &prev),
+    })
+}
+
+struct FinishInputs<'a> {
+    top: &'a [f64],
+    bfp: &'a [f64],
+    p_pl: &'a [f64],
+    p: &'a [f64],
+    q_total: f64,
+    leak: f64,
+    p_in: f64,
+    p_fan: f64,
+    rho: f64,
+    v_dry: f64,
+    a_in: f64,
+}
+
+fn finish(
+    container: &Container,
+    disc: &DiscreteContainer,
+    depth: &[f64],
+    f: FinishInputs<'_>,
+    converged: Converged,
+) -> Result<AirflowSolution, AirflowError> {
+    let Grid { nx, ny, nz } = disc.grid;
+    let area = disc.dx_m * disc.dy_m;
+    let flip = container.inlet.wall == InletWall::Rear;
+    // solver index i counts from the inlet wall; outputs count from the front wall
+    let src = |i: usize| if flip { nx - 1 - i } else { i };
+    let col = |v: &[f64]| Array2::from_shape_fn((nx, ny), |(i, j)| v[src(i) * ny + j]);
+    let vel: Vec<f64> = f.top.iter().map(|q| q / area).collect();
+    for (&v, &pp) in vel.iter().zip(f.p_pl) {
+        if !v.is_finite() {
+            return Err(AirflowError::NonPhysical {
+                quantity: "column velocity (m/s)",
+                value: v,
+            });
+        }
+        if !pp.is_finite() {
+            return Err(AirflowError::NonPhysical {
+                quantity: "plenum pressure (Pa)",
+                value: pp,
+            });
+        }
+    }
+    let top_velocity = col(&vel);
+    let mass_flux = top_velocity.mapv(|v| v / f.v_dry);
+    let n = vel.len() as f64;
+    let mean = vel.iter().sum::<f64>() / n;
+    let var = vel.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / n;
+    let min = vel.iter().copied().fold(f64::INFINITY, f64::min);
+    let max = vel.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let bed_flow: f64 = f.top.iter().sum();
+    let volume: f64 = depth.iter().sum::<f64>() * area;
+    let pmean = f.p_pl.iter().sum::<f64>() / n;
+    let pmin = f.p_pl.iter().copied().fold(f64::INFINITY, f64::min);
+    let pmax = f.p_pl.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let pressure = Array3::from_shape_fn((nx, ny, nz), |(i, j, k)| f.p[(src(i) * ny + j) * nz + k]);
+    Ok(AirflowSolution {
+        grid: disc.grid,
+        dx_m: disc.dx_m,
+        dy_m: disc.dy_m,
+        depth_m: col(depth),
+        mass_flux_kg_per_m2_s: mass_flux,
+        top_velocity_m_per_s: top_velocity,
+        bottom_pressure_pa: col(f.bfp),
+        plenum_pressure_pa: col(f.p_pl),
+        pressure_pa: pressure,
+        operating_point: OperatingPoint {
+            flow_m3_per_s: f.q_total,
+            fan_static_pressure_pa: f.p_fan,
+            inlet_static_pressure_pa: f.p_in,
+            inlet_velocity_m_per_s: f.q_total / f.a_in,
+        },
+        summary: AirflowSummary {
+            total_flow_m3_per_s: f.q_total,
+            bed_flow_m3_per_s: bed_flow,
+            leakage_m3_per_s: f.leak,
+            mean_column_velocity_m_per_s: mean,
+            min_column_velocity_m_per_s: min,
+            max_column_velocity_m_per_s: max,
+            column_flow_cv: var.sqrt() / mean,
+            min_over_mean: min / mean,
+            mean_mass_flux_kg_per_m2_s: mean / f.v_dry,
+            bed_volume_m3: volume,
+            specific_airflow_m3_per_min_per_m3: bed_flow * 60.0 / volume,
+            mean_plenum_pressure_pa: pmean,
+            plenum_pressure_range_pa: pmax - pmin,
+            air_density_kg_per_m3: f.rho,
+        },
+        converged,
+    })
+}

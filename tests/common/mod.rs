@@ -1,0 +1,42 @@
+//! Shared helpers for the airflow integration tests: load the bundled containers and fans, the peanut law.
+#![allow(dead_code)]
+use std::path::{Path, PathBuf};
+
+use dryfront::airflow::{BedLaw, Container, FanCurve, ResistanceLaw};
+use dryfront::props::psychro::AirState;
+use dryfront::props::resistance::Shedd;
+
+pub fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+pub fn container(name: &str) -> Container {
+    let p = root().join(format!("models/containers/{name}.json"));
+    Container::from_json_str(&std::fs::read_to_string(&p).unwrap(), &p).unwrap()
+}
+
+pub fn fan(name: &str) -> FanCurve {
+    let p = root().join(format!("models/fans/{name}.json"));
+    FanCurve::from_json_str(&std::fs::read_to_string(&p).unwrap(), &p).unwrap()
+}
+
+/// Peanut in-shell Shedd constants a = 3.80e3, b = 111 (DOMAIN.md §1.1, from memory, unverified).
+pub fn peanut(packing: f64) -> BedLaw {
+    BedLaw {
+        law: ResistanceLaw::Shedd(Shedd {
+            a: 3.80e3,
+            b: 111.0,
+        }),
+        packing_factor: packing,
+        horizontal_ratio: 1.0,
+    }
+}
+
+/// Ambient-ish drying air: 30 °C, 50 % RH, sea level.
+pub fn air() -> AirState {
+    AirState::from_rh(30.0, 0.5, 101_325.0)
+}
+
+pub fn path(p: &str) -> PathBuf {
+    Path::new(p).to_path_buf()
+}
