@@ -1,1 +1,2 @@
 //! Reports: tables, SVG charts and heat maps.
+pub mod gantt;
