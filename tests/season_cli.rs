@@ -9,7 +9,10 @@ fn bin() -> Command {
 }
 
 fn scenario() -> String {
-    format!("{}/models/buying-points/wrenfield.json", env!("CARGO_MANIFEST_DIR"))
+    format!(
+        "{}/models/buying-points/wrenfield.json",
+        env!("CARGO_MANIFEST_DIR")
+    )
 }
 
 #[test]
@@ -17,7 +20,17 @@ fn run_with_generated_arrivals_writes_every_output() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("out");
     let o = bin()
-        .args(["season", "run", "--scenario", &scenario(), "--generate", "--seed", "4", "--loads", "80"])
+        .args([
+            "season",
+            "run",
+            "--scenario",
+            &scenario(),
+            "--generate",
+            "--seed",
+            "4",
+            "--loads",
+            "80",
+        ])
         .args(["--policy", "wettest", "--out"])
         .arg(&out)
         .output()
@@ -26,7 +39,14 @@ fn run_with_generated_arrivals_writes_every_output() {
     let stdout = String::from_utf8_lossy(&o.stdout);
     assert!(stdout.contains("not a deep-bed simulation"), "{stdout}");
     assert!(stdout.contains("80 arrived"), "{stdout}");
-    for f in ["schedule.csv", "daily.csv", "kpis.csv", "gantt.svg", "queue.svg", "arrivals.csv"] {
+    for f in [
+        "schedule.csv",
+        "daily.csv",
+        "kpis.csv",
+        "gantt.svg",
+        "queue.svg",
+        "arrivals.csv",
+    ] {
         assert!(out.join(f).is_file(), "{f} missing");
     }
     let schedule = std::fs::read_to_string(out.join("schedule.csv")).unwrap();
@@ -34,14 +54,25 @@ fn run_with_generated_arrivals_writes_every_output() {
     // The written arrivals read back and give the same schedule.
     let out2 = dir.path().join("again");
     let o = bin()
-        .args(["season", "run", "--scenario", &scenario(), "--policy", "wettest", "--arrivals"])
+        .args([
+            "season",
+            "run",
+            "--scenario",
+            &scenario(),
+            "--policy",
+            "wettest",
+            "--arrivals",
+        ])
         .arg(out.join("arrivals.csv"))
         .arg("--out")
         .arg(&out2)
         .output()
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert_eq!(std::fs::read_to_string(out2.join("schedule.csv")).unwrap(), schedule);
+    assert_eq!(
+        std::fs::read_to_string(out2.join("schedule.csv")).unwrap(),
+        schedule
+    );
 }
 
 fn fails_cleanly(args: &[&str], arrivals: Option<(&str, &str)>, want: &str) {
@@ -73,7 +104,10 @@ fn bad_arrivals_exit_non_zero_naming_line_and_field() {
     );
     fails_cleanly(
         &base,
-        Some(("b.csv", "load_id,arrival,kernel_moisture_pct\nA1,2026-09-20T15:00:00-04:00,20\n")),
+        Some((
+            "b.csv",
+            "load_id,arrival,kernel_moisture_pct\nA1,2026-09-20T15:00:00-04:00,20\n",
+        )),
         "b.csv:1: field \"net_mass_kg\"",
     );
     fails_cleanly(
@@ -115,14 +149,26 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("sw");
     let o = bin()
-        .args(["season", "sweep", "--scenario", &scenario(), "--dryers", "2..8", "--policies", "fcfs,wait-limit"])
+        .args([
+            "season",
+            "sweep",
+            "--scenario",
+            &scenario(),
+            "--dryers",
+            "2..8",
+            "--policies",
+            "fcfs,wait-limit",
+        ])
         .args(["--seasons", "6", "--loads", "100", "--seed", "3", "--out"])
         .arg(&out)
         .output()
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let stdout = String::from_utf8_lossy(&o.stdout);
-    assert!(stdout.contains("policy fcfs") && stdout.contains("policy wait-limit"), "{stdout}");
+    assert!(
+        stdout.contains("policy fcfs") && stdout.contains("policy wait-limit"),
+        "{stdout}"
+    );
     let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
     // 7 counts × 2 policies × 1 heater × 16 figures + header.
     assert_eq!(table.lines().count(), 7 * 2 * 16 + 1);

@@ -8,7 +8,9 @@ mod season_support;
 use std::collections::BTreeMap;
 
 use dryfront::drying::heater::{Fuel, HeaterStrategy};
-use dryfront::drying::run::{Ambient, ConstantAmbient, FixedFlow, FlowField, FlowProvider, RunSettings};
+use dryfront::drying::run::{
+    Ambient, ConstantAmbient, FixedFlow, FlowField, FlowProvider, RunSettings,
+};
 use dryfront::props::psychro::AirState;
 use dryfront::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use dryfront::season::drier::{ContainerSpec, DeepBedDrier, LoadDrier};
@@ -72,15 +74,30 @@ fn bed_holds_the_load_and_wetter_loads_dry_longer() {
     let b = d.dry(&ls[1], &u, ls[1].arrival).unwrap();
     assert!(a.finished && b.finished, "{a:?} {b:?}");
     assert!(a.moisture_out_pct <= 10.0 + 1e-9 && b.moisture_out_pct <= 10.0 + 1e-9);
-    assert!(b.hours > a.hours, "22 % load {} h vs 16 % load {} h", b.hours, a.hours);
+    assert!(
+        b.hours > a.hours,
+        "22 % load {} h vs 16 % load {} h",
+        b.hours,
+        a.hours
+    );
     assert!(a.fuel_l > 0.0 && a.kwh > 0.0);
     // Fan energy is the electric power times the hours on air: 3.0 kW × h.
-    assert!((a.kwh - 3.0 * a.hours).abs() < 1e-6 * a.kwh, "{} kWh over {} h", a.kwh, a.hours);
+    assert!(
+        (a.kwh - 3.0 * a.hours).abs() < 1e-6 * a.kwh,
+        "{} kWh over {} h",
+        a.kwh,
+        a.hours
+    );
     let mut cold = dryer("D2");
     cold.heater = HeaterStrategy::None;
     let c = d.dry(&ls[0], &cold, ls[0].arrival).unwrap();
     assert!(c.fuel_l.abs() < 1e-12);
-    assert!(c.hours >= a.hours, "unheated {} h vs heated {} h", c.hours, a.hours);
+    assert!(
+        c.hours >= a.hours,
+        "unheated {} h vs heated {} h",
+        c.hours,
+        a.hours
+    );
 }
 
 #[test]
@@ -94,7 +111,10 @@ fn weather_not_covering_a_start_is_an_error_naming_the_load() {
     };
     let err = simulate(&bp, &ls, &d, DispatchPolicy::Fcfs, &pred, bp.season.end()).unwrap_err();
     let msg = err.to_string();
-    assert!(msg.contains("load \"L2\"") && msg.contains("weather record does not cover"), "{msg}");
+    assert!(
+        msg.contains("load \"L2\"") && msg.contains("weather record does not cover"),
+        "{msg}"
+    );
 }
 
 #[test]
@@ -112,7 +132,15 @@ fn deep_bed_season_is_identical_on_one_and_two_threads() {
             .unwrap()
             .install(|| {
                 let d = drier(1e9);
-                simulate(&bp, &ls, &d, DispatchPolicy::Wettest, &pred, bp.season.end()).unwrap()
+                simulate(
+                    &bp,
+                    &ls,
+                    &d,
+                    DispatchPolicy::Wettest,
+                    &pred,
+                    bp.season.end(),
+                )
+                .unwrap()
             })
     };
     let (a, b) = (run_on(1), run_on(2));

@@ -42,7 +42,10 @@ fn arrival_outside_the_weather_record_names_line_and_field() {
     );
     let (line, field, msg) = field_error(&text);
     assert_eq!((line, field.as_str()), (3, "arrival"));
-    assert!(msg.starts_with("yard/arrivals.csv:3: field \"arrival\""), "{msg}");
+    assert!(
+        msg.starts_with("yard/arrivals.csv:3: field \"arrival\""),
+        "{msg}"
+    );
     assert!(msg.contains("outside the weather record"), "{msg}");
 }
 
@@ -56,7 +59,9 @@ fn missing_column_is_named() {
 
 #[test]
 fn negative_mass_is_rejected() {
-    let text = format!("{HEAD}A1,2026-09-10T14:00:00-04:00,4000,20,\nA2,2026-09-10T15:00:00-04:00,-300,20,\n");
+    let text = format!(
+        "{HEAD}A1,2026-09-10T14:00:00-04:00,4000,20,\nA2,2026-09-10T15:00:00-04:00,-300,20,\n"
+    );
     let (line, field, msg) = field_error(&text);
     assert_eq!((line, field.as_str()), (3, "net_mass_kg"));
     assert!(msg.contains("\"-300\""), "{msg}");
@@ -82,7 +87,9 @@ fn bad_time_and_missing_offset_are_rejected() {
 
 #[test]
 fn duplicate_ids_are_rejected() {
-    let text = format!("{HEAD}A1,2026-09-10T14:00:00-04:00,4000,20,\nA1,2026-09-10T15:00:00-04:00,4000,20,\n");
+    let text = format!(
+        "{HEAD}A1,2026-09-10T14:00:00-04:00,4000,20,\nA1,2026-09-10T15:00:00-04:00,4000,20,\n"
+    );
     let (line, field, msg) = field_error(&text);
     assert_eq!((line, field.as_str()), (3, "load_id"));
     assert!(msg.contains("line 2"), "{msg}");
@@ -106,15 +113,26 @@ fn zero_dryers_is_an_error_not_a_panic() {
         target_pct: 10.0,
         rate_pct_per_h: 0.5,
     };
-    let err = simulate(&bp, &ls, &RateRuleDrier::new(10.0), DispatchPolicy::Fcfs, &pred, bp.season.end())
-        .unwrap_err();
+    let err = simulate(
+        &bp,
+        &ls,
+        &RateRuleDrier::new(10.0),
+        DispatchPolicy::Fcfs,
+        &pred,
+        bp.season.end(),
+    )
+    .unwrap_err();
     assert!(matches!(err, SeasonError::Input(_)));
     assert!(err.to_string().contains("dryers"), "{err}");
     // And in a scenario file, the validator names the file and the field.
     let mut json = serde_json::to_value(point(1, 1.0, 12.0, 10)).unwrap();
     json["dryers"] = serde_json::json!([]);
     let err = BuyingPoint::from_json(Path::new("yard/bp.json"), &json.to_string()).unwrap_err();
-    assert!(err.to_string().starts_with("yard/bp.json: field \"dryers\""), "{err}");
+    assert!(
+        err.to_string()
+            .starts_with("yard/bp.json: field \"dryers\""),
+        "{err}"
+    );
 }
 
 #[test]
@@ -125,12 +143,32 @@ fn loads_past_the_season_or_too_heavy_are_errors() {
         rate_pct_per_h: 0.5,
     };
     let late = loads(&[(1.0, 20.0), (50.0, 20.0)]);
-    let err = simulate(&bp, &late, &RateRuleDrier::new(10.0), DispatchPolicy::Fcfs, &pred, bp.season.end())
-        .unwrap_err();
-    assert!(err.to_string().contains("load L2") && err.to_string().contains("season's end"), "{err}");
+    let err = simulate(
+        &bp,
+        &late,
+        &RateRuleDrier::new(10.0),
+        DispatchPolicy::Fcfs,
+        &pred,
+        bp.season.end(),
+    )
+    .unwrap_err();
+    assert!(
+        err.to_string().contains("load L2") && err.to_string().contains("season's end"),
+        "{err}"
+    );
     let mut heavy = loads(&[(1.0, 20.0)]);
     heavy[0].mass_kg = 9000.0;
-    let err = simulate(&bp, &heavy, &RateRuleDrier::new(10.0), DispatchPolicy::Fcfs, &pred, bp.season.end())
-        .unwrap_err();
-    assert!(err.to_string().contains("heavier than every dryer"), "{err}");
+    let err = simulate(
+        &bp,
+        &heavy,
+        &RateRuleDrier::new(10.0),
+        DispatchPolicy::Fcfs,
+        &pred,
+        bp.season.end(),
+    )
+    .unwrap_err();
+    assert!(
+        err.to_string().contains("heavier than every dryer"),
+        "{err}"
+    );
 }

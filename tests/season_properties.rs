@@ -20,7 +20,13 @@ fn pred() -> MoistureRatePredictor {
     }
 }
 
-fn season(n_dryers: usize, days: u32, n_loads: usize, seed: u64, policy: DispatchPolicy) -> (Vec<Load>, SeasonRun) {
+fn season(
+    n_dryers: usize,
+    days: u32,
+    n_loads: usize,
+    seed: u64,
+    policy: DispatchPolicy,
+) -> (Vec<Load>, SeasonRun) {
     let bp = point(n_dryers, 0.75, 12.0, days);
     let loads = generate(&ArrivalParams::new(t0(), days, n_loads), seed).unwrap();
     let drier = RateRuleDrier::new(10.0);
@@ -42,8 +48,14 @@ fn every_arrival_is_dried_or_reported_and_dryers_never_overlap() {
         for u in &run.never_started {
             seen[u.load_index] += 1;
         }
-        assert!(seen.iter().all(|&c| c == 1), "{policy:?}: a load is missing or counted twice");
-        assert!(!run.never_started.is_empty(), "the case should leave loads at season end");
+        assert!(
+            seen.iter().all(|&c| c == 1),
+            "{policy:?}: a load is missing or counted twice"
+        );
+        assert!(
+            !run.never_started.is_empty(),
+            "the case should leave loads at season end"
+        );
         for d in 0..run.dryer_ids.len() {
             let mut iv: Vec<_> = run
                 .schedule
@@ -80,18 +92,33 @@ fn littles_law_holds_on_the_simulated_queue() {
         .collect();
     let lambda = inside.len() as f64 / t_h;
     let w = inside.iter().sum::<f64>() / inside.len() as f64;
-    let queued_at_end = run.schedule.iter().filter(|r| r.arrival < to && r.start > to).count();
+    let queued_at_end = run
+        .schedule
+        .iter()
+        .filter(|r| r.arrival < to && r.start > to)
+        .count();
     assert!(l_avg > 0.5, "queue too short to test: L = {l_avg}");
-    assert!(queued_at_end > 0, "the window should end with loads waiting");
+    assert!(
+        queued_at_end > 0,
+        "the window should end with loads waiting"
+    );
     let rel = (l_avg - lambda * w).abs() / l_avg;
     // Loads still queued when the window ends count their whole wait in W but only part of it in L: a few
     // percent is the honest tolerance.
-    assert!(rel < 0.05, "L = {l_avg:.3}, λW = {:.3}, off by {:.2} %", lambda * w, rel * 100.0);
+    assert!(
+        rel < 0.05,
+        "L = {l_avg:.3}, λW = {:.3}, off by {:.2} %",
+        lambda * w,
+        rel * 100.0
+    );
     // Over the span that holds every wait, the log integral equals the sum of waits exactly.
     let last_start = run.schedule.iter().map(|r| r.start).max().unwrap();
     let area = run.mean_queue(from, last_start) * hours_between(from, last_start);
     let total_wait: f64 = run.schedule.iter().map(|r| r.wait_h).sum();
-    assert!((area - total_wait).abs() < 1e-6 * total_wait, "{area} vs {total_wait}");
+    assert!(
+        (area - total_wait).abs() < 1e-6 * total_wait,
+        "{area} vs {total_wait}"
+    );
 }
 
 #[test]
@@ -111,8 +138,14 @@ fn wettest_first_lowers_the_wait_of_the_wettest_loads() {
         w.iter().sum::<f64>() / w.len() as f64
     };
     let (a, b) = (mean_wait(&fcfs), mean_wait(&wet));
-    assert!(a > 1.0, "the case should have queues: FCFS wait of the wettest {a}");
-    assert!(b < 0.5 * a, "wettest tenth: FCFS {a:.2} h vs wettest-first {b:.2} h");
+    assert!(
+        a > 1.0,
+        "the case should have queues: FCFS wait of the wettest {a}"
+    );
+    assert!(
+        b < 0.5 * a,
+        "wettest tenth: FCFS {a:.2} h vs wettest-first {b:.2} h"
+    );
 }
 
 #[test]
@@ -123,9 +156,21 @@ fn more_dryers_never_raise_the_mean_wait_on_a_fixed_arrival_set() {
     let mut last = f64::INFINITY;
     for n in 4..=14 {
         let b = bp.with_dryer_count(n);
-        let run = simulate(&b, &loads, &drier, DispatchPolicy::Fcfs, &pred(), b.season.end()).unwrap();
+        let run = simulate(
+            &b,
+            &loads,
+            &drier,
+            DispatchPolicy::Fcfs,
+            &pred(),
+            b.season.end(),
+        )
+        .unwrap();
         let k = kpis(&run, &b);
-        assert!(k.mean_wait_h <= last + 1e-9, "{n} dryers: {} h after {last} h", k.mean_wait_h);
+        assert!(
+            k.mean_wait_h <= last + 1e-9,
+            "{n} dryers: {} h after {last} h",
+            k.mean_wait_h
+        );
         last = k.mean_wait_h;
     }
 }

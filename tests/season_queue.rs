@@ -162,7 +162,15 @@ fn hours_of_operation_hold_loads_until_opening() {
         target_pct: 10.0,
         rate_pct_per_h: 1.0,
     };
-    let r = simulate(&bp, &ls, &drier, DispatchPolicy::Fcfs, &pred, bp.season.end()).unwrap();
+    let r = simulate(
+        &bp,
+        &ls,
+        &drier,
+        DispatchPolicy::Fcfs,
+        &pred,
+        bp.season.end(),
+    )
+    .unwrap();
     expect(
         &r,
         &[("L1", "D1", 20.0, 0.0, 23.0), ("L2", "D1", 30.0, 9.0, 34.0)],
@@ -180,7 +188,15 @@ fn loads_waiting_at_season_end_are_reported_not_dropped() {
         target_pct: 10.0,
         rate_pct_per_h: 1.0,
     };
-    let r = simulate(&bp, &ls, &drier, DispatchPolicy::Fcfs, &pred, bp.season.end()).unwrap();
+    let r = simulate(
+        &bp,
+        &ls,
+        &drier,
+        DispatchPolicy::Fcfs,
+        &pred,
+        bp.season.end(),
+    )
+    .unwrap();
     assert_eq!(r.schedule.len(), 3);
     assert_eq!(r.never_started.len(), 1);
     assert_eq!(r.never_started[0].load_id, "L4");

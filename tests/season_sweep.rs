@@ -51,8 +51,12 @@ fn same_seed_same_results_on_one_and_two_threads() {
     assert_eq!(a, b);
     assert_eq!(a.len(), 12 * 2 * 2);
     for r in &a {
-        for f in 0..KPI_FIELDS.len() {
-            assert!(r.p10[f] <= r.p50[f] && r.p50[f] <= r.p90[f], "{:?} {}", r.case, KPI_FIELDS[f].0);
+        for (f, (name, _)) in KPI_FIELDS.iter().enumerate() {
+            assert!(
+                r.p10[f] <= r.p50[f] && r.p50[f] <= r.p90[f],
+                "{:?} {name}",
+                r.case
+            );
         }
     }
 }
@@ -60,7 +64,10 @@ fn same_seed_same_results_on_one_and_two_threads() {
 #[test]
 fn smallest_count_holding_the_wait_limit_is_tight() {
     let res = run_on(2);
-    let over = KPI_FIELDS.iter().position(|f| f.0 == "loads_over_wait_limit").unwrap();
+    let over = KPI_FIELDS
+        .iter()
+        .position(|f| f.0 == "loads_over_wait_limit")
+        .unwrap();
     for policy in [DispatchPolicy::Fcfs, DispatchPolicy::WaitLimit] {
         let n = smallest_holding(&res, policy, None).expect("14 dryers should hold a 12 h limit");
         let at = |k: usize| {

@@ -17,7 +17,9 @@ use crate::season::drier::{LoadDrier, RateRuleDrier};
 use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};
 use crate::season::scenario::{read_buying_point, BuyingPoint};
 use crate::season::sim::simulate;
-use crate::season::sweep::{heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid};
+use crate::season::sweep::{
+    heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
+};
 
 /// Season commands.
 #[derive(Debug, clap::Subcommand)]
@@ -42,7 +44,11 @@ pub struct RunArgs {
     #[arg(long)]
     pub scenario: PathBuf,
     /// Arrivals CSV: load_id, arrival (ISO 8601 with offset), net_mass_kg, kernel_moisture_pct[, notes].
-    #[arg(long, conflicts_with = "generate", required_unless_present = "generate")]
+    #[arg(
+        long,
+        conflicts_with = "generate",
+        required_unless_present = "generate"
+    )]
     pub arrivals: Option<PathBuf>,
     /// Draw the arrivals from the seeded generator instead of a file.
     #[arg(long)]
@@ -98,12 +104,14 @@ pub struct SweepArgs {
 }
 
 fn parse_policy(s: &str) -> Result<DispatchPolicy, String> {
-    DispatchPolicy::from_name(s.trim())
-        .ok_or_else(|| format!("{s:?} is not a policy (expected fcfs, wettest, shortest or wait-limit)"))
+    DispatchPolicy::from_name(s.trim()).ok_or_else(|| {
+        format!("{s:?} is not a policy (expected fcfs, wettest, shortest or wait-limit)")
+    })
 }
 
 fn parse_counts(s: &str) -> anyhow::Result<Vec<usize>> {
-    let err = || format!("--dryers: {s:?} must be a range like 4..10, a list like 4,6,8, or one count");
+    let err =
+        || format!("--dryers: {s:?} must be a range like 4..10, a list like 4,6,8, or one count");
     let v: Vec<usize> = if let Some((a, b)) = s.split_once("..") {
         let a: usize = a.trim().parse().with_context(err)?;
         let b: usize = b.trim().trim_start_matches('=').parse().with_context(err)?;
@@ -217,7 +225,10 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
     let k = kpis(&run, &bp);
     let days = daily(
         &run,
-        &loads.iter().map(|l| (l.arrival, l.mass_kg)).collect::<Vec<_>>(),
+        &loads
+            .iter()
+            .map(|l| (l.arrival, l.mass_kg))
+            .collect::<Vec<_>>(),
     );
     let mut inputs: Vec<&Path> = vec![&a.scenario];
     if let Some(p) = &a.arrivals {
@@ -227,9 +238,24 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
     write(&a.out, "schedule.csv", &schedule_csv(&run, &bp), &inputs)?;
     write(&a.out, "daily.csv", &daily_csv(&days), &inputs)?;
     write(&a.out, "kpis.csv", &kpis_csv(&k, cur), &inputs)?;
-    let title = format!("{} — {} dryers, {}", bp.name, bp.dryers.len(), a.policy.name());
-    write(&a.out, "gantt.svg", &gantt_svg(&run, &format!("Dryers: {title}")), &inputs)?;
-    write(&a.out, "queue.svg", &queue_svg(&run, &format!("Queue and occupancy: {title}")), &inputs)?;
+    let title = format!(
+        "{} — {} dryers, {}",
+        bp.name,
+        bp.dryers.len(),
+        a.policy.name()
+    );
+    write(
+        &a.out,
+        "gantt.svg",
+        &gantt_svg(&run, &format!("Dryers: {title}")),
+        &inputs,
+    )?;
+    write(
+        &a.out,
+        "queue.svg",
+        &queue_svg(&run, &format!("Queue and occupancy: {title}")),
+        &inputs,
+    )?;
     if generated {
         write(&a.out, "arrivals.csv", &arrivals_csv(&loads), &inputs)?;
     }
@@ -247,7 +273,11 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
     );
     println!("{}", drier_note(a.drier));
     print!("{}", k.summary(cur));
-    println!("wait limit {:.1} h; outputs in {}", bp.rules.max_wait_h, a.out.display());
+    println!(
+        "wait limit {:.1} h; outputs in {}",
+        bp.rules.max_wait_h,
+        a.out.display()
+    );
     Ok(())
 }
 
@@ -259,8 +289,11 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         .split(',')
         .map(|s| parse_policy(s).map_err(|e| anyhow::anyhow!("--policies: {e}")))
         .collect::<anyhow::Result<_>>()?;
-    let heaters: Vec<Option<HeaterStrategy>> =
-        a.heaters.split(',').map(parse_heater).collect::<anyhow::Result<_>>()?;
+    let heaters: Vec<Option<HeaterStrategy>> = a
+        .heaters
+        .split(',')
+        .map(parse_heater)
+        .collect::<anyhow::Result<_>>()?;
     if a.seasons == 0 {
         bail!("--seasons: 0 must be at least 1");
     }
@@ -294,7 +327,12 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         }
     };
     let res = sweep(&bp, &grid, a.seasons, &inputs, &predictor(&bp), &progress)?;
-    write(&a.out, "sweep.csv", &sweep_csv(&res, &bp.prices.currency), &[&a.scenario])?;
+    write(
+        &a.out,
+        "sweep.csv",
+        &sweep_csv(&res, &bp.prices.currency),
+        &[&a.scenario],
+    )?;
     println!(
         "{}: {} cases × {} seasons of {} loads (seed {})",
         bp.name,
@@ -305,7 +343,9 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     );
     println!("{}", drier_note(a.drier));
     for h in &heaters {
-        let hl = h.map(|h| heater_label(&h)).unwrap_or_else(|| "scenario".into());
+        let hl = h
+            .map(|h| heater_label(&h))
+            .unwrap_or_else(|| "scenario".into());
         for &p in &policies {
             match smallest_holding(&res, p, *h) {
                 Some(n) => println!(
@@ -321,6 +361,9 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             }
         }
     }
-    println!("P10/P50/P90 of every figure per case in {}", a.out.join("sweep.csv").display());
+    println!(
+        "P10/P50/P90 of every figure per case in {}",
+        a.out.join("sweep.csv").display()
+    );
     Ok(())
 }

@@ -91,7 +91,11 @@ pub fn gantt_svg(run: &SeasonRun, title: &str) -> String {
     for r in &run.schedule {
         let y = TOP + row_h * r.dryer_index as f64 + 2.0;
         let (a, b, c) = (ax.x(r.start), ax.x(r.finish), ax.x(r.released));
-        let fill = if r.result.finished { "#3b72c4" } else { "#e08a2c" };
+        let fill = if r.result.finished {
+            "#3b72c4"
+        } else {
+            "#e08a2c"
+        };
         s.push_str(&format!(
             "<rect x=\"{a:.2}\" y=\"{y:.1}\" width=\"{:.2}\" height=\"{:.1}\" fill=\"{fill}\">\
              <title>{} on {}: {} to {}, waited {:.1} h, {:.1} → {:.1} % w.b.</title></rect>\n",

@@ -76,7 +76,10 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
                 1,
                 name,
                 "",
-                &format!("column is missing from the header (found: {})", headers.iter().collect::<Vec<_>>().join(", ")),
+                &format!(
+                    "column is missing from the header (found: {})",
+                    headers.iter().collect::<Vec<_>>().join(", ")
+                ),
             )
         })?;
     }
@@ -133,11 +136,23 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
             .parse()
             .map_err(|_| field(path, line, "net_mass_kg", m, "must be a number (kg)"))?;
         if !(mass_kg.is_finite() && mass_kg > 0.0) {
-            return Err(field(path, line, "net_mass_kg", m, "must be a positive mass in kg"));
+            return Err(field(
+                path,
+                line,
+                "net_mass_kg",
+                m,
+                "must be a positive mass in kg",
+            ));
         }
         let w = get(3, "kernel_moisture_pct")?;
         let moisture_pct: f64 = w.parse().map_err(|_| {
-            field(path, line, "kernel_moisture_pct", w, "must be a number (% w.b.)")
+            field(
+                path,
+                line,
+                "kernel_moisture_pct",
+                w,
+                "must be a number (% w.b.)",
+            )
         })?;
         let (lo, hi) = MOISTURE_RANGE_PCT;
         if !(moisture_pct.is_finite() && (lo..=hi).contains(&moisture_pct)) {
@@ -247,7 +262,8 @@ impl ArrivalParams {
         let mut w: Vec<f64> = (0..n)
             .map(|d| {
                 let x = (d as f64 + 0.5) / n as f64;
-                let mut v = x.powf(self.progress_alpha - 1.0) * (1.0 - x).powf(self.progress_beta - 1.0);
+                let mut v =
+                    x.powf(self.progress_alpha - 1.0) * (1.0 - x).powf(self.progress_beta - 1.0);
                 if rain(d) || (d > 0 && rain(d - 1)) {
                     v *= self.rain_factor;
                 }
@@ -267,10 +283,18 @@ impl ArrivalParams {
             return bad("days", "0".into(), "must be at least 1");
         }
         if !(self.progress_alpha > 0.0 && self.progress_beta > 0.0) {
-            return bad("progress shape", format!("{}/{}", self.progress_alpha, self.progress_beta), "must be positive");
+            return bad(
+                "progress shape",
+                format!("{}/{}", self.progress_alpha, self.progress_beta),
+                "must be positive",
+            );
         }
         if !(0.0..=1.0).contains(&self.rain_factor) {
-            return bad("rain_factor", self.rain_factor.to_string(), "must be between 0 and 1");
+            return bad(
+                "rain_factor",
+                self.rain_factor.to_string(),
+                "must be between 0 and 1",
+            );
         }
         for (name, (lo, hi), sd) in [
             ("hour", self.hour_bounds, self.hour_sd),
@@ -278,15 +302,27 @@ impl ArrivalParams {
             ("moisture", self.moisture_bounds_pct, self.moisture_sd_pct),
         ] {
             if !(lo < hi && sd > 0.0 && lo.is_finite() && hi.is_finite()) {
-                return bad(name, format!("{lo}..{hi} (sd {sd})"), "needs lower < upper bound and a positive spread");
+                return bad(
+                    name,
+                    format!("{lo}..{hi} (sd {sd})"),
+                    "needs lower < upper bound and a positive spread",
+                );
             }
         }
         let (lo, hi) = self.moisture_bounds_pct;
         if lo < MOISTURE_RANGE_PCT.0 || hi > MOISTURE_RANGE_PCT.1 {
-            return bad("moisture bounds", format!("{lo}..{hi} %"), "must lie within 5–45 % w.b.");
+            return bad(
+                "moisture bounds",
+                format!("{lo}..{hi} %"),
+                "must lie within 5–45 % w.b.",
+            );
         }
         if self.mass_bounds_kg.0 <= 0.0 {
-            return bad("mass bounds", format!("{} kg", self.mass_bounds_kg.0), "must be positive");
+            return bad(
+                "mass bounds",
+                format!("{} kg", self.mass_bounds_kg.0),
+                "must be positive",
+            );
         }
         Ok(())
     }
@@ -319,8 +355,18 @@ pub fn generate(params: &ArrivalParams, seed: u64) -> Result<Vec<Load>, InputErr
     for _ in 0..params.loads {
         let u: f64 = rng.random::<f64>() * acc;
         let day = cum.partition_point(|&c| c < u).min(share.len() - 1);
-        let hour = truncated(&mut rng, params.hour_mean, params.hour_sd, params.hour_bounds);
-        let mass = truncated(&mut rng, params.mass_mean_kg, params.mass_sd_kg, params.mass_bounds_kg);
+        let hour = truncated(
+            &mut rng,
+            params.hour_mean,
+            params.hour_sd,
+            params.hour_bounds,
+        );
+        let mass = truncated(
+            &mut rng,
+            params.mass_mean_kg,
+            params.mass_sd_kg,
+            params.mass_bounds_kg,
+        );
         let moist = truncated(
             &mut rng,
             params.moisture_mean_pct,
@@ -329,7 +375,8 @@ pub fn generate(params: &ArrivalParams, seed: u64) -> Result<Vec<Load>, InputErr
         );
         // Whole minutes keep the CSV round trip exact.
         let minutes = (hour * 60.0).round() as i64;
-        let arrival = params.start + Duration::days(day as i64) + Duration::minutes(minutes.min(24 * 60 - 1));
+        let arrival =
+            params.start + Duration::days(day as i64) + Duration::minutes(minutes.min(24 * 60 - 1));
         loads.push(Load {
             id: String::new(),
             arrival,

@@ -201,7 +201,8 @@ pub struct ContainerSpec {
     pub nz: usize,
 }
 
-type AmbientFactory<'a> = dyn Fn(DateTime<FixedOffset>) -> Option<Box<dyn Ambient + 'a>> + Sync + 'a;
+type AmbientFactory<'a> =
+    dyn Fn(DateTime<FixedOffset>) -> Option<Box<dyn Ambient + 'a>> + Sync + 'a;
 type FlowFactory<'a> =
     dyn Fn(&DryerUnit, &BedState) -> Result<Box<dyn FlowProvider + 'a>, String> + Sync + 'a;
 
@@ -281,13 +282,23 @@ impl<M: LayerMaterial + ?Sized> LoadDrier for DeepBedDrier<'_, M> {
             message,
         };
         let spec = self.containers.get(&dryer.container).ok_or_else(|| {
-            fail(format!("container type {:?} is not known to the drier", dryer.container))
+            fail(format!(
+                "container type {:?} is not known to the drier",
+                dryer.container
+            ))
         })?;
-        let ambient = (self.ambient)(start)
-            .ok_or_else(|| fail(format!("the weather record does not cover {}", start.to_rfc3339())))?;
-        let first = ambient
-            .at(0.0)
-            .ok_or_else(|| fail(format!("the weather record does not cover {}", start.to_rfc3339())))?;
+        let ambient = (self.ambient)(start).ok_or_else(|| {
+            fail(format!(
+                "the weather record does not cover {}",
+                start.to_rfc3339()
+            ))
+        })?;
+        let first = ambient.at(0.0).ok_or_else(|| {
+            fail(format!(
+                "the weather record does not cover {}",
+                start.to_rfc3339()
+            ))
+        })?;
         let mut bed = self.bed_for(load, spec, first.air.t_c).map_err(fail)?;
         let mut flow = (self.flow)(dryer, &bed).map_err(fail)?;
         let heater = Heater {

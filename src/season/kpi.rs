@@ -259,7 +259,13 @@ pub fn daily(run: &SeasonRun, arrivals: &[(DateTime<FixedOffset>, f64)]) -> Vec<
 fn money_col(currency: &str) -> String {
     let c: String = currency
         .chars()
-        .map(|c| if c.is_alphanumeric() || c == '$' { c } else { '_' })
+        .map(|c| {
+            if c.is_alphanumeric() || c == '$' {
+                c
+            } else {
+                '_'
+            }
+        })
         .collect();
     if c.is_empty() {
         "money".into()

@@ -148,7 +148,14 @@ impl BuyingPoint {
             ));
         }
         check(path, "turnaround_h", self.turnaround_h, 0.0, 48.0, "h")?;
-        check(path, "rules.max_wait_h", self.rules.max_wait_h, 0.0, 240.0, "h")?;
+        check(
+            path,
+            "rules.max_wait_h",
+            self.rules.max_wait_h,
+            0.0,
+            240.0,
+            "h",
+        )?;
         check(
             path,
             "rules.target_kernel_pct",
@@ -162,12 +169,21 @@ impl BuyingPoint {
                 return Err(field_err(
                     path,
                     "rules.hours_of_operation",
-                    format!("[{a}, {b}] must be two different local hours, open 0–23 and close 0–24"),
+                    format!(
+                        "[{a}, {b}] must be two different local hours, open 0–23 and close 0–24"
+                    ),
                 ));
             }
         }
         let p = &self.prices;
-        check(path, "prices.propane_per_l", p.propane_per_l, 0.0, 100.0, &p.currency)?;
+        check(
+            path,
+            "prices.propane_per_l",
+            p.propane_per_l,
+            0.0,
+            100.0,
+            &p.currency,
+        )?;
         check(
             path,
             "prices.electricity_per_kwh",
@@ -191,15 +207,30 @@ impl BuyingPoint {
                 return Err(field_err(path, f("id"), "must not be empty"));
             }
             if !seen.insert(d.id.clone()) {
-                return Err(field_err(path, f("id"), format!("{:?} is used twice", d.id)));
+                return Err(field_err(
+                    path,
+                    f("id"),
+                    format!("{:?} is used twice", d.id),
+                ));
             }
             if d.container.trim().is_empty() {
-                return Err(field_err(path, f("container"), "must name a container type"));
+                return Err(field_err(
+                    path,
+                    f("container"),
+                    "must name a container type",
+                ));
             }
             if d.fan.trim().is_empty() {
                 return Err(field_err(path, f("fan"), "must name a fan"));
             }
-            check(path, &f("capacity_kg"), d.capacity_kg, 100.0, 60_000.0, "kg")?;
+            check(
+                path,
+                &f("capacity_kg"),
+                d.capacity_kg,
+                100.0,
+                60_000.0,
+                "kg",
+            )?;
             check(path, &f("fan_kw"), d.fan_kw, 0.0, 200.0, "kW")?;
             if let Some(kw) = d.burner_kw {
                 check(path, &f("burner_kw"), kw, 0.0, 5_000.0, "kW")?;
@@ -216,7 +247,14 @@ impl BuyingPoint {
                     target_rh_pct,
                     max_c,
                 } => {
-                    check(path, &f("heater.target_rh_pct"), target_rh_pct, 5.0, 95.0, "%")?;
+                    check(
+                        path,
+                        &f("heater.target_rh_pct"),
+                        target_rh_pct,
+                        5.0,
+                        95.0,
+                        "%",
+                    )?;
                     check(path, &f("heater.max_c"), max_c, 0.0, 60.0, "°C")?;
                 }
             }
@@ -320,7 +358,10 @@ mod tests {
         v["dryers"] = serde_json::json!([]);
         let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
         let msg = err.to_string();
-        assert!(msg.contains("bp.json") && msg.contains("\"dryers\""), "{msg}");
+        assert!(
+            msg.contains("bp.json") && msg.contains("\"dryers\""),
+            "{msg}"
+        );
     }
 
     #[test]

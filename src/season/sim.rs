@@ -139,7 +139,10 @@ pub fn simulate(
             return Err(InputError::argument(
                 &format!("load {}", l.id),
                 l.arrival.to_rfc3339(),
-                &format!("arrives at or after the season's end ({})", season_end.to_rfc3339()),
+                &format!(
+                    "arrives at or after the season's end ({})",
+                    season_end.to_rfc3339()
+                ),
             )
             .into());
         }
@@ -194,13 +197,11 @@ pub fn simulate(
         }
         if t < season_end && !queue.is_empty() && free.iter().any(|&f| f) {
             if bp.is_open(t) {
-                for d in 0..n {
+                for (d, dryer) in bp.dryers.iter().enumerate() {
                     if !free[d] {
                         continue;
                     }
-                    let dryer = &bp.dryers[d];
-                    let Some(qi) =
-                        choose(policy, &queue, dryer, t, bp.rules.max_wait_h, predictor)
+                    let Some(qi) = choose(policy, &queue, dryer, t, bp.rules.max_wait_h, predictor)
                     else {
                         continue;
                     };

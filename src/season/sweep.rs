@@ -88,8 +88,7 @@ pub struct CaseResult {
 
 /// SplitMix64 of `seed` and `index`: well-spread seeds for season `index` (Steele, Lea & Flood 2014).
 pub fn season_seed(seed: u64, index: usize) -> u64 {
-    let mut z = seed
-        .wrapping_add(0x9E37_79B9_7F4A_7C15_u64.wrapping_mul(index as u64 + 1));
+    let mut z = seed.wrapping_add(0x9E37_79B9_7F4A_7C15_u64.wrapping_mul(index as u64 + 1));
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
     z ^ (z >> 31)
@@ -107,9 +106,7 @@ pub fn sweep<'a>(
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<Vec<CaseResult>, SeasonError> {
     // Built in order on this thread (cheap next to the runs, and the drier need not be `Send`).
-    let built: Vec<SeasonInputs<'a>> = (0..seasons)
-        .map(inputs)
-        .collect::<Result<_, _>>()?;
+    let built: Vec<SeasonInputs<'a>> = (0..seasons).map(inputs).collect::<Result<_, _>>()?;
     let cases = grid.cases();
     let points: Vec<BuyingPoint> = cases
         .iter()

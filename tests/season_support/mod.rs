@@ -32,10 +32,7 @@ pub fn point(n: usize, turnaround_h: f64, max_wait_h: f64, days: u32) -> BuyingP
     BuyingPoint {
         name: "Test Yard (invented)".into(),
         notes: String::new(),
-        season: SeasonWindow {
-            start: t0(),
-            days,
-        },
+        season: SeasonWindow { start: t0(), days },
         turnaround_h,
         rules: OperatingRules {
             max_wait_h,
