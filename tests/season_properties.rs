@@ -200,3 +200,34 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn daily_table_adds_up_to_the_season() {
+    let (loads, run) = season(10, 60, 500, 13, DispatchPolicy::WaitLimit);
+    let arr: Vec<_> = loads.iter().map(|l| (l.arrival, l.mass_kg)).collect();
+    let days = dryfront::season::kpi::daily(&run, &arr);
+    assert_eq!(days.len(), 60);
+    assert_eq!(days.iter().map(|d| d.arrivals).sum::<usize>(), loads.len());
+    let tonnes: f64 = loads.iter().map(|l| l.mass_kg).sum::<f64>() / 1000.0;
+    assert!((days.iter().map(|d| d.tonnes_in).sum::<f64>() - tonnes).abs() < 1e-9 * tonnes);
+    let in_window = run.schedule.iter().filter(|r| r.finish < run.end).count();
+    assert_eq!(
+        days.iter().map(|d| d.loads_finished).sum::<usize>(),
+        in_window
+    );
+    // Occupancy never exceeds the fleet, and its day mean never exceeds the day's peak.
+    for d in &days {
+        assert!(d.peak_dryers_busy <= 10);
+        assert!(
+            d.mean_dryers_busy <= d.peak_dryers_busy as f64 + 1e-9,
+            "{d:?}"
+        );
+    }
+    let k = kpis(&run, &point(10, 0.75, 12.0, 60));
+    let mean_busy = days.iter().map(|d| d.mean_dryers_busy).sum::<f64>() / days.len() as f64;
+    assert!(
+        (mean_busy / 10.0 * 100.0 - k.utilisation_pct).abs() < 1e-6,
+        "{mean_busy} vs {}",
+        k.utilisation_pct
+    );
+}

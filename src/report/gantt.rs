@@ -217,3 +217,55 @@ pub fn queue_svg(run: &SeasonRun, title: &str) -> String {
     s.push_str("</svg>\n");
     s
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
+    use crate::season::drier::FixedTimeDrier;
+    use crate::season::scenario::BuyingPoint;
+    use crate::season::sim::simulate;
+
+    fn run() -> SeasonRun {
+        let text = include_str!("../../models/buying-points/wrenfield.json");
+        let bp = BuyingPoint::from_json(std::path::Path::new("w.json"), text).unwrap();
+        let p = crate::season::arrivals::ArrivalParams::new(bp.season.start, bp.season.days, 40);
+        let loads = crate::season::arrivals::generate(&p, 2).unwrap();
+        let d = FixedTimeDrier::new(10.0, |l, _| l.moisture_pct - 10.0);
+        let pred = MoistureRatePredictor {
+            target_pct: 10.0,
+            rate_pct_per_h: 1.0,
+        };
+        simulate(
+            &bp,
+            &loads,
+            &d,
+            DispatchPolicy::Fcfs,
+            &pred,
+            bp.season.end(),
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn gantt_has_one_bar_per_load_inside_the_plot_and_dated_axis() {
+        let r = run();
+        let svg = gantt_svg(&r, "T <&>");
+        assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+        assert!(svg.contains("T &lt;&amp;&gt;"));
+        assert_eq!(svg.matches("<title>").count(), r.schedule.len());
+        assert!(svg.contains(&r.start.format("%b %d").to_string()));
+        // Every bar starts inside the drawing.
+        for part in svg.split("<rect x=\"").skip(1) {
+            let x: f64 = part.split('"').next().unwrap().parse().unwrap();
+            assert!((0.0..=W).contains(&x), "{x}");
+        }
+    }
+
+    #[test]
+    fn queue_chart_draws_two_step_lines() {
+        let svg = queue_svg(&run(), "q");
+        assert_eq!(svg.matches("<path d=\"M").count(), 2);
+        assert!(svg.contains("loads waiting"));
+    }
+}
