@@ -138,6 +138,19 @@ fn bad_scenario_and_bad_options_exit_non_zero() {
         "--dryers",
     );
     fails_cleanly(
+        &[
+            "season",
+            "run",
+            "--scenario",
+            &s,
+            "--generate",
+            "--rain-days",
+            "3,99",
+        ],
+        None,
+        "--rain-days: \"99\" must be a season day number from 0 to 44",
+    );
+    fails_cleanly(
         &["season", "sweep", "--scenario", &s, "--heaters", "rise:hot"],
         None,
         "--heaters",

@@ -59,6 +59,10 @@ pub struct RunArgs {
     /// Loads to draw with --generate.
     #[arg(long, default_value_t = 250)]
     pub loads: usize,
+    /// Rain days for the generator, as season day numbers from 0, comma-separated (fewer deliveries that day and
+    /// the next).
+    #[arg(long, default_value = "")]
+    pub rain_days: String,
     /// Dispatch policy: fcfs, wettest, shortest or wait-limit.
     #[arg(long, default_value = "fcfs", value_parser = parse_policy)]
     pub policy: DispatchPolicy,
@@ -95,6 +99,10 @@ pub struct SweepArgs {
     /// Loads per season.
     #[arg(long, default_value_t = 250)]
     pub loads: usize,
+    /// Rain days for the generator (season day numbers from 0, comma-separated), the same in every season.
+    // INTEGRATE: take rain flags per season from the weather generator instead.
+    #[arg(long, default_value = "")]
+    pub rain_days: String,
     /// Drier used for each load.
     #[arg(long, value_enum, default_value_t = DrierChoice::RateRule)]
     pub drier: DrierChoice,
@@ -172,12 +180,35 @@ fn drier_note(choice: DrierChoice) -> &'static str {
     }
 }
 
-fn default_params(bp: &BuyingPoint, loads: usize) -> ArrivalParams {
+fn parse_rain_days(s: &str, days: u32) -> anyhow::Result<Vec<bool>> {
+    let mut v = vec![false; days as usize];
+    for x in s.split(',').map(str::trim).filter(|x| !x.is_empty()) {
+        let d: usize = x
+            .parse()
+            .ok()
+            .filter(|&d| d < days as usize)
+            .with_context(|| {
+                format!(
+                    "--rain-days: {x:?} must be a season day number from 0 to {}",
+                    days - 1
+                )
+            })?;
+        v[d] = true;
+    }
+    Ok(v)
+}
+
+fn default_params(
+    bp: &BuyingPoint,
+    loads: usize,
+    rain_days: &str,
+) -> anyhow::Result<ArrivalParams> {
     let mut p = ArrivalParams::new(bp.season.start, bp.season.days, loads);
+    p.rain_days = parse_rain_days(rain_days, bp.season.days)?;
     let largest = bp.dryers.iter().map(|d| d.capacity_kg).fold(0.0, f64::max);
     p.mass_bounds_kg.1 = p.mass_bounds_kg.1.min(largest);
     p.mass_bounds_kg.0 = p.mass_bounds_kg.0.min(0.5 * p.mass_bounds_kg.1);
-    p
+    Ok(p)
 }
 
 fn predictor(bp: &BuyingPoint) -> MoistureRatePredictor {
@@ -210,7 +241,10 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
             if a.loads == 0 {
                 bail!("--loads: 0 must be at least 1");
             }
-            (generate(&default_params(&bp, a.loads), a.seed)?, true)
+            (
+                generate(&default_params(&bp, a.loads, &a.rain_days)?, a.seed)?,
+                true,
+            )
         }
     };
     let drier = make_drier(a.drier, &bp);
@@ -300,7 +334,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     if a.loads == 0 {
         bail!("--loads: 0 must be at least 1");
     }
-    let params = default_params(&bp, a.loads);
+    let params = default_params(&bp, a.loads, &a.rain_days)?;
     let choice = a.drier;
     let end = bp.season.end();
     let inputs = |s: usize| -> Result<SeasonInputs<'static>, crate::season::SeasonError> {
