@@ -4,6 +4,7 @@ use clap::{Parser, Subcommand};
 pub mod airflow;
 pub mod demo;
 pub mod props;
+pub mod season;
 pub mod weather;
 
 /// dryfront: curing farmer-stock peanuts in forced-air drying trailers, from property look-ups to whole seasons.
@@ -31,6 +32,9 @@ pub enum Command {
     Weather(weather::WeatherCommand),
     /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
     Airflow(airflow::AirflowArgs),
+    /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
+    #[command(subcommand)]
+    Season(season::SeasonCommand),
 }
 
 /// Run one parsed command line.
@@ -40,5 +44,6 @@ pub fn run(args: Args) -> anyhow::Result<()> {
         Command::Props(c) => props::run(c),
         Command::Weather(c) => weather::run(c),
         Command::Airflow(a) => airflow::run(a),
+        Command::Season(c) => season::run(c),
     }
 }

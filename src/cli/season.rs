@@ -1,0 +1,403 @@
+//! `dryfront season …`: plan a buying point's harvest. `run` simulates one season and writes the schedule, the
+//! daily table, key figures and two SVG charts; `sweep` runs many dryer counts, policies and heater strategies
+//! over many seeded seasons and reports P10/P50/P90 of each figure and the smallest dryer count that holds the
+//! wait limit.
+
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+use anyhow::{bail, Context};
+
+use crate::drying::heater::HeaterStrategy;
+use crate::outfile::write_atomic;
+use crate::report::gantt::{gantt_svg, queue_svg};
+use crate::season::arrivals::{arrivals_csv, generate, read_arrivals_csv, ArrivalParams, Load};
+use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
+use crate::season::drier::{LoadDrier, RateRuleDrier};
+use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};
+use crate::season::scenario::{read_buying_point, BuyingPoint};
+use crate::season::sim::simulate;
+use crate::season::sweep::{
+    heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
+};
+
+/// Season commands.
+#[derive(Debug, clap::Subcommand)]
+pub enum SeasonCommand {
+    /// Simulate one season at a buying point and write its schedule, daily table, key figures and charts.
+    Run(RunArgs),
+    /// Run many dryer counts, policies and heater strategies over many seeded seasons.
+    Sweep(SweepArgs),
+}
+
+/// Which drier dries each load.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum DrierChoice {
+    /// A rule of thumb (0.5 points per hour, propane per kg of water removed): NOT a deep-bed simulation.
+    RateRule,
+}
+
+/// Arguments of `dryfront season run`.
+#[derive(Debug, clap::Args)]
+pub struct RunArgs {
+    /// Buying-point scenario (JSON), e.g. models/buying-points/bramble-fork.json.
+    #[arg(long)]
+    pub scenario: PathBuf,
+    /// Arrivals CSV: load_id, arrival (ISO 8601 with offset), net_mass_kg, kernel_moisture_pct[, notes].
+    #[arg(
+        long,
+        conflicts_with = "generate",
+        required_unless_present = "generate"
+    )]
+    pub arrivals: Option<PathBuf>,
+    /// Draw the arrivals from the seeded generator instead of a file.
+    #[arg(long)]
+    pub generate: bool,
+    /// Seed of the generator.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Loads to draw with --generate.
+    #[arg(long, default_value_t = 250)]
+    pub loads: usize,
+    /// Rain days for the generator, as season day numbers from 0, comma-separated (fewer deliveries that day and
+    /// the next).
+    #[arg(long, default_value = "")]
+    pub rain_days: String,
+    /// Dispatch policy: fcfs, wettest, shortest or wait-limit.
+    #[arg(long, default_value = "fcfs", value_parser = parse_policy)]
+    pub policy: DispatchPolicy,
+    /// Drier used for each load.
+    #[arg(long, value_enum, default_value_t = DrierChoice::RateRule)]
+    pub drier: DrierChoice,
+    /// Folder for the outputs (created if missing).
+    #[arg(long)]
+    pub out: PathBuf,
+}
+
+/// Arguments of `dryfront season sweep`.
+#[derive(Debug, clap::Args)]
+pub struct SweepArgs {
+    /// Buying-point scenario (JSON).
+    #[arg(long)]
+    pub scenario: PathBuf,
+    /// Dryer counts: a range `4..10` (inclusive), a list `4,6,8` or one count.
+    #[arg(long, default_value = "4..10")]
+    pub dryers: String,
+    /// Policies, comma-separated (fcfs, wettest, shortest, wait-limit).
+    #[arg(long, default_value = "fcfs,wait-limit")]
+    pub policies: String,
+    /// Heater strategies, comma-separated: `scenario` (as in the file), `none`, `rise:K`, `plenum:C`,
+    /// `rh:TARGET_PCT:MAX_C`.
+    #[arg(long, default_value = "scenario")]
+    pub heaters: String,
+    /// Seasons (arrival draws; weather draws once the deep-bed drier is wired in).
+    #[arg(long, default_value_t = 10)]
+    pub seasons: usize,
+    /// Seed of the whole sweep.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Loads per season.
+    #[arg(long, default_value_t = 250)]
+    pub loads: usize,
+    /// Rain days for the generator (season day numbers from 0, comma-separated), the same in every season.
+    // INTEGRATE: take rain flags per season from the weather generator instead.
+    #[arg(long, default_value = "")]
+    pub rain_days: String,
+    /// Drier used for each load.
+    #[arg(long, value_enum, default_value_t = DrierChoice::RateRule)]
+    pub drier: DrierChoice,
+    /// Folder for the outputs (created if missing).
+    #[arg(long)]
+    pub out: PathBuf,
+}
+
+fn parse_policy(s: &str) -> Result<DispatchPolicy, String> {
+    DispatchPolicy::from_name(s.trim()).ok_or_else(|| {
+        format!("{s:?} is not a policy (expected fcfs, wettest, shortest or wait-limit)")
+    })
+}
+
+fn parse_counts(s: &str) -> anyhow::Result<Vec<usize>> {
+    let err =
+        || format!("--dryers: {s:?} must be a range like 4..10, a list like 4,6,8, or one count");
+    let v: Vec<usize> = if let Some((a, b)) = s.split_once("..") {
+        let a: usize = a.trim().parse().with_context(err)?;
+        let b: usize = b.trim().trim_start_matches('=').parse().with_context(err)?;
+        if a > b {
+            bail!("{}", err());
+        }
+        (a..=b).collect()
+    } else {
+        s.split(',')
+            .map(|x| x.trim().parse::<usize>())
+            .collect::<Result<_, _>>()
+            .with_context(err)?
+    };
+    if v.is_empty() || v.contains(&0) || v.iter().any(|&n| n > 1000) {
+        bail!("--dryers: {s:?}: every count must be between 1 and 1000");
+    }
+    Ok(v)
+}
+
+fn parse_heater(s: &str) -> anyhow::Result<Option<HeaterStrategy>> {
+    let parts: Vec<&str> = s.trim().split(':').collect();
+    let num = |x: &str| -> anyhow::Result<f64> {
+        x.parse::<f64>()
+            .ok()
+            .filter(|v| v.is_finite())
+            .with_context(|| format!("--heaters: {x:?} in {s:?} is not a number"))
+    };
+    Ok(match parts.as_slice() {
+        ["scenario"] => None,
+        ["none"] => Some(HeaterStrategy::None),
+        ["rise", k] => Some(HeaterStrategy::FixedRise { rise_k: num(k)? }),
+        ["plenum", c] => Some(HeaterStrategy::FixedPlenum { plenum_c: num(c)? }),
+        ["rh", rh, c] => Some(HeaterStrategy::HumidityLimited {
+            target_rh_pct: num(rh)?,
+            max_c: num(c)?,
+        }),
+        _ => bail!(
+            "--heaters: {s:?} is not a heater strategy (expected scenario, none, rise:K, plenum:C or rh:TARGET_PCT:MAX_C)"
+        ),
+    })
+}
+
+/// The drier the CLI can offer today.
+// INTEGRATE: add `DrierChoice::DeepBed` here once crops (src/crop.rs), weather (src/weather/) and airflow
+// (src/airflow/) are merged: build a `season::drier::DeepBedDrier` from the crop material, an ambient factory over
+// the weather series and a flow factory over the container and fan named in each dryer unit.
+fn make_drier(choice: DrierChoice, bp: &BuyingPoint) -> Box<dyn LoadDrier> {
+    match choice {
+        DrierChoice::RateRule => Box::new(RateRuleDrier::new(bp.rules.target_kernel_pct)),
+    }
+}
+
+fn drier_note(choice: DrierChoice) -> &'static str {
+    match choice {
+        DrierChoice::RateRule => {
+            "drier: rate-rule (a rule of thumb: 0.5 points/h, propane per kg water; not a deep-bed simulation)"
+        }
+    }
+}
+
+fn parse_rain_days(s: &str, days: u32) -> anyhow::Result<Vec<bool>> {
+    let mut v = vec![false; days as usize];
+    for x in s.split(',').map(str::trim).filter(|x| !x.is_empty()) {
+        let d: usize = x
+            .parse()
+            .ok()
+            .filter(|&d| d < days as usize)
+            .with_context(|| {
+                format!(
+                    "--rain-days: {x:?} must be a season day number from 0 to {}",
+                    days - 1
+                )
+            })?;
+        v[d] = true;
+    }
+    Ok(v)
+}
+
+fn default_params(
+    bp: &BuyingPoint,
+    loads: usize,
+    rain_days: &str,
+) -> anyhow::Result<ArrivalParams> {
+    let mut p = ArrivalParams::new(bp.season.start, bp.season.days, loads);
+    p.rain_days = parse_rain_days(rain_days, bp.season.days)?;
+    let largest = bp.dryers.iter().map(|d| d.capacity_kg).fold(0.0, f64::max);
+    p.mass_bounds_kg.1 = p.mass_bounds_kg.1.min(largest);
+    p.mass_bounds_kg.0 = p.mass_bounds_kg.0.min(0.5 * p.mass_bounds_kg.1);
+    Ok(p)
+}
+
+fn predictor(bp: &BuyingPoint) -> MoistureRatePredictor {
+    MoistureRatePredictor {
+        target_pct: bp.rules.target_kernel_pct,
+        rate_pct_per_h: 0.5,
+    }
+}
+
+fn write(out: &Path, name: &str, text: &str, inputs: &[&Path]) -> anyhow::Result<()> {
+    let path = out.join(name);
+    write_atomic(&path, text.as_bytes(), inputs)?;
+    Ok(())
+}
+
+/// Run a season command.
+pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
+    match cmd {
+        SeasonCommand::Run(a) => run_one(a),
+        SeasonCommand::Sweep(a) => run_sweep(a),
+    }
+}
+
+fn run_one(a: RunArgs) -> anyhow::Result<()> {
+    let bp = read_buying_point(&a.scenario)?;
+    let range = Some((bp.season.start, bp.season.end()));
+    let (loads, generated): (Vec<Load>, bool) = match &a.arrivals {
+        Some(p) => (read_arrivals_csv(p, range)?, false),
+        None => {
+            if a.loads == 0 {
+                bail!("--loads: 0 must be at least 1");
+            }
+            (
+                generate(&default_params(&bp, a.loads, &a.rain_days)?, a.seed)?,
+                true,
+            )
+        }
+    };
+    let drier = make_drier(a.drier, &bp);
+    let run = simulate(
+        &bp,
+        &loads,
+        drier.as_ref(),
+        a.policy,
+        &predictor(&bp),
+        bp.season.end(),
+    )?;
+    let k = kpis(&run, &bp);
+    let days = daily(
+        &run,
+        &loads
+            .iter()
+            .map(|l| (l.arrival, l.mass_kg))
+            .collect::<Vec<_>>(),
+    );
+    let mut inputs: Vec<&Path> = vec![&a.scenario];
+    if let Some(p) = &a.arrivals {
+        inputs.push(p);
+    }
+    let cur = &bp.prices.currency;
+    write(&a.out, "schedule.csv", &schedule_csv(&run, &bp), &inputs)?;
+    write(&a.out, "daily.csv", &daily_csv(&days), &inputs)?;
+    write(&a.out, "kpis.csv", &kpis_csv(&k, cur), &inputs)?;
+    let title = format!(
+        "{} — {} dryers, {}",
+        bp.name,
+        bp.dryers.len(),
+        a.policy.name()
+    );
+    write(
+        &a.out,
+        "gantt.svg",
+        &gantt_svg(&run, &format!("Dryers: {title}")),
+        &inputs,
+    )?;
+    write(
+        &a.out,
+        "queue.svg",
+        &queue_svg(&run, &format!("Queue and occupancy: {title}")),
+        &inputs,
+    )?;
+    if generated {
+        write(&a.out, "arrivals.csv", &arrivals_csv(&loads), &inputs)?;
+    }
+    println!(
+        "{}: {} dryers, policy {}, {} loads ({})",
+        bp.name,
+        bp.dryers.len(),
+        a.policy.name(),
+        loads.len(),
+        if generated {
+            format!("generated, seed {}", a.seed)
+        } else {
+            "from file".to_string()
+        }
+    );
+    println!("{}", drier_note(a.drier));
+    print!("{}", k.summary(cur));
+    println!(
+        "wait limit {:.1} h; outputs in {}",
+        bp.rules.max_wait_h,
+        a.out.display()
+    );
+    Ok(())
+}
+
+fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
+    let bp = read_buying_point(&a.scenario)?;
+    let counts = parse_counts(&a.dryers)?;
+    let policies: Vec<DispatchPolicy> = a
+        .policies
+        .split(',')
+        .map(|s| parse_policy(s).map_err(|e| anyhow::anyhow!("--policies: {e}")))
+        .collect::<anyhow::Result<_>>()?;
+    let heaters: Vec<Option<HeaterStrategy>> = a
+        .heaters
+        .split(',')
+        .map(parse_heater)
+        .collect::<anyhow::Result<_>>()?;
+    if a.seasons == 0 {
+        bail!("--seasons: 0 must be at least 1");
+    }
+    if a.loads == 0 {
+        bail!("--loads: 0 must be at least 1");
+    }
+    let params = default_params(&bp, a.loads, &a.rain_days)?;
+    let choice = a.drier;
+    let end = bp.season.end();
+    let inputs = |s: usize| -> Result<SeasonInputs<'static>, crate::season::SeasonError> {
+        Ok(SeasonInputs {
+            loads: generate(&params, season_seed(a.seed, s))?,
+            drier: make_drier(choice, &bp),
+            season_end: end,
+        })
+    };
+    let grid = SweepGrid {
+        dryer_counts: counts,
+        policies: policies.clone(),
+        heaters: heaters.clone(),
+    };
+    let last_pct = AtomicUsize::new(0);
+    let progress = |done: usize, total: usize| {
+        // Every 5 %, so a log file gets twenty lines, not thousands.
+        let pct = done * 100 / total.max(1) / 5 * 5;
+        if last_pct.fetch_max(pct, Ordering::Relaxed) < pct {
+            eprint!("\rseason sweep: {pct:3} % ({done}/{total} runs)");
+            if done == total {
+                eprintln!();
+            }
+        }
+    };
+    let res = sweep(&bp, &grid, a.seasons, &inputs, &predictor(&bp), &progress)?;
+    write(
+        &a.out,
+        "sweep.csv",
+        &sweep_csv(&res, &bp.prices.currency),
+        &[&a.scenario],
+    )?;
+    println!(
+        "{}: {} cases × {} seasons of {} loads (seed {})",
+        bp.name,
+        res.len(),
+        a.seasons,
+        a.loads,
+        a.seed
+    );
+    println!("{}", drier_note(a.drier));
+    for h in &heaters {
+        let hl = h
+            .map(|h| heater_label(&h))
+            .unwrap_or_else(|| "scenario".into());
+        for &p in &policies {
+            match smallest_holding(&res, p, *h) {
+                Some(n) => println!(
+                    "heater {hl}, policy {}: {n} dryers hold the {:.0} h wait limit in 90 % of seasons",
+                    p.name(),
+                    bp.rules.max_wait_h
+                ),
+                None => println!(
+                    "heater {hl}, policy {}: no dryer count swept holds the {:.0} h wait limit in 90 % of seasons",
+                    p.name(),
+                    bp.rules.max_wait_h
+                ),
+            }
+        }
+    }
+    println!(
+        "P10/P50/P90 of every figure per case in {}",
+        a.out.join("sweep.csv").display()
+    );
+    Ok(())
+}

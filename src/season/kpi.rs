@@ -1,0 +1,366 @@
+//! Season results as the yard manager reads them: key figures (waits, utilisation, throughput, propane, cost,
+//! shrink), a daily table, and the schedule, each as CSV text with the unit in every column name. No I/O here; the
+//! CLI writes the text with `outfile::write_atomic`.
+//!
+//! Percentiles use linear interpolation between order statistics (Hyndman & Fan 1996 definition 7, the default of
+//! R's `quantile` and NumPy's `percentile`).
+
+use chrono::{DateTime, Duration, FixedOffset};
+
+use super::scenario::BuyingPoint;
+use super::sim::{hours_between, SeasonRun};
+
+/// Percentile `p` (0–100) of `values` by linear interpolation (Hyndman & Fan type 7); `NaN` if empty.
+pub fn percentile(values: &[f64], p: f64) -> f64 {
+    if values.is_empty() {
+        return f64::NAN;
+    }
+    let mut v = values.to_vec();
+    v.sort_by(f64::total_cmp);
+    let h = (v.len() - 1) as f64 * (p / 100.0).clamp(0.0, 1.0);
+    let lo = h.floor() as usize;
+    let hi = h.ceil() as usize;
+    v[lo] + (h - lo as f64) * (v[hi] - v[lo])
+}
+
+/// Key figures of a season.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Kpis {
+    /// Loads that arrived.
+    pub loads_arrived: usize,
+    /// Loads taken to target.
+    pub loads_dried: usize,
+    /// Loads not taken to target (never started, or the drier gave up).
+    pub loads_unfinished: usize,
+    /// Mean wait of started loads, h.
+    pub mean_wait_h: f64,
+    /// 95th-percentile wait of started loads, h.
+    pub p95_wait_h: f64,
+    /// Longest wait, h (never-started loads count to the season's end).
+    pub max_wait_h: f64,
+    /// Loads that waited longer than the limit (never-started loads included when past it).
+    pub loads_over_wait_limit: usize,
+    /// Share of dryer time occupied (drying or turnaround) over the season window, %.
+    pub utilisation_pct: f64,
+    /// Tonnes put on air per dryer per season day, t/(dryer·day).
+    pub tonnes_per_dryer_day: f64,
+    /// Tonnes put on air, t.
+    pub tonnes_dried: f64,
+    /// Propane burnt, L.
+    pub propane_l: f64,
+    /// Propane per tonne put on air, L/t.
+    pub propane_l_per_tonne: f64,
+    /// Fan electricity, kWh.
+    pub fan_kwh: f64,
+    /// Weight lost below target, kg.
+    pub shrink_kg: f64,
+    /// Value of that weight at the peanut price, in the scenario's currency.
+    pub shrink_value: f64,
+    /// Propane + electricity + shrink value, in the scenario's currency.
+    pub total_cost: f64,
+}
+
+/// Names, units and accessors of the figures, in table order (the sweep's P10/P50/P90 use the same list).
+pub const KPI_FIELDS: [(&str, &str); 16] = [
+    ("loads_arrived", "loads"),
+    ("loads_dried", "loads"),
+    ("loads_unfinished", "loads"),
+    ("mean_wait", "h"),
+    ("p95_wait", "h"),
+    ("max_wait", "h"),
+    ("loads_over_wait_limit", "loads"),
+    ("dryer_utilisation", "%"),
+    ("tonnes_per_dryer_day", "t/(dryer day)"),
+    ("tonnes_dried", "t"),
+    ("propane", "L"),
+    ("propane_per_tonne", "L/t"),
+    ("fan_energy", "kWh"),
+    ("shrink", "kg"),
+    ("shrink_value", "currency"),
+    ("total_cost", "currency"),
+];
+
+impl Kpis {
+    /// The figures in [`KPI_FIELDS`] order.
+    pub fn values(&self) -> [f64; 16] {
+        [
+            self.loads_arrived as f64,
+            self.loads_dried as f64,
+            self.loads_unfinished as f64,
+            self.mean_wait_h,
+            self.p95_wait_h,
+            self.max_wait_h,
+            self.loads_over_wait_limit as f64,
+            self.utilisation_pct,
+            self.tonnes_per_dryer_day,
+            self.tonnes_dried,
+            self.propane_l,
+            self.propane_l_per_tonne,
+            self.fan_kwh,
+            self.shrink_kg,
+            self.shrink_value,
+            self.total_cost,
+        ]
+    }
+
+    /// A few lines for a person, units on every number.
+    pub fn summary(&self, currency: &str) -> String {
+        format!(
+            "loads: {} arrived, {} dried, {} unfinished\n\
+             wait: mean {:.1} h, 95th percentile {:.1} h, longest {:.1} h; {} loads over the limit\n\
+             dryers: {:.0} % occupied, {:.2} t per dryer per day ({:.0} t put on air)\n\
+             propane {:.0} L ({:.1} L/t), fans {:.0} kWh, shrink {:.0} kg ({currency}{:.0})\n\
+             total cost {currency}{:.0}\n",
+            self.loads_arrived,
+            self.loads_dried,
+            self.loads_unfinished,
+            self.mean_wait_h,
+            self.p95_wait_h,
+            self.max_wait_h,
+            self.loads_over_wait_limit,
+            self.utilisation_pct,
+            self.tonnes_per_dryer_day,
+            self.tonnes_dried,
+            self.propane_l,
+            self.propane_l_per_tonne,
+            self.fan_kwh,
+            self.shrink_kg,
+            self.shrink_value,
+            self.total_cost,
+        )
+    }
+}
+
+/// Key figures of `run` under `bp`'s prices and rules.
+pub fn kpis(run: &SeasonRun, bp: &BuyingPoint) -> Kpis {
+    let waits: Vec<f64> = run.schedule.iter().map(|r| r.wait_h).collect();
+    let limit = run.max_wait_h;
+    let mut over = waits.iter().filter(|&&w| w > limit + 1e-9).count();
+    let mut max_wait = waits.iter().cloned().fold(0.0, f64::max);
+    // Never-started loads have waited (at least) until the season's end.
+    for u in &run.never_started {
+        let w = hours_between(u.arrival, run.end);
+        max_wait = max_wait.max(w);
+        if w > limit + 1e-9 {
+            over += 1;
+        }
+    }
+    let n_dryers = run.dryer_ids.len() as f64;
+    let window_h = hours_between(run.start, run.end);
+    let mut busy_h = 0.0;
+    for r in &run.schedule {
+        let a = r.start.max(run.start);
+        let b = r.released.min(run.end);
+        if b > a {
+            busy_h += hours_between(a, b);
+        }
+    }
+    let tonnes: f64 = run.schedule.iter().map(|r| r.mass_kg).sum::<f64>() / 1000.0;
+    let propane: f64 = run.schedule.iter().map(|r| r.result.fuel_l).sum();
+    let kwh: f64 = run.schedule.iter().map(|r| r.result.kwh).sum();
+    let shrink: f64 = run.schedule.iter().map(|r| r.result.shrink_kg).sum();
+    let p = &bp.prices;
+    let shrink_value = shrink / 1000.0 * p.peanuts_per_tonne;
+    let days = window_h / 24.0;
+    Kpis {
+        loads_arrived: run.arrivals,
+        loads_dried: run.schedule.iter().filter(|r| r.result.finished).count(),
+        loads_unfinished: run.unfinished(),
+        mean_wait_h: if waits.is_empty() {
+            0.0
+        } else {
+            waits.iter().sum::<f64>() / waits.len() as f64
+        },
+        p95_wait_h: if waits.is_empty() {
+            0.0
+        } else {
+            percentile(&waits, 95.0)
+        },
+        max_wait_h: max_wait,
+        loads_over_wait_limit: over,
+        utilisation_pct: if window_h > 0.0 {
+            100.0 * busy_h / (n_dryers * window_h)
+        } else {
+            0.0
+        },
+        tonnes_per_dryer_day: if days > 0.0 {
+            tonnes / n_dryers / days
+        } else {
+            0.0
+        },
+        tonnes_dried: tonnes,
+        propane_l: propane,
+        propane_l_per_tonne: if tonnes > 0.0 { propane / tonnes } else { 0.0 },
+        fan_kwh: kwh,
+        shrink_kg: shrink,
+        shrink_value,
+        total_cost: propane * p.propane_per_l + kwh * p.electricity_per_kwh + shrink_value,
+    }
+}
+
+/// One day of the season.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct DayRow {
+    /// Local midnight starting the day (offset of the season start).
+    pub day: DateTime<FixedOffset>,
+    /// Loads that arrived.
+    pub arrivals: usize,
+    /// Tonnes that arrived, t.
+    pub tonnes_in: f64,
+    /// Loads whose air went off that day.
+    pub loads_finished: usize,
+    /// Mean dryers occupied over the day.
+    pub mean_dryers_busy: f64,
+    /// Most dryers occupied at once.
+    pub peak_dryers_busy: usize,
+    /// Longest queue, loads.
+    pub longest_queue: usize,
+}
+
+/// The daily table over the season window; `arrivals` gives (arrival, net mass kg) of every load.
+pub fn daily(run: &SeasonRun, arrivals: &[(DateTime<FixedOffset>, f64)]) -> Vec<DayRow> {
+    let days = (hours_between(run.start, run.end) / 24.0).ceil().max(0.0) as i64;
+    let mut rows = Vec::with_capacity(days as usize);
+    for d in 0..days {
+        let a = run.start + Duration::days(d);
+        let b = a + Duration::days(1);
+        let inside = |t: DateTime<FixedOffset>| t >= a && t < b;
+        let arr: Vec<_> = arrivals.iter().filter(|(t, _)| inside(*t)).collect();
+        let mut busy_h = 0.0;
+        for r in &run.schedule {
+            let s = r.start.max(a);
+            let e = r.released.min(b);
+            if e > s {
+                busy_h += hours_between(s, e);
+            }
+        }
+        // State carried into the day, then every change during it.
+        let carried = run.log.iter().rev().find(|s| s.time <= a);
+        let during = run.log.iter().filter(|s| inside(s.time));
+        let mut longest = carried.map(|s| s.queue).unwrap_or(0);
+        let mut peak = carried.map(|s| s.busy).unwrap_or(0);
+        for s in during {
+            longest = longest.max(s.queue);
+            peak = peak.max(s.busy);
+        }
+        rows.push(DayRow {
+            day: a,
+            arrivals: arr.len(),
+            tonnes_in: arr.iter().map(|(_, m)| m).sum::<f64>() / 1000.0,
+            loads_finished: run.schedule.iter().filter(|r| inside(r.finish)).count(),
+            mean_dryers_busy: busy_h / 24.0,
+            peak_dryers_busy: peak,
+            longest_queue: longest,
+        });
+    }
+    rows
+}
+
+fn money_col(currency: &str) -> String {
+    let c: String = currency
+        .chars()
+        .map(|c| {
+            if c.is_alphanumeric() || c == '$' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    if c.is_empty() {
+        "money".into()
+    } else {
+        c
+    }
+}
+
+/// The schedule as CSV: one row per load, started or not (`status` = dried, not-dry or never-started).
+pub fn schedule_csv(run: &SeasonRun, bp: &BuyingPoint) -> String {
+    let m = money_col(&bp.prices.currency);
+    let mut s = format!(
+        "load_id,dryer_id,status,arrival,start,finish,wait_h,drying_h,net_mass_kg,moisture_in_pct_wb,\
+         moisture_out_pct_wb,propane_l,fan_kwh,over_dried_kg,shrink_kg,shrink_value_{m}\n"
+    );
+    let price = bp.prices.peanuts_per_tonne / 1000.0;
+    for r in &run.schedule {
+        let x = &r.result;
+        s.push_str(&format!(
+            "{},{},{},{},{},{},{:.3},{:.3},{:.1},{:.2},{:.2},{:.2},{:.2},{:.1},{:.1},{:.2}\n",
+            r.load_id,
+            r.dryer_id,
+            if x.finished { "dried" } else { "not-dry" },
+            r.arrival.to_rfc3339(),
+            r.start.to_rfc3339(),
+            r.finish.to_rfc3339(),
+            r.wait_h,
+            x.hours,
+            r.mass_kg,
+            r.moisture_in_pct,
+            x.moisture_out_pct,
+            x.fuel_l,
+            x.kwh,
+            x.over_dried_kg,
+            x.shrink_kg,
+            x.shrink_kg * price,
+        ));
+    }
+    for u in &run.never_started {
+        s.push_str(&format!(
+            "{},,never-started,{},,,{:.3},,{:.1},{:.2},,,,,,\n",
+            u.load_id,
+            u.arrival.to_rfc3339(),
+            hours_between(u.arrival, run.end),
+            u.mass_kg,
+            u.moisture_pct
+        ));
+    }
+    s
+}
+
+/// The daily table as CSV.
+pub fn daily_csv(rows: &[DayRow]) -> String {
+    let mut s = String::from(
+        "date,arrivals_loads,tonnes_in_t,loads_finished,mean_dryers_busy,peak_dryers_busy,longest_queue_loads\n",
+    );
+    for r in rows {
+        s.push_str(&format!(
+            "{},{},{:.2},{},{:.2},{},{}\n",
+            r.day.format("%Y-%m-%d"),
+            r.arrivals,
+            r.tonnes_in,
+            r.loads_finished,
+            r.mean_dryers_busy,
+            r.peak_dryers_busy,
+            r.longest_queue
+        ));
+    }
+    s
+}
+
+/// Key figures as CSV (`figure,value,unit`).
+pub fn kpis_csv(k: &Kpis, currency: &str) -> String {
+    let mut s = String::from("figure,value,unit\n");
+    for ((name, unit), v) in KPI_FIELDS.iter().zip(k.values()) {
+        let unit = if *unit == "currency" { currency } else { unit };
+        s.push_str(&format!("{name},{v:.4},{unit}\n"));
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    #[test]
+    fn percentile_matches_numpy_linear() {
+        // Reference: NumPy 2.4.6, np.percentile([3, 1, 4, 1, 5, 9, 2, 6], q) with the default "linear" method:
+        // q=95 → 7.95, q=50 → 3.5, q=10 → 1.0, q=0 → 1, q=100 → 9. Tolerance 1e-12.
+        let v = [3.0, 1.0, 4.0, 1.0, 5.0, 9.0, 2.0, 6.0];
+        assert_relative_eq!(percentile(&v, 95.0), 7.95, epsilon = 1e-12);
+        assert_relative_eq!(percentile(&v, 50.0), 3.5, epsilon = 1e-12);
+        assert_relative_eq!(percentile(&v, 10.0), 1.0, epsilon = 1e-12);
+        assert_relative_eq!(percentile(&v, 0.0), 1.0, epsilon = 1e-12);
+        assert_relative_eq!(percentile(&v, 100.0), 9.0, epsilon = 1e-12);
+    }
+}

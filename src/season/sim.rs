@@ -1,0 +1,300 @@
+//! The event simulation of one season at one buying point. Events are load arrivals, dryer releases (drying done
+//! plus turnaround) and the yard opening; they sit in a binary heap keyed by (time, sequence number) so ties are
+//! resolved the same way every run. All events at one instant are applied before any dispatch, then every free
+//! dryer, lowest index first, takes the load its policy picks among those that fit it.
+//!
+//! Each started load is dried through the [`LoadDrier`] seam from its start time. Loads still waiting when the
+//! season ends are reported as never started; loads whose drying did not reach target are flagged in the schedule.
+//! Method: next-event time advance (a textbook discrete-event simulation; no external reference).
+
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+
+use chrono::{DateTime, Duration, FixedOffset};
+
+use super::arrivals::Load;
+use super::dispatch::{choose, DispatchPolicy, Predictor, Waiting};
+use super::drier::{DryingResult, LoadDrier};
+use super::scenario::BuyingPoint;
+use super::SeasonError;
+use crate::error::InputError;
+
+/// One load's stay on a dryer.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ScheduleRow {
+    /// Position in the season's load list.
+    pub load_index: usize,
+    /// Load id.
+    pub load_id: String,
+    /// Dryer position in the buying point's list.
+    pub dryer_index: usize,
+    /// Dryer id.
+    pub dryer_id: String,
+    /// Arrival.
+    pub arrival: DateTime<FixedOffset>,
+    /// Air on.
+    pub start: DateTime<FixedOffset>,
+    /// Air off.
+    pub finish: DateTime<FixedOffset>,
+    /// Dryer free again (after turnaround).
+    pub released: DateTime<FixedOffset>,
+    /// Wait from arrival to air on, h.
+    pub wait_h: f64,
+    /// Net mass in, kg.
+    pub mass_kg: f64,
+    /// Kernel moisture in, % w.b.
+    pub moisture_in_pct: f64,
+    /// What the drying gave.
+    pub result: DryingResult,
+}
+
+/// Queue and dryer occupancy from `time` until the next sample.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct QueueSample {
+    /// When this state began.
+    pub time: DateTime<FixedOffset>,
+    /// Loads waiting.
+    pub queue: usize,
+    /// Dryers occupied (drying or in turnaround).
+    pub busy: usize,
+}
+
+/// A simulated season.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct SeasonRun {
+    /// Every started load, in start order.
+    pub schedule: Vec<ScheduleRow>,
+    /// Loads never started (still waiting at season end), in arrival order.
+    pub never_started: Vec<Unstarted>,
+    /// Queue length and occupancy over time, one sample per instant at which either changed.
+    pub log: Vec<QueueSample>,
+    /// Season start (the scenario's, or the first arrival if earlier).
+    pub start: DateTime<FixedOffset>,
+    /// Season end: no load is put on air at or after it.
+    pub end: DateTime<FixedOffset>,
+    /// Dryer ids, in order.
+    pub dryer_ids: Vec<String>,
+    /// The wait limit in force, h.
+    pub max_wait_h: f64,
+    /// Number of arrivals.
+    pub arrivals: usize,
+}
+
+/// A load still waiting when the season ended.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Unstarted {
+    /// Position in the season's load list.
+    pub load_index: usize,
+    /// Load id.
+    pub load_id: String,
+    /// Arrival.
+    pub arrival: DateTime<FixedOffset>,
+    /// Net mass, kg.
+    pub mass_kg: f64,
+    /// Kernel moisture, % w.b.
+    pub moisture_pct: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+enum Event {
+    Arrival(usize),
+    Release(usize),
+    Open,
+}
+
+/// Hours between two instants (millisecond resolution).
+pub fn hours_between(a: DateTime<FixedOffset>, b: DateTime<FixedOffset>) -> f64 {
+    (b - a).num_milliseconds() as f64 / 3.6e6
+}
+
+/// A duration of `h` hours, rounded to the millisecond.
+pub fn duration_h(h: f64) -> Duration {
+    Duration::milliseconds((h * 3.6e6).round() as i64)
+}
+
+/// Simulate one season. `loads` must be sorted by arrival (readers and the generator return them so); every
+/// arrival must fall before `season_end` and every load must fit at least one dryer.
+pub fn simulate(
+    bp: &BuyingPoint,
+    loads: &[Load],
+    drier: &dyn LoadDrier,
+    policy: DispatchPolicy,
+    predictor: &dyn Predictor,
+    season_end: DateTime<FixedOffset>,
+) -> Result<SeasonRun, SeasonError> {
+    if bp.dryers.is_empty() {
+        return Err(InputError::argument("dryers", 0, "a season needs at least one dryer").into());
+    }
+    let largest = bp.dryers.iter().map(|d| d.capacity_kg).fold(0.0, f64::max);
+    for (i, l) in loads.iter().enumerate() {
+        if i > 0 && l.arrival < loads[i - 1].arrival {
+            return Err(InputError::argument(
+                &format!("load {}", l.id),
+                l.arrival.to_rfc3339(),
+                "arrives before the load listed ahead of it: loads must be sorted by arrival",
+            )
+            .into());
+        }
+        if l.arrival >= season_end {
+            return Err(InputError::argument(
+                &format!("load {}", l.id),
+                l.arrival.to_rfc3339(),
+                &format!(
+                    "arrives at or after the season's end ({})",
+                    season_end.to_rfc3339()
+                ),
+            )
+            .into());
+        }
+        if l.mass_kg > largest {
+            return Err(InputError::argument(
+                &format!("load {}", l.id),
+                format!("{} kg", l.mass_kg),
+                &format!("is heavier than every dryer's capacity (largest {largest} kg)"),
+            )
+            .into());
+        }
+    }
+    let turnaround = duration_h(bp.turnaround_h);
+    let mut heap: BinaryHeap<Reverse<(DateTime<FixedOffset>, u64, Event)>> = BinaryHeap::new();
+    let mut seq = 0u64;
+    for (i, l) in loads.iter().enumerate() {
+        heap.push(Reverse((l.arrival, seq, Event::Arrival(i))));
+        seq += 1;
+    }
+    let n = bp.dryers.len();
+    let mut free = vec![true; n];
+    let mut queue: Vec<Waiting> = Vec::new();
+    let mut schedule = Vec::with_capacity(loads.len());
+    let mut log: Vec<QueueSample> = Vec::new();
+    let mut open_pending: Option<DateTime<FixedOffset>> = None;
+    let start = loads
+        .first()
+        .map(|l| l.arrival.min(bp.season.start))
+        .unwrap_or(bp.season.start);
+
+    while let Some(Reverse((t, _, ev))) = heap.pop() {
+        let mut batch = vec![ev];
+        while let Some(Reverse((t2, _, ev2))) = heap.peek().copied() {
+            if t2 != t {
+                break;
+            }
+            heap.pop();
+            batch.push(ev2);
+        }
+        for ev in batch {
+            match ev {
+                Event::Arrival(i) => queue.push(Waiting {
+                    index: i,
+                    load: &loads[i],
+                }),
+                Event::Release(d) => free[d] = true,
+                Event::Open => {}
+            }
+        }
+        if open_pending == Some(t) {
+            open_pending = None;
+        }
+        if t < season_end && !queue.is_empty() && free.iter().any(|&f| f) {
+            if bp.is_open(t) {
+                for (d, dryer) in bp.dryers.iter().enumerate() {
+                    if !free[d] {
+                        continue;
+                    }
+                    let Some(qi) = choose(policy, &queue, dryer, t, bp.rules.max_wait_h, predictor)
+                    else {
+                        continue;
+                    };
+                    let w = queue.remove(qi);
+                    let result = drier.dry(w.load, dryer, t)?;
+                    let finish = t + duration_h(result.hours);
+                    let released = finish + turnaround;
+                    free[d] = false;
+                    heap.push(Reverse((released, seq, Event::Release(d))));
+                    seq += 1;
+                    schedule.push(ScheduleRow {
+                        load_index: w.index,
+                        load_id: w.load.id.clone(),
+                        dryer_index: d,
+                        dryer_id: dryer.id.clone(),
+                        arrival: w.load.arrival,
+                        start: t,
+                        finish,
+                        released,
+                        wait_h: hours_between(w.load.arrival, t),
+                        mass_kg: w.load.mass_kg,
+                        moisture_in_pct: w.load.moisture_pct,
+                        result,
+                    });
+                    if queue.is_empty() {
+                        break;
+                    }
+                }
+            } else if open_pending.is_none() {
+                let o = bp.next_open(t);
+                open_pending = Some(o);
+                heap.push(Reverse((o, seq, Event::Open)));
+                seq += 1;
+            }
+        }
+        let sample = QueueSample {
+            time: t,
+            queue: queue.len(),
+            busy: free.iter().filter(|&&f| !f).count(),
+        };
+        match log.last() {
+            Some(s) if s.queue == sample.queue && s.busy == sample.busy => {}
+            _ => log.push(sample),
+        }
+    }
+    let mut never_started: Vec<Unstarted> = queue
+        .iter()
+        .map(|w| Unstarted {
+            load_index: w.index,
+            load_id: w.load.id.clone(),
+            arrival: w.load.arrival,
+            mass_kg: w.load.mass_kg,
+            moisture_pct: w.load.moisture_pct,
+        })
+        .collect();
+    never_started.sort_by_key(|u| u.load_index);
+    Ok(SeasonRun {
+        schedule,
+        never_started,
+        log,
+        start,
+        end: season_end,
+        dryer_ids: bp.dryers.iter().map(|d| d.id.clone()).collect(),
+        max_wait_h: bp.rules.max_wait_h,
+        arrivals: loads.len(),
+    })
+}
+
+impl SeasonRun {
+    /// Time-average number of loads waiting over `[from, to)`, from the event log.
+    pub fn mean_queue(&self, from: DateTime<FixedOffset>, to: DateTime<FixedOffset>) -> f64 {
+        let span = hours_between(from, to);
+        if span <= 0.0 {
+            return 0.0;
+        }
+        let mut area = 0.0;
+        for (k, s) in self.log.iter().enumerate() {
+            let a = s.time.max(from);
+            let b = self
+                .log
+                .get(k + 1)
+                .map(|n| n.time)
+                .unwrap_or(to.max(s.time))
+                .min(to);
+            if b > a {
+                area += s.queue as f64 * hours_between(a, b);
+            }
+        }
+        area / span
+    }
+
+    /// Loads not taken to target by the season's end: never started, plus those the drier gave up on.
+    pub fn unfinished(&self) -> usize {
+        self.never_started.len() + self.schedule.iter().filter(|r| !r.result.finished).count()
+    }
+}

@@ -1,0 +1,221 @@
+//! Sweeps: one buying point run over a grid of dryer counts, dispatch policies and heater strategies, each over N
+//! seasons (weather and arrival draws), giving P10/P50/P90 of every key figure across seasons. Every (case,
+//! season) pair is independent, so they run in parallel with rayon; `par_iter().map().collect()` keeps input
+//! order and no float is summed across threads, so results do not depend on the thread count.
+//!
+//! Every case sees the same seasons (common random numbers), so differences between cases are not noise between
+//! draws. Seeds per season come from SplitMix64 (Steele, Lea & Flood 2014) of the sweep seed and the season index.
+
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+use chrono::{DateTime, FixedOffset};
+use rayon::prelude::*;
+
+use super::arrivals::Load;
+use super::dispatch::{DispatchPolicy, Predictor};
+use super::drier::LoadDrier;
+use super::kpi::{kpis, percentile, Kpis, KPI_FIELDS};
+use super::scenario::BuyingPoint;
+use super::sim::simulate;
+use super::SeasonError;
+use crate::drying::heater::HeaterStrategy;
+
+/// What one season of a sweep needs: its loads, a drier bound to its weather, and its end.
+pub struct SeasonInputs<'a> {
+    /// The season's loads, sorted by arrival.
+    pub loads: Vec<Load>,
+    /// The drier for this season's weather.
+    pub drier: Box<dyn LoadDrier + 'a>,
+    /// No load goes on air at or after this.
+    pub season_end: DateTime<FixedOffset>,
+}
+
+/// One point of the grid.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct SweepCase {
+    /// Dryer count.
+    pub dryers: usize,
+    /// Dispatch policy.
+    pub policy: DispatchPolicy,
+    /// Heater strategy on every dryer; `None` keeps the scenario's own.
+    pub heater: Option<HeaterStrategy>,
+}
+
+/// The grid: every combination is run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepGrid {
+    /// Dryer counts.
+    pub dryer_counts: Vec<usize>,
+    /// Policies.
+    pub policies: Vec<DispatchPolicy>,
+    /// Heater strategies (`None` = the scenario's own).
+    pub heaters: Vec<Option<HeaterStrategy>>,
+}
+
+impl SweepGrid {
+    /// Every case, dryer count slowest, then heater, then policy.
+    pub fn cases(&self) -> Vec<SweepCase> {
+        let mut v = Vec::new();
+        for &dryers in &self.dryer_counts {
+            for &heater in &self.heaters {
+                for &policy in &self.policies {
+                    v.push(SweepCase {
+                        dryers,
+                        policy,
+                        heater,
+                    });
+                }
+            }
+        }
+        v
+    }
+}
+
+/// A case over all seasons.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct CaseResult {
+    /// The case.
+    pub case: SweepCase,
+    /// Key figures per season, in season order.
+    pub seasons: Vec<Kpis>,
+    /// 10th percentile of each figure across seasons ([`KPI_FIELDS`] order).
+    pub p10: Vec<f64>,
+    /// Median.
+    pub p50: Vec<f64>,
+    /// 90th percentile.
+    pub p90: Vec<f64>,
+}
+
+/// SplitMix64 of `seed` and `index`: well-spread seeds for season `index` (Steele, Lea & Flood 2014).
+pub fn season_seed(seed: u64, index: usize) -> u64 {
+    let mut z = seed.wrapping_add(0x9E37_79B9_7F4A_7C15_u64.wrapping_mul(index as u64 + 1));
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+/// Run every case of `grid` over `seasons` seasons. `inputs(s)` builds season `s` (the integrator plugs the
+/// weather generator in here: season index → weather → ambient factory → drier). `progress(done, total)` is
+/// called after each (case, season) run, from worker threads.
+pub fn sweep<'a>(
+    bp: &BuyingPoint,
+    grid: &SweepGrid,
+    seasons: usize,
+    inputs: &(dyn Fn(usize) -> Result<SeasonInputs<'a>, SeasonError> + Sync),
+    predictor: &dyn Predictor,
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<Vec<CaseResult>, SeasonError> {
+    // Built in order on this thread (cheap next to the runs, and the drier need not be `Send`).
+    let built: Vec<SeasonInputs<'a>> = (0..seasons).map(inputs).collect::<Result<_, _>>()?;
+    let cases = grid.cases();
+    let points: Vec<BuyingPoint> = cases
+        .iter()
+        .map(|c| {
+            let b = bp.with_dryer_count(c.dryers);
+            match c.heater {
+                Some(h) => b.with_heater(h),
+                None => b,
+            }
+        })
+        .collect();
+    let jobs: Vec<(usize, usize)> = (0..cases.len())
+        .flat_map(|c| (0..seasons).map(move |s| (c, s)))
+        .collect();
+    let total = jobs.len();
+    let done = AtomicUsize::new(0);
+    let results: Vec<Kpis> = jobs
+        .par_iter()
+        .map(|&(c, s)| {
+            let si = &built[s];
+            let run = simulate(
+                &points[c],
+                &si.loads,
+                si.drier.as_ref(),
+                cases[c].policy,
+                predictor,
+                si.season_end,
+            )?;
+            let k = kpis(&run, &points[c]);
+            progress(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+            Ok(k)
+        })
+        .collect::<Result<_, SeasonError>>()?;
+    Ok(cases
+        .iter()
+        .enumerate()
+        .map(|(c, case)| {
+            let ks: Vec<Kpis> = results[c * seasons..(c + 1) * seasons].to_vec();
+            let column = |f: usize| ks.iter().map(|k| k.values()[f]).collect::<Vec<f64>>();
+            let pct = |p: f64| {
+                (0..KPI_FIELDS.len())
+                    .map(|f| percentile(&column(f), p))
+                    .collect()
+            };
+            CaseResult {
+                case: *case,
+                p10: pct(10.0),
+                p50: pct(50.0),
+                p90: pct(90.0),
+                seasons: ks,
+            }
+        })
+        .collect())
+}
+
+/// The smallest dryer count, for `policy` and `heater`, at which no load waits past the limit in at least 90 % of
+/// seasons (P90 of loads over the limit is zero); `None` if no count in the sweep holds it.
+pub fn smallest_holding(
+    results: &[CaseResult],
+    policy: DispatchPolicy,
+    heater: Option<HeaterStrategy>,
+) -> Option<usize> {
+    let over = KPI_FIELDS
+        .iter()
+        .position(|(n, _)| *n == "loads_over_wait_limit")
+        .expect("field exists");
+    results
+        .iter()
+        .filter(|r| r.case.policy == policy && r.case.heater == heater)
+        .filter(|r| r.p90[over] < 0.5)
+        .map(|r| r.case.dryers)
+        .min()
+}
+
+/// The sweep table as CSV: one row per case and figure, with P10/P50/P90 across seasons.
+pub fn sweep_csv(results: &[CaseResult], currency: &str) -> String {
+    let mut s = String::from("dryers,policy,heater,figure,unit,p10,p50,p90\n");
+    for r in results {
+        let heater = match r.case.heater {
+            None => "scenario".to_string(),
+            Some(h) => heater_label(&h),
+        };
+        for (f, (name, unit)) in KPI_FIELDS.iter().enumerate() {
+            let unit = if *unit == "currency" { currency } else { unit };
+            s.push_str(&format!(
+                "{},{},{},{},{},{:.4},{:.4},{:.4}\n",
+                r.case.dryers,
+                r.case.policy.name(),
+                heater,
+                name,
+                unit,
+                r.p10[f],
+                r.p50[f],
+                r.p90[f]
+            ));
+        }
+    }
+    s
+}
+
+/// A short label for a heater strategy ("rise-8K", "rh55-max35C").
+pub fn heater_label(h: &HeaterStrategy) -> String {
+    match *h {
+        HeaterStrategy::None => "none".into(),
+        HeaterStrategy::FixedPlenum { plenum_c } => format!("plenum-{plenum_c}C"),
+        HeaterStrategy::FixedRise { rise_k } => format!("rise-{rise_k}K"),
+        HeaterStrategy::HumidityLimited {
+            target_rh_pct,
+            max_c,
+        } => format!("rh{target_rh_pct}-max{max_c}C"),
+    }
+}

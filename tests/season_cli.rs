@@ -1,0 +1,188 @@
+//! The real binary: `season run` and `season sweep` write their outputs and a short summary; bad input exits
+//! non-zero with one line naming the file, line and field, and leaves no output behind.
+
+use std::path::Path;
+use std::process::Command;
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_dryfront"))
+}
+
+fn scenario() -> String {
+    format!(
+        "{}/models/buying-points/wrenfield.json",
+        env!("CARGO_MANIFEST_DIR")
+    )
+}
+
+#[test]
+fn run_with_generated_arrivals_writes_every_output() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out");
+    let o = bin()
+        .args([
+            "season",
+            "run",
+            "--scenario",
+            &scenario(),
+            "--generate",
+            "--seed",
+            "4",
+            "--loads",
+            "80",
+        ])
+        .args(["--policy", "wettest", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("not a deep-bed simulation"), "{stdout}");
+    assert!(stdout.contains("80 arrived"), "{stdout}");
+    for f in [
+        "schedule.csv",
+        "daily.csv",
+        "kpis.csv",
+        "gantt.svg",
+        "queue.svg",
+        "arrivals.csv",
+    ] {
+        assert!(out.join(f).is_file(), "{f} missing");
+    }
+    let schedule = std::fs::read_to_string(out.join("schedule.csv")).unwrap();
+    assert_eq!(schedule.lines().count(), 81, "header + one row per load");
+    // The written arrivals read back and give the same schedule.
+    let out2 = dir.path().join("again");
+    let o = bin()
+        .args([
+            "season",
+            "run",
+            "--scenario",
+            &scenario(),
+            "--policy",
+            "wettest",
+            "--arrivals",
+        ])
+        .arg(out.join("arrivals.csv"))
+        .arg("--out")
+        .arg(&out2)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        std::fs::read_to_string(out2.join("schedule.csv")).unwrap(),
+        schedule
+    );
+}
+
+fn fails_cleanly(args: &[&str], arrivals: Option<(&str, &str)>, want: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out");
+    let mut cmd = bin();
+    cmd.args(args);
+    if let Some((name, text)) = arrivals {
+        let p = dir.path().join(name);
+        std::fs::write(&p, text).unwrap();
+        cmd.arg("--arrivals").arg(&p);
+    }
+    let o = cmd.arg("--out").arg(&out).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(stderr.contains(want), "{stderr}");
+    assert_eq!(stderr.lines().count(), 1, "{stderr}");
+    assert!(!Path::new(&out).exists(), "no partial output");
+}
+
+#[test]
+fn bad_arrivals_exit_non_zero_naming_line_and_field() {
+    let s = scenario();
+    let base = ["season", "run", "--scenario", s.as_str()];
+    fails_cleanly(
+        &base,
+        Some(("a.csv", "load_id,arrival,net_mass_kg,kernel_moisture_pct\nA1,2026-09-20T15:00:00-04:00,-4000,20\n")),
+        "a.csv:2: field \"net_mass_kg\": \"-4000\" must be a positive mass in kg",
+    );
+    fails_cleanly(
+        &base,
+        Some((
+            "b.csv",
+            "load_id,arrival,kernel_moisture_pct\nA1,2026-09-20T15:00:00-04:00,20\n",
+        )),
+        "b.csv:1: field \"net_mass_kg\"",
+    );
+    fails_cleanly(
+        &base,
+        Some(("c.csv", "load_id,arrival,net_mass_kg,kernel_moisture_pct\nA1,2027-01-20T15:00:00-05:00,4000,20\n")),
+        "c.csv:2: field \"arrival\": \"2027-01-20T15:00:00-05:00\" is outside the weather record",
+    );
+}
+
+#[test]
+fn bad_scenario_and_bad_options_exit_non_zero() {
+    let dir = tempfile::tempdir().unwrap();
+    let bp = dir.path().join("empty.json");
+    let mut v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(scenario()).unwrap()).unwrap();
+    v["dryers"] = serde_json::json!([]);
+    std::fs::write(&bp, v.to_string()).unwrap();
+    let bp = bp.to_string_lossy().into_owned();
+    fails_cleanly(
+        &["season", "run", "--scenario", &bp, "--generate"],
+        None,
+        "empty.json: field \"dryers\": a buying point needs at least one dryer",
+    );
+    let s = scenario();
+    fails_cleanly(
+        &["season", "sweep", "--scenario", &s, "--dryers", "0..3"],
+        None,
+        "--dryers",
+    );
+    fails_cleanly(
+        &[
+            "season",
+            "run",
+            "--scenario",
+            &s,
+            "--generate",
+            "--rain-days",
+            "3,99",
+        ],
+        None,
+        "--rain-days: \"99\" must be a season day number from 0 to 44",
+    );
+    fails_cleanly(
+        &["season", "sweep", "--scenario", &s, "--heaters", "rise:hot"],
+        None,
+        "--heaters",
+    );
+}
+
+#[test]
+fn sweep_writes_its_table_and_names_the_smallest_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("sw");
+    let o = bin()
+        .args([
+            "season",
+            "sweep",
+            "--scenario",
+            &scenario(),
+            "--dryers",
+            "2..8",
+            "--policies",
+            "fcfs,wait-limit",
+        ])
+        .args(["--seasons", "6", "--loads", "100", "--seed", "3", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        stdout.contains("policy fcfs") && stdout.contains("policy wait-limit"),
+        "{stdout}"
+    );
+    let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
+    // 7 counts × 2 policies × 1 heater × 16 figures + header.
+    assert_eq!(table.lines().count(), 7 * 2 * 16 + 1);
+}
