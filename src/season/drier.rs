@@ -257,7 +257,7 @@ impl<M: LayerMaterial + ?Sized> DeepBedDrier<'_, M> {
         let dry_kg = load.mass_kg / (1.0 + pod_db);
         let dry_density = dry_kg / (area * depth);
         let columns = (spec.nx * spec.ny) as f64;
-        Ok(BedState::new(
+        BedState::new(
             self.material,
             Array2::from_elem((spec.nx, spec.ny), depth),
             area / columns,
@@ -265,7 +265,8 @@ impl<M: LayerMaterial + ?Sized> DeepBedDrier<'_, M> {
             dry_density,
             &InitialMoisture::Uniform(kernel_wb),
             temp_c,
-        ))
+        )
+        .map_err(|e| e.to_string())
     }
 }
 

@@ -87,6 +87,7 @@ impl LayerMaterial for TestPod {
         CellMoisture {
             hull_db: he + (hull_in - he) * (-0.6 * h).exp(),
             kernel_db: kernel,
+            curve_start_db: kernel,
         }
     }
     fn pod_db(&self, m: CellMoisture) -> f64 {
@@ -95,7 +96,7 @@ impl LayerMaterial for TestPod {
     fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
         cromarty_erh(t_c, m.hull_db, 0.0)
     }
-    fn latent_heat_ratio(&self, _: f64, _: f64) -> f64 {
+    fn latent_heat_ratio(&self, _: f64, _: CellMoisture) -> f64 {
         1.1
     }
     fn cp_dry_j_per_kg_k(&self) -> f64 {
@@ -115,6 +116,7 @@ impl LayerMaterial for TestPod {
         CellMoisture {
             hull_db: cromarty_emc_db(t_c, erh, 0.0),
             kernel_db,
+            curve_start_db: kernel_db,
         }
     }
 }
