@@ -161,28 +161,7 @@ impl Crop {
     /// beside the executable and up to three levels above it (covers `target/<profile>/`), and the source
     /// tree's `models/crops` (compile-time `CARGO_MANIFEST_DIR`).
     pub fn search_dirs() -> Vec<PathBuf> {
-        let mut dirs = Vec::new();
-        if let Some(d) = std::env::var_os("DRYFRONT_MODELS_DIR") {
-            dirs.push(PathBuf::from(d).join("crops"));
-        }
-        if let Ok(exe) = std::env::current_exe() {
-            let mut dir = exe.parent().map(Path::to_path_buf);
-            for _ in 0..4 {
-                match dir {
-                    Some(d) => {
-                        dirs.push(d.join("models").join("crops"));
-                        dir = d.parent().map(Path::to_path_buf);
-                    }
-                    None => break,
-                }
-            }
-        }
-        dirs.push(
-            Path::new(env!("CARGO_MANIFEST_DIR"))
-                .join("models")
-                .join("crops"),
-        );
-        dirs
+        crate::models::search_dirs("crops")
     }
 
     /// Resolve a crop name (`peanut-inshell`) or a path to a `.json` file.

@@ -237,14 +237,24 @@ fn demo_writes_property_table_whole() {
     let dir = tempfile::tempdir().unwrap();
     let out_dir = dir.path().join("out");
     let out = ok(&["demo", "--out", out_dir.to_str().unwrap()]);
-    assert!(out.contains("Cotton Creek"));
+    assert!(out.contains("Bramble Fork"));
     let csv = std::fs::read_to_string(out_dir.join("properties.csv")).unwrap();
     let lines: Vec<&str> = csv.lines().collect();
     assert!(lines[0].starts_with("air_state,ambient_t_c"));
     assert_eq!(lines.len(), 7);
-    let names: Vec<_> = std::fs::read_dir(&out_dir)
+    let mut names: Vec<String> = std::fs::read_dir(&out_dir)
         .unwrap()
-        .map(|e| e.unwrap().file_name())
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
-    assert_eq!(names.len(), 1, "no temporary files left: {names:?}");
+    names.sort();
+    // The whole demo: one load, a comparison, a season and the property table; no temporary files left.
+    assert_eq!(names, ["compare", "load", "properties.csv", "season"], "{names:?}");
+    for sub in ["load", "compare", "season"] {
+        for e in std::fs::read_dir(out_dir.join(sub)).unwrap() {
+            let name = e.unwrap().file_name().to_string_lossy().into_owned();
+            assert!(!name.starts_with('.'), "temporary file left: {sub}/{name}");
+        }
+    }
+    assert!(out_dir.join("load/final_moisture_top.svg").is_file());
+    assert!(out_dir.join("season/gantt.svg").is_file());
 }

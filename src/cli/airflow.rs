@@ -406,6 +406,7 @@ fn write_outputs(
         quantity: "superficial velocity".into(),
         unit: "m/s".into(),
         range: None,
+        marks: None,
     });
     let plenum = heat_map(&HeatMap {
         values: s.plenum_pressure_pa.view(),
@@ -417,6 +418,7 @@ fn write_outputs(
         quantity: "static pressure".into(),
         unit: "Pa".into(),
         range: None,
+        marks: None,
     });
     let rows: Vec<(f64, f64)> = (0..s.grid.nx)
         .map(|i| {

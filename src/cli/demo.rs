@@ -1,9 +1,10 @@
-//! `dryfront demo`: the bundled demo scenario. For now an honest property table: the in-shell peanut crop model
-//! looked up at a day's worth of invented air states at the invented Cotton Creek buying point, ambient and after
-//! the heater (capped at the crop's rise and plenum limits), written to `DIR/properties.csv`. The full deep-bed
-//! demo replaces this once the layer model exists.
+//! `dryfront demo`: the bundled demo scenario end to end, at the invented Bramble Fork Peanut Exchange (invented
+//! Cypress Neck site, invented weather season): one load through the deep-bed model with its airflow map, zones and
+//! pictures (`DIR/load/`), the same load under several heater strategies (`DIR/compare/`), a small season of
+//! generated arrivals on the buying point's seven dryers (`DIR/season/`), and a property table of the peanut model
+//! at a day's worth of invented air states (`DIR/properties.csv`).
 //!
-//! References: crop constants and their sources in `models/crops/peanut-inshell.json`; air states are invented.
+//! References: crop constants and their sources in `models/crops/peanut-inshell.json`; all demo data invented.
 use std::path::PathBuf;
 
 use anyhow::Context;
@@ -21,8 +22,8 @@ pub struct DemoArgs {
     pub out: PathBuf,
 }
 
-/// Invented hourly air states at the Cotton Creek buying point on a September harvest day (demo data only).
-const COTTON_CREEK_AIR: [(&str, f64, f64); 6] = [
+/// Invented hourly air states at the Bramble Fork buying point on a September harvest day (demo data only).
+const DEMO_AIR: [(&str, f64, f64); 6] = [
     ("02:00 humid night", 17.0, 0.95),
     ("06:00 dawn fog", 15.5, 0.98),
     ("10:00 morning", 23.0, 0.72),
@@ -43,8 +44,45 @@ struct Row {
 
 /// Run the demo.
 pub fn run(args: DemoArgs) -> anyhow::Result<()> {
+    use super::dry::{run_compare, run_dry, CompareArgs, DryArgs, LoadOptions};
+    let started = std::time::Instant::now();
+    let load = |sub: &str| LoadOptions {
+        scenario: "demo-load".into(),
+        start_offset_h: 0.0,
+        initial_pct: None,
+        force: false,
+        units: crate::units::UnitSystem::Si,
+        out: Some(args.out.join(sub)),
+    };
+    println!("== 1. One load (deep-bed model, airflow solved through plenum, floor and bed)");
+    run_dry(DryArgs {
+        load: load("load"),
+        strategy: None,
+    })?;
+    println!("\n== 2. The same load under four heater strategies");
+    run_compare(CompareArgs {
+        load: load("compare"),
+        strategies: "none;rise=5;rise=8;rh=55,max=35".into(),
+    })?;
+    println!("\n== 3. A small season at the buying point (120 generated loads, deep-bed drier on a coarse grid)");
+    let bp = crate::models::resolve("buying-points", "bramble-fork", "demo buying point")?;
+    super::season::run(super::season::SeasonCommand::Run(
+        super::season::RunArgs::demo(bp, args.out.join("season")),
+    ))?;
+    println!("\n== 4. Property table");
+    property_table(&args.out)?;
+    println!(
+        "\ndemo finished in {:.1} s; outputs in {}",
+        started.elapsed().as_secs_f64(),
+        args.out.display()
+    );
+    Ok(())
+}
+
+/// The peanut model at a day's worth of invented air states, ambient and heated, to `out/properties.csv`.
+fn property_table(out: &std::path::Path) -> anyhow::Result<()> {
     let crop = Crop::load_named("peanut-inshell")?;
-    let rows: Vec<Row> = COTTON_CREEK_AIR
+    let rows: Vec<Row> = DEMO_AIR
         .iter()
         .map(|&(label, t_c, rh)| {
             let ambient = AirState::from_rh(t_c, rh, P_STD_PA);
@@ -64,7 +102,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         })
         .collect();
 
-    println!("Cotton Creek buying point (invented demo data): peanut-inshell properties");
+    println!("Bramble Fork buying point (invented demo data): peanut-inshell properties");
     println!(
         "{:<20} {:>8} {:>7} {:>9} {:>8} {:>11} {:>11} {:>11} {:>10}",
         "air state",
@@ -119,7 +157,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         w.write_record(&cells)?;
     }
     let bytes = w.into_inner().context("finishing the CSV table")?;
-    let path = args.out.join("properties.csv");
+    let path = out.join("properties.csv");
     write_atomic(&path, &bytes, &[crop.path.as_path()])?;
     println!("wrote {}", path.display());
     Ok(())

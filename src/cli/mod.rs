@@ -3,6 +3,7 @@ use clap::{Parser, Subcommand};
 
 pub mod airflow;
 pub mod demo;
+pub mod dry;
 pub mod props;
 pub mod season;
 pub mod weather;
@@ -30,6 +31,12 @@ pub enum Command {
     /// Summarise, clean or synthesise hourly weather.
     #[command(subcommand)]
     Weather(weather::WeatherCommand),
+    /// Dry one load through the deep-bed model: hours to target, zones, fuel, pictures.
+    Dry(dry::DryArgs),
+    /// Run one load under several heater strategies side by side.
+    Compare(dry::CompareArgs),
+    /// Run one load from several start times through the weather record.
+    Starts(dry::StartsArgs),
     /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
     Airflow(airflow::AirflowArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
@@ -44,6 +51,9 @@ pub fn run(args: Args) -> anyhow::Result<()> {
         Command::Props(c) => props::run(c),
         Command::Weather(c) => weather::run(c),
         Command::Airflow(a) => airflow::run(a),
+        Command::Dry(a) => dry::run_dry(a),
+        Command::Compare(a) => dry::run_compare(a),
+        Command::Starts(a) => dry::run_starts(a),
         Command::Season(c) => season::run(c),
     }
 }

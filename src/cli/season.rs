@@ -8,6 +8,8 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 
 use anyhow::{bail, Context};
 
+use crate::airflow::geometry::Grid;
+use crate::crop::Crop;
 use crate::drying::heater::HeaterStrategy;
 use crate::outfile::write_atomic;
 use crate::report::gantt::{gantt_svg, queue_svg};
@@ -20,6 +22,9 @@ use crate::season::sim::simulate;
 use crate::season::sweep::{
     heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
 };
+use crate::season::wiring::SeasonModels;
+use crate::weather::series::{ReadOptions, WeatherSeries};
+use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
 
 /// Season commands.
 #[derive(Debug, clap::Subcommand)]
@@ -33,8 +38,52 @@ pub enum SeasonCommand {
 /// Which drier dries each load.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum DrierChoice {
+    /// The deep-bed model (crop, weather, each dryer's container and fan) on the season grid.
+    DeepBed,
     /// A rule of thumb (0.5 points per hour, propane per kg of water removed): NOT a deep-bed simulation.
     RateRule,
+}
+
+/// Models for the deep-bed drier.
+#[derive(Debug, Clone, clap::Args)]
+pub struct DeepBedOptions {
+    /// Crop model (bundled name or path).
+    #[arg(long, default_value = "peanut-inshell")]
+    pub crop: String,
+    /// Season grid per dryer, NXxNYxNZ (columns along × across × layers); coarse by default for speed.
+    #[arg(long, default_value = "4x2x10", value_parser = parse_grid)]
+    pub grid: Grid,
+}
+
+fn parse_grid(s: &str) -> Result<Grid, String> {
+    let parts: Vec<usize> = s
+        .split('x')
+        .map(|p| p.trim().parse::<usize>())
+        .collect::<Result<_, _>>()
+        .map_err(|_| format!("{s:?} must look like 4x2x10"))?;
+    match parts.as_slice() {
+        [nx, ny, nz]
+            if (1..=256).contains(nx) && (1..=256).contains(ny) && (1..=128).contains(nz) =>
+        {
+            Ok(Grid {
+                nx: *nx,
+                ny: *ny,
+                nz: *nz,
+            })
+        }
+        _ => Err(format!(
+            "{s:?} must look like 4x2x10 (each count 1–256, layers 1–128)"
+        )),
+    }
+}
+
+fn default_weather() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("weather-samples/cypress-neck-2026/season_000.csv")
+}
+
+fn default_stats() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("weather-samples/cypress-neck-stats.json")
 }
 
 /// Arguments of `dryfront season run`.
@@ -67,11 +116,43 @@ pub struct RunArgs {
     #[arg(long, default_value = "fcfs", value_parser = parse_policy)]
     pub policy: DispatchPolicy,
     /// Drier used for each load.
-    #[arg(long, value_enum, default_value_t = DrierChoice::RateRule)]
+    #[arg(long, value_enum, default_value_t = DrierChoice::DeepBed)]
     pub drier: DrierChoice,
+    /// Weather for the deep-bed drier (EPW, TMY3 or our CSV); defaults to the bundled demo season.
+    #[arg(long)]
+    pub weather: Option<PathBuf>,
+    /// Deep-bed drier models.
+    #[command(flatten)]
+    pub models: DeepBedOptions,
     /// Folder for the outputs (created if missing).
     #[arg(long)]
     pub out: PathBuf,
+}
+
+impl RunArgs {
+    /// The demo's season: 120 generated loads (seed 2026) at `scenario`, deep-bed drier, wait-limit policy.
+    pub fn demo(scenario: PathBuf, out: PathBuf) -> Self {
+        RunArgs {
+            scenario,
+            arrivals: None,
+            generate: true,
+            seed: 2026,
+            loads: 120,
+            rain_days: String::new(),
+            policy: DispatchPolicy::WaitLimit,
+            drier: DrierChoice::DeepBed,
+            weather: None,
+            models: DeepBedOptions {
+                crop: "peanut-inshell".into(),
+                grid: Grid {
+                    nx: 4,
+                    ny: 2,
+                    nz: 10,
+                },
+            },
+            out,
+        }
+    }
 }
 
 /// Arguments of `dryfront season sweep`.
@@ -104,8 +185,15 @@ pub struct SweepArgs {
     #[arg(long, default_value = "")]
     pub rain_days: String,
     /// Drier used for each load.
-    #[arg(long, value_enum, default_value_t = DrierChoice::RateRule)]
+    #[arg(long, value_enum, default_value_t = DrierChoice::DeepBed)]
     pub drier: DrierChoice,
+    /// Monthly climate statistics (JSON) from which each season's weather is generated for the deep-bed drier
+    /// (season i uses weather seed --seed + i); defaults to the bundled demo site.
+    #[arg(long)]
+    pub weather_stats: Option<PathBuf>,
+    /// Deep-bed drier models.
+    #[command(flatten)]
+    pub models: DeepBedOptions,
     /// Folder for the outputs (created if missing).
     #[arg(long)]
     pub out: PathBuf,
@@ -162,13 +250,23 @@ fn parse_heater(s: &str) -> anyhow::Result<Option<HeaterStrategy>> {
     })
 }
 
-/// The drier the CLI can offer today.
-// INTEGRATE: add `DrierChoice::DeepBed` here once crops (src/crop.rs), weather (src/weather/) and airflow
-// (src/airflow/) are merged: build a `season::drier::DeepBedDrier` from the crop material, an ambient factory over
-// the weather series and a flow factory over the container and fan named in each dryer unit.
-fn make_drier(choice: DrierChoice, bp: &BuyingPoint) -> Box<dyn LoadDrier> {
-    match choice {
-        DrierChoice::RateRule => Box::new(RateRuleDrier::new(bp.rules.target_kernel_pct)),
+fn season_models(
+    bp: &BuyingPoint,
+    opts: &DeepBedOptions,
+    weather: WeatherSeries,
+) -> anyhow::Result<SeasonModels> {
+    let crop = Crop::load_named(&opts.crop)?;
+    Ok(SeasonModels::load(bp, crop, weather, opts.grid)?)
+}
+
+fn make_drier<'a>(
+    choice: DrierChoice,
+    bp: &BuyingPoint,
+    models: Option<&'a SeasonModels>,
+) -> Box<dyn LoadDrier + 'a> {
+    match (choice, models) {
+        (DrierChoice::DeepBed, Some(m)) => Box::new(m.drier(bp.rules.target_kernel_pct)),
+        _ => Box::new(RateRuleDrier::new(bp.rules.target_kernel_pct)),
     }
 }
 
@@ -176,6 +274,9 @@ fn drier_note(choice: DrierChoice) -> &'static str {
     match choice {
         DrierChoice::RateRule => {
             "drier: rate-rule (a rule of thumb: 0.5 points/h, propane per kg water; not a deep-bed simulation)"
+        }
+        DrierChoice::DeepBed => {
+            "drier: deep-bed model on the season grid (airflow solved once per container, fan and fill depth)"
         }
     }
 }
@@ -247,7 +348,15 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
             )
         }
     };
-    let drier = make_drier(a.drier, &bp);
+    let models = match a.drier {
+        DrierChoice::DeepBed => {
+            let path = a.weather.clone().unwrap_or_else(default_weather);
+            let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
+            Some(season_models(&bp, &a.models, weather)?)
+        }
+        DrierChoice::RateRule => None,
+    };
+    let drier = make_drier(a.drier, &bp, models.as_ref());
     let run = simulate(
         &bp,
         &loads,
@@ -337,10 +446,28 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     let params = default_params(&bp, a.loads, &a.rain_days)?;
     let choice = a.drier;
     let end = bp.season.end();
-    let inputs = |s: usize| -> Result<SeasonInputs<'static>, crate::season::SeasonError> {
+    let models: Vec<SeasonModels> = match choice {
+        DrierChoice::DeepBed => {
+            let path = a.weather_stats.clone().unwrap_or_else(default_stats);
+            let stats = ClimateStats::from_json(&path, &crate::models::read_text(&path)?)?;
+            // Each season gets its own generated weather, a week longer than the season so late loads finish.
+            let plan = SeasonPlan {
+                start: bp.season.start.date_naive(),
+                days: bp.season.days + 7,
+                seed: a.seed,
+            };
+            let seasons = generate_seasons(&stats, &plan, a.seasons as u64)?;
+            seasons
+                .into_iter()
+                .map(|w| season_models(&bp, &a.models, w))
+                .collect::<anyhow::Result<_>>()?
+        }
+        DrierChoice::RateRule => Vec::new(),
+    };
+    let inputs = |s: usize| -> Result<SeasonInputs<'_>, crate::season::SeasonError> {
         Ok(SeasonInputs {
             loads: generate(&params, season_seed(a.seed, s))?,
-            drier: make_drier(choice, &bp),
+            drier: make_drier(choice, &bp, models.get(s)),
             season_end: end,
         })
     };

@@ -1,4 +1,5 @@
 //! Reports: tables, SVG charts and heat maps.
 
 pub mod gantt;
+pub mod load;
 pub mod svg;

@@ -113,6 +113,9 @@ pub struct HeatMap<'a> {
     pub unit: String,
     /// Fixed colour range; `None` = data min to max.
     pub range: Option<(f64, f64)>,
+    /// Optional cell marks, same shape as `values`: −1 draws "D" (over-dried), +1 draws "W" (still wet), with a
+    /// legend under the colour bar naming what they mean.
+    pub marks: Option<(ArrayView2<'a, i8>, String)>,
 }
 
 /// Render a heat map as an SVG document.
@@ -135,11 +138,11 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
         hi += pad;
     }
     let plot_w = 640.0;
-    let plot_h = (plot_w * m.y_extent_m / m.x_extent_m).clamp(120.0, 640.0);
+    let plot_h = (plot_w * m.y_extent_m / m.x_extent_m).clamp(200.0, 640.0);
     let (left, top) = (70.0, 50.0);
     let bar_x = left + plot_w + 30.0;
-    let total_w = bar_x + 120.0;
-    let total_h = top + plot_h + 60.0;
+    let total_w = bar_x + 190.0;
+    let total_h = top + plot_h + if m.marks.is_some() { 80.0 } else { 60.0 };
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -170,6 +173,28 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
         );
     }
     let _ = writeln!(s, "</g>");
+    if let Some((marks, legend)) = &m.marks {
+        let size = (0.8 * cw.min(ch)).clamp(7.0, 14.0);
+        for ((i, j), &mk) in marks.indexed_iter() {
+            let label = match mk {
+                -1 => "D",
+                1 => "W",
+                _ => continue,
+            };
+            let x = left + (i as f64 + 0.5) * cw;
+            let y = top + plot_h - (j as f64 + 0.5) * ch + 0.35 * size;
+            let _ = writeln!(
+                s,
+                r#"<text x="{x:.2}" y="{y:.2}" font-size="{size:.1}" text-anchor="middle" fill="black" stroke="white" stroke-width="0.6" paint-order="stroke">{label}</text>"#
+            );
+        }
+        let _ = writeln!(
+            s,
+            r#"<text x="{left}" y="{:.2}" font-size="11">{}</text>"#,
+            top + plot_h + 64.0,
+            esc(legend)
+        );
+    }
     let _ = writeln!(
         s,
         r#"<rect x="{left}" y="{top}" width="{plot_w}" height="{plot_h:.2}" fill="none" stroke="black"/>"#
@@ -365,6 +390,12 @@ pub fn line_chart(c: &LineChart) -> String {
     );
     for (n, ser) in c.series.iter().enumerate() {
         let colour = SERIES[n % SERIES.len()];
+        // After the colours run out the lines repeat them dashed, so every series stays distinguishable.
+        let dash = match (n / SERIES.len()) % 3 {
+            0 => "",
+            1 => r#" stroke-dasharray="7 4""#,
+            _ => r#" stroke-dasharray="2 3""#,
+        };
         let mut d = String::new();
         let mut pen_down = false;
         for &(x, y) in &ser.points {
@@ -383,13 +414,13 @@ pub fn line_chart(c: &LineChart) -> String {
         }
         let _ = writeln!(
             s,
-            r#"<path d="{}" fill="none" stroke="{colour}" stroke-width="2"/>"#,
+            r#"<path d="{}" fill="none" stroke="{colour}" stroke-width="2"{dash}/>"#,
             d.trim_end()
         );
         let ly = top + 10.0 + 18.0 * n as f64;
         let _ = writeln!(
             s,
-            r#"<line x1="{legend_x}" y1="{ly}" x2="{:.0}" y2="{ly}" stroke="{colour}" stroke-width="2"/><text x="{:.0}" y="{:.0}">{}</text>"#,
+            r#"<line x1="{legend_x}" y1="{ly}" x2="{:.0}" y2="{ly}" stroke="{colour}" stroke-width="2"{dash}/><text x="{:.0}" y="{:.0}">{}</text>"#,
             legend_x + 24.0,
             legend_x + 30.0,
             ly + 4.0,
@@ -444,6 +475,7 @@ mod tests {
             quantity: "velocity".into(),
             unit: "m/s".into(),
             range: None,
+            marks: None,
         });
         assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
         assert_eq!(svg.matches("<title>").count(), 12);

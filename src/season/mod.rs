@@ -15,6 +15,7 @@ pub mod kpi;
 pub mod scenario;
 pub mod sim;
 pub mod sweep;
+pub mod wiring;
 
 use crate::error::InputError;
 

@@ -1,0 +1,68 @@
+//! The airflow solver as the batch run's flow provider: solved for the plenum air's density and, through the D272
+//! high-moisture factor, for the bed's moisture, and re-solved only when the run says these changed enough.
+//! Fan power is air power (flow × fan static pressure) over the fan's total efficiency; the motor sits in the air
+//! stream of a vaneaxial fan, so all of its electrical input ends as heat in the drying air (common practice, no
+//! source).
+
+use crate::airflow::bed::BedLaw;
+use crate::airflow::fan::FlowSpec;
+use crate::airflow::geometry::Container;
+use crate::airflow::solve::{solve, AirflowSolution, SolverSettings};
+use crate::drying::run::{FlowField, FlowProvider};
+use crate::props::psychro::AirState;
+use crate::props::resistance::d272_moisture_factor;
+
+/// Efficiencies of the fan and its motor.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FanEfficiency {
+    /// Air power over shaft power (vaneaxial ≈ 0.5–0.75, DOMAIN.md §8.1, common practice).
+    pub fan: f64,
+    /// Shaft power over electrical input (≈ 0.85–0.9 for small motors, from memory, unverified).
+    pub motor: f64,
+}
+
+/// Airflow from the porous-media solver.
+pub struct SolvedFlow<'a> {
+    /// The loaded container.
+    pub container: &'a Container,
+    /// Fan curve or fixed flow.
+    pub flow: FlowSpec,
+    /// The bed's loose-fill law with packing.
+    pub law: BedLaw,
+    /// Grid and solver settings.
+    pub settings: SolverSettings,
+    /// Fan and motor efficiency.
+    pub efficiency: FanEfficiency,
+    /// Equilibrium RH of the bed at a mean pod moisture (dry basis), for the D272 high-moisture factor.
+    pub bed_erh: Box<dyn Fn(f64) -> f64 + Send + Sync + 'a>,
+    /// The last solution, for reports.
+    pub last: Option<AirflowSolution>,
+}
+
+impl FlowProvider for SolvedFlow<'_> {
+    fn flow(&mut self, air: &AirState, mean_pod_db: f64) -> Result<FlowField, String> {
+        let mut law = self.law;
+        // ASAE D272.3 note (DOMAIN.md §1.2): clean loose fill in equilibrium with RH > 85 % resists 0.80 ×.
+        law.packing_factor *= d272_moisture_factor((self.bed_erh)(mean_pod_db));
+        let sol = solve(self.container, &self.flow, &law, air, &self.settings)
+            .map_err(|e| e.to_string())?;
+        let field = field_from_solution(&sol, air, self.efficiency);
+        self.last = Some(sol);
+        Ok(field)
+    }
+}
+
+/// The run's view of an airflow solution: per-column superficial velocity at the inlet air state, fan power.
+pub fn field_from_solution(sol: &AirflowSolution, air: &AirState, eff: FanEfficiency) -> FlowField {
+    let v = air.specific_volume_m3_per_kg();
+    let op = sol.operating_point;
+    let air_power_w = op.flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
+    let electric = air_power_w / (eff.fan * eff.motor);
+    FlowField {
+        velocity_m_per_s: sol.mass_flux_kg_per_m2_s.mapv(|g| g * v),
+        fan_power_w: electric,
+        electric_power_w: electric,
+        leakage_m3_per_s: sol.summary.leakage_m3_per_s,
+        plenum_pa: sol.summary.mean_plenum_pressure_pa,
+    }
+}

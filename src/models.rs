@@ -1,0 +1,88 @@
+//! Where the bundled model files live (`models/crops`, `models/containers`, `models/fans`, `models/scenarios`,
+//! `models/buying-points`) and how a name or a path is resolved to one of them.
+
+use std::path::{Path, PathBuf};
+
+use crate::error::InputError;
+
+/// Directories searched for bundled files of `kind` (e.g. `"crops"`), in order: `$DRYFRONT_MODELS_DIR/<kind>`,
+/// `models/<kind>` beside the executable and up to three levels above it (covers `target/<profile>/`), and the
+/// source tree's `models/<kind>` (compile-time `CARGO_MANIFEST_DIR`).
+pub fn search_dirs(kind: &str) -> Vec<PathBuf> {
+    let mut dirs = Vec::new();
+    if let Some(d) = std::env::var_os("DRYFRONT_MODELS_DIR") {
+        dirs.push(PathBuf::from(d).join(kind));
+    }
+    if let Ok(exe) = std::env::current_exe() {
+        let mut dir = exe.parent().map(Path::to_path_buf);
+        for _ in 0..4 {
+            match dir {
+                Some(d) => {
+                    dirs.push(d.join("models").join(kind));
+                    dir = d.parent().map(Path::to_path_buf);
+                }
+                None => break,
+            }
+        }
+    }
+    dirs.push(
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("models")
+            .join(kind),
+    );
+    dirs
+}
+
+/// Resolve `name` (a bundled model's name, or a path to a `.json` file) to a file of `kind`. `what` names the
+/// option or field for the error message.
+pub fn resolve(kind: &str, name: &str, what: &str) -> Result<PathBuf, InputError> {
+    let as_path = Path::new(name);
+    if name.ends_with(".json") || as_path.components().count() > 1 {
+        return Ok(as_path.to_path_buf());
+    }
+    for dir in search_dirs(kind) {
+        let p = dir.join(format!("{name}.json"));
+        if p.is_file() {
+            return Ok(p);
+        }
+    }
+    let known = bundled_names(kind);
+    Err(InputError::argument(
+        what,
+        name,
+        &format!(
+            "is not a bundled {kind} entry (known: {}) nor a path to a .json file",
+            known.join(", ")
+        ),
+    ))
+}
+
+/// Names of the bundled files of `kind`.
+pub fn bundled_names(kind: &str) -> Vec<String> {
+    for dir in search_dirs(kind) {
+        if let Ok(entries) = std::fs::read_dir(&dir) {
+            let mut names: Vec<String> = entries
+                .filter_map(|e| e.ok())
+                .filter_map(|e| {
+                    e.file_name()
+                        .to_str()
+                        .and_then(|n| n.strip_suffix(".json"))
+                        .map(str::to_string)
+                })
+                .collect();
+            if !names.is_empty() {
+                names.sort();
+                return names;
+            }
+        }
+    }
+    Vec::new()
+}
+
+/// Read a whole text file, naming it on failure.
+pub fn read_text(path: &Path) -> Result<String, InputError> {
+    std::fs::read_to_string(path).map_err(|source| InputError::Io {
+        path: path.to_path_buf(),
+        source,
+    })
+}

@@ -1,0 +1,386 @@
+//! Reports of one load's run: the short human summary, the JSON outcome, the CSV time series and the pictures
+//! (drying curves, final-moisture maps with over- and under-dried zones, the airflow map), and the side-by-side
+//! table of a comparison.
+
+use std::fmt::Write as _;
+
+use ndarray::Array2;
+
+use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
+use crate::drying::run::{Outcome, RunSettings, StopReason};
+use crate::scenario::{Cost, LoadResult, LoadSetup};
+use crate::units::UnitSystem;
+
+/// The cautions printed with every drying report.
+pub const CAUTIONS: &str = "Cautions: a simulation is no substitute for a calibrated moisture meter — sample the load before \
+grading. Propane burners and hot plenums can start fires and direct-fired burners put carbon monoxide into the air: \
+follow NFPA 58 and local codes, the dryer and burner manuals and licensed practice, keep the plenum clear of hulls and \
+trash, never run a dryer unattended against its manual. Over-heated peanuts split and lose flavour; wet peanuts held \
+warm risk mold and aflatoxin.";
+
+fn hours_text(h: Option<f64>) -> String {
+    h.map(|h| format!("{h:.1} h"))
+        .unwrap_or_else(|| "not reached".into())
+}
+
+/// A short human summary with units on every number.
+pub fn summary_text(setup: &LoadSetup, label: &str, r: &LoadResult, units: UnitSystem) -> String {
+    let o = &r.outcome;
+    let a = &r.airflow.summary;
+    let cur = &setup.file.prices.currency;
+    let mut s = String::new();
+    let _ = writeln!(s, "{} — {label}", setup.file.name);
+    let _ = writeln!(
+        s,
+        "  load: {} wet at {:.1} % kernel w.b., {} on {} from {}",
+        units.mass(o.initial_mass_kg),
+        o.initial_kernel_pct,
+        setup.crop.name,
+        setup.container.name,
+        setup.start.format("%Y-%m-%d %H:%M %:z")
+    );
+    let _ = writeln!(
+        s,
+        "  airflow: {} through the bed ({:.1} m³/min per m³ of peanuts), plenum {} mean, column flow CV {:.1} %, lowest/mean {:.2}",
+        units.flow(a.bed_flow_m3_per_s),
+        a.specific_airflow_m3_per_min_per_m3,
+        units.pressure(a.mean_plenum_pressure_pa),
+        a.column_flow_cv * 100.0,
+        a.min_over_mean
+    );
+    let reason = match o.stop_reason {
+        StopReason::TargetReached => "target reached",
+        StopReason::MaxHours => "time limit reached first",
+        StopReason::WeatherEnded => "weather record ended first",
+    };
+    let _ = writeln!(
+        s,
+        "  hours to {:.1} % mean kernel moisture: {}; {:.0} % of the load at or below it: {} (run stopped: {reason})",
+        setup.settings.target_kernel_wb * 100.0,
+        hours_text(o.hours_to_mean_target),
+        o.fraction_rule * 100.0,
+        hours_text(o.hours_to_fraction_target)
+    );
+    let _ = writeln!(
+        s,
+        "  final: kernel {:.2} % w.b. (pod {:.2} %), {} of water removed, {} sold weight",
+        o.final_kernel_pct,
+        o.final_pod_pct,
+        units.mass(o.water_removed_kg),
+        units.mass(o.final_mass_kg)
+    );
+    let _ = writeln!(
+        s,
+        "  zones: {:.1} % of the load over-dried (< {:.1} %), {:.1} % still wet (> {:.1} %); shrink {} worth {cur} {:.0}",
+        o.over_dried_fraction * 100.0,
+        setup.settings.over_dry_kernel_wb * 100.0,
+        o.under_dried_fraction * 100.0,
+        (setup.settings.target_kernel_wb + setup.settings.under_dry_tolerance_wb) * 100.0,
+        units.mass(o.shrink_kg),
+        r.cost.shrink
+    );
+    let fuel_text = if o.fuel_unit == "L" {
+        units.volume_l(o.fuel_used)
+    } else {
+        format!("{:.1} {}", o.fuel_used, o.fuel_unit)
+    };
+    let _ = writeln!(
+        s,
+        "  energy: {} {} ({:.1} {}/t), fan {:.1} kWh, {:.0} kJ per kg water; cost {cur} {:.0} fuel + {cur} {:.0} electricity",
+        fuel_text,
+        r.heater.fuel.name,
+        o.fuel_per_tonne,
+        o.fuel_unit,
+        o.fan_kwh,
+        o.energy_kj_per_kg_water,
+        r.cost.fuel,
+        r.cost.electricity
+    );
+    let _ = writeln!(
+        s,
+        "  peaks: drying rate {:.2} %-points/h ({:.1} h above {:.1} %-points/h), peanuts up to {}",
+        o.max_rate_pct_per_h,
+        o.hours_above_safe_rate,
+        setup.settings.safe_rate_pct_per_h,
+        units.temp(o.max_peanut_c)
+    );
+    s
+}
+
+/// The outcome as JSON (the time series goes to CSV).
+pub fn outcome_json(setup: &LoadSetup, label: &str, r: &LoadResult) -> String {
+    #[derive(serde::Serialize)]
+    struct Doc<'a> {
+        scenario: &'a str,
+        strategy: String,
+        start: String,
+        outcome: &'a Outcome,
+        cost: &'a Cost,
+        currency: &'a str,
+        airflow: &'a crate::airflow::solve::AirflowSummary,
+        cautions: &'a str,
+    }
+    let doc = Doc {
+        scenario: &setup.file.name,
+        strategy: label.to_string(),
+        start: setup.start.to_rfc3339(),
+        outcome: &r.outcome,
+        cost: &r.cost,
+        currency: &setup.file.prices.currency,
+        airflow: &r.airflow.summary,
+        cautions: CAUTIONS,
+    };
+    let mut text = serde_json::to_string_pretty(&doc).expect("outcome serialises");
+    text.push('\n');
+    text
+}
+
+/// The time series as CSV, units in the header.
+pub fn series_csv(o: &Outcome) -> String {
+    let mut s = String::from(
+        "hours,mean_kernel_pct_wb,mean_pod_pct_wb,mean_hull_pct_wb,top_kernel_pct_wb,bottom_kernel_pct_wb,top_hull_pct_wb,\
+wettest_kernel_pct_wb,driest_kernel_pct_wb,ambient_c,ambient_rh_pct,plenum_c,plenum_rh_pct,exhaust_c,exhaust_rh_pct,\
+heat_kw,fan_kw,max_peanut_c\n",
+    );
+    for r in &o.series {
+        let v = [
+            r.hours,
+            r.mean_kernel_pct,
+            r.mean_pod_pct,
+            r.mean_hull_pct,
+            r.top_kernel_pct,
+            r.bottom_kernel_pct,
+            r.top_hull_pct,
+            r.wettest_kernel_pct,
+            r.driest_kernel_pct,
+            r.ambient_c,
+            r.ambient_rh_pct,
+            r.plenum_c,
+            r.plenum_rh_pct,
+            r.exhaust_c,
+            r.exhaust_rh_pct,
+            r.heat_kw,
+            r.fan_kw,
+            r.max_peanut_c,
+        ];
+        let row: Vec<String> = v
+            .iter()
+            .map(|x| {
+                if x.is_finite() {
+                    format!("{x:.4}")
+                } else {
+                    String::new()
+                }
+            })
+            .collect();
+        s.push_str(&row.join(","));
+        s.push('\n');
+    }
+    s
+}
+
+/// Drying curves: mean, top, bottom, wettest and driest kernel moisture, mean pod and top hull moisture.
+pub fn drying_curves_svg(title: &str, o: &Outcome, target_pct: f64) -> String {
+    let line = |name: &str, f: &dyn Fn(&crate::drying::run::SeriesRow) -> f64| Series {
+        name: name.to_string(),
+        points: o.series.iter().map(|r| (r.hours, f(r))).collect(),
+    };
+    let end = o.series.last().map(|r| r.hours).unwrap_or(1.0);
+    line_chart(&LineChart {
+        title: title.to_string(),
+        x_label: "time on air".into(),
+        x_unit: "h".into(),
+        y_label: "moisture".into(),
+        y_unit: "% w.b.".into(),
+        series: vec![
+            line("mean kernel", &|r| r.mean_kernel_pct),
+            line("top-layer kernel", &|r| r.top_kernel_pct),
+            line("bottom-layer kernel", &|r| r.bottom_kernel_pct),
+            line("wettest cell kernel", &|r| r.wettest_kernel_pct),
+            line("driest cell kernel", &|r| r.driest_kernel_pct),
+            line("mean pod", &|r| r.mean_pod_pct),
+            line("top-layer hull", &|r| r.top_hull_pct),
+            Series {
+                name: format!("target {target_pct:.1} %"),
+                points: vec![(0.0, target_pct), (end, target_pct)],
+            },
+        ],
+    })
+}
+
+/// Air temperatures through the run: ambient, plenum, exhaust.
+pub fn air_svg(title: &str, o: &Outcome) -> String {
+    let line = |name: &str, f: &dyn Fn(&crate::drying::run::SeriesRow) -> f64| Series {
+        name: name.to_string(),
+        points: o.series.iter().map(|r| (r.hours, f(r))).collect(),
+    };
+    line_chart(&LineChart {
+        title: title.to_string(),
+        x_label: "time on air".into(),
+        x_unit: "h".into(),
+        y_label: "air temperature".into(),
+        y_unit: "°C".into(),
+        series: vec![
+            line("ambient", &|r| r.ambient_c),
+            line("plenum", &|r| r.plenum_c),
+            line("exhaust (flow-weighted)", &|r| r.exhaust_c),
+            line("hottest peanuts", &|r| r.max_peanut_c),
+        ],
+    })
+}
+
+fn zone_code(over: f64, under: f64) -> i8 {
+    if over >= 0.5 {
+        -1
+    } else if under >= 0.5 {
+        1
+    } else {
+        0
+    }
+}
+
+/// Final kernel moisture seen from above (per-column mean), marking columns mostly over-dried or still wet.
+pub fn final_top_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> String {
+    let z = &r.zones;
+    let marks: Array2<i8> = ndarray::Zip::from(&z.top_over_fraction)
+        .and(&z.top_under_fraction)
+        .map_collect(|&o, &u| zone_code(o, u));
+    heat_map(&HeatMap {
+        values: z.top_kernel_pct.view(),
+        x_extent_m: setup.container.length_m,
+        y_extent_m: setup.container.width_m,
+        title: format!("{}: final kernel moisture, column means (top view)", setup.file.name),
+        x_label: "length from inlet wall".into(),
+        y_label: "width".into(),
+        quantity: "kernel moisture".into(),
+        unit: "% w.b.".into(),
+        range: None,
+        marks: Some((
+            marks.view(),
+            format!(
+                "D: over half the column below {:.1} % (over-dried); W: over half above {:.1} % (still wet)",
+                s.over_dry_kernel_wb * 100.0,
+                (s.target_kernel_wb + s.under_dry_tolerance_wb) * 100.0
+            ),
+        )),
+    })
+}
+
+/// Final kernel moisture in a side section along the length (width-averaged), layers bottom to top.
+pub fn final_side_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> String {
+    let z = &r.zones;
+    let depth = r.bed.depth_m.iter().cloned().fold(0.0, f64::max);
+    heat_map(&HeatMap {
+        values: z.side_kernel_pct.view(),
+        x_extent_m: setup.container.length_m,
+        y_extent_m: depth,
+        title: format!(
+            "{}: final kernel moisture, side section (width mean)",
+            setup.file.name
+        ),
+        x_label: "length from inlet wall".into(),
+        y_label: "height in bed".into(),
+        quantity: "kernel moisture".into(),
+        unit: "% w.b.".into(),
+        range: None,
+        marks: Some((
+            z.side_zone.view(),
+            format!(
+                "D: below {:.1} % (over-dried); W: above {:.1} % (still wet)",
+                s.over_dry_kernel_wb * 100.0,
+                (s.target_kernel_wb + s.under_dry_tolerance_wb) * 100.0
+            ),
+        )),
+    })
+}
+
+/// Air leaving the top surface, per column: where the air goes explains where the zones form.
+pub fn airflow_top_svg(setup: &LoadSetup, r: &LoadResult) -> String {
+    heat_map(&HeatMap {
+        values: r.airflow.top_velocity_m_per_s.view(),
+        x_extent_m: setup.container.length_m,
+        y_extent_m: setup.container.width_m,
+        title: format!(
+            "{}: air leaving the top surface at the start",
+            setup.file.name
+        ),
+        x_label: "length from inlet wall".into(),
+        y_label: "width".into(),
+        quantity: "superficial velocity".into(),
+        unit: "m/s".into(),
+        range: None,
+        marks: None,
+    })
+}
+
+/// One row of a comparison.
+pub struct CompareRow<'a> {
+    /// Strategy label.
+    pub label: String,
+    /// The run.
+    pub result: &'a LoadResult,
+}
+
+/// A comparison column: its heading and how to read its value from a run.
+type Column = (&'static str, Box<dyn Fn(&LoadResult) -> f64>);
+
+/// A side-by-side table; `*` marks the best value in each column (lowest, except none for labels).
+pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -> String {
+    let cols: Vec<Column> = vec![
+        (
+            "hours to target (h)",
+            Box::new(|r: &LoadResult| r.outcome.hours_to_mean_target.unwrap_or(f64::INFINITY)),
+        ),
+        (
+            "fuel per tonne",
+            Box::new(|r: &LoadResult| r.outcome.fuel_per_tonne),
+        ),
+        ("fan (kWh)", Box::new(|r: &LoadResult| r.outcome.fan_kwh)),
+        ("energy cost", Box::new(|r: &LoadResult| r.cost.energy)),
+        (
+            "over-dried (kg)",
+            Box::new(|r: &LoadResult| r.outcome.over_dried_fraction * r.outcome.initial_mass_kg),
+        ),
+        ("shrink value", Box::new(|r: &LoadResult| r.cost.shrink)),
+        (
+            "max peanut (°C)",
+            Box::new(|r: &LoadResult| r.outcome.max_peanut_c),
+        ),
+    ];
+    let mut s = String::new();
+    let _ = write!(s, "{:<22}", "strategy");
+    for (name, _) in &cols {
+        let name = match *name {
+            "fuel per tonne" => format!("fuel ({fuel_unit}/t)"),
+            "energy cost" => format!("energy ({currency})"),
+            "shrink value" => format!("shrink ({currency})"),
+            n => n.to_string(),
+        };
+        let _ = write!(s, " {name:>20}");
+    }
+    s.push('\n');
+    for row in rows {
+        let _ = write!(s, "{:<22}", row.label);
+        for (_, f) in &cols {
+            let v = f(row.result);
+            let best = rows
+                .iter()
+                .map(|r| f(r.result))
+                .fold(f64::INFINITY, f64::min);
+            let mark = if (v - best).abs() <= 1e-9 * best.abs().max(1.0) {
+                "*"
+            } else {
+                " "
+            };
+            let text = if v.is_finite() {
+                format!("{v:.1}")
+            } else {
+                "not reached".into()
+            };
+            let _ = write!(s, " {:>19}{mark}", text);
+        }
+        s.push('\n');
+    }
+    s.push_str("* = best (lowest) in its column\n");
+    s
+}
