@@ -37,7 +37,7 @@ fn run_with_generated_arrivals_writes_every_output() {
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let stdout = String::from_utf8_lossy(&o.stdout);
-    assert!(stdout.contains("not a deep-bed simulation"), "{stdout}");
+    assert!(stdout.contains("drier: deep-bed model"), "{stdout}");
     assert!(stdout.contains("80 arrived"), "{stdout}");
     for f in [
         "schedule.csv",
@@ -172,6 +172,7 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
             "--policies",
             "fcfs,wait-limit",
         ])
+        .args(["--drier", "rate-rule"])
         .args(["--seasons", "6", "--loads", "100", "--seed", "3", "--out"])
         .arg(&out)
         .output()
@@ -185,4 +186,21 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
     let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
     // 7 counts × 2 policies × 1 heater × 16 figures + header.
     assert_eq!(table.lines().count(), 7 * 2 * 16 + 1);
+}
+
+#[test]
+fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("sw");
+    let o = bin()
+        .args(["season", "sweep", "--scenario", &scenario(), "--dryers", "2..3", "--policies", "fcfs"])
+        .args(["--seasons", "2", "--loads", "25", "--seed", "9", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("drier: deep-bed model"), "{stdout}");
+    let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
+    assert!(table.lines().count() > 2, "{table}");
 }
