@@ -248,7 +248,11 @@ fn demo_writes_property_table_whole() {
         .collect();
     names.sort();
     // The whole demo: one load, a comparison, a season and the property table; no temporary files left.
-    assert_eq!(names, ["compare", "load", "properties.csv", "season"], "{names:?}");
+    assert_eq!(
+        names,
+        ["compare", "load", "properties.csv", "season"],
+        "{names:?}"
+    );
     for sub in ["load", "compare", "season"] {
         for e in std::fs::read_dir(out_dir.join(sub)).unwrap() {
             let name = e.unwrap().file_name().to_string_lossy().into_owned();

@@ -193,7 +193,16 @@ fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("sw");
     let o = bin()
-        .args(["season", "sweep", "--scenario", &scenario(), "--dryers", "2..3", "--policies", "fcfs"])
+        .args([
+            "season",
+            "sweep",
+            "--scenario",
+            &scenario(),
+            "--dryers",
+            "2..3",
+            "--policies",
+            "fcfs",
+        ])
         .args(["--seasons", "2", "--loads", "25", "--seed", "9", "--out"])
         .arg(&out)
         .output()

@@ -334,7 +334,7 @@ impl<M: LayerMaterial + ?Sized> LoadDrier for DeepBedDrier<'_, M> {
             Err(e) => return Err(fail(e.to_string())),
         };
         Ok(DryingResult {
-            hours: out.hours,
+            hours: out.hours_to_mean_target.unwrap_or(out.hours),
             fuel_l: out.fuel_used,
             kwh: out.fan_kwh,
             moisture_out_pct: out.final_kernel_pct,
