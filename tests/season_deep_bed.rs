@@ -81,9 +81,11 @@ fn bed_holds_the_load_and_wetter_loads_dry_longer() {
         a.hours
     );
     assert!(a.fuel_l > 0.0 && a.kwh > 0.0);
-    // Fan energy is the electric power times the hours on air: 3.0 kW × h.
+    // Fan energy is the electric power times the hours on air: 3.0 kW × h, to within the last step (hours to
+    // target are interpolated inside it; the fan runs to its end).
+    let dt_h = d.settings.dt_s / 3600.0;
     assert!(
-        (a.kwh - 3.0 * a.hours).abs() < 1e-6 * a.kwh,
+        (a.kwh - 3.0 * a.hours).abs() <= 3.0 * dt_h + 1e-9,
         "{} kWh over {} h",
         a.kwh,
         a.hours
