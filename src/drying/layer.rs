@@ -192,16 +192,41 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
                 let (w, t) = out_state(s * d_m_full);
                 rh_from_humidity_ratio(t, w, p_pa) - material.surface_erh(partial(s), t)
             };
-            if excess(1.0) > 0.0 {
+            let e_hi = excess(1.0);
+            if e_hi > 0.0 {
+                // Illinois (modified regula falsi) on s: the excess rises with s, is ≤ 0 at s = 0 unless the air is
+                // already wetter than the hulls (then no drying at all). Converges in a handful of evaluations
+                // where bisection needed thirty; the bracket stays valid, so the result never overshoots.
                 let (mut lo, mut hi) = (0.0, 1.0);
-                for _ in 0..30 {
-                    let mid = 0.5 * (lo + hi);
-                    if excess(mid) > 0.0 {
-                        hi = mid;
-                    } else {
-                        lo = mid;
+                let (mut f_lo, mut f_hi) = (excess(0.0), e_hi);
+                if f_lo >= 0.0 {
+                    hi = 0.0;
+                } else {
+                    let mut side = 0i8;
+                    for _ in 0..40 {
+                        let mid = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
+                        let f_mid = excess(mid);
+                        if f_mid > 0.0 {
+                            hi = mid;
+                            f_hi = f_mid;
+                            if side == -1 {
+                                f_lo *= 0.5;
+                            }
+                            side = -1;
+                        } else {
+                            lo = mid;
+                            f_lo = f_mid;
+                            if side == 1 {
+                                f_hi *= 0.5;
+                            }
+                            side = 1;
+                        }
+                        if hi - lo < 1e-9 || f_mid.abs() < 1e-12 {
+                            break;
+                        }
                     }
                 }
+                let lo = lo.min(hi);
                 m_next = partial(lo);
                 d_m = lo * d_m_full;
                 (w_out, t_out) = out_state(d_m);

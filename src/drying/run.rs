@@ -379,9 +379,17 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         let mean_kernel = bed.mean_kernel_wb(material);
         let target = settings.target_kernel_wb;
         // Crossing times are interpolated within the step, so they do not jump by whole steps.
-        let quantile = bed.kernel_wb_quantile(fraction);
+        // The fraction rule needs a sort of every cell; it can only hold once the mean is at most
+        // fraction·target + (1 − fraction)·60 % (the rest no wetter than 60 % w.b.; wet-basis means are near enough
+        // mass-weighted for this bound), so it is evaluated only from there on.
+        let quantile =
+            if hours_frac.is_none() && mean_kernel <= fraction * target + (1.0 - fraction) * 0.6 {
+                bed.kernel_wb_quantile(fraction)
+            } else {
+                f64::INFINITY
+            };
         let crossing = |prev: f64, now: f64| {
-            let f = if prev > now {
+            let f = if prev.is_finite() && prev > now {
                 ((prev - target) / (prev - now)).clamp(0.0, 1.0)
             } else {
                 1.0

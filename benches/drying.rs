@@ -1,0 +1,99 @@
+//! Deep-bed drying speed: cell-steps per second of the layer step on a realistic load (64 × 24 columns × 32 layers,
+//! ≈ 50 000 cells) on 1 and 2 threads, and one full 48-hour load of the demo scenario at its default resolution
+//! (airflow solver included). Targets: ≥ 10 million cell-steps per second; a 48-hour load under 1 s.
+//! Run: `cargo bench --bench drying -- --warm-up-time 1 --measurement-time 5`.
+use criterion::{criterion_group, criterion_main, Criterion, Throughput};
+use ndarray::Array2;
+
+use dryfront::crop::Crop;
+use dryfront::drying::bed::{BedState, InitialMoisture};
+use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
+use dryfront::drying::material::CropMaterial;
+use dryfront::drying::run::{run_batch, ConstantAmbient, FixedFlow, FlowField, RunSettings};
+use dryfront::props::psychro::AirState;
+use dryfront::scenario::{run_load, LoadSetup};
+
+const STEPS: usize = 10;
+
+fn layer_step(c: &mut Criterion) {
+    let crop = Crop::load_named("peanut-inshell").unwrap();
+    let material = CropMaterial::new(&crop);
+    let (nx, ny, nz) = (64, 24, 32);
+    let fresh = BedState::new(
+        &material,
+        Array2::from_elem((nx, ny), 1.25),
+        0.1 * 0.1,
+        nz,
+        270.0,
+        &InitialMoisture::Uniform(0.21),
+        25.0,
+    )
+    .unwrap();
+    let field = FlowField {
+        velocity_m_per_s: Array2::from_elem((nx, ny), 0.21),
+        fan_power_w: 3000.0,
+        electric_power_w: 3000.0,
+        leakage_m3_per_s: 0.0,
+        plenum_pa: 120.0,
+    };
+    let heater = Heater {
+        strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
+        window_h: None,
+        capacity_w: None,
+        max_plenum_c: 35.0,
+        fuel: Fuel::propane(),
+    };
+    let settings = RunSettings {
+        max_hours: STEPS as f64 * 0.1,
+        ..RunSettings::default()
+    };
+    let ambient = ConstantAmbient(AirState::from_rh(25.0, 0.7, 101_325.0));
+    let mut g = c.benchmark_group("layer_step");
+    g.sample_size(10);
+    g.throughput(Throughput::Elements((nx * ny * nz * STEPS) as u64));
+    for threads in [1, 2] {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap();
+        g.bench_function(
+            format!("{nx}x{ny}x{nz} cells, {STEPS} steps, {threads} thread(s)"),
+            |b| {
+                b.iter(|| {
+                    pool.install(|| {
+                        let mut bed = fresh.clone();
+                        run_batch(
+                            &material,
+                            &mut bed,
+                            &ambient,
+                            &mut FixedFlow(field.clone()),
+                            &heater,
+                            &settings,
+                            &mut (),
+                        )
+                        .unwrap()
+                    })
+                })
+            },
+        );
+    }
+    g.finish();
+}
+
+fn full_load(c: &mut Criterion) {
+    let setup = LoadSetup::read("demo-load").unwrap();
+    let mut g = c.benchmark_group("full_load");
+    g.sample_size(10);
+    let mut setup48 = LoadSetup::read("demo-load").unwrap();
+    setup48.settings.max_hours = 48.0;
+    setup48.settings.target_kernel_wb = 0.05; // never reached: always the full 48 h
+    let heater = setup.heater(None);
+    g.bench_function(
+        "demo load, 48 h, 16x6x20 grid, airflow re-solves included",
+        |b| b.iter(|| run_load(&setup48, heater, 0.0, &mut ()).unwrap()),
+    );
+    g.finish();
+}
+
+criterion_group!(benches, layer_step, full_load);
+criterion_main!(benches);
