@@ -130,7 +130,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
     let mut v = base_json();
     v["floor"]["open_area_fraction"] = 0.0.into();
     std::fs::write(dir.path().join("bad.json"), v.to_string()).unwrap();
-    let crop = common::root().join("tests/fixtures/peanut-resistance.json");
+    let crop = common::root().join("models/crops/peanut-inshell.json");
     let (code, err) = dryfront(
         &[
             "airflow",
@@ -184,7 +184,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
 #[test]
 fn binary_writes_all_outputs_for_a_good_run() {
     let dir = tempfile::tempdir().unwrap();
-    let crop = common::root().join("tests/fixtures/peanut-resistance.json");
+    let crop = common::root().join("models/crops/peanut-inshell.json");
     let (code, err) = dryfront(
         &[
             "airflow",

@@ -4,6 +4,8 @@
 //! Loading happens here, at the edge: container, fan and crop files are read, checked and converted before the
 //! library is called. Names resolve to `<models>/containers/NAME.json`, `<models>/fans/NAME.json` and
 //! `<models>/crops/NAME.json`; anything with a `/` or ending in `.json` is taken as a path.
+use crate::crop::Crop;
+use crate::scenario::bed_law;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
@@ -11,12 +13,11 @@ use anyhow::Context;
 
 use crate::airflow::{
     solve, AirflowSolution, BedLaw, Container, FanCurve, Fill, FlowSpec, Grid, PlenumModel,
-    ResistanceLaw, SolverSettings,
+    SolverSettings,
 };
 use crate::error::{check_range, InputError};
 use crate::outfile::write_atomic;
 use crate::props::psychro::{pressure_at_elevation_pa, AirState};
-use crate::props::resistance::Shedd;
 use crate::report::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
 use crate::units::UnitSystem;
 
@@ -132,51 +133,6 @@ fn read(path: &Path) -> Result<String, InputError> {
     })
 }
 
-/// Read the bed law from a crop file's `resistance` section.
-// INTEGRATE: use crop::Crop once the crop loader lands; this reads only the four resistance constants.
-pub fn read_bed_law(path: &Path) -> Result<BedLaw, InputError> {
-    let text = read(path)?;
-    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| InputError::Parse {
-        path: path.to_path_buf(),
-        line: Some(e.line() as u64),
-        message: e.to_string(),
-    })?;
-    let get = |key: &str, lo: f64, hi: f64| -> Result<f64, InputError> {
-        let field = format!("resistance.{key}.value");
-        let x = v
-            .get("resistance")
-            .and_then(|r| r.get(key))
-            .and_then(|k| k.get("value"))
-            .ok_or_else(|| InputError::Model {
-                path: path.to_path_buf(),
-                field: field.clone(),
-                message: "missing".into(),
-            })?;
-        let x = x.as_f64().ok_or_else(|| InputError::Model {
-            path: path.to_path_buf(),
-            field: field.clone(),
-            message: format!("{x} is not a number"),
-        })?;
-        if x.is_finite() && x >= lo && x <= hi {
-            Ok(x)
-        } else {
-            Err(InputError::Model {
-                path: path.to_path_buf(),
-                field,
-                message: format!("{x} must be between {lo} and {hi}"),
-            })
-        }
-    };
-    Ok(BedLaw {
-        law: ResistanceLaw::Shedd(Shedd {
-            a: get("shedd_a", 1e-3, 1e9)?,
-            b: get("shedd_b", 1e-3, 1e6)?,
-        }),
-        packing_factor: get("packing_factor", 0.1, 10.0)?,
-        horizontal_ratio: get("horizontal_ratio", 0.01, 100.0)?,
-    })
-}
-
 fn mean_depth(c: &Container) -> f64 {
     match &c.fill {
         Fill::Level { depth_m } => *depth_m,
@@ -201,10 +157,13 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     let models = models_dir(&args.models);
     let container_path = resolve(&models, "containers", &args.container);
     let mut container = Container::from_json_str(&read(&container_path)?, &container_path)?;
-    let crop_path = resolve(&models, "crops", &args.crop);
-    let mut law = read_bed_law(&crop_path).context(
-        "reading the crop's resistance constants (a stand-in is at tests/fixtures/peanut-resistance.json; pass it with --crop)",
-    )?;
+    let crop_path = if args.models.is_some() {
+        resolve(&models, "crops", &args.crop)
+    } else {
+        Crop::builtin_path(&args.crop)?
+    };
+    let crop = Crop::load(&crop_path)?;
+    let mut law = bed_law(&crop);
     if let Some(p) = args.packing {
         law.packing_factor = check_range("--packing", p, 0.1, 10.0, "")?;
     }

@@ -70,6 +70,9 @@ pub struct SummaryArgs {
     /// RH thresholds (%) for the "hours below" counts.
     #[arg(long = "rh-below", value_delimiter = ',', default_values_t = [50.0, 60.0, 70.0])]
     pub rh_below: Vec<f64>,
+    /// Crop whose kernel equilibrium moisture measures the air's drying potential (bundled name or path).
+    #[arg(long, default_value = "peanut-inshell")]
+    pub crop: String,
     /// Write the cleaned hourly series (our CSV schema, filled hours flagged) here.
     #[arg(long)]
     pub out: Option<PathBuf>,
@@ -114,17 +117,6 @@ pub fn run(cmd: WeatherCommand) -> anyhow::Result<()> {
         WeatherCommand::Summary(a) => run_summary(a),
         WeatherCommand::Synth(a) => run_synth(a),
     }
-}
-
-/// Temporary in-shell peanut drying-potential isotherm: kernel EMC (decimal d.b.) from the Cromarty, Ellis &
-/// Roberts (1982) seed equation, 1 − RH = exp{−[M%·(1.1 + T/90)/(1 − D_o)]²/440}, solved for M with D_o = 0.48
-/// (DOMAIN.md §2.3; oil content from memory, unverified).
-// INTEGRATE: replace with crop::Crop kernel isotherm
-pub fn temporary_kernel_emc_db(t_c: f64, rh: f64) -> f64 {
-    const OIL_DB: f64 = 0.48;
-    let rh = rh.clamp(1e-6, 0.999_999);
-    let m_pct = (440.0 * -(1.0 - rh).ln()).sqrt() * (1.0 - OIL_DB) / (1.1 + t_c / 90.0);
-    m_pct / 100.0
 }
 
 fn read_options(r: &ReadArgs, default_year: Option<i32>) -> anyhow::Result<ReadOptions> {
@@ -192,7 +184,10 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     } else {
         full
     };
-    let emc = temporary_kernel_emc_db;
+    // Drying potential: the kernel isotherm of the chosen crop (the trade grades on kernel moisture).
+    let crop = crate::crop::Crop::load_named(&a.crop)?;
+    let iso = crop.moisture.kernel().sorption.desorption;
+    let emc = move |t_c: f64, rh: f64| iso.emc_db(t_c, rh);
     let s = summarize(&series, &a.rh_below, Some(&emc));
     let fc = series.fill_counts();
     println!("file: {}", a.file.display());
@@ -335,31 +330,4 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
     }
     println!("wrote {}", a.out.join("stats.json").display());
     Ok(())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use approx::assert_relative_eq;
-
-    #[test]
-    fn temporary_isotherm_matches_domain_check_values() {
-        // Source: DOMAIN.md §2.3 table (Cromarty 1982 form, D_o = 0.48, computed there): 25 °C/60 % → 7.58 % d.b.,
-        // 35 °C/40 % → 5.24 % d.b.; tolerance 0.01 point (the table's rounding).
-        assert_relative_eq!(
-            100.0 * temporary_kernel_emc_db(25.0, 0.60),
-            7.58,
-            epsilon = 0.01
-        );
-        assert_relative_eq!(
-            100.0 * temporary_kernel_emc_db(35.0, 0.40),
-            5.24,
-            epsilon = 0.01
-        );
-        assert_relative_eq!(
-            100.0 * temporary_kernel_emc_db(15.0, 0.80),
-            10.92,
-            epsilon = 0.01
-        );
-    }
 }
