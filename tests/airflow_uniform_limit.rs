@@ -4,8 +4,8 @@
 mod common;
 
 use approx::assert_relative_eq;
-use dryfront::airflow::bed::floor_pressure_drop_pa;
 use dryfront::airflow::{solve, FlowSpec, Grid, PlenumModel, SolverSettings};
+use dryfront::props::resistance::floor_pressure_drop_pa;
 use dryfront::props::resistance::Shedd;
 
 #[test]

@@ -30,8 +30,9 @@ use rayon::prelude::*;
 
 use crate::props::resistance::Shedd;
 
-/// The resistance law of the crop.
-// INTEGRATE: replace with props::resistance::BedResistance when it lands.
+/// The resistance law of the crop as the solver uses it: Shedd's relation for real beds, and a linear (Darcy) law
+/// kept for verification against exact solutions (`props::resistance::BedResistance` has Ergun instead of Darcy;
+/// an Ergun bed can be added here as a third arm when a crop file asks for it).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub enum ResistanceLaw {
     /// Shedd's relation.
@@ -87,14 +88,6 @@ impl BedLaw {
             ResistanceLaw::Darcy { .. } => 0.0,
         }
     }
-}
-
-/// Floor orifice law Δp = ρ/2·(q/(C_d·φ))², Pa, for superficial speed q through the floor.
-// INTEGRATE: use props::resistance::floor_pressure_drop_pa(q, open_area, cd, rho) when it lands.
-#[inline]
-pub fn floor_pressure_drop_pa(q_m_per_s: f64, open_area: f64, cd: f64, rho_kg_per_m3: f64) -> f64 {
-    let v = q_m_per_s / (cd * open_area);
-    0.5 * rho_kg_per_m3 * v * v
 }
 
 /// Statistics of one linear solve.
