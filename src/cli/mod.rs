@@ -13,12 +13,20 @@ pub mod weather;
 /// A simulation is no substitute for a calibrated moisture meter. Propane burners, hot plenums and wet peanuts
 /// carry fire, carbon-monoxide and mycotoxin risks: follow local codes, the equipment manuals and licensed practice.
 #[derive(Debug, Parser)]
-#[command(name = "dryfront", version, about, long_about = None, propagate_version = true)]
+#[command(name = "dryfront", version, about, long_about = LONG_ABOUT, propagate_version = true)]
 pub struct Args {
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
 }
+
+const LONG_ABOUT: &str = "dryfront simulates curing farmer-stock (in-shell) peanuts in forced-air drying trailers: \
+airflow through plenum, floor and bed; kernel and hull moisture in every cell under hourly weather; heater strategies, \
+fuel and shrink; and dryer scheduling over a buying point's season.\n\n\
+Start with `dryfront demo`. Every command has --help.\n\n\
+Cautions: a simulation is no substitute for a calibrated moisture meter. Propane burners and hot plenums carry fire \
+and carbon-monoxide risks, and wet peanuts held warm risk mold and aflatoxin: follow local codes (NFPA 58 for LP gas), \
+the equipment manuals and licensed practice.";
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
