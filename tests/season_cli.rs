@@ -213,3 +213,37 @@ fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
     let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
     assert!(table.lines().count() > 2, "{table}");
 }
+
+#[test]
+fn arrival_outside_the_weather_record_names_file_line_and_field() {
+    // A three-day weather file (our CSV schema) and a load that arrives after it, inside the season.
+    let dir = tempfile::tempdir().unwrap();
+    let mut weather = String::from("# utc_offset=-05:00\ntimestamp,temp_c,rh_pct\n");
+    for d in 15..18 {
+        for h in 0..24 {
+            weather.push_str(&format!("2026-09-{d:02}T{h:02}:00,22.0,70\n"));
+        }
+    }
+    let wpath = dir.path().join("short.csv");
+    std::fs::write(&wpath, weather).unwrap();
+    let apath = dir.path().join("late.csv");
+    std::fs::write(
+        &apath,
+        "load_id,arrival,net_mass_kg,kernel_moisture_pct\nA1,2026-09-16T15:00:00-04:00,4000,20\nA2,2026-09-25T15:00:00-04:00,4000,20\n",
+    )
+    .unwrap();
+    let out = dir.path().join("out");
+    let o = bin()
+        .args(["season", "run", "--scenario", &scenario(), "--weather"])
+        .arg(&wpath)
+        .arg("--arrivals")
+        .arg(&apath)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(stderr.contains("late.csv:3: field \"arrival\""), "{stderr}");
+    assert!(!out.exists(), "no partial output");
+}

@@ -335,7 +335,22 @@ pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
 
 fn run_one(a: RunArgs) -> anyhow::Result<()> {
     let bp = read_buying_point(&a.scenario)?;
-    let range = Some((bp.season.start, bp.season.end()));
+    let models = match a.drier {
+        DrierChoice::DeepBed => {
+            let path = a.weather.clone().unwrap_or_else(default_weather);
+            let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
+            Some(season_models(&bp, &a.models, weather)?)
+        }
+        DrierChoice::RateRule => None,
+    };
+    // Arrivals must fall inside the season and, for the deep-bed drier, inside the weather record.
+    let range = match &models {
+        Some(m) => Some((
+            bp.season.start.max(m.weather.start()),
+            bp.season.end().min(m.weather.end()),
+        )),
+        None => Some((bp.season.start, bp.season.end())),
+    };
     let (loads, generated): (Vec<Load>, bool) = match &a.arrivals {
         Some(p) => (read_arrivals_csv(p, range)?, false),
         None => {
@@ -347,14 +362,6 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
                 true,
             )
         }
-    };
-    let models = match a.drier {
-        DrierChoice::DeepBed => {
-            let path = a.weather.clone().unwrap_or_else(default_weather);
-            let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
-            Some(season_models(&bp, &a.models, weather)?)
-        }
-        DrierChoice::RateRule => None,
     };
     let drier = make_drier(a.drier, &bp, models.as_ref());
     let run = simulate(
