@@ -1,0 +1,178 @@
+//! The real binary's load commands (`dry`, `compare`, `starts`): a good run writes every output whole; bad input —
+//! an unknown strategy, a set-point above the crop's safe limit (refused unless forced), a start outside the weather
+//! record, a target not below the initial moisture, a malformed scenario — exits 2 with one clear line and writes
+//! nothing.
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_dryfront"))
+}
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The demo scenario rewritten with `edit` into `dir`, weather path made absolute.
+fn scenario_with(dir: &Path, edit: impl Fn(&mut serde_json::Value)) -> PathBuf {
+    let text = std::fs::read_to_string(root().join("models/scenarios/demo-load.json")).unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+    v["weather"] = root()
+        .join("weather-samples/cypress-neck-2026/season_000.csv")
+        .to_string_lossy()
+        .into_owned()
+        .into();
+    v["grid"] = serde_json::json!({"nx": 4, "ny": 2, "nz": 8});
+    edit(&mut v);
+    let p = dir.join("scenario.json");
+    std::fs::write(&p, v.to_string()).unwrap();
+    p
+}
+
+fn fails(args: &[&str], scenario: &Path, want: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out");
+    let o = bin()
+        .args(args)
+        .arg("--scenario")
+        .arg(scenario)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains(want), "wanted {want:?} in {stderr}");
+    // Our errors are one line; clap's own (bad option values) add its usual "--help" hint line.
+    let first = stderr.lines().next().unwrap_or("");
+    assert!(
+        first.contains(want),
+        "the first line names the problem: {stderr}"
+    );
+    if first.starts_with("dryfront: error:") {
+        assert_eq!(stderr.trim_end().lines().count(), 1, "one line: {stderr}");
+    }
+    assert!(!out.exists(), "no partial output");
+}
+
+#[test]
+fn dry_writes_every_output_whole() {
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = scenario_with(dir.path(), |_| {});
+    let out = dir.path().join("out");
+    let o = bin()
+        .args(["dry", "--scenario"])
+        .arg(&scenario)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    for want in [
+        "hours to 10.0 % mean kernel moisture",
+        "L propane",
+        "kWh",
+        "Cautions",
+    ] {
+        assert!(stdout.contains(want), "{want}: {stdout}");
+    }
+    let mut names: Vec<String> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(
+        names,
+        [
+            "air_temperatures.svg",
+            "airflow_top.svg",
+            "drying_curves.svg",
+            "final_moisture_side.svg",
+            "final_moisture_top.svg",
+            "outcome.json",
+            "series.csv",
+            "summary.txt"
+        ]
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("outcome.json")).unwrap()).unwrap();
+    assert!(json["outcome"]["hours_to_mean_target"].as_f64().unwrap() > 5.0);
+    let svg = std::fs::read_to_string(out.join("final_moisture_top.svg")).unwrap();
+    assert!(svg.starts_with("<svg") && svg.contains("% w.b."));
+}
+
+#[test]
+fn compare_marks_the_best_of_each_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = scenario_with(dir.path(), |_| {});
+    let o = bin()
+        .args(["compare", "--strategies", "none;rise=6", "--scenario"])
+        .arg(&scenario)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        stdout.contains("none") && stdout.contains("rise=6") && stdout.contains('*'),
+        "{stdout}"
+    );
+}
+
+#[test]
+fn bad_load_input_exits_2_with_one_line_and_no_output() {
+    let dir = tempfile::tempdir().unwrap();
+    let good = scenario_with(dir.path(), |_| {});
+    fails(
+        &["dry", "--strategy", "warm"],
+        &good,
+        "unknown heater strategy \"warm\"",
+    );
+    fails(
+        &["dry", "--strategy", "plenum=45"],
+        &good,
+        "is above the safe maximum of 35.0 °C",
+    );
+    fails(
+        &["dry", "--initial-pct", "8"],
+        &good,
+        "--initial-pct: 8 % w.b. is not above the target",
+    );
+    fails(&["dry", "--initial-pct", "140"], &good, "--initial-pct");
+    let d2 = tempfile::tempdir().unwrap();
+    let late = scenario_with(d2.path(), |v| {
+        v["start"] = "2027-03-01T12:00:00-05:00".into()
+    });
+    fails(&["dry"], &late, "field \"start\"");
+    let d3 = tempfile::tempdir().unwrap();
+    let target = scenario_with(d3.path(), |v| v["target_kernel_moisture_pct"] = 25.0.into());
+    fails(&["dry"], &target, "field \"target_kernel_moisture_pct\"");
+    let d4 = tempfile::tempdir().unwrap();
+    let typo = scenario_with(d4.path(), |v| v["heatr"] = serde_json::json!({}));
+    fails(&["dry"], &typo, "unknown field `heatr`");
+    let d5 = tempfile::tempdir().unwrap();
+    let crop = scenario_with(d5.path(), |v| v["crop"] = "groundnut-shelled".into());
+    fails(&["dry"], &crop, "field \"crop\"");
+    let d6 = tempfile::tempdir().unwrap();
+    let wet = scenario_with(d6.path(), |v| {
+        v["initial_kernel_moisture_pct"] = 140.0.into()
+    });
+    fails(&["dry"], &wet, "field \"initial_kernel_moisture_pct\"");
+}
+
+#[test]
+fn forced_set_point_runs_with_a_warning() {
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = scenario_with(dir.path(), |v| v["max_hours"] = 6.0.into());
+    let o = bin()
+        .args(["dry", "--strategy", "plenum=40", "--force", "--scenario"])
+        .arg(&scenario)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        stderr.contains("warning") && stderr.contains("--force"),
+        "{stderr}"
+    );
+}
