@@ -70,6 +70,9 @@ pub struct ScenarioFile {
     /// Give up after, h.
     #[serde(default = "default_max_h")]
     pub max_hours: f64,
+    /// Time-series interval, h.
+    #[serde(default = "default_record_h")]
+    pub record_every_h: f64,
     /// Target kernel moisture, % w.b. (the crop's default when absent).
     #[serde(default)]
     pub target_kernel_moisture_pct: Option<f64>,
@@ -88,6 +91,9 @@ fn default_dt_h() -> f64 {
 }
 fn default_max_h() -> f64 {
     120.0
+}
+fn default_record_h() -> f64 {
+    1.0
 }
 
 /// The heater as written.
@@ -352,6 +358,7 @@ impl LoadSetup {
         }
         let dt_h = check(p, "time_step_h", file.time_step_h, 0.005, 1.0, "h")?;
         let max_h = check(p, "max_hours", file.max_hours, 1.0, 2000.0, "h")?;
+        let record_h = check(p, "record_every_h", file.record_every_h, dt_h, 24.0, "h")?;
         let target = match file.target_kernel_moisture_pct {
             Some(t) => check(p, "target_kernel_moisture_pct", t, 4.0, 30.0, "% w.b.")?,
             None => crop.safety.target_moisture_wb_pct,
@@ -383,6 +390,7 @@ impl LoadSetup {
             stop: StopRule::Mean,
             also_report: StopRule::Fraction(0.95),
             safe_rate_pct_per_h: crop.safety.max_drying_rate_pct_wb_per_h,
+            record_every_s: record_h * 3600.0,
             ..RunSettings::default()
         };
         let material = CropMaterial::new(&crop);
