@@ -1,6 +1,7 @@
 //! Season planner cost: a 70-day season of 600 loads on 30 dryers, (a) with the fixed-time drier, which times the
 //! event logic alone, swept over loads and dryers to show how it grows, and (b) with the deep-bed drier on the
-//! stand-in material at a coarse 4×2×10 grid, which times the whole chain. Loads per second = loads / median.
+//! bundled peanut model at the season's coarse 4×2×10 grid (fixed weather and a fixed flow field, so it times the
+//! event loop plus the deep-bed runs). Loads per second = loads / median.
 //!
 //! Run: `cargo bench --bench season -- --warm-up-time 1 --measurement-time 2`.
 
@@ -79,8 +80,10 @@ fn deep_bed(c: &mut Criterion) {
             nz: 10,
         },
     );
+    let crop = dryfront::crop::Crop::load_named("peanut-inshell").unwrap();
+    let material = dryfront::drying::material::CropMaterial::new(&crop);
     let drier = DeepBedDrier {
-        material: &TestPod,
+        material: &material,
         containers,
         ambient: Box::new(move |_| Some(Box::new(ConstantAmbient(air)) as Box<dyn Ambient>)),
         flow: Box::new(|_, bed| {
