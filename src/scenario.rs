@@ -18,7 +18,9 @@ use crate::drying::flow::{FanEfficiency, SolvedFlow};
 use crate::drying::heater::{Fuel, Heater, StrategySpec};
 use crate::drying::layer::LayerMaterial;
 use crate::drying::material::CropMaterial;
-use crate::drying::run::{run_batch, Outcome, RunError, RunObserver, RunSettings, StopRule};
+use crate::drying::run::{
+    run_batch, FlowProvider, Outcome, RunError, RunObserver, RunSettings, StopRule,
+};
 use crate::drying::zones::{zone_maps, ZoneMaps};
 use crate::error::InputError;
 use crate::models::{read_text, resolve};
@@ -492,7 +494,7 @@ pub struct LoadResult {
     pub outcome: Outcome,
     /// Final bed.
     pub bed: BedState,
-    /// Airflow solution at the start of the run.
+    /// Airflow solution at the start of the run (what the airflow map shows).
     pub airflow: AirflowSolution,
     /// Zone maps at the end.
     pub zones: ZoneMaps,
@@ -548,15 +550,8 @@ pub fn run_load(
         },
         bed_erh: Box::new(|pod_db: f64| pod_erh(material, pod_db, 25.0)),
         last: None,
+        last_key: None,
     };
-    // The bed's geometry comes from the airflow grid (terrain-following layers, column depths).
-    let disc_sol = crate::airflow::solve::solve(
-        &setup.container,
-        &setup.flow,
-        &bed_law(crop),
-        &first.air,
-        &settings,
-    )?;
     let nz = setup.grid.nz;
     let kernel0 = setup.file.initial_kernel_moisture_pct / 100.0;
     let initial = match setup.file.initial_kernel_moisture_top_pct {
@@ -568,10 +563,14 @@ pub fn run_load(
     };
     let pod_db = material.pod_db(material.initial_state(db_from_wb(kernel0), first.t_c));
     let dry_density = crop.dry_matter_density_kg_per_m3(100.0 * pod_db / (1.0 + pod_db));
+    // The start's airflow solve also gives the bed's geometry (terrain-following layers, column depths); the run's
+    // first request for the same air and moisture factor reuses it instead of solving again.
+    FlowProvider::flow(&mut flow, &first.air, pod_db).map_err(RunError::Airflow)?;
+    let start_sol = flow.last.clone().expect("a successful solve is kept");
     let mut bed = BedState::new(
         material,
-        disc_sol.depth_m.clone(),
-        disc_sol.dx_m * disc_sol.dy_m,
+        start_sol.depth_m.clone(),
+        start_sol.dx_m * start_sol.dy_m,
         nz,
         dry_density,
         &initial,
@@ -594,7 +593,7 @@ pub fn run_load(
     Ok(LoadResult {
         outcome,
         bed,
-        airflow: flow.last.unwrap_or(disc_sol),
+        airflow: start_sol,
         zones,
         heater,
         cost: Cost {
