@@ -82,11 +82,16 @@ pub struct ScenarioFile {
     pub prices: Prices,
 }
 
+/// Fan total efficiency used when a scenario gives none (vaneaxial ≈ 0.5–0.75, DOMAIN.md §8.1, common practice).
+pub const DEFAULT_FAN_EFFICIENCY: f64 = 0.55;
+/// Motor efficiency used when a scenario gives none (small motors ≈ 0.85–0.9, from memory, unverified).
+pub const DEFAULT_MOTOR_EFFICIENCY: f64 = 0.88;
+
 fn default_fan_eff() -> f64 {
-    0.55
+    DEFAULT_FAN_EFFICIENCY
 }
 fn default_motor_eff() -> f64 {
-    0.88
+    DEFAULT_MOTOR_EFFICIENCY
 }
 fn default_dt_h() -> f64 {
     0.1

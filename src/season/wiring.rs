@@ -17,7 +17,9 @@ use crate::drying::heater::Fuel;
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{Ambient, FixedFlow, FlowField, FlowProvider, RunSettings, StopRule};
 use crate::error::InputError;
-use crate::scenario::{bed_law, read_container, read_fan};
+use crate::scenario::{
+    bed_law, read_container, read_fan, DEFAULT_FAN_EFFICIENCY, DEFAULT_MOTOR_EFFICIENCY,
+};
 use crate::season::drier::{ContainerSpec, DeepBedDrier};
 use crate::season::scenario::BuyingPoint;
 use crate::weather::series::WeatherSeries;
@@ -74,8 +76,8 @@ impl SeasonModels {
             weather,
             grid,
             efficiency: FanEfficiency {
-                fan: 0.55,
-                motor: 0.88,
+                fan: DEFAULT_FAN_EFFICIENCY,
+                motor: DEFAULT_MOTOR_EFFICIENCY,
             },
             cache: Mutex::new(HashMap::new()),
         })
