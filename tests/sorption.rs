@@ -5,7 +5,7 @@
 
 use approx::assert_abs_diff_eq;
 use dryfront::crop::Crop;
-use dryfront::props::sorption::{Isotherm, MoistureUnit, Sorption};
+use dryfront::props::sorption::{Isotherm, MoistureUnit, Sorption, U_MAX};
 use dryfront::units::{db_from_wb, wb_from_db};
 use proptest::prelude::*;
 
@@ -213,5 +213,56 @@ proptest! {
             prop_assert!(iso.emc_db(t_c, rh + 0.05) > m, "{} not rising with RH", name);
             prop_assert!(iso.emc_db(t_c + 5.0, rh) < m, "{} not falling with T", name);
         }
+    }
+
+    /// The log-complement forms the pod step chains hull → kernel through agree with `erh` / `emc_db`, and their
+    /// analytic slopes agree with central differences of those functions (relative 1e-5: the difference's own
+    /// truncation and rounding error at a step of 1e-5 of the argument).
+    #[test]
+    fn log_complement_forms_match_erh_emc_and_their_slopes(rh in 0.05..0.95f64, t_c in 5.0..60.0f64) {
+        for (name, iso) in all_forms() {
+            let m = iso.emc_db(t_c, rh);
+            let (u, du_dm) = iso.erh_log_complement(t_c, m);
+            let erh = iso.erh(t_c, m);
+            prop_assert!((-(-u).exp_m1() - erh).abs() < 1e-12, "{}: u {} vs erh {}", name, u, erh);
+            let h = 1e-5 * m;
+            let u_of = |m: f64| -(-iso.erh(t_c, m)).ln_1p();
+            let fd = (u_of(m + h) - u_of(m - h)) / (2.0 * h);
+            prop_assert!((du_dm - fd).abs() <= 1e-5 * fd.abs(), "{}: du/dm {} vs {}", name, du_dm, fd);
+
+            let (m2, dm_du) = iso.emc_from_log_complement(t_c, u);
+            prop_assert!((m2 - m).abs() <= 1e-10 * m, "{}: emc {} vs {}", name, m2, m);
+            let hu = 1e-5 * u;
+            let m_of = |u: f64| iso.emc_db(t_c, -(-u).exp_m1());
+            let fd = (m_of(u + hu) - m_of(u - hu)) / (2.0 * hu);
+            prop_assert!((dm_du - fd).abs() <= 1e-5 * fd.abs(), "{}: dm/du {} vs {}", name, dm_du, fd);
+        }
+    }
+}
+
+#[test]
+fn log_complement_clamps_like_erh_and_emc() {
+    for (name, iso) in all_forms() {
+        assert_eq!(iso.erh_log_complement(25.0, 0.0), (0.0, 0.0), "{name}");
+        assert_eq!(iso.erh_log_complement(25.0, -0.1), (0.0, 0.0), "{name}");
+        // Far above saturation: capped and flat where the ERH form has saturated, else still consistent with it.
+        let (u, s) = iso.erh_log_complement(25.0, 50.0);
+        let erh = iso.erh(25.0, 50.0);
+        if erh >= 1.0 {
+            assert!(u >= U_MAX && s == 0.0, "{name}: {u} {s}");
+        } else {
+            assert!((-(-u).exp_m1() - erh).abs() < 1e-12, "{name}: {u} vs {erh}");
+        }
+        // Beyond the RH clamp the EMC is flat and equals emc_db at the clamp.
+        let (m, s) = iso.emc_from_log_complement(25.0, 40.0);
+        assert!(
+            (m - iso.emc_db(25.0, 1.0)).abs() <= 1e-12 * m && s == 0.0,
+            "{name}: {m} {s}"
+        );
+        let (m, s) = iso.emc_from_log_complement(25.0, 0.0);
+        assert!(
+            (m - iso.emc_db(25.0, 0.0)).abs() <= 1e-9 * m.max(1e-12) && s == 0.0,
+            "{name}: {m} {s}"
+        );
     }
 }

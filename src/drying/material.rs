@@ -85,6 +85,16 @@ impl LayerMaterial for CropMaterial {
         self.model.hull().sorption.desorption.erh(t_c, m.hull_db)
     }
     #[inline]
+    fn surface_erh_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
+        let (u, _) = self
+            .model
+            .hull()
+            .sorption
+            .desorption
+            .erh_log_complement(t_c, m.hull_db);
+        (-u).exp()
+    }
+    #[inline]
     fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {
         // Water leaves the pod through the hull: its isotherm sets the heat of desorption. Bilinear look-up,
         // clamped at the table's edges.

@@ -40,6 +40,12 @@ pub const RH_MIN: f64 = 1e-6;
 pub const RH_MAX: f64 = 1.0 - 1e-9;
 /// Smallest value a form's temperature term (`T + C`, `A + B·T`, `T` for GAB) is allowed to take.
 const TEMP_TERM_MIN: f64 = 1e-3;
+/// `−ln(1 − RH_MIN)`: the log complement of the lowest RH the EMC forms see.
+pub const U_MIN: f64 = 1.000_000_500_000_333_4e-6;
+/// `−ln(1 − RH_MAX)`: the log complement of the highest RH the EMC forms see.
+pub const U_MAX: f64 = 20.723_265_865_228_342;
+/// Log complement reported for air in equilibrium with a saturating moisture (any value above [`U_MAX`]).
+pub const U_CAP: f64 = 50.0;
 
 /// The unit of moisture content a constant set was fitted in.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -242,6 +248,120 @@ impl Isotherm {
         }
     }
 
+    /// The equilibrium humidity at `m_db` as its log complement `u = −ln(1 − ERH)`, with `du/dm` (per unit of
+    /// dry-basis decimal moisture). `u` is the variable the Henderson and Cromarty forms are written in, so a chain
+    /// hull → air → kernel through it needs no exp/ln round trip and keeps full precision near saturation, where
+    /// ERH itself rounds to 1. Consistent with [`Isotherm::erh`]: `ERH = 1 − exp(−u)`; a non-positive moisture
+    /// gives `(0, 0)`; where the ERH form saturates the result is capped at [`U_CAP`] with slope 0.
+    #[inline]
+    pub fn erh_log_complement(&self, t_c: f64, m_db: f64) -> (f64, f64) {
+        if m_db <= 0.0 || m_db.is_nan() {
+            return (0.0, 0.0);
+        }
+        let s = self.unit().scale();
+        let m = m_db * s;
+        // For the forms written in RH, u and its slope follow from ERH and dERH/dm by du = dERH / (1 − ERH).
+        let via_rh = |rh: f64, drh_dm: f64| {
+            if rh >= 1.0 || rh.is_nan() {
+                return (U_CAP, 0.0);
+            }
+            let u = -(-rh).ln_1p();
+            if u >= U_CAP {
+                (U_CAP, 0.0)
+            } else {
+                (u.max(0.0), (drh_dm / (1.0 - rh)).max(0.0))
+            }
+        };
+        let (u, du_dm) = match *self {
+            Isotherm::ModifiedHenderson { a, b, c, .. } => {
+                let u = a * positive(t_c + c) * m.powf(b);
+                (u, u * b / m_db)
+            }
+            Isotherm::Cromarty { oil_content_db } => {
+                let g = s * (1.1 + t_c / 90.0) / (1.0 - oil_content_db);
+                let x = m_db * g;
+                (x * x / 440.0, 2.0 * x * g / 440.0)
+            }
+            Isotherm::ModifiedChungPfost { a, b, c, .. } => {
+                let v = a / positive(t_c + c) * (-b * m).exp();
+                let rh = (-v).exp();
+                via_rh(rh, rh * v * b * s)
+            }
+            Isotherm::ModifiedHalsey { a, b, c, .. } => {
+                let v = (a + b * t_c).exp() / m.powf(c);
+                let rh = (-v).exp();
+                via_rh(rh, rh * c * v / m_db)
+            }
+            Isotherm::ModifiedOswin { a, b, c, .. } => {
+                // rh = 1/(z + 1), z = (P/M)^C: u = ln(1 + 1/z), du/dM = C/(M·(z + 1)).
+                let z = (positive(a + b * t_c) / m).powf(c);
+                let u = (1.0 / z).ln_1p();
+                if u >= U_CAP {
+                    (U_CAP, 0.0)
+                } else {
+                    (u, c / (m_db * (z + 1.0)))
+                }
+            }
+            Isotherm::ModifiedGab { a, b, c, .. } => {
+                let g = c / positive(t_c);
+                let rh = gab_rh(a, b, g, m);
+                let dm_drh = gab_dm_drh(a, b, g, rh) / s;
+                via_rh(rh, if dm_drh > 0.0 { 1.0 / dm_drh } else { 0.0 })
+            }
+        };
+        if u.is_nan() || u >= U_CAP {
+            (U_CAP, 0.0)
+        } else {
+            (u, du_dm)
+        }
+    }
+
+    /// EMC (dry-basis decimal) in air whose RH has log complement `u = −ln(1 − RH)`, with `dM/du`. Consistent
+    /// with [`Isotherm::emc_db`] at `RH = 1 − exp(−u)`, including its clamping of RH to `[RH_MIN, RH_MAX]`
+    /// (slope 0 where clamped).
+    #[inline]
+    pub fn emc_from_log_complement(&self, t_c: f64, u: f64) -> (f64, f64) {
+        let clamped = !(U_MIN..=U_MAX).contains(&u);
+        let u = u.clamp(U_MIN, U_MAX);
+        let s = self.unit().scale();
+        let (m_fit, dm_du) = match *self {
+            Isotherm::ModifiedHenderson { a, b, c, .. } => {
+                let m = (u / (a * positive(t_c + c))).powf(1.0 / b);
+                (m, m / (b * u))
+            }
+            Isotherm::Cromarty { oil_content_db } => {
+                let m = (440.0 * u).sqrt() * (1.0 - oil_content_db) / (1.1 + t_c / 90.0);
+                (m, m / (2.0 * u))
+            }
+            _ => {
+                // dM/du = dM/dRH · dRH/du with dRH/du = exp(−u) = 1 − RH.
+                let one_minus = (-u).exp();
+                let rh = -(-u).exp_m1();
+                let m = self.emc_db(t_c, rh) * s;
+                let dm_drh = match *self {
+                    Isotherm::ModifiedChungPfost { b, .. } => {
+                        let l = -rh.ln();
+                        1.0 / (b * l * rh)
+                    }
+                    Isotherm::ModifiedHalsey { c, .. } => m / (c * -rh.ln() * rh),
+                    Isotherm::ModifiedOswin { c, .. } => m / (c * (1.0 / rh - 1.0) * rh * rh),
+                    Isotherm::ModifiedGab { a, b, c, .. } => {
+                        gab_dm_drh(a, b, c / positive(t_c), rh)
+                    }
+                    Isotherm::ModifiedHenderson { .. } | Isotherm::Cromarty { .. } => {
+                        unreachable!("handled above")
+                    }
+                };
+                (m, dm_drh * one_minus)
+            }
+        };
+        let m_db = m_fit / s;
+        if m_db <= 0.0 || !m_db.is_finite() {
+            return (0.0, 0.0);
+        }
+        (m_db, if clamped { 0.0 } else { dm_du / s })
+    }
+
     /// Check the constants are usable (finite, right signs). Returns the name of the first bad constant and why.
     pub fn check(&self) -> Result<(), (&'static str, &'static str)> {
         let finite = |name, v: f64| {
@@ -311,6 +431,15 @@ fn gab_rh(a: f64, b: f64, g: f64, m: f64) -> f64 {
         return 1.0;
     }
     (2.0 * m / denom / b).clamp(0.0, 1.0)
+}
+
+/// dM/dRH of the modified GAB form (fitted units), from `M = A·G·y/((1 − y)(1 + (G − 1)·y))`, `y = B·RH`.
+#[inline]
+fn gab_dm_drh(a: f64, b: f64, g: f64, rh: f64) -> f64 {
+    let y = b * rh;
+    let d = (1.0 - y) * (1.0 + (g - 1.0) * y);
+    let dd = -(1.0 + (g - 1.0) * y) + (1.0 - y) * (g - 1.0);
+    a * g * (d - y * dd) / (d * d) * b
 }
 
 /// The temperature and RH range a constant set was fitted over.

@@ -25,7 +25,10 @@
 //! inside the hull. The hull exchanges with the air, the kernel only with the hull, and the exchange term moves
 //! water without creating or losing any. The step linearises M_k* about the hull moisture and solves the linear
 //! 2×2 system exactly with its matrix exponential (real, negative eigenvalues), so it is stable and bounded for any
-//! Δt; a second pass re-linearises about the mid-step hull moisture to cut the linearisation error on long steps.
+//! Δt; a second pass re-linearises about the mid-step hull moisture to cut the linearisation error on long steps
+//! (skipped when M_k* is linear over the step, so the second system would be the same). M_k* and its slope come
+//! in closed form, chained through the log complement `u = −ln(1 − ERH)` of the humidity inside the hull
+//! ([`crate::props::sorption::Isotherm::erh_log_complement`]), which keeps full precision near saturation.
 //!
 //! References: ASAE S448 (thin-layer drying); Page, Henderson–Pabis and two-term forms as tabulated in thin-layer
 //! papers (DOMAIN.md §3.2); Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (time form from memory).
@@ -380,57 +383,137 @@ pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> 
             kernel,
             hull_fraction,
         } => {
-            let first =
-                two_compartment_pass(hull, kernel, *hull_fraction, s, s.m_hull_db, t_c, rh, dt_s);
-            let mid = 0.5 * (s.m_hull_db + first.m_hull_db);
-            two_compartment_pass(hull, kernel, *hull_fraction, s, mid, t_c, rh, dt_s)
+            let step = TwoCompartmentStep::new(hull, kernel, *hull_fraction, s, t_c, rh, dt_s);
+            let lin = step.linearise(s.m_hull_db);
+            let first = step.solve(&lin);
+            let mid = step.linearise(0.5 * (s.m_hull_db + first.m_hull_db));
+            if lin.same_line_as(&mid) {
+                // M_k* is linear over the step (e.g. two Cromarty curves, whose temperature factors cancel): the
+                // re-linearised pass would solve the same system.
+                first
+            } else {
+                step.solve(&mid)
+            }
         }
     }
 }
 
-/// One exact solve of the two-compartment system linearised about hull moisture `m_lin`.
-#[allow(clippy::too_many_arguments)]
-fn two_compartment_pass(
-    hull: &Compartment,
-    kernel: &Compartment,
-    f_h: f64,
+/// What one two-compartment step keeps fixed over its passes: air target, rates and time.
+struct TwoCompartmentStep<'a> {
+    hull: &'a Compartment,
+    kernel: &'a Compartment,
+    /// Kernel over hull dry matter, (1 − f_h)/f_h.
+    r: f64,
     s: PodState,
-    m_lin: f64,
     t_c: f64,
-    rh: f64,
-    dt_s: f64,
-) -> PodState {
-    let dt_h = dt_s.max(0.0) / 3600.0;
-    let r = (1.0 - f_h) / f_h;
-    let m_e_h = hull.sorption.target_db(t_c, rh, s.m_hull_db);
-    let k_h = hull.thin_layer.k_per_h(t_c, rh);
-    let kernel_star = |m_h: f64| {
-        let erh = hull.sorption.desorption.erh(t_c, m_h);
-        kernel.sorption.desorption.emc_db(t_c, erh)
-    };
-    let rh_inside = hull.sorption.desorption.erh(t_c, m_lin);
-    let k_kh = kernel.thin_layer.k_per_h(t_c, rh_inside);
-    let s0 = kernel.sorption.desorption.emc_db(t_c, rh_inside);
-    let dm = 1e-6 * m_lin.abs().max(1e-2);
-    // Central difference: a forward difference saved one isotherm pair per pass but let the step overshoot the
-    // kernel's equilibrium by ~1e-6 in activity (found by the `pod_step_stays_within_its_equilibria` property).
-    let slope = ((kernel_star(m_lin + dm) - kernel_star((m_lin - dm).max(0.0)))
-        / (m_lin + dm - (m_lin - dm).max(0.0)))
-    .max(0.0);
-    // x' = A·x + c; A = [[−k_h − r·k_kh·s, r·k_kh], [k_kh·s, −k_kh]]; fixed point below.
-    let a11 = -k_h - r * k_kh * slope;
-    let a12 = r * k_kh;
-    let a21 = k_kh * slope;
-    let a22 = -k_kh;
-    let eq_h = m_e_h;
-    let eq_k = s0 + slope * (m_e_h - m_lin);
-    let d_h = s.m_hull_db - eq_h;
-    let d_k = s.m_kernel_db - eq_k;
-    let [[e11, e12], [e21, e22]] = expm2([[a11, a12], [a21, a22]], dt_h);
-    PodState {
-        m_hull_db: (eq_h + e11 * d_h + e12 * d_k).max(0.0),
-        m_kernel_db: (eq_k + e21 * d_h + e22 * d_k).max(0.0),
-        m_curve_start_db: s.m_curve_start_db,
+    dt_h: f64,
+    /// Hull target moisture in the air (desorption or adsorption EMC, or its own inside the band).
+    m_e_h: f64,
+    /// Hull rate constant, per hour.
+    k_h: f64,
+    /// Kernel rate constant if it does not depend on the RH inside the hull (its `rh_slope` is 0).
+    k_kh_fixed: Option<f64>,
+}
+
+/// `M_k*(M_h)` linearised about a hull moisture: `M_k* ≈ value + slope·(M_h − m_lin)`, and the kernel rate there.
+struct KernelLine {
+    m_lin: f64,
+    value: f64,
+    slope: f64,
+    k_kh: f64,
+}
+
+impl KernelLine {
+    /// Whether `other` describes the same linear system (to rounding).
+    fn same_line_as(&self, other: &KernelLine) -> bool {
+        let predicted = self.value + self.slope * (other.m_lin - self.m_lin);
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * a.abs().max(b.abs()).max(1e-3);
+        close(predicted, other.value)
+            && close(self.slope, other.slope)
+            && close(self.k_kh, other.k_kh)
+    }
+}
+
+impl<'a> TwoCompartmentStep<'a> {
+    #[allow(clippy::too_many_arguments)]
+    fn new(
+        hull: &'a Compartment,
+        kernel: &'a Compartment,
+        f_h: f64,
+        s: PodState,
+        t_c: f64,
+        rh: f64,
+        dt_s: f64,
+    ) -> Self {
+        let k_kh_fixed = match kernel.thin_layer {
+            ThinLayer::Exponential { rate } | ThinLayer::HendersonPabis { rate, .. }
+                if rate.rh_slope == 0.0 =>
+            {
+                Some(rate.k_per_h(t_c, 0.0))
+            }
+            _ => None,
+        };
+        TwoCompartmentStep {
+            hull,
+            kernel,
+            r: (1.0 - f_h) / f_h,
+            s,
+            t_c,
+            dt_h: dt_s.max(0.0) / 3600.0,
+            m_e_h: hull.sorption.target_db(t_c, rh, s.m_hull_db),
+            k_h: hull.thin_layer.k_per_h(t_c, rh),
+            k_kh_fixed,
+        }
+    }
+
+    /// `M_k*(M_h) = EMC_kernel(T, ERH_hull(T, M_h))` and its exact slope at `m_lin`, chained through the log
+    /// complement of the humidity inside the hull (no round trip through RH).
+    fn linearise(&self, m_lin: f64) -> KernelLine {
+        let (u, du_dm) = self
+            .hull
+            .sorption
+            .desorption
+            .erh_log_complement(self.t_c, m_lin);
+        let (value, dk_du) = self
+            .kernel
+            .sorption
+            .desorption
+            .emc_from_log_complement(self.t_c, u);
+        let k_kh = self
+            .k_kh_fixed
+            .unwrap_or_else(|| self.kernel.thin_layer.k_per_h(self.t_c, -(-u).exp_m1()));
+        KernelLine {
+            m_lin,
+            value,
+            slope: (dk_du * du_dm).max(0.0),
+            k_kh,
+        }
+    }
+
+    /// One exact solve of the system linearised on `line`:
+    /// x' = A·x + c, A = [[−k_h − r·k_kh·s, r·k_kh], [k_kh·s, −k_kh]], about its fixed point.
+    fn solve(&self, line: &KernelLine) -> PodState {
+        let KernelLine {
+            m_lin,
+            value,
+            slope,
+            k_kh,
+        } = *line;
+        let (r, k_h, s) = (self.r, self.k_h, self.s);
+        let a11 = -k_h - r * k_kh * slope;
+        let a12 = r * k_kh;
+        let a21 = k_kh * slope;
+        let a22 = -k_kh;
+        let eq_h = self.m_e_h;
+        let eq_k = value + slope * (eq_h - m_lin);
+        let d_h = s.m_hull_db - eq_h;
+        let d_k = s.m_kernel_db - eq_k;
+        let [[e11, e12], [e21, e22]] = expm2([[a11, a12], [a21, a22]], self.dt_h);
+        PodState {
+            m_hull_db: (eq_h + e11 * d_h + e12 * d_k).max(0.0),
+            m_kernel_db: (eq_k + e21 * d_h + e22 * d_k).max(0.0),
+            m_curve_start_db: s.m_curve_start_db,
+        }
     }
 }
 
