@@ -397,7 +397,7 @@ impl Level {
     }
 }
 
-/// Multigrid settings. The defaults were chosen by measured PCG iteration counts (see `bed.rs`).
+/// Multigrid settings. The defaults were chosen by measured PCG iteration counts (see the `bed` module docs).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct MgSettings {
     /// Factor on the summed horizontal couplings of each coarse level (1 = Galerkin, ½ = rediscretised).
