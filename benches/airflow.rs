@@ -74,8 +74,9 @@ fn bench(c: &mut Criterion) {
 criterion_group!(benches, bench);
 criterion_main!(benches);
 
-// Measured 2026-12-02 on the shared 2-core development machine (load average ≈ 5 from other builds), command
-// `cargo bench --bench airflow -- --warm-up-time 1 --measurement-time 2`, 10 samples:
-//   64×24×32 (49 152 cells):   median 462 ms (9.4 µs/cell), 21 outer / 353 CG iterations — meets the 0.5 s target.
-//   144×54×64 (497 664 cells): median 18.6 s (37 µs/cell), 24 outer / 808 CG iterations — misses the 5 s target:
-//   the vertical-line preconditioner does not handle horizontal coupling, so CG iterations grow with resolution.
+// Measured 2026-12-02 on the shared 2-core development machine (load average ≈ 1), command
+// `cargo bench --bench airflow -- --warm-up-time 1 --measurement-time 2`, 10 samples, multigrid preconditioner:
+//   64×24×32 (49 152 cells):   median 206 ms (4.2 µs/cell), 19 outer / 41 CG iterations — target 0.5 s met.
+//   144×54×64 (497 664 cells): median 1.84 s (3.7 µs/cell), 19 outer / 44 CG iterations — target 5 s met.
+// With the earlier line-Jacobi preconditioner, same machine and day: 405 ms, 21 outer / 353 CG, and 4.42 s,
+// 24 outer / 808 CG (criterion point estimates).

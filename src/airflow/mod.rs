@@ -8,6 +8,7 @@
 pub mod bed;
 pub mod fan;
 pub mod geometry;
+mod mg;
 pub mod plenum;
 pub mod solve;
 
