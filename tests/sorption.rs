@@ -5,7 +5,7 @@
 
 use approx::assert_abs_diff_eq;
 use dryfront::crop::Crop;
-use dryfront::props::sorption::{Isotherm, MoistureUnit, Sorption, U_MAX};
+use dryfront::props::sorption::{Isotherm, MoistureUnit, Sorption, RH_MAX, RH_MIN, U_MAX, U_MIN};
 use dryfront::units::{db_from_wb, wb_from_db};
 use proptest::prelude::*;
 
@@ -265,4 +265,11 @@ fn log_complement_clamps_like_erh_and_emc() {
             "{name}: {m} {s}"
         );
     }
+}
+
+#[test]
+fn log_complement_bounds_are_those_of_the_rh_clamp() {
+    // U_MIN and U_MAX are written out (no `ln` in a const); they must stay −ln(1 − RH) of the RH clamp.
+    assert!((U_MIN / -(-RH_MIN).ln_1p() - 1.0).abs() < 1e-15);
+    assert!((U_MAX / -(-RH_MAX).ln_1p() - 1.0).abs() < 1e-15);
 }

@@ -303,8 +303,7 @@ impl BedSystem {
         self.op.matvec(x, y);
     }
 
-    /// z = M⁻¹·r with M the block-diagonal of vertical lines (Thomas algorithm with stored factors), four
-    /// columns at a time so that the sweeps' dependency chains overlap.
+    /// z = M⁻¹·r with M the block-diagonal of vertical lines (Thomas algorithm with the operator's stored factors).
     fn line_jacobi(&self, r: &[f64], z: &mut [f64]) {
         let nz = self.nz;
         let op = &self.op;
@@ -314,33 +313,9 @@ impl BedSystem {
             .enumerate()
             .for_each(|(blk, (zc, rc))| {
                 let start = blk * cols_per_block * nz;
-                let ncols = zc.len() / nz;
-                let mut c = 0;
-                while c + 4 <= ncols {
-                    let b = [0, 1, 2, 3].map(|q| (c + q) * nz);
-                    let mut prev = [0.0f64; 4];
-                    for k in 0..nz {
-                        for q in 0..4 {
-                            let idx = start + b[q] + k;
-                            let lower = if k > 0 { op.tz[idx - 1] } else { 0.0 };
-                            let v = (rc[b[q] + k] + lower * prev[q]) * op.inv_den[idx];
-                            zc[b[q] + k] = v;
-                            prev[q] = v;
-                        }
-                    }
-                    for k in (0..nz - 1).rev() {
-                        for q in 0..4 {
-                            let next = zc[b[q] + k + 1];
-                            zc[b[q] + k] -= op.cprime[start + b[q] + k] * next;
-                        }
-                    }
-                    c += 4;
-                }
-                while c < ncols {
-                    let b = c * nz;
-                    zc[b..b + nz].copy_from_slice(&rc[b..b + nz]);
-                    op.line_solve(start + b, &mut zc[b..b + nz]);
-                    c += 1;
+                zc.copy_from_slice(rc);
+                for (c, line) in zc.chunks_mut(nz).enumerate() {
+                    op.line_solve(start + c * nz, line);
                 }
             });
     }

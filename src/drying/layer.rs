@@ -127,217 +127,172 @@ pub struct ColumnForcing {
 /// air flow the peanuts keep their state (no air, no exchange in this model).
 pub fn step_column<M: LayerMaterial + ?Sized>(
     material: &M,
-    mut column: ColumnMut<'_>,
+    column: ColumnMut<'_>,
     forcing: ColumnForcing,
 ) -> (LayerAir, ColumnStepTotals) {
+    let ColumnMut {
+        hull_db,
+        kernel_db,
+        curve_start_db,
+        temp_c,
+        dry_matter_kg_per_m2,
+    } = column;
+    let ColumnForcing {
+        air_in,
+        dry_air_kg_per_m2_s,
+        p_pa,
+        dt_s,
+    } = forcing;
     let mut totals = ColumnStepTotals::default();
-    let air_kg = forcing.dry_air_kg_per_m2_s * forcing.dt_s;
+    let air_kg = dry_air_kg_per_m2_s * dt_s;
     if air_kg <= 0.0 {
-        return (forcing.air_in, totals);
+        return (air_in, totals);
     }
-    let mut air = forcing.air_in;
-    for k in 0..column.dry_matter_kg_per_m2.len() {
-        air = column_cell(material, &mut column, k, air, air_kg, &forcing, &mut totals);
-    }
-    (air, totals)
-}
-
-/// One layer `k` of a column: read its state, step it, write it back; returns the air leaving it.
-#[inline(always)]
-fn column_cell<M: LayerMaterial + ?Sized>(
-    material: &M,
-    column: &mut ColumnMut<'_>,
-    k: usize,
-    air: LayerAir,
-    air_kg: f64,
-    forcing: &ColumnForcing,
-    totals: &mut ColumnStepTotals,
-) -> LayerAir {
-    let dm = column.dry_matter_kg_per_m2[k];
-    if dm <= 0.0 {
-        return air;
-    }
-    let mut cell = CellSlot {
-        hull_db: column.hull_db[k],
-        kernel_db: column.kernel_db[k],
-        curve_start_db: column.curve_start_db[k],
-        temp_c: column.temp_c[k],
-    };
-    let out = step_cell(
-        material,
-        &mut cell,
-        dm,
-        air,
-        air_kg,
-        forcing.p_pa,
-        forcing.dt_s,
-        totals,
-    );
-    column.hull_db[k] = cell.hull_db;
-    column.kernel_db[k] = cell.kernel_db;
-    column.curve_start_db[k] = cell.curve_start_db;
-    column.temp_c[k] = cell.temp_c;
-    out
-}
-
-/// The state of one cell while it is stepped.
-struct CellSlot {
-    hull_db: f64,
-    kernel_db: f64,
-    curve_start_db: f64,
-    temp_c: f64,
-}
-
-/// Steps 1–6 of the module docs for one layer holding `dm` kg/m² of pod dry matter crossed by `air_kg` kg/m² of
-/// dry air in the step.
-#[inline(always)]
-#[allow(clippy::too_many_arguments)]
-fn step_cell<M: LayerMaterial + ?Sized>(
-    material: &M,
-    cell: &mut CellSlot,
-    dm: f64,
-    air: LayerAir,
-    air_kg: f64,
-    p_pa: f64,
-    dt_s: f64,
-    totals: &mut ColumnStepTotals,
-) -> LayerAir {
     let cp_dm = material.cp_dry_j_per_kg_k();
-    let m = &CellMoisture {
-        hull_db: cell.hull_db,
-        kernel_db: cell.kernel_db,
-        curve_start_db: cell.curve_start_db,
-    };
-    let th = &mut cell.temp_c;
-    let r = dm / air_kg;
-    let pod0 = material.pod_db(*m);
-    let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
-    let c_grain = cp_dm + CP_WATER * pod0;
-    // 1. sensible mixing
-    let t_e = (c_air * air.t_c + r * c_grain * *th) / (c_air + r * c_grain);
-    let rh_e = rh_from_humidity_ratio_tabulated(t_e, air.w, p_pa).min(1.0);
-    // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
-    let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
-    let ratio = material.latent_heat_ratio(t_e, *m);
-    let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
-    // 2. thin-layer law
-    let m_new = material.thin_layer_step(*m, t_e, rh_e, dt_s);
-    let mut d_m = pod0 - material.pod_db(m_new);
-    let out_state = |d_m: f64| {
-        let w_out = air.w + r * d_m;
-        let pod1 = pod0 - d_m;
-        let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
-            / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
-        (w_out, t_out)
-    };
-    let (mut w_out, mut t_out) = out_state(d_m);
-    let mut m_next = m_new;
-    // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
-    // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
-    if d_m > 0.0 {
-        let full = m_new;
-        let partial = |s: f64| CellMoisture {
-            hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
-            kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
-            curve_start_db: full.curve_start_db,
+    let mut air = air_in;
+    for k in 0..dry_matter_kg_per_m2.len() {
+        let dm = dry_matter_kg_per_m2[k];
+        if dm <= 0.0 {
+            continue;
+        }
+        let m = &CellMoisture {
+            hull_db: hull_db[k],
+            kernel_db: kernel_db[k],
+            curve_start_db: curve_start_db[k],
         };
-        let d_m_full = d_m;
-        // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
-        // near saturation.
-        let excess = |s: f64| {
-            let (w, t) = out_state(s * d_m_full);
-            let p_ws = saturation_pressure_tabulated_pa(t);
-            let dryness = (p_ws - vapour_pressure_from_humidity_ratio(w, p_pa)) / p_ws;
-            material.surface_erh_complement(partial(s), t) - dryness
+        let th = &mut temp_c[k];
+        let r = dm / air_kg;
+        let pod0 = material.pod_db(*m);
+        let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
+        let c_grain = cp_dm + CP_WATER * pod0;
+        // 1. sensible mixing
+        let t_e = (c_air * air.t_c + r * c_grain * *th) / (c_air + r * c_grain);
+        let rh_e = rh_from_humidity_ratio_tabulated(t_e, air.w, p_pa).min(1.0);
+        // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
+        let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
+        let ratio = material.latent_heat_ratio(t_e, *m);
+        let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
+        // 2. thin-layer law
+        let m_new = material.thin_layer_step(*m, t_e, rh_e, dt_s);
+        let mut d_m = pod0 - material.pod_db(m_new);
+        let out_state = |d_m: f64| {
+            let w_out = air.w + r * d_m;
+            let pod1 = pod0 - d_m;
+            let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
+                / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
+            (w_out, t_out)
         };
-        let e_hi = excess(1.0);
-        if e_hi > 0.0 {
-            // Illinois (modified regula falsi) on s: the excess rises with s, is ≤ 0 at s = 0 unless the air is
-            // already wetter than the hulls (then no drying at all). Converges in a handful of evaluations
-            // where bisection needed thirty; the bracket stays valid, so the result never overshoots.
-            let (mut lo, mut hi) = (0.0, 1.0);
-            let (mut f_lo, mut f_hi) = (excess(0.0), e_hi);
-            if f_lo >= 0.0 {
-                hi = 0.0;
-            } else {
-                let mut side = 0i8;
-                for _ in 0..40 {
-                    let mid = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
-                    let f_mid = excess(mid);
-                    if f_mid > 0.0 {
-                        hi = mid;
-                        f_hi = f_mid;
-                        if side == -1 {
-                            f_lo *= 0.5;
+        let (mut w_out, mut t_out) = out_state(d_m);
+        let mut m_next = m_new;
+        // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
+        // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
+        if d_m > 0.0 {
+            let full = m_new;
+            let partial = |s: f64| CellMoisture {
+                hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
+                kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
+                curve_start_db: full.curve_start_db,
+            };
+            let d_m_full = d_m;
+            // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
+            // near saturation.
+            let excess = |s: f64| {
+                let (w, t) = out_state(s * d_m_full);
+                let p_ws = saturation_pressure_tabulated_pa(t);
+                let dryness = (p_ws - vapour_pressure_from_humidity_ratio(w, p_pa)) / p_ws;
+                material.surface_erh_complement(partial(s), t) - dryness
+            };
+            let e_hi = excess(1.0);
+            if e_hi > 0.0 {
+                // Illinois (modified regula falsi) on s: the excess rises with s, is ≤ 0 at s = 0 unless the air is
+                // already wetter than the hulls (then no drying at all). Converges in a handful of evaluations
+                // where bisection needed thirty; the bracket stays valid, so the result never overshoots.
+                let (mut lo, mut hi) = (0.0, 1.0);
+                let (mut f_lo, mut f_hi) = (excess(0.0), e_hi);
+                if f_lo >= 0.0 {
+                    hi = 0.0;
+                } else {
+                    let mut side = 0i8;
+                    for _ in 0..40 {
+                        let mid = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
+                        let f_mid = excess(mid);
+                        if f_mid > 0.0 {
+                            hi = mid;
+                            f_hi = f_mid;
+                            if side == -1 {
+                                f_lo *= 0.5;
+                            }
+                            side = -1;
+                        } else {
+                            lo = mid;
+                            f_lo = f_mid;
+                            if side == 1 {
+                                f_hi *= 0.5;
+                            }
+                            side = 1;
                         }
-                        side = -1;
-                    } else {
-                        lo = mid;
-                        f_lo = f_mid;
-                        if side == 1 {
-                            f_hi *= 0.5;
+                        if hi - lo < 1e-9 || f_mid.abs() < 1e-12 {
+                            break;
                         }
-                        side = 1;
-                    }
-                    if hi - lo < 1e-9 || f_mid.abs() < 1e-12 {
-                        break;
                     }
                 }
+                let lo = lo.min(hi);
+                m_next = partial(lo);
+                d_m = lo * d_m_full;
+                (w_out, t_out) = out_state(d_m);
             }
-            let lo = lo.min(hi);
-            m_next = partial(lo);
-            d_m = lo * d_m_full;
-            (w_out, t_out) = out_state(d_m);
         }
-    }
-    // 5. condensation check
-    let mut p_ws_out = saturation_pressure_tabulated_pa(t_out);
-    let w_sat = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
-    if w_out > w_sat {
-        let pod1 = pod0 - d_m;
-        let e_rhs = e_in - r * d_m * extra_latent;
-        // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
-        let f = |t: f64| {
-            let ws = saturation_humidity_ratio_tabulated(t, p_pa);
-            let pod = pod1 + (w_out - ws) / r;
-            CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t - e_rhs
+        // 5. condensation check
+        let mut p_ws_out = saturation_pressure_tabulated_pa(t_out);
+        let w_sat = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
+        if w_out > w_sat {
+            let pod1 = pod0 - d_m;
+            let e_rhs = e_in - r * d_m * extra_latent;
+            // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
+            let f = |t: f64| {
+                let ws = saturation_humidity_ratio_tabulated(t, p_pa);
+                let pod = pod1 + (w_out - ws) / r;
+                CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t
+                    - e_rhs
+            };
+            let (mut lo, mut hi) = (t_out, t_out + 30.0);
+            while f(hi) < 0.0 {
+                hi += 30.0;
+            }
+            for _ in 0..60 {
+                let mid = 0.5 * (lo + hi);
+                if f(mid) > 0.0 {
+                    hi = mid;
+                } else {
+                    lo = mid;
+                }
+            }
+            let t_s = 0.5 * (lo + hi);
+            p_ws_out = saturation_pressure_tabulated_pa(t_s);
+            let w_s = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
+            let condensate = w_out - w_s;
+            m_next = material.add_water(m_next, condensate / r);
+            totals.condensate_kg_per_m2 += condensate * air_kg;
+            d_m -= condensate / r;
+            t_out = t_s;
+            w_out = w_s;
+            // The condensate's share of sorption heat is not counted: it returns as free water.
+            totals.sorption_heat_j_per_m2 += (pod0 - pod1) * dm * extra_latent;
+        } else {
+            totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
+        }
+        totals.water_removed_kg_per_m2 += d_m * dm;
+        totals.max_rh_out = totals
+            .max_rh_out
+            .max(vapour_pressure_from_humidity_ratio(w_out, p_pa) / p_ws_out);
+        hull_db[k] = m_next.hull_db;
+        kernel_db[k] = m_next.kernel_db;
+        curve_start_db[k] = m_next.curve_start_db;
+        *th = t_out;
+        air = LayerAir {
+            t_c: t_out,
+            w: w_out,
         };
-        let (mut lo, mut hi) = (t_out, t_out + 30.0);
-        while f(hi) < 0.0 {
-            hi += 30.0;
-        }
-        for _ in 0..60 {
-            let mid = 0.5 * (lo + hi);
-            if f(mid) > 0.0 {
-                hi = mid;
-            } else {
-                lo = mid;
-            }
-        }
-        let t_s = 0.5 * (lo + hi);
-        p_ws_out = saturation_pressure_tabulated_pa(t_s);
-        let w_s = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
-        let condensate = w_out - w_s;
-        m_next = material.add_water(m_next, condensate / r);
-        totals.condensate_kg_per_m2 += condensate * air_kg;
-        d_m -= condensate / r;
-        t_out = t_s;
-        w_out = w_s;
-        // The condensate's share of sorption heat is not counted: it returns as free water.
-        totals.sorption_heat_j_per_m2 += (pod0 - pod1) * dm * extra_latent;
-    } else {
-        totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
     }
-    totals.water_removed_kg_per_m2 += d_m * dm;
-    totals.max_rh_out = totals
-        .max_rh_out
-        .max(vapour_pressure_from_humidity_ratio(w_out, p_pa) / p_ws_out);
-    cell.hull_db = m_next.hull_db;
-    cell.kernel_db = m_next.kernel_db;
-    cell.curve_start_db = m_next.curve_start_db;
-    *th = t_out;
-    LayerAir {
-        t_c: t_out,
-        w: w_out,
-    }
+    (air, totals)
 }
