@@ -14,15 +14,14 @@
 //! 5. if RH(T_out, W_out) > 1, the air is brought to saturation on the same energy line and the condensate is
 //!    returned to the peanuts as liquid water;
 //! 6. if drying would leave the air more humid than the hulls' equilibrium RH, ΔM is scaled down until the two meet
-//!    (air cannot leave wetter than equilibrium with the pods it has just passed).
+//!    (air cannot leave wetter than equilibrium with the pods it has just passed), to within [`CAP_TOL_RH`] below.
 //!
 //! References: Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (layer structure; step details in our own
 //! notation, DOMAIN.md §6.1); ASHRAE Handbook—Fundamentals 2017 ch. 1 (moist-air enthalpy).
 
 use crate::props::psychro::{
-    humidity_ratio_from_vapour_pressure, rh_from_humidity_ratio_tabulated,
-    saturation_humidity_ratio_tabulated, saturation_pressure_tabulated_pa,
-    vapour_pressure_from_humidity_ratio, CP_DRY_AIR, CP_VAPOUR, CP_WATER, HFG0,
+    humidity_ratio_from_vapour_pressure, vapour_pressure_from_humidity_ratio, SaturationTable,
+    CP_DRY_AIR, CP_VAPOUR, CP_WATER, HFG0,
 };
 
 /// Moisture state of one cell's pods: up to two compartments (hull and kernel), dry basis decimal, each per kg of
@@ -149,8 +148,17 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         return (air_in, totals);
     }
     let cp_dm = material.cp_dry_j_per_kg_k();
+    let sat = SaturationTable::get();
+    // Re-sliced to one length so the loop below needs no bounds checks.
+    let n = dry_matter_kg_per_m2.len();
+    let (hull_db, kernel_db, curve_start_db, temp_c) = (
+        &mut hull_db[..n],
+        &mut kernel_db[..n],
+        &mut curve_start_db[..n],
+        &mut temp_c[..n],
+    );
     let mut air = air_in;
-    for k in 0..dry_matter_kg_per_m2.len() {
+    for k in 0..n {
         let dm = dry_matter_kg_per_m2[k];
         if dm <= 0.0 {
             continue;
@@ -167,7 +175,9 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         let c_grain = cp_dm + CP_WATER * pod0;
         // 1. sensible mixing
         let t_e = (c_air * air.t_c + r * c_grain * *th) / (c_air + r * c_grain);
-        let rh_e = rh_from_humidity_ratio_tabulated(t_e, air.w, p_pa).min(1.0);
+        let p_w_in = vapour_pressure_from_humidity_ratio(air.w, p_pa);
+        let p_ws_e = sat.pressure_pa(t_e);
+        let rh_e = (p_w_in / p_ws_e).min(1.0);
         // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
         let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
         let ratio = material.latent_heat_ratio(t_e, *m);
@@ -183,6 +193,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             (w_out, t_out)
         };
         let (mut w_out, mut t_out) = out_state(d_m);
+        let mut p_ws_out = sat.pressure_pa(t_out);
         let mut m_next = m_new;
         // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
         // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
@@ -196,61 +207,33 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             let d_m_full = d_m;
             // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
             // near saturation.
-            let excess = |s: f64| {
-                let (w, t) = out_state(s * d_m_full);
-                let p_ws = saturation_pressure_tabulated_pa(t);
+            let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
                 let dryness = (p_ws - vapour_pressure_from_humidity_ratio(w, p_pa)) / p_ws;
                 material.surface_erh_complement(partial(s), t) - dryness
             };
-            let e_hi = excess(1.0);
+            let e_hi = excess_at(1.0, w_out, t_out, p_ws_out);
             if e_hi > 0.0 {
-                // Illinois (modified regula falsi) on s: the excess rises with s, is ≤ 0 at s = 0 unless the air is
-                // already wetter than the hulls (then no drying at all). Converges in a handful of evaluations
-                // where bisection needed thirty; the bracket stays valid, so the result never overshoots.
-                let (mut lo, mut hi) = (0.0, 1.0);
-                let (mut f_lo, mut f_hi) = (excess(0.0), e_hi);
-                if f_lo >= 0.0 {
-                    hi = 0.0;
-                } else {
-                    let mut side = 0i8;
-                    for _ in 0..40 {
-                        let mid = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
-                        let f_mid = excess(mid);
-                        if f_mid > 0.0 {
-                            hi = mid;
-                            f_hi = f_mid;
-                            if side == -1 {
-                                f_lo *= 0.5;
-                            }
-                            side = -1;
-                        } else {
-                            lo = mid;
-                            f_lo = f_mid;
-                            if side == 1 {
-                                f_hi *= 0.5;
-                            }
-                            side = 1;
-                        }
-                        if hi - lo < 1e-9 || f_mid.abs() < 1e-12 {
-                            break;
-                        }
-                    }
-                }
-                let lo = lo.min(hi);
-                m_next = partial(lo);
-                d_m = lo * d_m_full;
+                // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
+                // saturation pressure is known already.
+                let e_lo = material.surface_erh_complement(*m, t_e) - (p_ws_e - p_w_in) / p_ws_e;
+                let s = cap_fraction(e_lo, e_hi, |s| {
+                    let (w, t) = out_state(s * d_m_full);
+                    excess_at(s, w, t, sat.pressure_pa(t))
+                });
+                m_next = partial(s);
+                d_m = s * d_m_full;
                 (w_out, t_out) = out_state(d_m);
+                p_ws_out = sat.pressure_pa(t_out);
             }
         }
         // 5. condensation check
-        let mut p_ws_out = saturation_pressure_tabulated_pa(t_out);
         let w_sat = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
         if w_out > w_sat {
             let pod1 = pod0 - d_m;
             let e_rhs = e_in - r * d_m * extra_latent;
             // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
             let f = |t: f64| {
-                let ws = saturation_humidity_ratio_tabulated(t, p_pa);
+                let ws = sat.saturation_humidity_ratio(t, p_pa);
                 let pod = pod1 + (w_out - ws) / r;
                 CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t
                     - e_rhs
@@ -268,7 +251,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
                 }
             }
             let t_s = 0.5 * (lo + hi);
-            p_ws_out = saturation_pressure_tabulated_pa(t_s);
+            p_ws_out = sat.pressure_pa(t_s);
             let w_s = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
             let condensate = w_out - w_s;
             m_next = material.add_water(m_next, condensate / r);
@@ -295,4 +278,126 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         };
     }
     (air, totals)
+}
+
+/// How close below the hulls' equilibrium RH (decimal) the equilibrium cap lets the exhaust leave: the capped step
+/// removes at most this much less water than the exact cap would, never more.
+pub const CAP_TOL_RH: f64 = 1e-8;
+
+/// The equilibrium cap's fraction: for a continuous excess `f` on [0, 1] (exhaust RH over the hulls' equilibrium RH)
+/// with `f(0) = f_lo < 0 < f(1) = f_hi`, a point `s` with `−CAP_TOL_RH ≤ f(s) ≤ 0`, or failing that the end of a
+/// shrunken bracket where `f < 0`; never a point where `f > 0`. Returns 0 if `f_lo` is already within tolerance of 0 or
+/// above it.
+///
+/// The excess is close to linear in `s`, so the root is aimed at `−CAP_TOL_RH / 2` by inverse quadratic
+/// interpolation through the bracket ends and the last point dropped from it, which lands inside the tolerance in
+/// one or two evaluations; false position with the Illinois weight halving takes over whenever that estimate falls
+/// outside the bracket.
+pub fn cap_fraction(f_lo: f64, f_hi: f64, mut f: impl FnMut(f64) -> f64) -> f64 {
+    if f_lo >= -CAP_TOL_RH {
+        return 0.0;
+    }
+    let aim = -0.5 * CAP_TOL_RH;
+    // Bracket [a, b] with g = f − aim: g(a) < 0 < g(b); `wa`, `wb` are the Illinois weights of the two ends.
+    let (mut a, mut ga) = (0.0, f_lo - aim);
+    let (mut b, mut gb) = (1.0, f_hi - aim);
+    let (mut wa, mut wb) = (ga, gb);
+    let mut dropped: Option<(f64, f64)> = None;
+    let mut side = 0i8;
+    for _ in 0..60 {
+        let false_position = a - wa * (b - a) / (wb - wa);
+        let x = dropped
+            .map(|(c, gc)| inverse_quadratic_root((a, ga), (b, gb), (c, gc)))
+            .filter(|x| *x > a && *x < b)
+            .unwrap_or(false_position);
+        let fx = f(x);
+        if (-CAP_TOL_RH..=0.0).contains(&fx) {
+            return x;
+        }
+        let gx = fx - aim;
+        if gx < 0.0 {
+            dropped = Some((a, ga));
+            (a, ga, wa) = (x, gx, gx);
+            if side == 1 {
+                wb *= 0.5;
+            }
+            side = 1;
+        } else {
+            dropped = Some((b, gb));
+            (b, gb, wb) = (x, gx, gx);
+            if side == -1 {
+                wa *= 0.5;
+            }
+            side = -1;
+        }
+        if b - a < 1e-12 {
+            break;
+        }
+    }
+    a
+}
+
+/// Root of the quadratic in g through three points (x, g), i.e. the x where the inverse quadratic interpolant gives
+/// g = 0 (Lagrange form); NaN if two g values coincide.
+fn inverse_quadratic_root((a, ga): (f64, f64), (b, gb): (f64, f64), (c, gc): (f64, f64)) -> f64 {
+    a * gb * gc / ((ga - gb) * (ga - gc))
+        + b * ga * gc / ((gb - ga) * (gb - gc))
+        + c * ga * gb / ((gc - ga) * (gc - gb))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Runs the cap's root finder on `f`, counting evaluations; checks it never returns a point where the exhaust
+    /// would be wetter than equilibrium and, where `f` is continuous, lands within the tolerance.
+    fn solve(f: impl Fn(f64) -> f64, continuous: bool) -> (f64, usize) {
+        let mut evaluations = 0;
+        let s = cap_fraction(f(0.0), f(1.0), |s| {
+            evaluations += 1;
+            f(s)
+        });
+        assert!((0.0..=1.0).contains(&s), "s = {s}");
+        assert!(f(s) <= 0.0, "f({s}) = {:e} is on the wet side", f(s));
+        if continuous {
+            assert!(
+                f(s) >= -CAP_TOL_RH,
+                "f({s}) = {:e} is further than the tolerance",
+                f(s)
+            );
+        }
+        (s, evaluations)
+    }
+
+    #[test]
+    fn cap_fraction_lands_inside_the_tolerance_on_the_dry_side() {
+        // Near-linear excesses, as the layer step meets them (a bend of a per cent or so of their span either way),
+        // take at most three evaluations (one when exactly linear).
+        for curvature in [-0.05, 0.0, 0.05] {
+            for root in [0.03, 0.3, 0.97] {
+                let f = |s: f64| 0.02 * (s - root) + curvature * 0.02 * (s - root).powi(2);
+                let (s, n) = solve(f, true);
+                assert!((s - root).abs() < 1e-6, "{s} vs {root}");
+                assert!(
+                    n <= 3,
+                    "{n} evaluations, curvature {curvature}, root {root}"
+                );
+            }
+        }
+        // Strongly curved and steep excesses still converge.
+        solve(|s: f64| s.powi(8) - 0.2, true);
+        solve(|s: f64| (20.0 * s).exp() - 2.0, true);
+        solve(|s: f64| 1e-3 * ((s - 0.999_999) / 1e-7).tanh(), true);
+        // A jump: the answer stays below it.
+        let (s, _) = solve(|s: f64| if s < 0.4 { -0.1 } else { 0.1 }, false);
+        assert!((s - 0.4).abs() < 1e-9, "{s}");
+    }
+
+    #[test]
+    fn cap_fraction_is_zero_when_the_air_is_already_at_equilibrium() {
+        for f_lo in [0.01, 0.0, -0.1 * CAP_TOL_RH] {
+            let s = cap_fraction(f_lo, 0.02, |_| panic!("not evaluated"));
+            assert!(s.abs() < f64::MIN_POSITIVE, "{s}");
+        }
+    }
 }
