@@ -156,6 +156,17 @@ fn clamp_rh(rh: f64) -> f64 {
     rh.clamp(RH_MIN, RH_MAX)
 }
 
+/// `−ln(1 − rh)`, the log complement of an RH, to full precision. From 0.5 up the subtraction `1 − rh` is exact
+/// (Sterbenz lemma), so the plain logarithm, several times cheaper than `ln_1p`, is exactly as accurate there.
+#[inline]
+fn log_complement(rh: f64) -> f64 {
+    if rh >= 0.5 {
+        -(1.0 - rh).ln()
+    } else {
+        -(-rh).ln_1p()
+    }
+}
+
 #[inline]
 fn positive(term: f64) -> f64 {
     term.max(TEMP_TERM_MIN)
@@ -193,7 +204,7 @@ impl Isotherm {
         let rh = clamp_rh(rh);
         let m_fit = match *self {
             Isotherm::ModifiedHenderson { a, b, c, .. } => {
-                ((-(-rh).ln_1p()) / (a * positive(t_c + c))).powf(1.0 / b)
+                (log_complement(rh) / (a * positive(t_c + c))).powf(1.0 / b)
             }
             Isotherm::ModifiedChungPfost { a, b, c, .. } => {
                 -(positive(t_c + c) * (-rh.ln()) / a).ln() / b
@@ -210,7 +221,7 @@ impl Isotherm {
                 a * g * y / ((1.0 - y) * (1.0 - y + g * y))
             }
             Isotherm::Cromarty { oil_content_db } => {
-                (-440.0 * (-rh).ln_1p()).sqrt() * (1.0 - oil_content_db) / (1.1 + t_c / 90.0)
+                (440.0 * log_complement(rh)).sqrt() * (1.0 - oil_content_db) / (1.1 + t_c / 90.0)
             }
         };
         (m_fit / self.unit().scale()).max(0.0)
@@ -265,7 +276,7 @@ impl Isotherm {
             if rh >= 1.0 || rh.is_nan() {
                 return (U_CAP, 0.0);
             }
-            let u = -(-rh).ln_1p();
+            let u = log_complement(rh);
             if u >= U_CAP {
                 (U_CAP, 0.0)
             } else {
@@ -530,5 +541,21 @@ mod tests {
             unit: MoistureUnit::DecimalDb,
         };
         assert_eq!(iso.check().unwrap_err().0, "b");
+    }
+
+    #[test]
+    fn log_complement_matches_ln_1p_on_both_branches() {
+        // Reference: std's ln_1p, correctly rounded to within an ulp or so; the plain-log branch must not lose digits.
+        let mut worst: f64 = 0.0;
+        for i in 1..100_000 {
+            let rh = i as f64 / 100_000.0;
+            let reference = -(-rh).ln_1p();
+            worst = worst.max((log_complement(rh) / reference - 1.0).abs());
+        }
+        for rh in [RH_MAX, 1.0 - 1e-6, 0.999_999_999_9, 0.5, 0.5 - 1e-16] {
+            let reference = -(-rh).ln_1p();
+            worst = worst.max((log_complement(rh) / reference - 1.0).abs());
+        }
+        assert!(worst < 1e-15, "worst relative difference {worst:e}");
     }
 }

@@ -33,7 +33,7 @@
 //! References: ASAE S448 (thin-layer drying); Page, Henderson–Pabis and two-term forms as tabulated in thin-layer
 //! papers (DOMAIN.md §3.2); Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (time form from memory).
 
-use crate::props::sorption::Sorption;
+use crate::props::sorption::{Isotherm, Sorption, U_MAX, U_MIN};
 use crate::units::wb_from_db;
 
 /// Molar gas constant, J/(mol·K) (CODATA 2018, exact).
@@ -61,6 +61,28 @@ impl ArrheniusRate {
         self.k_ref_per_h
             * (-self.activation_energy_j_per_mol / R_GAS_J_PER_MOL_K * inv - self.rh_slope * rh)
                 .exp()
+    }
+}
+
+impl ArrheniusRate {
+    /// This law's rate at `t_c` and RH 0, given `other`'s rate `k_other` at the same `t_c` (and any RH): a ratio of
+    /// reference rates, with no second exponential, when both laws share activation energy and reference
+    /// temperature and `other` has no RH factor; computed afresh otherwise.
+    #[inline]
+    fn k_per_h_beside(&self, other: &ArrheniusRate, k_other: f64, t_c: f64) -> f64 {
+        // Identical constants, bit for bit: only then is the ratio exactly the same law.
+        let same = |a: f64, b: f64| a.to_bits() == b.to_bits();
+        if same(
+            self.activation_energy_j_per_mol,
+            other.activation_energy_j_per_mol,
+        ) && same(self.t_ref_c, other.t_ref_c)
+            && other.rh_slope == 0.0
+            && other.k_ref_per_h > 0.0
+        {
+            k_other * (self.k_ref_per_h / other.k_ref_per_h)
+        } else {
+            self.k_per_h(t_c, 0.0)
+        }
     }
 }
 
@@ -113,6 +135,17 @@ impl ThinLayer {
             self,
             ThinLayer::Exponential { .. } | ThinLayer::HendersonPabis { .. }
         )
+    }
+
+    /// The Arrhenius law of the first (or only) rate constant; `None` for Thompson's form.
+    pub fn rate(&self) -> Option<&ArrheniusRate> {
+        match self {
+            ThinLayer::Exponential { rate }
+            | ThinLayer::Page { rate, .. }
+            | ThinLayer::HendersonPabis { rate, .. }
+            | ThinLayer::TwoTerm { rate, .. } => Some(rate),
+            ThinLayer::ThompsonCorn => None,
+        }
     }
 
     /// The first (or only) rate constant at (t_c, rh), per hour; Thompson's form returns the equivalent
@@ -386,6 +419,9 @@ pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> 
             let step = TwoCompartmentStep::new(hull, kernel, *hull_fraction, s, t_c, rh, dt_s);
             let lin = step.linearise(s.m_hull_db);
             let first = step.solve(&lin);
+            if step.line_is_exact(&lin, first.m_hull_db) {
+                return first;
+            }
             let mid = step.linearise(0.5 * (s.m_hull_db + first.m_hull_db));
             if lin.same_line_as(&mid) {
                 // M_k* is linear over the step (e.g. two Cromarty curves, whose temperature factors cancel): the
@@ -418,6 +454,8 @@ struct TwoCompartmentStep<'a> {
 /// `M_k*(M_h)` linearised about a hull moisture: `M_k* ≈ value + slope·(M_h − m_lin)`, and the kernel rate there.
 struct KernelLine {
     m_lin: f64,
+    /// Log complement of the hull's equilibrium RH at `m_lin`.
+    u_lin: f64,
     value: f64,
     slope: f64,
     k_kh: f64,
@@ -445,11 +483,15 @@ impl<'a> TwoCompartmentStep<'a> {
         rh: f64,
         dt_s: f64,
     ) -> Self {
+        let k_h = hull.thin_layer.k_per_h(t_c, rh);
         let k_kh_fixed = match kernel.thin_layer {
             ThinLayer::Exponential { rate } | ThinLayer::HendersonPabis { rate, .. }
                 if rate.rh_slope == 0.0 =>
             {
-                Some(rate.k_per_h(t_c, 0.0))
+                Some(match hull.thin_layer.rate() {
+                    Some(hull_rate) => rate.k_per_h_beside(hull_rate, k_h, t_c),
+                    None => rate.k_per_h(t_c, 0.0),
+                })
             }
             _ => None,
         };
@@ -461,9 +503,28 @@ impl<'a> TwoCompartmentStep<'a> {
             t_c,
             dt_h: dt_s.max(0.0) / 3600.0,
             m_e_h: hull.sorption.target_db(t_c, rh, s.m_hull_db),
-            k_h: hull.thin_layer.k_per_h(t_c, rh),
+            k_h,
             k_kh_fixed,
         }
+    }
+
+    /// Whether `line` (taken at the step's start) is `M_k*` itself over the whole step, up to the hull moisture
+    /// `m_end`, so that re-linearising could only give the same system. True for a hull and kernel that both follow
+    /// the Cromarty equation, `u = (M·g(T)/(1 − D_o))²/440` in the log complement `u`, where
+    /// `M_k* = M_h·(1 − D_k)/(1 − D_h)` whatever the temperature, provided neither end is clamped (the slope at the
+    /// start is positive, and `u` at `m_end`, `u_lin·(m_end/m_lin)²`, lies inside the EMC forms' range
+    /// [`U_MIN`, `U_MAX`]; `u` rises with `M`, so every point between is inside too) and the kernel rate does not
+    /// depend on the humidity inside the hull.
+    fn line_is_exact(&self, line: &KernelLine, m_end: f64) -> bool {
+        matches!(
+            (
+                self.hull.sorption.desorption,
+                self.kernel.sorption.desorption
+            ),
+            (Isotherm::Cromarty { .. }, Isotherm::Cromarty { .. })
+        ) && self.k_kh_fixed.is_some()
+            && line.slope > 0.0
+            && (U_MIN..=U_MAX).contains(&(line.u_lin * (m_end / line.m_lin).powi(2)))
     }
 
     /// `M_k*(M_h) = EMC_kernel(T, ERH_hull(T, M_h))` and its exact slope at `m_lin`, chained through the log
@@ -484,6 +545,7 @@ impl<'a> TwoCompartmentStep<'a> {
             .unwrap_or_else(|| self.kernel.thin_layer.k_per_h(self.t_c, -(-u).exp_m1()));
         KernelLine {
             m_lin,
+            u_lin: u,
             value,
             slope: (dk_du * du_dm).max(0.0),
             k_kh,
@@ -498,6 +560,7 @@ impl<'a> TwoCompartmentStep<'a> {
             value,
             slope,
             k_kh,
+            ..
         } = *line;
         let (r, k_h, s) = (self.r, self.k_h, self.s);
         let a11 = -k_h - r * k_kh * slope;
@@ -546,6 +609,97 @@ fn expm2(a: [[f64; 2]; 2], t: f64) -> [[f64; 2]; 2] {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn cromarty_pod(k_h: f64, k_kh: f64, ea_kernel: f64) -> PodModel {
+        let compartment = |oil: f64, k: f64, ea: f64| Compartment {
+            sorption: Sorption {
+                desorption: Isotherm::Cromarty {
+                    oil_content_db: oil,
+                },
+                adsorption_offset_db: 0.01,
+            },
+            thin_layer: ThinLayer::Exponential {
+                rate: ArrheniusRate {
+                    k_ref_per_h: k,
+                    t_ref_c: 35.0,
+                    activation_energy_j_per_mol: ea,
+                    rh_slope: 0.0,
+                },
+            },
+        };
+        PodModel::TwoCompartment {
+            hull: compartment(0.0, k_h, 30_000.0),
+            kernel: compartment(0.48, k_kh, ea_kernel),
+            hull_fraction: 0.25,
+        }
+    }
+
+    /// The one-pass shortcut for two Cromarty compartments gives what the re-linearised second pass gives.
+    #[test]
+    fn exact_kernel_line_skips_only_a_pass_that_changes_nothing() {
+        let model = cromarty_pod(0.5, 0.09, 30_000.0);
+        let PodModel::TwoCompartment { hull, kernel, .. } = model else {
+            unreachable!()
+        };
+        let mut shortcuts = 0;
+        for &(m_h, m_k, t_c, rh, dt_s) in &[
+            (0.30, 0.25, 35.0, 0.40, 360.0),
+            (0.12, 0.11, 30.0, 0.85, 360.0),
+            (0.08, 0.10, 20.0, 0.95, 3600.0),
+            (0.50, 0.40, 45.0, 0.20, 900.0),
+            (0.20, 0.09, 25.0, 0.70, 36_000.0),
+        ] {
+            let s = PodState {
+                m_hull_db: m_h,
+                m_kernel_db: m_k,
+                m_curve_start_db: m_k,
+            };
+            let step = TwoCompartmentStep::new(&hull, &kernel, 0.25, s, t_c, rh, dt_s);
+            let lin = step.linearise(m_h);
+            let first = step.solve(&lin);
+            let two_pass = step.solve(&step.linearise(0.5 * (m_h + first.m_hull_db)));
+            if step.line_is_exact(&lin, first.m_hull_db) {
+                shortcuts += 1;
+            }
+            let got = model.step(s, t_c, rh, dt_s);
+            assert!(
+                (got.m_hull_db - two_pass.m_hull_db).abs() < 1e-13,
+                "{got:?} {two_pass:?}"
+            );
+            assert!(
+                (got.m_kernel_db - two_pass.m_kernel_db).abs() < 1e-13,
+                "{got:?} {two_pass:?}"
+            );
+        }
+        assert!(
+            shortcuts >= 4,
+            "the shortcut should apply in ordinary states ({shortcuts})"
+        );
+    }
+
+    /// The kernel rate taken as a ratio beside the hull's equals the rate computed on its own, and a different
+    /// activation energy falls back to computing it.
+    #[test]
+    fn kernel_rate_beside_the_hull_rate_equals_its_own() {
+        for ea_kernel in [30_000.0, 25_000.0] {
+            let PodModel::TwoCompartment { hull, kernel, .. } = cromarty_pod(0.5, 0.09, ea_kernel)
+            else {
+                unreachable!()
+            };
+            let (h, k) = (
+                hull.thin_layer.rate().unwrap(),
+                kernel.thin_layer.rate().unwrap(),
+            );
+            for t_c in [5.0, 25.0, 35.0, 50.0] {
+                let beside = k.k_per_h_beside(h, h.k_per_h(t_c, 0.6), t_c);
+                let own = k.k_per_h(t_c, 0.0);
+                assert!(
+                    (beside / own - 1.0).abs() < 1e-14,
+                    "{ea_kernel} J/mol, {t_c} °C: {beside} vs {own}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn matrix_exponential_of_diagonal_is_elementwise() {
