@@ -3,7 +3,7 @@
 //! Each column's depth is split into `nz` equal layers (a terrain-following grid), so an uneven fill keeps the same
 //! layer count everywhere.
 
-use ndarray::{Array2, Array3};
+use ndarray::{Array2, Array3, Zip};
 
 use super::layer::{CellMoisture, LayerMaterial};
 use crate::error::{check_range, InputError};
@@ -156,21 +156,30 @@ impl BedState {
 
     /// Total water held, kg.
     pub fn water_kg<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
-        let mut sum = 0.0;
-        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
-            sum += material.pod_db(self.cell(i, j, k)) * dm;
-        }
+        let sum = Zip::from(&self.hull_db)
+            .and(&self.kernel_db)
+            .and(&self.curve_start_db)
+            .and(&self.dry_matter_kg_per_m2)
+            .fold(0.0, |sum, &hull_db, &kernel_db, &curve_start_db, &dm| {
+                let m = CellMoisture {
+                    hull_db,
+                    kernel_db,
+                    curve_start_db,
+                };
+                sum + material.pod_db(m) * dm
+            });
         sum * self.column_area_m2
     }
 
     /// Mass-weighted mean kernel moisture, wet basis decimal (the trade's moisture).
     pub fn mean_kernel_wb<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
-        let (mut water, mut dry) = (0.0, 0.0);
-        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
-            let kdm = dm * material.kernel_fraction();
-            water += self.kernel_db[[i, j, k]] * kdm;
-            dry += kdm;
-        }
+        let kf = material.kernel_fraction();
+        let (water, dry) = Zip::from(&self.kernel_db)
+            .and(&self.dry_matter_kg_per_m2)
+            .fold((0.0, 0.0), |(water, dry), &m, &dm| {
+                let kdm = dm * kf;
+                (water + m * kdm, dry + kdm)
+            });
         wb_from_db(water / dry)
     }
 
@@ -198,11 +207,22 @@ impl BedState {
     /// Total heat held by the peanuts and their water above 0 °C, J (sensible only).
     pub fn sensible_heat_j<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
         let cp_dm = material.cp_dry_j_per_kg_k();
-        let mut sum = 0.0;
-        for ((i, j, k), dm) in self.dry_matter_kg_per_m2.indexed_iter() {
-            let pod = material.pod_db(self.cell(i, j, k));
-            sum += dm * (cp_dm + crate::props::psychro::CP_WATER * pod) * self.temp_c[[i, j, k]];
-        }
+        let sum = Zip::from(&self.hull_db)
+            .and(&self.kernel_db)
+            .and(&self.curve_start_db)
+            .and(&self.dry_matter_kg_per_m2)
+            .and(&self.temp_c)
+            .fold(
+                0.0,
+                |sum, &hull_db, &kernel_db, &curve_start_db, &dm, &t| {
+                    let pod = material.pod_db(CellMoisture {
+                        hull_db,
+                        kernel_db,
+                        curve_start_db,
+                    });
+                    sum + dm * (cp_dm + crate::props::psychro::CP_WATER * pod) * t
+                },
+            );
         sum * self.column_area_m2
     }
 }
