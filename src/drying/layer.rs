@@ -21,7 +21,7 @@
 
 use crate::props::psychro::{
     humidity_ratio_from_vapour_pressure, vapour_pressure_from_humidity_ratio, SaturationTable,
-    CP_DRY_AIR, CP_VAPOUR, CP_WATER, HFG0,
+    CP_DRY_AIR, CP_VAPOUR, CP_WATER, EPS_WATER_AIR, HFG0,
 };
 
 /// Moisture state of one cell's pods: up to two compartments (hull and kernel), dry basis decimal, each per kg of
@@ -45,10 +45,11 @@ pub trait LayerMaterial: Sync {
     fn pod_db(&self, m: CellMoisture) -> f64;
     /// Equilibrium RH (decimal) of the outer compartment at `t_c`: the air leaving a layer cannot be wetter.
     fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64;
-    /// `1 − surface_erh`, which the equilibrium cap compares with the air's `1 − RH` (override where it is
-    /// cheaper or more precise near saturation than the subtraction).
-    fn surface_erh_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
-        1.0 - self.surface_erh(m, t_c)
+    /// `u = −ln(1 − surface_erh)`, the log complement of that equilibrium RH: the equilibrium cap compares
+    /// `exp(−u)` with the air's `1 − RH` (override where it is cheaper, or more precise near saturation, than
+    /// through the ERH).
+    fn surface_erh_log_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
+        -(1.0 - self.surface_erh(m, t_c)).ln()
     }
     /// Latent heat of bound water over that of free water (≥ 1) for a cell in state `m`.
     fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64;
@@ -207,15 +208,29 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             let d_m_full = d_m;
             // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
             // near saturation.
-            let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
-                let dryness = (p_ws - vapour_pressure_from_humidity_ratio(w, p_pa)) / p_ws;
-                material.surface_erh_complement(partial(s), t) - dryness
+            // 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
+            let dryness = |w: f64, p_ws: f64| {
+                let eps_w = EPS_WATER_AIR + w;
+                (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
             };
-            let e_hi = excess_at(1.0, w_out, t_out, p_ws_out);
+            let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
+                (-material.surface_erh_log_complement(partial(s), t)).exp() - dryness(w, p_ws)
+            };
+            let u_hi = material.surface_erh_log_complement(partial(1.0), t_out);
+            let dryness_hi = dryness(w_out, p_ws_out);
+            // exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness is
+            // not positive, and most uncapped cells are settled without the exponential.
+            let surely_below = dryness_hi * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi / 6.0))) >= 1.0;
+            let e_hi = if surely_below {
+                0.0
+            } else {
+                (-u_hi).exp() - dryness_hi
+            };
             if e_hi > 0.0 {
                 // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
                 // saturation pressure is known already.
-                let e_lo = material.surface_erh_complement(*m, t_e) - (p_ws_e - p_w_in) / p_ws_e;
+                let e_lo = (-material.surface_erh_log_complement(*m, t_e)).exp()
+                    - (p_ws_e - p_w_in) / p_ws_e;
                 let s = cap_fraction(e_lo, e_hi, |s| {
                     let (w, t) = out_state(s * d_m_full);
                     excess_at(s, w, t, sat.pressure_pa(t))

@@ -85,14 +85,13 @@ impl LayerMaterial for CropMaterial {
         self.model.hull().sorption.desorption.erh(t_c, m.hull_db)
     }
     #[inline]
-    fn surface_erh_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
-        let (u, _) = self
-            .model
+    fn surface_erh_log_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
+        self.model
             .hull()
             .sorption
             .desorption
-            .erh_log_complement(t_c, m.hull_db);
-        (-u).exp()
+            .erh_log_complement(t_c, m.hull_db)
+            .0
     }
     #[inline]
     fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {

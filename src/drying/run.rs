@@ -11,7 +11,7 @@ use rayon::prelude::*;
 use super::bed::BedState;
 use super::heater::Heater;
 use super::layer::{
-    step_column, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
+    step_column, CellMoisture, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
 };
 use crate::props::psychro::{self, AirState};
 use crate::units::{db_from_wb, wb_from_db};
@@ -313,6 +313,12 @@ struct ColumnResult {
     totals: ColumnStepTotals,
     exhaust: LayerAir,
     dry_air_kg_per_m2: f64,
+    /// Pod water after the step, Σ pod moisture (d.b.) × dry matter, kg/m².
+    pod_water_kg_per_m2: f64,
+    /// Σ kernel moisture (d.b.) × pod dry matter after the step, kg/m² (the kernel share cancels in the mean).
+    kernel_db_dm_kg_per_m2: f64,
+    /// Hottest cell after the step, °C.
+    max_temp_c: f64,
 }
 
 /// Run one load. `bed` is advanced in place.
@@ -328,6 +334,9 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
     let (nx, ny, nz) = bed.dim();
     let area = bed.column_area_m2;
     let initial_kernel_wb = bed.mean_kernel_wb(material);
+    // Bed totals that the loop reads every step, kept up to date from the columns' results so that no serial pass
+    // over the bed is needed: mean kernel moisture (wet basis) and water held (kg).
+    let mut mean_kernel_now = initial_kernel_wb;
     if settings.target_kernel_wb >= initial_kernel_wb {
         return Err(RunError::TargetNotBelowInitial {
             target: settings.target_kernel_wb * 100.0,
@@ -337,6 +346,8 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
     let first = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
     let dry_kg = bed.dry_matter_kg();
     let water_start = bed.water_kg(material);
+    let mut water_now = water_start;
+    let dry_per_area: f64 = bed.dry_matter_kg_per_m2.sum();
     let sensible_start = bed.sensible_heat_j(material);
     let initial_mass = dry_kg + water_start;
 
@@ -376,7 +387,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
 
     loop {
         let hours = t_s / 3600.0;
-        let mean_kernel = bed.mean_kernel_wb(material);
+        let mean_kernel = mean_kernel_now;
         let target = settings.target_kernel_wb;
         // Crossing times are interpolated within the step, so they do not jump by whole steps.
         // The fraction rule needs a sort of every cell; it can only hold once the mean is at most
@@ -448,7 +459,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
 
         // Airflow: re-solve when the air density or the bed's moisture has moved enough.
         let density = sample.air.density_kg_per_m3();
-        let mean_pod = bed.water_kg(material) / dry_kg;
+        let mean_pod = water_now / dry_kg;
         if (density / field_density - 1.0).abs() > settings.reflow_density_rel
             || (mean_pod - field_moisture).abs() > settings.reflow_moisture_db
         {
@@ -522,17 +533,31 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
                     ..forcing_base
                 };
                 let column = ColumnMut {
-                    hull_db: h,
-                    kernel_db: k,
-                    curve_start_db: c,
-                    temp_c: t,
+                    hull_db: &mut *h,
+                    kernel_db: &mut *k,
+                    curve_start_db: &mut *c,
+                    temp_c: &mut *t,
                     dry_matter_kg_per_m2: d,
                 };
                 let (exhaust, totals) = step_column(material, column, forcing);
+                let (mut pod_water, mut kernel_db_dm, mut max_temp) = (0.0, 0.0, f64::MIN);
+                for i in 0..d.len() {
+                    let cell = CellMoisture {
+                        hull_db: h[i],
+                        kernel_db: k[i],
+                        curve_start_db: c[i],
+                    };
+                    pod_water += material.pod_db(cell) * d[i];
+                    kernel_db_dm += k[i] * d[i];
+                    max_temp = f64::max(max_temp, t[i]);
+                }
                 ColumnResult {
                     totals,
                     exhaust,
                     dry_air_kg_per_m2: g * settings.dt_s,
+                    pod_water_kg_per_m2: pod_water,
+                    kernel_db_dm_kg_per_m2: kernel_db_dm,
+                    max_temp_c: max_temp,
                 }
             })
             .collect_into_vec(&mut results);
@@ -541,7 +566,11 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         let h_amb = sample.air.enthalpy_j_per_kg();
         let h_plenum = plenum.enthalpy_j_per_kg();
         let mut removed = 0.0;
+        let (mut pod_water, mut kernel_db_dm, mut peak) = (0.0, 0.0, f64::MIN);
         for r in &results {
+            pod_water += r.pod_water_kg_per_m2;
+            kernel_db_dm += r.kernel_db_dm_kg_per_m2;
+            peak = f64::max(peak, r.max_temp_c);
             let air_kg = r.dry_air_kg_per_m2 * area;
             if air_kg <= 0.0 {
                 continue;
@@ -564,8 +593,9 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
             bal.max_removal_vs_adiabatic = bal.max_removal_vs_adiabatic.max(removed / bound);
         }
 
+        water_now = pod_water * area;
+        mean_kernel_now = wb_from_db(kernel_db_dm / dry_per_area);
         t_s += settings.dt_s;
-        let peak = bed.temp_c.iter().cloned().fold(f64::MIN, f64::max);
         if !peak.is_finite() {
             return Err(RunError::NonPhysical {
                 quantity: "peanut temperature",

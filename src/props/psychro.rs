@@ -10,7 +10,8 @@
 /// Standard sea-level atmospheric pressure, Pa.
 pub const P_STD_PA: f64 = 101_325.0;
 /// Ratio of molar masses of water and dry air (ASHRAE 2017 ch. 1 eq. 20).
-const EPS: f64 = 0.621_945;
+pub const EPS_WATER_AIR: f64 = 0.621_945;
+const EPS: f64 = EPS_WATER_AIR;
 /// Triple point of water, °C; the saturation curve switches from ice to water here.
 const T_TRIPLE_C: f64 = 0.01;
 /// Specific heat of dry air, J/(kg·K) (ASHRAE 2017 eq. 32, 1.006 kJ/kg·K).

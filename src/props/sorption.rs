@@ -221,7 +221,9 @@ impl Isotherm {
                 a * g * y / ((1.0 - y) * (1.0 - y + g * y))
             }
             Isotherm::Cromarty { oil_content_db } => {
-                (440.0 * log_complement(rh)).sqrt() * (1.0 - oil_content_db) / (1.1 + t_c / 90.0)
+                // Already in dry-basis decimal: the factor (divisions included) does not wait for the logarithm.
+                let factor = (1.0 - oil_content_db) / ((1.1 + t_c / 90.0) * 100.0);
+                return ((440.0 * log_complement(rh)).sqrt() * factor).max(0.0);
             }
         };
         (m_fit / self.unit().scale()).max(0.0)
@@ -320,10 +322,11 @@ impl Isotherm {
                 via_rh(rh, if dm_drh > 0.0 { 1.0 / dm_drh } else { 0.0 })
             }
         };
-        if u.is_nan() || u >= U_CAP {
-            (U_CAP, 0.0)
-        } else {
+        // NaN fails the test too.
+        if u < U_CAP {
             (u, du_dm)
+        } else {
+            (U_CAP, 0.0)
         }
     }
 
@@ -367,7 +370,7 @@ impl Isotherm {
             }
         };
         let m_db = m_fit / s;
-        if m_db <= 0.0 || !m_db.is_finite() {
+        if !(m_db > 0.0 && m_db < f64::INFINITY) {
             return (0.0, 0.0);
         }
         (m_db, if clamped { 0.0 } else { dm_du / s })

@@ -449,6 +449,10 @@ struct TwoCompartmentStep<'a> {
     k_h: f64,
     /// Kernel rate constant if it does not depend on the RH inside the hull (its `rh_slope` is 0).
     k_kh_fixed: Option<f64>,
+    /// κ where `M_k*(M_h) = κ·M_h` exactly inside the EMC forms' range, whatever the temperature, and the kernel
+    /// rate is fixed: a hull and kernel both on the Cromarty equation, `u = (M·g(T)/(1 − D_o))²/440` in the log
+    /// complement `u`, give κ = (1 − D_k)/(1 − D_h).
+    kernel_ratio: Option<f64>,
 }
 
 /// `M_k*(M_h)` linearised about a hull moisture: `M_k* ≈ value + slope·(M_h − m_lin)`, and the kernel rate there.
@@ -495,9 +499,21 @@ impl<'a> TwoCompartmentStep<'a> {
             }
             _ => None,
         };
+        let kernel_ratio = match (hull.sorption.desorption, kernel.sorption.desorption) {
+            (
+                Isotherm::Cromarty {
+                    oil_content_db: d_h,
+                },
+                Isotherm::Cromarty {
+                    oil_content_db: d_k,
+                },
+            ) if k_kh_fixed.is_some() => Some((1.0 - d_k) / (1.0 - d_h)),
+            _ => None,
+        };
         TwoCompartmentStep {
             hull,
             kernel,
+            kernel_ratio,
             r: (1.0 - f_h) / f_h,
             s,
             t_c,
@@ -509,20 +525,12 @@ impl<'a> TwoCompartmentStep<'a> {
     }
 
     /// Whether `line` (taken at the step's start) is `M_k*` itself over the whole step, up to the hull moisture
-    /// `m_end`, so that re-linearising could only give the same system. True for a hull and kernel that both follow
-    /// the Cromarty equation, `u = (M·g(T)/(1 − D_o))²/440` in the log complement `u`, where
-    /// `M_k* = M_h·(1 − D_k)/(1 − D_h)` whatever the temperature, provided neither end is clamped (the slope at the
-    /// start is positive, and `u` at `m_end`, `u_lin·(m_end/m_lin)²`, lies inside the EMC forms' range
-    /// [`U_MIN`, `U_MAX`]; `u` rises with `M`, so every point between is inside too) and the kernel rate does not
-    /// depend on the humidity inside the hull.
+    /// `m_end`, so that re-linearising could only give the same system: `M_k*` is proportional to `M_h`
+    /// ([`TwoCompartmentStep::kernel_ratio`]) and neither end is clamped (the slope at the start is positive, and `u`
+    /// at `m_end`, `u_lin·(m_end/m_lin)²` since `u ∝ M²`, lies inside the EMC forms' range [`U_MIN`, `U_MAX`]; `u`
+    /// rises with `M`, so every point between is inside too).
     fn line_is_exact(&self, line: &KernelLine, m_end: f64) -> bool {
-        matches!(
-            (
-                self.hull.sorption.desorption,
-                self.kernel.sorption.desorption
-            ),
-            (Isotherm::Cromarty { .. }, Isotherm::Cromarty { .. })
-        ) && self.k_kh_fixed.is_some()
+        self.kernel_ratio.is_some()
             && line.slope > 0.0
             && (U_MIN..=U_MAX).contains(&(line.u_lin * (m_end / line.m_lin).powi(2)))
     }
@@ -535,6 +543,18 @@ impl<'a> TwoCompartmentStep<'a> {
             .sorption
             .desorption
             .erh_log_complement(self.t_c, m_lin);
+        if let (Some(kappa), Some(k_kh)) = (self.kernel_ratio, self.k_kh_fixed) {
+            if (U_MIN..=U_MAX).contains(&u) {
+                // The same line as below, in closed form.
+                return KernelLine {
+                    m_lin,
+                    u_lin: u,
+                    value: kappa * m_lin,
+                    slope: kappa,
+                    k_kh,
+                };
+            }
+        }
         let (value, dk_du) = self
             .kernel
             .sorption
@@ -594,7 +614,8 @@ fn expm2(a: [[f64; 2]; 2], t: f64) -> [[f64; 2]; 2] {
     let e2 = (l2 * t).exp();
     // exp(At) = c0·I + c1·A
     let (c0, c1) = if (l1 - l2) * t > 1e-6 {
-        ((l1 * e2 - l2 * e1) / (l1 - l2), (e1 - e2) / (l1 - l2))
+        let inv = 1.0 / (l1 - l2);
+        ((l1 * e2 - l2 * e1) * inv, (e1 - e2) * inv)
     } else {
         let l = 0.5 * (l1 + l2);
         let e = (l * t).exp();
