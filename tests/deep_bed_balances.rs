@@ -24,6 +24,12 @@ fn assert_balances(case: &Case) -> dryfront::drying::run::Balances {
         "energy: in {} J, out+stored {out_j} J ({case:?})",
         b.air_heating_j
     );
+    println!(
+        "water closure {:.1e}, energy closure {:.1e} (relative), {:?}",
+        (lost - b.water_to_air_kg).abs() / lost.abs().max(1e-6),
+        (b.air_heating_j - out_j).abs() / b.air_heating_j.abs().max(1.0),
+        case.strategy
+    );
     // DOMAIN.md §6.3 bound, with the peanuts' own sensible heat allowed (latent heat 2.3 MJ/kg, a low bound).
     let from_peanut_heat = (-b.sensible_storage_j).max(0.0) / 2.3e6;
     assert!(
