@@ -207,8 +207,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             };
             let d_m_full = d_m;
             // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
-            // near saturation.
-            // 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
+            // near saturation; the air's 1 − RH = 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
             let dryness = |w: f64, p_ws: f64| {
                 let eps_w = EPS_WATER_AIR + w;
                 (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
@@ -229,8 +228,8 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             if e_hi > 0.0 {
                 // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
                 // saturation pressure is known already.
-                let e_lo = (-material.surface_erh_log_complement(*m, t_e)).exp()
-                    - (p_ws_e - p_w_in) / p_ws_e;
+                let e_lo =
+                    (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(air.w, p_ws_e);
                 let s = cap_fraction(e_lo, e_hi, |s| {
                     let (w, t) = out_state(s * d_m_full);
                     excess_at(s, w, t, sat.pressure_pa(t))
@@ -305,9 +304,9 @@ pub const CAP_TOL_RH: f64 = 1e-8;
 /// above it.
 ///
 /// The excess is close to linear in `s`, so the root is aimed at `−CAP_TOL_RH / 2` by inverse quadratic
-/// interpolation through the bracket ends and the last point dropped from it, which lands inside the tolerance in
-/// one or two evaluations; false position with the Illinois weight halving takes over whenever that estimate falls
-/// outside the bracket.
+/// interpolation through the bracket ends and the last point dropped from it (after a first false-position step),
+/// which lands inside the tolerance in two or three evaluations; false position with the Illinois weight halving
+/// takes over whenever that estimate falls outside the bracket.
 pub fn cap_fraction(f_lo: f64, f_hi: f64, mut f: impl FnMut(f64) -> f64) -> f64 {
     if f_lo >= -CAP_TOL_RH {
         return 0.0;

@@ -11,7 +11,6 @@
 pub const P_STD_PA: f64 = 101_325.0;
 /// Ratio of molar masses of water and dry air (ASHRAE 2017 ch. 1 eq. 20).
 pub const EPS_WATER_AIR: f64 = 0.621_945;
-const EPS: f64 = EPS_WATER_AIR;
 /// Triple point of water, °C; the saturation curve switches from ice to water here.
 const T_TRIPLE_C: f64 = 0.01;
 /// Specific heat of dry air, J/(kg·K) (ASHRAE 2017 eq. 32, 1.006 kJ/kg·K).
@@ -67,13 +66,13 @@ fn d_ln_saturation_pressure(t_k: f64) -> f64 {
 /// Humidity ratio (kg/kg dry air) from partial vapour pressure; ASHRAE 2017 eq. 20.
 #[inline]
 pub fn humidity_ratio_from_vapour_pressure(p_w_pa: f64, p_pa: f64) -> f64 {
-    EPS * p_w_pa / (p_pa - p_w_pa)
+    EPS_WATER_AIR * p_w_pa / (p_pa - p_w_pa)
 }
 
 /// Partial vapour pressure (Pa) from humidity ratio; inverse of ASHRAE 2017 eq. 20.
 #[inline]
 pub fn vapour_pressure_from_humidity_ratio(w: f64, p_pa: f64) -> f64 {
-    p_pa * w / (EPS + w)
+    p_pa * w / (EPS_WATER_AIR + w)
 }
 
 /// Humidity ratio of saturated air at `t_c`.

