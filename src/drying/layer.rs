@@ -230,14 +230,21 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
                 // saturation pressure is known already.
                 let e_lo =
                     (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(air.w, p_ws_e);
+                // The exhaust at the last fraction tried, which is usually the one returned.
+                let mut last = (f64::NAN, w_out, t_out, p_ws_out);
                 let s = cap_fraction(e_lo, e_hi, |s| {
                     let (w, t) = out_state(s * d_m_full);
-                    excess_at(s, w, t, sat.pressure_pa(t))
+                    last = (s, w, t, sat.pressure_pa(t));
+                    excess_at(s, w, t, last.3)
                 });
                 m_next = partial(s);
                 d_m = s * d_m_full;
-                (w_out, t_out) = out_state(d_m);
-                p_ws_out = sat.pressure_pa(t_out);
+                if last.0.to_bits() == s.to_bits() {
+                    (_, w_out, t_out, p_ws_out) = last;
+                } else {
+                    (w_out, t_out) = out_state(d_m);
+                    p_ws_out = sat.pressure_pa(t_out);
+                }
             }
         }
         // 5. condensation check

@@ -98,7 +98,7 @@ impl LayerMaterial for CropMaterial {
         // Water leaves the pod through the hull: its isotherm sets the heat of desorption. Bilinear look-up,
         // clamped at the table's edges.
         let x = ((t_c - T_MIN_C) / T_STEP_K).clamp(0.0, (NT - 1) as f64 - 1e-9);
-        let y = ((m.hull_db - M_MIN_DB) / M_STEP_DB).clamp(0.0, (NM - 1) as f64 - 1e-9);
+        let y = ((m.hull_db - M_MIN_DB) * (1.0 / M_STEP_DB)).clamp(0.0, (NM - 1) as f64 - 1e-9);
         // Both are clamped to be non-negative and small: `as u32` truncates them as `as usize` would, cheaper.
         let (i, j) = (x as u32 as usize, y as u32 as usize);
         let (fx, fy) = (x - i as f64, y - j as f64);

@@ -223,7 +223,7 @@ impl Isotherm {
             }
             Isotherm::Cromarty { oil_content_db } => {
                 // Already in dry-basis decimal: the factor (divisions included) does not wait for the logarithm.
-                let factor = (1.0 - oil_content_db) / ((1.1 + t_c / 90.0) * 100.0);
+                let factor = (1.0 - oil_content_db) / ((1.1 + t_c * (1.0 / 90.0)) * 100.0);
                 return ((440.0 * log_complement(rh)).sqrt() * factor).max(0.0);
             }
         };
@@ -292,9 +292,11 @@ impl Isotherm {
                 (u, u * b / m_db)
             }
             Isotherm::Cromarty { oil_content_db } => {
-                let g = s * (1.1 + t_c / 90.0) / (1.0 - oil_content_db);
+                // Written with constant reciprocals so that no division waits on T or M (this sits on the layer
+                // step's critical path); s/(1 − D_o) depends on neither.
+                let g = (1.1 + t_c * (1.0 / 90.0)) * (s / (1.0 - oil_content_db));
                 let x = m_db * g;
-                (x * x / 440.0, 2.0 * x * g / 440.0)
+                (x * x * (1.0 / 440.0), x * g * (2.0 / 440.0))
             }
             Isotherm::ModifiedChungPfost { a, b, c, .. } => {
                 let v = a / positive(t_c + c) * (-b * m).exp();
