@@ -3,7 +3,7 @@
 //! Each column's depth is split into `nz` equal layers (a terrain-following grid), so an uneven fill keeps the same
 //! layer count everywhere.
 
-use ndarray::{Array2, Array3, Zip};
+use ndarray::{Array2, Array3, ArrayView1, Axis, Zip};
 
 use super::layer::{CellMoisture, LayerMaterial};
 use crate::error::{check_range, InputError};
@@ -154,33 +154,36 @@ impl BedState {
         self.dry_matter_kg_per_m2.sum() * self.column_area_m2
     }
 
+    /// Totals of every column, x-major then y (the order of the columns in memory).
+    pub fn column_totals<'a, M: LayerMaterial + ?Sized>(
+        &'a self,
+        material: &'a M,
+    ) -> impl Iterator<Item = ColumnTotals> + 'a {
+        let lanes = |a: &'a Array3<f64>| a.lanes(Axis(2)).into_iter();
+        lanes(&self.hull_db)
+            .zip(lanes(&self.kernel_db))
+            .zip(lanes(&self.curve_start_db))
+            .zip(lanes(&self.temp_c))
+            .zip(lanes(&self.dry_matter_kg_per_m2))
+            .map(move |((((h, k), c), t), d)| ColumnTotals::of(material, h, k, c, t, d))
+    }
+
     /// Total water held, kg.
     pub fn water_kg<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
-        let sum = Zip::from(&self.hull_db)
-            .and(&self.kernel_db)
-            .and(&self.curve_start_db)
-            .and(&self.dry_matter_kg_per_m2)
-            .fold(0.0, |sum, &hull_db, &kernel_db, &curve_start_db, &dm| {
-                let m = CellMoisture {
-                    hull_db,
-                    kernel_db,
-                    curve_start_db,
-                };
-                sum + material.pod_db(m) * dm
-            });
+        let sum: f64 = self
+            .column_totals(material)
+            .map(|c| c.pod_water_kg_per_m2)
+            .sum();
         sum * self.column_area_m2
     }
 
     /// Mass-weighted mean kernel moisture, wet basis decimal (the trade's moisture).
     pub fn mean_kernel_wb<M: LayerMaterial + ?Sized>(&self, material: &M) -> f64 {
-        let kf = material.kernel_fraction();
-        let (water, dry) = Zip::from(&self.kernel_db)
-            .and(&self.dry_matter_kg_per_m2)
-            .fold((0.0, 0.0), |(water, dry), &m, &dm| {
-                let kdm = dm * kf;
-                (water + m * kdm, dry + kdm)
-            });
-        wb_from_db(water / dry)
+        let weighted: f64 = self
+            .column_totals(material)
+            .map(|c| c.kernel_db_dm_kg_per_m2)
+            .sum();
+        ColumnTotals::mean_kernel_wb(weighted, self.dry_matter_kg_per_m2.sum())
     }
 
     /// Kernel moisture (wet basis) below which the given mass fraction of the load lies: `quantile(0.9)` is the
@@ -224,5 +227,61 @@ impl BedState {
                 },
             );
         sum * self.column_area_m2
+    }
+}
+
+/// Sums over one column's cells, as the run keeps them up to date from inside its parallel step (so it needs no
+/// serial pass over the bed) and as [`BedState::water_kg`] and [`BedState::mean_kernel_wb`] add them up.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ColumnTotals {
+    /// Pod water, Σ pod moisture (d.b.) × dry matter, kg/m².
+    pub pod_water_kg_per_m2: f64,
+    /// Σ kernel moisture (d.b.) × pod dry matter, kg/m²: the kernel share of the dry matter is the same in every
+    /// cell, so it cancels in the mass-weighted mean.
+    pub kernel_db_dm_kg_per_m2: f64,
+    /// Hottest cell, °C (`f64::MIN` for an empty column).
+    pub max_temp_c: f64,
+}
+
+impl ColumnTotals {
+    /// Totals of one column's cells (all views the same length, bottom layer first).
+    pub fn of<M: LayerMaterial + ?Sized>(
+        material: &M,
+        hull_db: ArrayView1<f64>,
+        kernel_db: ArrayView1<f64>,
+        curve_start_db: ArrayView1<f64>,
+        temp_c: ArrayView1<f64>,
+        dry_matter_kg_per_m2: ArrayView1<f64>,
+    ) -> Self {
+        Zip::from(hull_db)
+            .and(kernel_db)
+            .and(curve_start_db)
+            .and(temp_c)
+            .and(dry_matter_kg_per_m2)
+            .fold(
+                ColumnTotals {
+                    pod_water_kg_per_m2: 0.0,
+                    kernel_db_dm_kg_per_m2: 0.0,
+                    max_temp_c: f64::MIN,
+                },
+                |acc, &hull_db, &kernel_db, &curve_start_db, &t, &dm| {
+                    let pod = material.pod_db(CellMoisture {
+                        hull_db,
+                        kernel_db,
+                        curve_start_db,
+                    });
+                    ColumnTotals {
+                        pod_water_kg_per_m2: acc.pod_water_kg_per_m2 + pod * dm,
+                        kernel_db_dm_kg_per_m2: acc.kernel_db_dm_kg_per_m2 + kernel_db * dm,
+                        max_temp_c: f64::max(acc.max_temp_c, t),
+                    }
+                },
+            )
+    }
+
+    /// Mass-weighted mean kernel moisture (wet basis) from the summed `kernel_db_dm_kg_per_m2` and the summed dry
+    /// matter per m² of the same columns.
+    pub fn mean_kernel_wb(kernel_db_dm_kg_per_m2: f64, dry_matter_kg_per_m2: f64) -> f64 {
+        wb_from_db(kernel_db_dm_kg_per_m2 / dry_matter_kg_per_m2)
     }
 }

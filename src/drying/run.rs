@@ -8,10 +8,10 @@
 use ndarray::{Array2, Array3, Zip};
 use rayon::prelude::*;
 
-use super::bed::BedState;
+use super::bed::{BedState, ColumnTotals};
 use super::heater::Heater;
 use super::layer::{
-    step_column, CellMoisture, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
+    step_column, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
 };
 use crate::props::psychro::{self, AirState};
 use crate::units::{db_from_wb, wb_from_db};
@@ -313,12 +313,8 @@ struct ColumnResult {
     totals: ColumnStepTotals,
     exhaust: LayerAir,
     dry_air_kg_per_m2: f64,
-    /// Pod water after the step, Σ pod moisture (d.b.) × dry matter, kg/m².
-    pod_water_kg_per_m2: f64,
-    /// Σ kernel moisture (d.b.) × pod dry matter after the step, kg/m² (the kernel share cancels in the mean).
-    kernel_db_dm_kg_per_m2: f64,
-    /// Hottest cell after the step, °C.
-    max_temp_c: f64,
+    /// The column's state after the step.
+    after: ColumnTotals,
 }
 
 /// Run one load. `bed` is advanced in place.
@@ -540,24 +536,18 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
                     dry_matter_kg_per_m2: d,
                 };
                 let (exhaust, totals) = step_column(material, column, forcing);
-                let (mut pod_water, mut kernel_db_dm, mut max_temp) = (0.0, 0.0, f64::MIN);
-                for i in 0..d.len() {
-                    let cell = CellMoisture {
-                        hull_db: h[i],
-                        kernel_db: k[i],
-                        curve_start_db: c[i],
-                    };
-                    pod_water += material.pod_db(cell) * d[i];
-                    kernel_db_dm += k[i] * d[i];
-                    max_temp = f64::max(max_temp, t[i]);
-                }
                 ColumnResult {
                     totals,
                     exhaust,
                     dry_air_kg_per_m2: g * settings.dt_s,
-                    pod_water_kg_per_m2: pod_water,
-                    kernel_db_dm_kg_per_m2: kernel_db_dm,
-                    max_temp_c: max_temp,
+                    after: ColumnTotals::of(
+                        material,
+                        (&*h).into(),
+                        (&*k).into(),
+                        (&*c).into(),
+                        (&*t).into(),
+                        d.into(),
+                    ),
                 }
             })
             .collect_into_vec(&mut results);
@@ -568,9 +558,9 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         let mut removed = 0.0;
         let (mut pod_water, mut kernel_db_dm, mut peak) = (0.0, 0.0, f64::MIN);
         for r in &results {
-            pod_water += r.pod_water_kg_per_m2;
-            kernel_db_dm += r.kernel_db_dm_kg_per_m2;
-            peak = f64::max(peak, r.max_temp_c);
+            pod_water += r.after.pod_water_kg_per_m2;
+            kernel_db_dm += r.after.kernel_db_dm_kg_per_m2;
+            peak = f64::max(peak, r.after.max_temp_c);
             let air_kg = r.dry_air_kg_per_m2 * area;
             if air_kg <= 0.0 {
                 continue;
@@ -594,7 +584,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         }
 
         water_now = pod_water * area;
-        mean_kernel_now = wb_from_db(kernel_db_dm / dry_per_area);
+        mean_kernel_now = ColumnTotals::mean_kernel_wb(kernel_db_dm, dry_per_area);
         t_s += settings.dt_s;
         if !peak.is_finite() {
             return Err(RunError::NonPhysical {
