@@ -11,9 +11,10 @@ use dryfront::crop::Crop;
 use dryfront::drying::bed::{BedState, InitialMoisture};
 use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
 use dryfront::drying::material::CropMaterial;
-use dryfront::drying::run::{run_batch, ConstantAmbient, FixedFlow, FlowField, RunSettings};
+use dryfront::drying::run::{ConstantAmbient, FixedFlow, FlowField, Run, RunSettings, StopRule};
+use dryfront::input::scenario::Scenario;
+use dryfront::load::run_load;
 use dryfront::props::psychro::AirState;
-use dryfront::scenario::{run_load, LoadSetup};
 
 /// Steps of the first-hour phase (0.1 h each).
 const STEPS: usize = 10;
@@ -34,12 +35,12 @@ fn layer_step(c: &mut Criterion) {
         25.0,
     )
     .unwrap();
+    let air = AirState::from_rh(25.0, 0.7, 101_325.0);
     let field = FlowField {
-        velocity_m_per_s: Array2::from_elem((nx, ny), 0.21),
         fan_power_w: 3000.0,
         electric_power_w: 3000.0,
-        leakage_m3_per_s: 0.0,
         plenum_pa: 120.0,
+        ..FlowField::from_velocity(Array2::from_elem((nx, ny), 0.21), &air)
     };
     let heater = Heater {
         strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
@@ -48,15 +49,14 @@ fn layer_step(c: &mut Criterion) {
         max_plenum_c: 35.0,
         fuel: Fuel::propane(),
     };
-    let ambient = ConstantAmbient(AirState::from_rh(25.0, 0.7, 101_325.0));
+    let ambient = ConstantAmbient(air);
     for (group, hours) in [
         ("layer_step", STEPS as f64 * 0.1),
         ("layer_step_whole_run", RUN_HOURS as f64),
     ] {
         let settings = RunSettings {
             max_hours: hours,
-            // Never reached: the run always lasts `hours`.
-            target_kernel_wb: 0.05,
+            stop: StopRule::Hours(hours),
             ..RunSettings::default()
         };
         let steps = (hours * 3600.0 / settings.dt_s).round() as usize;
@@ -73,16 +73,17 @@ fn layer_step(c: &mut Criterion) {
                 |b| {
                     b.iter(|| {
                         pool.install(|| {
-                            let mut bed = fresh.clone();
-                            run_batch(
+                            let mut flow = FixedFlow(field.clone());
+                            Run::new(
                                 &material,
-                                &mut bed,
+                                fresh.clone(),
                                 &ambient,
-                                &mut FixedFlow(field.clone()),
-                                &heater,
-                                &settings,
-                                &mut (),
+                                &mut flow,
+                                heater,
+                                settings,
                             )
+                            .unwrap()
+                            .run_to_end(&mut ())
                             .unwrap()
                         })
                     })
@@ -94,16 +95,13 @@ fn layer_step(c: &mut Criterion) {
 }
 
 fn full_load(c: &mut Criterion) {
-    let setup = LoadSetup::read("demo-load").unwrap();
     let mut g = c.benchmark_group("full_load");
     g.sample_size(10);
-    let mut setup48 = LoadSetup::read("demo-load").unwrap();
-    setup48.settings.max_hours = 48.0;
-    setup48.settings.target_kernel_wb = 0.05; // never reached: always the full 48 h
-    let heater = setup.heater(None);
+    let (mut sc, _) = Scenario::read("demo-load", false).unwrap();
+    sc.spec.run.stop = StopRule::Hours(48.0); // always the full 48 h
     g.bench_function(
         "demo load, 48 h, 16x6x20 grid, airflow re-solves included",
-        |b| b.iter(|| run_load(&setup48, heater, 0.0, &mut ()).unwrap()),
+        |b| b.iter(|| run_load(&sc.spec, &mut ()).unwrap()),
     );
     g.finish();
 }

@@ -1,26 +1,22 @@
-//! Season planner cost: a 70-day season of 600 loads on 30 dryers, (a) with the fixed-time drier, which times the
-//! event logic alone, swept over loads and dryers to show how it grows, and (b) with the deep-bed drier on the
-//! bundled peanut model at the season's coarse 4×2×10 grid (fixed weather and a fixed flow field, so it times the
-//! event loop plus the deep-bed runs). Loads per second = loads / median.
+//! Season planner cost: (a) a 70-day season of 600 loads on 30 dryers with the fixed-time drier, which times the
+//! event logic alone, swept over loads and dryers to show how it grows, and (b) 150 and 600 loads over 40 days on
+//! 30 wagons of the invented Wrenfield point with the deep-bed drier through the one load path (bundled peanut
+//! model, the demo season's weather, the airflow solved at each load's start, the season's coarse 4×2×10 grid).
+//! Loads per second = loads / median.
 //!
 //! Run: `cargo bench --bench season -- --warm-up-time 1 --measurement-time 2`.
 
 #[path = "../tests/season_support/mod.rs"]
 mod season_support;
 
-use std::collections::BTreeMap;
+use std::sync::Arc;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use dryfront::drying::heater::Fuel;
-use dryfront::drying::run::{
-    Ambient, ConstantAmbient, FixedFlow, FlowField, FlowProvider, RunSettings,
-};
-use dryfront::props::psychro::AirState;
+use dryfront::input::season::{read_buying_point, season_template, SeasonRunSettings};
 use dryfront::season::arrivals::{generate, ArrivalParams};
 use dryfront::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
-use dryfront::season::drier::{ContainerSpec, DeepBedDrier, FixedTimeDrier};
+use dryfront::season::drier::{DeepBedDrier, FixedTimeDrier};
 use dryfront::season::sim::simulate;
-use ndarray::Array2;
 use season_support::*;
 
 fn pred() -> MoistureRatePredictor {
@@ -66,47 +62,30 @@ fn event_logic(c: &mut Criterion) {
 }
 
 fn deep_bed(c: &mut Criterion) {
-    let air = AirState::from_rh(25.0, 0.70, 101_325.0);
-    let mut containers = BTreeMap::new();
-    containers.insert(
-        "wagon-4.3m".to_string(),
-        ContainerSpec {
-            length_m: 4.3,
-            width_m: 2.4,
-            max_depth_m: 1.4,
-            bulk_density_kg_per_m3: 330.0,
-            nx: 4,
-            ny: 2,
-            nz: 10,
-        },
-    );
-    let crop = dryfront::crop::Crop::load_named("peanut-inshell").unwrap();
-    let material = dryfront::drying::material::CropMaterial::new(&crop);
-    let drier = DeepBedDrier {
-        material: &material,
-        containers,
-        ambient: Box::new(move |_| Some(Box::new(ConstantAmbient(air)) as Box<dyn Ambient>)),
-        flow: Box::new(|_, bed| {
-            let v = bed.depth_m.mapv(|d| 10.0 / 60.0 * d);
-            let (nx, ny) = v.dim();
-            Ok(Box::new(FixedFlow(FlowField {
-                velocity_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| v[[i, j]]),
-                fan_power_w: 2500.0,
-                electric_power_w: 3000.0,
-                leakage_m3_per_s: 0.0,
-                plenum_pa: 150.0,
-            })) as Box<dyn FlowProvider>)
-        }),
-        settings: RunSettings::default(),
-        max_plenum_c: 35.0,
-        fuel: Fuel::propane(),
-    };
-    let bp = point(30, 0.75, 12.0, 70);
+    let root = env!("CARGO_MANIFEST_DIR");
+    let bp = read_buying_point(format!("{root}/models/buying-points/wrenfield.json").as_ref())
+        .unwrap()
+        .with_dryer_count(30);
+    let weather = dryfront::weather::read(
+        format!("{root}/weather-samples/cypress-neck-2026/season_000.csv").as_ref(),
+        None,
+        &Default::default(),
+    )
+    .unwrap()
+    .0;
+    let (template, _) = season_template(
+        &bp,
+        "peanut-inshell",
+        Arc::new(weather),
+        &SeasonRunSettings::default(),
+    )
+    .unwrap();
+    let drier = DeepBedDrier { template };
     let mut g = c.benchmark_group("season deep-bed 4x2x10");
     g.sample_size(10);
     for loads in [150, 600] {
-        // A 4.3 m wagon 1.4 m deep holds ≈ 4.7 t at 330 kg/m³: keep the draws to what fits.
-        let mut p = ArrivalParams::new(t0(), 70, loads);
+        // A 4.3 m wagon holds ≈ 4.7 t: keep the draws to what fits.
+        let mut p = ArrivalParams::new(bp.season.start, 40, loads);
         p.mass_bounds_kg = (1500.0, 4700.0);
         p.mass_mean_kg = 3800.0;
         let ls = generate(&p, 1).unwrap();

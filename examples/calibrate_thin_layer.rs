@@ -23,7 +23,7 @@ use dryfront::drying::bed::{BedState, InitialMoisture};
 use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
 use dryfront::drying::layer::LayerMaterial;
 use dryfront::drying::material::CropMaterial;
-use dryfront::drying::run::{run_batch, ConstantAmbient, FixedFlow, FlowField, RunSettings};
+use dryfront::drying::run::{ConstantAmbient, FixedFlow, FlowField, Run, RunSettings, StopRule};
 use dryfront::props::psychro::AirState;
 use dryfront::props::thin_layer::{ArrheniusRate, Compartment, PodModel, ThinLayer};
 use dryfront::units::db_from_wb;
@@ -52,7 +52,7 @@ fn deep_bed_hours_to_target(crop: &Crop, model: &PodModel) -> f64 {
     let start = material.initial_state(db_from_wb(KERNEL_START_WB), t_c);
     let pod_db = material.pod_db(start);
     let dry_density = crop.dry_matter_density_kg_per_m3(100.0 * pod_db / (1.0 + pod_db));
-    let Ok(mut bed) = BedState::new(
+    let Ok(bed) = BedState::new(
         &material,
         Array2::from_elem((1, 1), depth_m),
         1.0,
@@ -63,13 +63,8 @@ fn deep_bed_hours_to_target(crop: &Crop, model: &PodModel) -> f64 {
     ) else {
         return f64::NAN;
     };
-    let field = FlowField {
-        velocity_m_per_s: Array2::from_elem((1, 1), 10.0 / 60.0 * depth_m),
-        fan_power_w: 0.0,
-        electric_power_w: 0.0,
-        leakage_m3_per_s: 0.0,
-        plenum_pa: 0.0,
-    };
+    let air = AirState::from_rh(t_c, 0.70, 101_325.0);
+    let field = FlowField::from_velocity(Array2::from_elem((1, 1), 10.0 / 60.0 * depth_m), &air);
     let heater = Heater {
         strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
         window_h: None,
@@ -79,21 +74,16 @@ fn deep_bed_hours_to_target(crop: &Crop, model: &PodModel) -> f64 {
     };
     let settings = RunSettings {
         max_hours: 200.0,
+        stop: StopRule::Mean,
         ..RunSettings::default()
     };
-    let ambient = ConstantAmbient(AirState::from_rh(t_c, 0.70, 101_325.0));
-    run_batch(
-        &material,
-        &mut bed,
-        &ambient,
-        &mut FixedFlow(field),
-        &heater,
-        &settings,
-        &mut (),
-    )
-    .ok()
-    .and_then(|o| o.hours_to_mean_target)
-    .unwrap_or(f64::NAN)
+    let ambient = ConstantAmbient(air);
+    let mut flow = FixedFlow(field);
+    Run::new(&material, bed, &ambient, &mut flow, heater, settings)
+        .and_then(|run| run.run_to_end(&mut ()))
+        .ok()
+        .and_then(|(o, _)| o.hours_to_mean_target)
+        .unwrap_or(f64::NAN)
 }
 
 /// Golden-section minimum of `f` on [lo, hi].

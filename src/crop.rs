@@ -157,47 +157,11 @@ impl Crop {
         self.thermal.bulk_density_at_kg_per_m3(m_wb_pct) * (1.0 - m_wb_pct / 100.0)
     }
 
-    /// Directories searched for built-in crop files, in order: `$DRYFRONT_MODELS_DIR/crops`, `models/crops`
-    /// beside the executable and up to three levels above it (covers `target/<profile>/`), and the source
-    /// tree's `models/crops` (compile-time `CARGO_MANIFEST_DIR`).
-    pub fn search_dirs() -> Vec<PathBuf> {
-        crate::models::search_dirs("crops")
-    }
-
-    /// Resolve a crop name (`peanut-inshell`) or a path to a `.json` file.
-    pub fn builtin_path(name: &str) -> Result<PathBuf, InputError> {
-        let as_path = Path::new(name);
-        if name.ends_with(".json") || as_path.components().count() > 1 {
-            return Ok(as_path.to_path_buf());
-        }
-        for dir in Self::search_dirs() {
-            let p = dir.join(format!("{name}.json"));
-            if p.is_file() {
-                return Ok(p);
-            }
-        }
-        Err(InputError::argument(
-            "--crop",
-            name,
-            &format!(
-                "is not a known crop (built in: {}) nor a path to a .json crop file",
-                BUILTIN_CROPS.join(", ")
-            ),
-        ))
-    }
-
-    /// Load a crop by built-in name or path.
+    /// Read a crop by bundled name (`peanut-inshell`) or path to a `.json` file (the one resolver and reader of
+    /// `models`).
     pub fn load_named(name_or_path: &str) -> Result<Crop, InputError> {
-        Self::load(&Self::builtin_path(name_or_path)?)
-    }
-
-    /// Read and validate a crop file.
-    pub fn load(path: &Path) -> Result<Crop, InputError> {
-        let text = std::fs::read_to_string(path).map_err(|source| InputError::Io {
-            path: path.to_path_buf(),
-            source,
-        })?;
-        Self::from_json_str(&text, path)
+        let path = crate::models::resolve("crops", name_or_path, "--crop")?;
+        Self::from_json_str(&crate::models::read_text(&path)?, &path)
     }
 
     /// Parse and validate crop JSON text; `path` is used in error messages.

@@ -70,7 +70,8 @@ fn dry_writes_every_output_whole() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let stdout = String::from_utf8_lossy(&o.stdout);
     for want in [
-        "hours to 10.0 % mean kernel moisture",
+        "mean kernel moisture at 10.0 % w.b.: ",
+        "95 % of the load at or below 10.0 % w.b.",
         "L propane",
         "kWh",
         "Cautions",

@@ -183,7 +183,7 @@ fn unknown_crop_exits_2_and_lists_builtins() {
 }
 
 fn broken_crop(dir: &Path, edit: impl FnOnce(&mut serde_json::Value)) -> String {
-    let src = dryfront::crop::Crop::builtin_path("peanut-inshell").unwrap();
+    let src = dryfront::models::resolve("crops", "peanut-inshell", "--crop").unwrap();
     let mut v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(src).unwrap()).unwrap();
     edit(&mut v);

@@ -12,7 +12,7 @@ use dryfront::props::thin_layer::PodModel;
 use serde_json::Value;
 
 fn peanut_json() -> Value {
-    let path = Crop::builtin_path("peanut-inshell").unwrap();
+    let path = dryfront::models::resolve("crops", "peanut-inshell", "--crop").unwrap();
     serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
 }
 
@@ -214,13 +214,13 @@ fn syntax_errors_give_the_line() {
 
 #[test]
 fn names_resolve_to_files_and_unknown_names_are_refused() {
-    let p = Crop::builtin_path("soybeans").unwrap();
+    let p = dryfront::models::resolve("crops", "soybeans", "--crop").unwrap();
     assert!(p.ends_with("models/crops/soybeans.json"));
     assert_eq!(
-        Crop::builtin_path("some/dir/my.json").unwrap(),
+        dryfront::models::resolve("crops", "some/dir/my.json", "--crop").unwrap(),
         PathBuf::from("some/dir/my.json")
     );
-    match Crop::builtin_path("sunflower") {
+    match dryfront::models::resolve("crops", "sunflower", "--crop") {
         Err(InputError::Argument { name, expected, .. }) => {
             assert_eq!(name, "--crop");
             assert!(expected.contains("peanut-inshell"));

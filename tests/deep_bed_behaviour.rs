@@ -10,7 +10,7 @@ use common::Case;
 use dryfront::drying::bed::{BedState, InitialMoisture};
 use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
 use dryfront::drying::layer::LayerMaterial;
-use dryfront::drying::run::{run_batch, Ambient, AmbientSample, FixedFlow, FlowField, RunSettings};
+use dryfront::drying::run::{Ambient, AmbientSample, FlowField, RunSettings};
 use dryfront::props::psychro::AirState;
 use ndarray::Array2;
 
@@ -122,7 +122,7 @@ impl Ambient for DayNight {
 fn humid_nights_without_heat_rewet_top_hulls_not_kernels() {
     let (crop, material) = common::peanut();
     // A nearly dry load (kernels 9.5 %, hulls in equilibrium) on unheated air through two nights.
-    let mut bed = BedState::new(
+    let bed = BedState::new(
         &material,
         Array2::from_elem((1, 1), 1.25),
         1.0,
@@ -132,13 +132,10 @@ fn humid_nights_without_heat_rewet_top_hulls_not_kernels() {
         22.0,
     )
     .unwrap();
-    let field = FlowField {
-        velocity_m_per_s: Array2::from_elem((1, 1), 0.2),
-        fan_power_w: 0.0,
-        electric_power_w: 0.0,
-        leakage_m3_per_s: 0.0,
-        plenum_pa: 0.0,
-    };
+    let field = FlowField::from_velocity(
+        Array2::from_elem((1, 1), 0.2),
+        &AirState::from_rh(20.0, 0.6, 101_325.0),
+    );
     let heater = Heater {
         strategy: HeaterStrategy::None,
         window_h: None,
@@ -152,16 +149,7 @@ fn humid_nights_without_heat_rewet_top_hulls_not_kernels() {
         record_every_s: 1800.0,
         ..Default::default()
     };
-    let out = run_batch(
-        &material,
-        &mut bed,
-        &DayNight,
-        &mut FixedFlow(field),
-        &heater,
-        &settings,
-        &mut (),
-    )
-    .unwrap();
+    let (out, _) = common::run_fixed(&material, bed, &DayNight, field, heater, settings);
     // Top hull moisture rises through the second night (20:00 → 08:00, the humid hours) and kernels move far less.
     let at = |h: f64| {
         out.series

@@ -1,17 +1,18 @@
 //! What the season's coarse grid costs: a full-resolution load is far too costly to repeat hundreds of times, so the
 //! season runs each load on a coarse grid (4 × 2 columns × 10 layers, 0.2 h steps, airflow solved once per
-//! container, fan and fill depth). Here a sample of demo loads is run on that grid and on the single-load default
-//! grid (16 × 6 × 20, 0.1 h steps) on the same weather; both use the season's level bed and cached airflow, so what
-//! is measured is the cost of the coarse grid and step. Hours to target must agree within 3 % (the bound);
+//! load at its start). Here a sample of demo loads is run on that grid and on the single-load default grid
+//! (16 × 6 × 20, 0.1 h steps) on the same weather; both solve the airflow once at the start, so what is measured is
+//! the cost of the coarse grid and step. Hours to target must agree within 3 % (the bound);
 //! fuel and over-dried mass differences are printed for the record.
 use chrono::{Duration, FixedOffset, TimeZone};
 
+use std::sync::Arc;
+
 use dryfront::airflow::geometry::Grid;
-use dryfront::crop::Crop;
+use dryfront::input::season::{read_buying_point, season_template, SeasonRunSettings};
+use dryfront::load::AirflowUpdates;
 use dryfront::season::arrivals::Load;
-use dryfront::season::drier::LoadDrier;
-use dryfront::season::scenario::read_buying_point;
-use dryfront::season::wiring::SeasonModels;
+use dryfront::season::drier::{DeepBedDrier, LoadDrier};
 
 #[test]
 fn coarse_season_grid_keeps_hours_to_target_within_three_percent() {
@@ -24,32 +25,22 @@ fn coarse_season_grid_keeps_hours_to_target_within_three_percent() {
             .unwrap()
             .0
     };
-    let crop = || Crop::load_named("peanut-inshell").unwrap();
-    let coarse = SeasonModels::load(
-        &bp,
-        crop(),
-        weather(),
-        Grid {
-            nx: 4,
-            ny: 2,
-            nz: 10,
-        },
-    )
-    .unwrap();
-    let fine = SeasonModels::load(
-        &bp,
-        crop(),
-        weather(),
-        Grid {
+    let drier = |settings: SeasonRunSettings| DeepBedDrier {
+        template: season_template(&bp, "peanut-inshell", Arc::new(weather()), &settings)
+            .unwrap()
+            .0,
+    };
+    let coarse_drier = drier(SeasonRunSettings::default());
+    let fine_drier = drier(SeasonRunSettings {
+        grid: Grid {
             nx: 16,
             ny: 6,
             nz: 20,
         },
-    )
-    .unwrap();
-    let coarse_drier = coarse.drier(10.0);
-    let mut fine_drier = fine.drier(10.0);
-    fine_drier.settings.dt_s = 0.1 * 3600.0;
+        dt_s: 0.1 * 3600.0,
+        airflow: AirflowUpdates::AtStart,
+        force: false,
+    });
 
     let tz = FixedOffset::west_opt(5 * 3600).unwrap();
     let t0 = tz.with_ymd_and_hms(2026, 9, 12, 14, 0, 0).unwrap();

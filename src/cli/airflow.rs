@@ -5,7 +5,7 @@
 //! library is called. Names resolve to `<models>/containers/NAME.json`, `<models>/fans/NAME.json` and
 //! `<models>/crops/NAME.json`; anything with a `/` or ending in `.json` is taken as a path.
 use crate::crop::Crop;
-use crate::scenario::bed_law;
+use crate::load::bed_law;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
@@ -160,9 +160,9 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     let crop_path = if args.models.is_some() {
         resolve(&models, "crops", &args.crop)
     } else {
-        Crop::builtin_path(&args.crop)?
+        crate::models::resolve("crops", &args.crop, "--crop")?
     };
-    let crop = Crop::load(&crop_path)?;
+    let crop = Crop::from_json_str(&read(&crop_path)?, &crop_path)?;
     let mut law = bed_law(&crop);
     if let Some(p) = args.packing {
         law.packing_factor = check_range("--packing", p, 0.1, 10.0, "")?;

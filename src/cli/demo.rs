@@ -47,6 +47,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     use super::dry::{run_compare, run_dry, CompareArgs, DryArgs, LoadOptions};
     let started = std::time::Instant::now();
     let load = |sub: &str| LoadOptions {
+        stop: None,
         scenario: "demo-load".into(),
         start_offset_h: 0.0,
         initial_pct: None,

@@ -6,14 +6,16 @@ use std::path::{Path, PathBuf};
 use anyhow::Context;
 use rayon::prelude::*;
 
+use crate::drying::bed::BedState;
 use crate::drying::heater::StrategySpec;
-use crate::drying::run::{RunObserver, SeriesRow};
+use crate::drying::run::{RunObserver, StepReport, StopRule};
+use crate::input::scenario::Scenario;
+use crate::load::{checked_heater, run_load, LoadResult, LoadSpec};
 use crate::outfile::write_atomic;
 use crate::report::load::{
     air_svg, airflow_top_svg, compare_table, drying_curves_svg, final_side_svg, final_top_svg,
     outcome_json, series_csv, summary_text, CompareRow, CAUTIONS,
 };
-use crate::scenario::{run_load, LoadResult, LoadSetup};
 use crate::units::UnitSystem;
 
 /// Options shared by the load commands.
@@ -31,6 +33,11 @@ pub struct LoadOptions {
     /// Run a heater strategy above the crop's safe plenum maximum anyway (it is refused otherwise).
     #[arg(long)]
     pub force: bool,
+    /// When the load is done (overrides the scenario): `mean` (mean kernel moisture at target), `fraction` (95 % of
+    /// the load at or below target, or the scenario's fraction), `both` (the default: the whole load ready) or
+    /// `hours=H` (a fixed time on air).
+    #[arg(long)]
+    pub stop: Option<StopRule>,
     /// Units for the printed summary.
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
@@ -85,87 +92,98 @@ struct Progress {
 }
 
 impl RunObserver for Progress {
-    fn on_row(&mut self, row: &SeriesRow) {
-        if self.enabled && row.hours >= self.next_h {
+    fn on_step(&mut self, step: &StepReport, _bed: &BedState) {
+        if self.enabled && step.hours >= self.next_h {
             eprint!(
-                "\r  {:6.1} h on air: mean kernel {:5.2} % w.b.   ",
-                row.hours, row.mean_kernel_pct
+                "\r  {:6.1} h on air: mean kernel {:5.2} % w.b., {:4.1} % of the load above target   ",
+                step.hours,
+                step.mean_kernel_wb * 100.0,
+                step.above_target_fraction * 100.0
             );
-            self.next_h = row.hours + 1.0;
+            self.next_h = step.hours + 1.0;
         }
     }
 }
 
-fn setup(opts: &LoadOptions) -> anyhow::Result<LoadSetup> {
-    let mut setup = LoadSetup::read(&opts.scenario)?;
+/// The scenario with the command line's overrides; the heater's safety warning when `--force` let it run.
+fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<String>)> {
+    let (mut sc, warning) = Scenario::read(&opts.scenario, opts.force)?;
+    let spec = &mut sc.spec;
     if let Some(pct) = opts.initial_pct {
         crate::error::check_range("--initial-pct", pct, 5.0, 45.0, "% w.b.")?;
-        if pct <= setup.settings.target_kernel_wb * 100.0 {
+        if pct <= spec.run.target_kernel_wb * 100.0 {
             anyhow::bail!(
                 "--initial-pct: {pct} % w.b. is not above the target of {:.1} % w.b.",
-                setup.settings.target_kernel_wb * 100.0
+                spec.run.target_kernel_wb * 100.0
             );
         }
-        setup.file.initial_kernel_moisture_pct = pct;
-        setup.file.initial_kernel_moisture_top_pct = None;
+        spec.initial = crate::drying::bed::InitialMoisture::Uniform(pct / 100.0);
     }
-    if !opts.start_offset_h.is_finite() || opts.start_offset_h < 0.0 {
+    if let Some(stop) = opts.stop {
+        spec.run.stop = stop;
+    }
+    crate::error::check_range("--start-offset-h", opts.start_offset_h, 0.0, 1e5, "h")?;
+    let start = crate::load::clock_at(spec.start, opts.start_offset_h);
+    if start >= spec.weather.end() {
         anyhow::bail!(
-            "--start-offset-h: {} h must be zero or more",
-            opts.start_offset_h
+            "--start-offset-h: {} h puts the start at {start}, past the end of the weather record {}",
+            opts.start_offset_h,
+            spec.weather.end()
         );
     }
-    Ok(setup)
+    spec.start = start;
+    Ok((sc, warning))
 }
 
-fn inputs(setup: &LoadSetup) -> Vec<&Path> {
-    vec![setup.path.as_path(), setup.weather_path.as_path()]
+fn warn(warning: &Option<String>) {
+    if let Some(w) = warning {
+        eprintln!("dryfront: warning: {w} (running because of --force)");
+    }
 }
 
-fn write(dir: &Path, name: &str, text: &str, setup: &LoadSetup) -> anyhow::Result<()> {
-    write_atomic(&dir.join(name), text.as_bytes(), &inputs(setup))?;
+fn write(dir: &Path, name: &str, text: &str, sc: &Scenario) -> anyhow::Result<()> {
+    let inputs: Vec<&Path> = sc.inputs.iter().map(PathBuf::as_path).collect();
+    write_atomic(&dir.join(name), text.as_bytes(), &inputs)?;
     Ok(())
 }
 
 /// Write the full set of files for one run into `dir`.
 pub fn write_load_outputs(
     dir: &Path,
-    setup: &LoadSetup,
+    sc: &Scenario,
     label: &str,
     r: &LoadResult,
 ) -> anyhow::Result<Vec<String>> {
-    let target = setup.settings.target_kernel_wb * 100.0;
+    let spec = &sc.spec;
+    let target = spec.run.target_kernel_wb * 100.0;
     let files = vec![
         (
             "summary.txt",
             format!(
                 "{}\n{CAUTIONS}\n",
-                summary_text(setup, label, r, UnitSystem::Si)
+                summary_text(spec, label, r, UnitSystem::Si)
             ),
         ),
-        ("outcome.json", outcome_json(setup, label, r)),
+        ("outcome.json", outcome_json(spec, label, r)),
         ("series.csv", series_csv(&r.outcome)),
         (
             "drying_curves.svg",
-            drying_curves_svg(&format!("{}: {label}", setup.file.name), &r.outcome, target),
+            drying_curves_svg(&format!("{}: {label}", spec.name), &r.outcome, target),
         ),
         (
             "air_temperatures.svg",
-            air_svg(&format!("{}: {label}", setup.file.name), &r.outcome),
+            air_svg(&format!("{}: {label}", spec.name), &r.outcome),
         ),
-        (
-            "final_moisture_top.svg",
-            final_top_svg(setup, r, &setup.settings),
-        ),
+        ("final_moisture_top.svg", final_top_svg(spec, r, &spec.run)),
         (
             "final_moisture_side.svg",
-            final_side_svg(setup, r, &setup.settings),
+            final_side_svg(spec, r, &spec.run),
         ),
-        ("airflow_top.svg", airflow_top_svg(setup, r)),
+        ("airflow_top.svg", airflow_top_svg(spec, r)),
     ];
     let mut names = Vec::new();
     for (name, text) in &files {
-        write(dir, name, text, setup)?;
+        write(dir, name, text, sc)?;
         names.push(name.to_string());
     }
     Ok(names)
@@ -173,24 +191,30 @@ pub fn write_load_outputs(
 
 /// `dryfront dry`.
 pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
-    let setup = setup(&args.load)?;
-    let (heater, warning) = setup.checked_heater(args.strategy, args.load.force)?;
-    if let Some(w) = warning {
-        eprintln!("dryfront: warning: {w} (running because of --force)");
+    let (mut sc, mut warning) = setup(&args.load)?;
+    if let Some(spec) = args.strategy {
+        let h = sc.spec.heater;
+        let (heater, w) = checked_heater(&sc.spec.crop, spec, h.burner_w, h.fuel, args.load.force)?;
+        sc.spec.heater = heater;
+        warning = w;
     }
-    let label = args.strategy.unwrap_or(setup.strategy).to_string();
+    warn(&warning);
+    let label = sc.spec.heater.spec.to_string();
     let mut progress = Progress {
         enabled: std::io::stderr().is_terminal(),
         next_h: 0.0,
     };
-    let result = run_load(&setup, heater, args.load.start_offset_h, &mut progress)
-        .with_context(|| format!("running {}", setup.path.display()))?;
+    let result = run_load(&sc.spec, &mut progress)
+        .with_context(|| format!("running {}", sc.path.display()))?;
     if progress.enabled {
         eprintln!();
     }
-    print!("{}", summary_text(&setup, &label, &result, args.load.units));
+    print!(
+        "{}",
+        summary_text(&sc.spec, &label, &result, args.load.units)
+    );
     if let Some(dir) = &args.load.out {
-        let names = write_load_outputs(dir, &setup, &label, &result)?;
+        let names = write_load_outputs(dir, &sc, &label, &result)?;
         println!(
             "  wrote {} files to {}: {}",
             names.len(),
@@ -204,7 +228,7 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
 
 /// `dryfront compare`.
 pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
-    let setup = setup(&args.load)?;
+    let (sc, _) = setup(&args.load)?;
     let specs: Vec<StrategySpec> = args
         .strategies
         .split(';')
@@ -217,22 +241,26 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
     if specs.is_empty() {
         anyhow::bail!("--strategies: give at least one strategy");
     }
-    let heaters = specs
+    let h = sc.spec.heater;
+    let loads = specs
         .iter()
         .map(|s| {
-            setup
-                .checked_heater(Some(*s), args.load.force)
-                .map(|(h, _)| h)
+            checked_heater(&sc.spec.crop, *s, h.burner_w, h.fuel, args.load.force).map(
+                |(heater, _)| LoadSpec {
+                    heater,
+                    ..sc.spec.clone()
+                },
+            )
         })
         .collect::<Result<Vec<_>, _>>()?;
     eprintln!(
         "comparing {} strategies on {} (in parallel)…",
         specs.len(),
-        setup.file.name
+        sc.spec.name
     );
-    let results: Vec<LoadResult> = heaters
+    let results: Vec<LoadResult> = loads
         .par_iter()
-        .map(|h| run_load(&setup, *h, args.load.start_offset_h, &mut ()))
+        .map(|l| run_load(l, &mut ()))
         .collect::<Result<_, _>>()?;
     let rows: Vec<CompareRow> = specs
         .iter()
@@ -242,22 +270,17 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
             result: r,
         })
         .collect();
-    let table = compare_table(&rows, &setup.file.prices.currency, setup.fuel.unit);
+    let table = compare_table(&rows, &sc.spec.prices.currency, h.fuel.unit);
     println!(
-        "{} — same load, weather and fan; heater strategies side by side",
-        setup.file.name
+        "{} — same load, weather and fan; heater strategies side by side (run to: {})",
+        sc.spec.name, sc.spec.run.stop
     );
     print!("{table}");
     if let Some(dir) = &args.load.out {
-        write(
-            dir,
-            "compare.txt",
-            &format!("{table}\n{CAUTIONS}\n"),
-            &setup,
-        )?;
+        write(dir, "compare.txt", &format!("{table}\n{CAUTIONS}\n"), &sc)?;
         for (spec, r) in specs.iter().zip(&results) {
             let sub = dir.join(spec.to_string().replace([',', '=', '@'], "_"));
-            write_load_outputs(&sub, &setup, &spec.to_string(), r)?;
+            write_load_outputs(&sub, &sc, &spec.to_string(), r)?;
         }
         println!(
             "  wrote compare.txt and one folder per strategy to {}",
@@ -268,92 +291,106 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
     Ok(())
 }
 
+fn hours_cell(h: Option<f64>) -> String {
+    h.map(|x| format!("{x:.1}"))
+        .unwrap_or_else(|| "not reached".into())
+}
+
 /// `dryfront starts`.
 pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
-    let setup = setup(&args.load)?;
+    let (sc, _) = setup(&args.load)?;
     if !(args.every_h.is_finite() && args.every_h > 0.0) {
         anyhow::bail!("--every-h: {} h must be positive", args.every_h);
     }
     if args.count == 0 || args.count > 1000 {
         anyhow::bail!("--count: {} must be between 1 and 1000", args.count);
     }
-    let (heater, _) = setup.checked_heater(None, args.load.force)?;
-    let offsets: Vec<f64> = (0..args.count)
-        .map(|i| args.load.start_offset_h + i as f64 * args.every_h)
+    let loads: Vec<LoadSpec> = (0..args.count)
+        .map(|i| LoadSpec {
+            start: crate::load::clock_at(sc.spec.start, i as f64 * args.every_h),
+            ..sc.spec.clone()
+        })
         .collect();
-    let last =
-        setup.start + chrono::Duration::seconds((offsets[offsets.len() - 1] * 3600.0) as i64);
-    if last >= setup.weather.end() {
+    let last = loads[loads.len() - 1].start;
+    if last >= sc.spec.weather.end() {
         anyhow::bail!(
             "--count/--every-h: the last start {last} is past the end of the weather record {}",
-            setup.weather.end()
+            sc.spec.weather.end()
         );
     }
     eprintln!(
         "running {} start times on {} (in parallel)…",
-        offsets.len(),
-        setup.file.name
+        loads.len(),
+        sc.spec.name
     );
-    let results: Vec<LoadResult> = offsets
+    let results: Vec<LoadResult> = loads
         .par_iter()
-        .map(|&h| run_load(&setup, heater, h, &mut ()))
+        .map(|l| run_load(l, &mut ()))
         .collect::<Result<_, _>>()?;
     let mut csv = String::from(
-        "start,hours_to_target_h,fuel_per_tonne,fan_kwh,over_dried_pct,final_kernel_pct_wb\n",
+        "start,hours_to_mean_target_h,hours_to_fraction_target_h,ready_at,fuel_per_tonne_to_ready,fan_kwh_to_ready,over_dried_pct,final_kernel_pct_wb\n",
     );
     println!(
         "{} — the same load started at different times ({})",
-        setup.file.name, setup.strategy
+        sc.spec.name, sc.spec.heater.spec
     );
     println!(
-        "{:<26} {:>18} {:>14} {:>10} {:>16}",
-        "start", "hours to target", "fuel (L/t)", "fan kWh", "over-dried (%)"
+        "{:<24} {:>10} {:>12} {:>18} {:>12} {:>9} {:>11}",
+        "start", "h to mean", "h to whole", "ready at", "fuel (L/t)", "fan kWh", "over-dried"
     );
-    for (h, r) in offsets.iter().zip(&results) {
-        let t = setup.start + chrono::Duration::seconds((h * 3600.0) as i64);
+    for (l, r) in loads.iter().zip(&results) {
         let o = &r.outcome;
-        let hours = o
-            .hours_to_mean_target
-            .map(|x| format!("{x:.1}"))
+        let ready = o.ready();
+        let per_t = ready.fuel_used / (o.initial_mass_kg / 1000.0);
+        let ready_at = r
+            .clock
+            .stop_rule
+            .map(|t| t.format("%m-%d %H:%M").to_string())
             .unwrap_or_else(|| "not reached".into());
         println!(
-            "{:<26} {:>18} {:>14.1} {:>10.1} {:>16.1}",
-            t.format("%Y-%m-%d %H:%M %:z"),
-            hours,
-            o.fuel_per_tonne,
-            o.fan_kwh,
+            "{:<24} {:>10} {:>12} {:>18} {:>12.1} {:>9.1} {:>10.1}%",
+            l.start.format("%Y-%m-%d %H:%M %:z"),
+            hours_cell(o.hours_to_mean_target),
+            hours_cell(o.hours_to_fraction_target),
+            ready_at,
+            per_t,
+            ready.fan_kwh,
             o.over_dried_fraction * 100.0
         );
+        let opt = |h: Option<f64>| h.map(|x| format!("{x:.3}")).unwrap_or_default();
         csv.push_str(&format!(
-            "{},{},{:.3},{:.3},{:.3},{:.3}\n",
-            t.to_rfc3339(),
-            o.hours_to_mean_target
-                .map(|x| format!("{x:.3}"))
+            "{},{},{},{},{:.3},{:.3},{:.3},{:.3}\n",
+            l.start.to_rfc3339(),
+            opt(o.hours_to_mean_target),
+            opt(o.hours_to_fraction_target),
+            r.clock
+                .stop_rule
+                .map(|t| t.to_rfc3339())
                 .unwrap_or_default(),
-            o.fuel_per_tonne,
-            o.fan_kwh,
+            per_t,
+            ready.fan_kwh,
             o.over_dried_fraction * 100.0,
             o.final_kernel_pct
         ));
     }
-    let reached: Vec<f64> = results
+    let mut done: Vec<f64> = results
         .iter()
-        .filter_map(|r| r.outcome.hours_to_mean_target)
+        .filter_map(|r| r.outcome.at_stop_rule.map(|t| t.hours))
         .collect();
-    if !reached.is_empty() {
-        let mut sorted = reached.clone();
-        sorted.sort_by(f64::total_cmp);
+    if !done.is_empty() {
+        done.sort_by(f64::total_cmp);
         println!(
-            "  hours to target: {:.1} h shortest, {:.1} h median, {:.1} h longest ({} of {} reached target)",
-            sorted[0],
-            sorted[sorted.len() / 2],
-            sorted[sorted.len() - 1],
-            reached.len(),
+            "  hours until the stop rule ({}) held: {:.1} h shortest, {:.1} h median, {:.1} h longest ({} of {} met it)",
+            sc.spec.run.stop,
+            done[0],
+            done[done.len() / 2],
+            done[done.len() - 1],
+            done.len(),
             results.len()
         );
     }
     if let Some(dir) = &args.load.out {
-        write(dir, "starts.csv", &csv, &setup)?;
+        write(dir, "starts.csv", &csv, &sc)?;
         println!("  wrote starts.csv to {}", dir.display());
     }
     println!("{CAUTIONS}");

@@ -9,20 +9,19 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use anyhow::{bail, Context};
 
 use crate::airflow::geometry::Grid;
-use crate::crop::Crop;
 use crate::drying::heater::HeaterStrategy;
+use crate::input::season::{read_buying_point, season_template, SeasonRunSettings};
 use crate::outfile::write_atomic;
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::season::arrivals::{arrivals_csv, generate, read_arrivals_csv, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
-use crate::season::drier::{LoadDrier, RateRuleDrier};
+use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
 use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};
-use crate::season::scenario::{read_buying_point, BuyingPoint};
+use crate::season::scenario::BuyingPoint;
 use crate::season::sim::simulate;
 use crate::season::sweep::{
     heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
 };
-use crate::season::wiring::SeasonModels;
 use crate::weather::series::{ReadOptions, WeatherSeries};
 use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
 
@@ -250,22 +249,27 @@ fn parse_heater(s: &str) -> anyhow::Result<Option<HeaterStrategy>> {
     })
 }
 
-fn season_models(
+fn template(
     bp: &BuyingPoint,
     opts: &DeepBedOptions,
     weather: WeatherSeries,
-) -> anyhow::Result<SeasonModels> {
-    let crop = Crop::load_named(&opts.crop)?;
-    Ok(SeasonModels::load(bp, crop, weather, opts.grid)?)
+) -> anyhow::Result<LoadTemplate> {
+    let settings = SeasonRunSettings {
+        grid: opts.grid,
+        ..SeasonRunSettings::default()
+    };
+    Ok(season_template(bp, &opts.crop, std::sync::Arc::new(weather), &settings)?.0)
 }
 
 fn make_drier<'a>(
     choice: DrierChoice,
     bp: &BuyingPoint,
-    models: Option<&'a SeasonModels>,
+    template: Option<&'a LoadTemplate>,
 ) -> Box<dyn LoadDrier + 'a> {
-    match (choice, models) {
-        (DrierChoice::DeepBed, Some(m)) => Box::new(m.drier(bp.rules.target_kernel_pct)),
+    match (choice, template) {
+        (DrierChoice::DeepBed, Some(t)) => Box::new(DeepBedDrier {
+            template: t.clone(),
+        }),
         _ => Box::new(RateRuleDrier::new(bp.rules.target_kernel_pct)),
     }
 }
@@ -276,7 +280,7 @@ fn drier_note(choice: DrierChoice) -> &'static str {
             "drier: rate-rule (a rule of thumb: 0.5 points/h, propane per kg water; not a deep-bed simulation)"
         }
         DrierChoice::DeepBed => {
-            "drier: deep-bed model on the season grid (airflow solved once per container, fan and fill depth)"
+            "drier: deep-bed model through the single-load path on the season grid (airflow solved at each load's start)"
         }
     }
 }
@@ -339,7 +343,7 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
         DrierChoice::DeepBed => {
             let path = a.weather.clone().unwrap_or_else(default_weather);
             let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
-            Some(season_models(&bp, &a.models, weather)?)
+            Some(template(&bp, &a.models, weather)?)
         }
         DrierChoice::RateRule => None,
     };
@@ -453,7 +457,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     let params = default_params(&bp, a.loads, &a.rain_days)?;
     let choice = a.drier;
     let end = bp.season.end();
-    let models: Vec<SeasonModels> = match choice {
+    let models: Vec<LoadTemplate> = match choice {
         DrierChoice::DeepBed => {
             let path = a.weather_stats.clone().unwrap_or_else(default_stats);
             let stats = ClimateStats::from_json(&path, &crate::models::read_text(&path)?)?;
@@ -466,7 +470,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             let seasons = generate_seasons(&stats, &plan, a.seasons as u64)?;
             seasons
                 .into_iter()
-                .map(|w| season_models(&bp, &a.models, w))
+                .map(|w| template(&bp, &a.models, w))
                 .collect::<anyhow::Result<_>>()?
         }
         DrierChoice::RateRule => Vec::new(),

@@ -7,7 +7,7 @@
 use crate::airflow::bed::BedLaw;
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Container;
-use crate::airflow::solve::{solve, AirflowSolution, SolverSettings};
+use crate::airflow::solve::{solve, AirflowError, AirflowSolution, SolverSettings};
 use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
 use crate::props::resistance::d272_moisture_factor;
@@ -42,7 +42,12 @@ pub struct SolvedFlow<'a> {
 }
 
 impl FlowProvider for SolvedFlow<'_> {
-    fn flow(&mut self, air: &AirState, mean_pod_db: f64) -> Result<FlowField, String> {
+    fn flow(
+        &mut self,
+        _fan_air: &AirState,
+        air: &AirState,
+        mean_pod_db: f64,
+    ) -> Result<FlowField, AirflowError> {
         let mut law = self.law;
         // ASAE D272.3 note (DOMAIN.md §1.2): clean loose fill in equilibrium with RH > 85 % resists 0.80 ×.
         let factor = d272_moisture_factor((self.bed_erh)(mean_pod_db));
@@ -50,27 +55,25 @@ impl FlowProvider for SolvedFlow<'_> {
         if let (Some(sol), Some(last)) = (&self.last, self.last_key) {
             // Same inputs to the bit: the solve would give the same answer.
             if last.0.to_bits() == key.0.to_bits() && last.1.to_bits() == key.1.to_bits() {
-                return Ok(field_from_solution(sol, air, self.efficiency));
+                return Ok(field_from_solution(sol, self.efficiency));
             }
         }
         law.packing_factor *= factor;
-        let sol = solve(self.container, &self.flow, &law, air, &self.settings)
-            .map_err(|e| e.to_string())?;
-        let field = field_from_solution(&sol, air, self.efficiency);
+        let sol = solve(self.container, &self.flow, &law, air, &self.settings)?;
+        let field = field_from_solution(&sol, self.efficiency);
         self.last = Some(sol);
         self.last_key = Some(key);
         Ok(field)
     }
 }
 
-/// The run's view of an airflow solution: per-column superficial velocity at the inlet air state, fan power.
-pub fn field_from_solution(sol: &AirflowSolution, air: &AirState, eff: FanEfficiency) -> FlowField {
-    let v = air.specific_volume_m3_per_kg();
+/// The run's view of an airflow solution: per-column dry-air mass flux, fan power.
+pub fn field_from_solution(sol: &AirflowSolution, eff: FanEfficiency) -> FlowField {
     let op = sol.operating_point;
     let air_power_w = op.flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
     let electric = air_power_w / (eff.fan * eff.motor);
     FlowField {
-        velocity_m_per_s: sol.mass_flux_kg_per_m2_s.mapv(|g| g * v),
+        dry_air_flux_kg_per_m2_s: sol.mass_flux_kg_per_m2_s.clone(),
         fan_power_w: electric,
         electric_power_w: electric,
         leakage_m3_per_s: sol.summary.leakage_m3_per_s,

@@ -62,6 +62,11 @@ pub trait LayerMaterial: Sync {
     fn kernel_fraction(&self) -> f64;
     /// A fresh cell with kernel moisture `kernel_db` and its hull in moisture equilibrium with it at `t_c`.
     fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture;
+    /// Highest moisture (dry basis) the material's isotherms allow in any compartment below saturation; a run
+    /// stops as non-physical above it (and above its starting moisture). No bound by default.
+    fn moisture_ceiling_db(&self) -> f64 {
+        f64::INFINITY
+    }
 }
 
 /// Air crossing a layer: dry bulb °C and humidity ratio kg/kg dry air (pressure is the column's).

@@ -19,6 +19,7 @@ const NM: usize = 240;
 #[derive(Debug, Clone)]
 pub struct CropMaterial {
     model: PodModel,
+    ceiling_db: f64,
     cp_dry_j_per_kg_k: f64,
     latent_ratio: Vec<f64>,
 }
@@ -43,6 +44,7 @@ impl CropMaterial {
             }
         }
         CropMaterial {
+            ceiling_db: moisture_ceiling_db(&model),
             model,
             cp_dry_j_per_kg_k: cp,
             latent_ratio,
@@ -53,6 +55,25 @@ impl CropMaterial {
     pub fn model(&self) -> &PodModel {
         &self.model
     }
+}
+
+/// The wettest either compartment can be in equilibrium with air at RH 0.9999 and −10 °C (the coldest end of the
+/// latent-heat table; EMC falls as temperature rises for every isotherm form used here), adsorption or desorption,
+/// plus a quarter of that for free water condensed on the pods (our own allowance: condensation is physical but
+/// not bounded by the isotherm; the check is there to catch a state that runs away, not a wet night).
+fn moisture_ceiling_db(model: &PodModel) -> f64 {
+    let (rh, t_c) = (0.9999, T_MIN_C);
+    [model.hull(), model.kernel()]
+        .iter()
+        .flat_map(|c| {
+            [
+                c.sorption.emc_desorption_db(t_c, rh),
+                c.sorption.emc_adsorption_db(t_c, rh),
+            ]
+        })
+        .filter(|m| m.is_finite())
+        .fold(0.0, f64::max)
+        * 1.25
 }
 
 fn to_pod(m: CellMoisture) -> PodState {
@@ -129,5 +150,8 @@ impl LayerMaterial for CropMaterial {
     }
     fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture {
         from_pod(self.model.state_from_kernel(t_c, kernel_db))
+    }
+    fn moisture_ceiling_db(&self) -> f64 {
+        self.ceiling_db
     }
 }

@@ -1,20 +1,32 @@
-//! A batch run of one load: step the bed under the weather from a start time until a stop rule holds, the time limit
-//! passes or the weather ends, re-solving the airflow when the air or the bed has changed enough, and account for
-//! water, energy, fuel and fan electricity as it goes.
+//! A run of one load, step by step: [`Run::step`] advances the bed one time step under the weather from the start
+//! time, re-solving the airflow when the air or the bed has changed enough, and returns a [`StepReport`]; separate
+//! pieces keep the stop rules (`stop`), the accounts (`accounts`), the records (`record`) and the physical bounds
+//! checked after every step (`bounds`). [`Run::run_to_end`] steps until the stop rule holds, the time limit passes
+//! or the weather ends, showing every step and the bed to an observer.
 //!
-//! Stop rules are on kernel moisture, wet basis, as the trade grades it: the mass-weighted mean at or below target,
-//! or a given fraction of the dry matter at or below target (the wettest rest above it).
+//! The air path: the fan draws ambient air and warms it by its own heat; the heater brings it to the plenum; the
+//! airflow is solved with the fan at the ambient air and the plenum and bed at the plenum air, and the dry-air mass
+//! flux it gives is what crosses every layer.
 
-use ndarray::{Array2, Array3, Zip};
+use ndarray::Array2;
 use rayon::prelude::*;
 
+pub use super::accounts::Balances;
+use super::accounts::{ColumnFlux, RateWatch, StepAir};
 use super::bed::{BedState, ColumnTotals};
+use super::bounds::{Bounds, Violation};
 use super::heater::Heater;
 use super::layer::{
     step_column, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
 };
+pub use super::record::SeriesRow;
+use super::record::{record, PathAir};
+use super::stop::{Levels, StopTracker};
+pub use super::stop::{StopRule, Tally};
+use super::zones::{column_mass_below, shrink_kg, zone_masses, Thresholds, ZoneMasses};
+use crate::airflow::solve::AirflowError;
 use crate::props::psychro::{self, AirState};
-use crate::units::{db_from_wb, wb_from_db};
+use crate::units::wb_from_db;
 
 /// One sample of ambient weather.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -47,8 +59,8 @@ impl Ambient for ConstantAmbient {
 /// The airflow through the load at one moment.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FlowField {
-    /// Superficial air velocity leaving each column, m/s (volume at the plenum air state), `[nx, ny]`.
-    pub velocity_m_per_s: Array2<f64>,
+    /// Dry-air mass flux through each column, kg/(s·m²), `[nx, ny]`.
+    pub dry_air_flux_kg_per_m2_s: Array2<f64>,
     /// Fan shaft power drawn, W (becomes heat in the air stream).
     pub fan_power_w: f64,
     /// Fan electrical input, W (for kWh; ≥ shaft power).
@@ -59,11 +71,36 @@ pub struct FlowField {
     pub plenum_pa: f64,
 }
 
-/// Gives the run its airflow; asked again when the air density or the bed's moisture has moved past the run's
-/// thresholds. A fixed field ignores both.
+impl FlowField {
+    /// A field from superficial velocities at `air` (no fan power, no leakage): for tests and fixed-flow studies.
+    pub fn from_velocity(velocity_m_per_s: Array2<f64>, air: &AirState) -> Self {
+        let v = air.specific_volume_m3_per_kg();
+        FlowField {
+            dry_air_flux_kg_per_m2_s: velocity_m_per_s.mapv(|q| q / v),
+            fan_power_w: 0.0,
+            electric_power_w: 0.0,
+            leakage_m3_per_s: 0.0,
+            plenum_pa: 0.0,
+        }
+    }
+
+    /// Dry air through the bed, kg/s.
+    pub fn dry_air_kg_per_s(&self, column_area_m2: f64) -> f64 {
+        self.dry_air_flux_kg_per_m2_s.sum() * column_area_m2
+    }
+}
+
+/// Gives the run its airflow; asked again when the fan's or the plenum's air density or the bed's moisture has
+/// moved past the run's thresholds. A fixed field ignores all three.
 pub trait FlowProvider {
-    /// Airflow for plenum air `air` and bed mean pod moisture `mean_pod_db`.
-    fn flow(&mut self, air: &AirState, mean_pod_db: f64) -> Result<FlowField, String>;
+    /// Airflow with the fan drawing `fan_air`, the plenum and bed at `plenum_air`, and the bed at mean pod
+    /// moisture `mean_pod_db`.
+    fn flow(
+        &mut self,
+        fan_air: &AirState,
+        plenum_air: &AirState,
+        mean_pod_db: f64,
+    ) -> Result<FlowField, AirflowError>;
 }
 
 /// A flow field that does not change.
@@ -71,19 +108,9 @@ pub trait FlowProvider {
 pub struct FixedFlow(pub FlowField);
 
 impl FlowProvider for FixedFlow {
-    fn flow(&mut self, _: &AirState, _: f64) -> Result<FlowField, String> {
+    fn flow(&mut self, _: &AirState, _: &AirState, _: f64) -> Result<FlowField, AirflowError> {
         Ok(self.0.clone())
     }
-}
-
-/// Which condition ends the run.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
-#[serde(rename_all = "kebab-case")]
-pub enum StopRule {
-    /// Mass-weighted mean kernel moisture at or below target.
-    Mean,
-    /// This fraction (0–1) of the dry matter at or below target.
-    Fraction(f64),
 }
 
 /// Why a run stopped.
@@ -91,7 +118,7 @@ pub enum StopRule {
 #[serde(rename_all = "kebab-case")]
 pub enum StopReason {
     /// The stop rule holds.
-    TargetReached,
+    RuleMet,
     /// The time limit passed first.
     MaxHours,
     /// The weather record ended first.
@@ -109,32 +136,33 @@ pub struct RunSettings {
     pub target_kernel_wb: f64,
     /// Rule that ends the run.
     pub stop: StopRule,
-    /// Second rule whose time is also reported (the run does not wait for it).
-    pub also_report: StopRule,
+    /// Share of the dry matter the fraction rule wants at or below target (0–1).
+    pub fraction: f64,
     /// Record a time-series row every this many seconds.
     pub record_every_s: f64,
-    /// Re-solve airflow when plenum air density has changed by this relative amount.
+    /// Re-solve airflow when the fan's or the plenum's air density has changed by this relative amount.
     pub reflow_density_rel: f64,
     /// …or mean pod moisture by this much (dry basis).
     pub reflow_moisture_db: f64,
-    /// Kernel moisture below which a cell counts as over-dried, wet basis decimal.
+    /// Kernel moisture below which the peanuts count as over-dried, wet basis decimal.
     pub over_dry_kernel_wb: f64,
-    /// Above target + this, a cell counts as under-dried, wet basis decimal.
+    /// Above target + this, the peanuts count as still wet, wet basis decimal.
     pub under_dry_tolerance_wb: f64,
     /// Batch-average drying rate counted as too fast, percentage points per hour.
     pub safe_rate_pct_per_h: f64,
 }
 
 impl Default for RunSettings {
-    /// Defaults from practice (common practice, no source): 10 % kernel w.b. target; over-dried below 9 %;
-    /// under-dried above 10.5 %; 0.5 %-points/h safe rate (DOMAIN.md §7.2). Numerics: 0.1 h steps.
+    /// Defaults from practice (common practice, no source): 10 % kernel w.b. target; run until both the mean and
+    /// 95 % of the load are at target; over-dried below 9 %; still wet above 10.5 %; 0.5 %-points/h safe rate
+    /// (DOMAIN.md §7.2). Numerics: 0.1 h steps.
     fn default() -> Self {
         RunSettings {
             dt_s: 360.0,
             max_hours: 120.0,
             target_kernel_wb: 0.10,
-            stop: StopRule::Mean,
-            also_report: StopRule::Fraction(0.95),
+            stop: StopRule::Both,
+            fraction: 0.95,
             record_every_s: 3600.0,
             reflow_density_rel: 0.01,
             reflow_moisture_db: 0.01,
@@ -145,81 +173,11 @@ impl Default for RunSettings {
     }
 }
 
-/// One row of the run's time series.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
-pub struct SeriesRow {
-    /// Hours since start.
-    pub hours: f64,
-    /// Mean kernel moisture, % w.b.
-    pub mean_kernel_pct: f64,
-    /// Mean pod moisture, % w.b.
-    pub mean_pod_pct: f64,
-    /// Mean hull moisture, % w.b.
-    pub mean_hull_pct: f64,
-    /// Mean kernel moisture of the top layer, % w.b.
-    pub top_kernel_pct: f64,
-    /// Mean kernel moisture of the bottom layer, % w.b.
-    pub bottom_kernel_pct: f64,
-    /// Mean hull moisture of the top layer, % w.b.
-    pub top_hull_pct: f64,
-    /// Wettest cell's kernel moisture, % w.b.
-    pub wettest_kernel_pct: f64,
-    /// Driest cell's kernel moisture, % w.b.
-    pub driest_kernel_pct: f64,
-    /// Ambient dry bulb, °C.
-    pub ambient_c: f64,
-    /// Ambient RH, %.
-    pub ambient_rh_pct: f64,
-    /// Plenum dry bulb, °C.
-    pub plenum_c: f64,
-    /// Plenum RH, %.
-    pub plenum_rh_pct: f64,
-    /// Flow-weighted exhaust dry bulb, °C.
-    pub exhaust_c: f64,
-    /// Exhaust RH, %.
-    pub exhaust_rh_pct: f64,
-    /// Burner heat, kW.
-    pub heat_kw: f64,
-    /// Fan electrical power, kW.
-    pub fan_kw: f64,
-    /// Hottest peanut temperature, °C.
-    pub max_peanut_c: f64,
-}
-
-/// Water and energy accounts of a run, for the balances.
-#[derive(Debug, Clone, Copy, Default, PartialEq, serde::Serialize)]
-pub struct Balances {
-    /// Water held by the peanuts at the start, kg.
-    pub water_start_kg: f64,
-    /// …at the end, kg.
-    pub water_end_kg: f64,
-    /// Water the air carried off (exhaust minus plenum humidity, integrated), kg.
-    pub water_to_air_kg: f64,
-    /// Burner heat released into the air (LHV basis), J.
-    pub burner_heat_j: f64,
-    /// Enthalpy the burner and fan added to the air (plenum minus ambient), J.
-    pub air_heating_j: f64,
-    /// Enthalpy carried off by the exhaust above ambient air, J.
-    pub exhaust_excess_j: f64,
-    /// Change of sensible heat stored in the peanuts and their water, J.
-    pub sensible_storage_j: f64,
-    /// Heat of sorption taken by bound water beyond free-water latent heat, J.
-    pub sorption_heat_j: f64,
-    /// Fan electricity, J.
-    pub fan_electric_j: f64,
-    /// Water condensed from over-saturated air back onto the peanuts, kg.
-    pub condensate_kg: f64,
-    /// Largest one-step water removal relative to the adiabatic-saturation bound of the plenum air (can pass 1
-    /// briefly while warm peanuts give up their own heat).
-    pub max_removal_vs_adiabatic: f64,
-    /// Water the air could have carried off over the run had it left saturated at its wet bulb (DOMAIN.md §6.3),
-    /// kg. Removal cannot exceed this plus what the peanuts' own sensible heat can evaporate.
-    pub adiabatic_capacity_kg: f64,
-}
-
-/// The result of a batch run.
+/// The result of a run.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Outcome {
+    /// The rule the run was asked to meet.
+    pub stop_rule: StopRule,
     /// Why it stopped.
     pub stop_reason: StopReason,
     /// Hours simulated.
@@ -230,6 +188,12 @@ pub struct Outcome {
     pub hours_to_fraction_target: Option<f64>,
     /// The fraction used for that rule.
     pub fraction_rule: f64,
+    /// Accounts when the mean reached target (interpolated inside the step).
+    pub at_mean_target: Option<Tally>,
+    /// Accounts when the fraction rule held.
+    pub at_fraction_target: Option<Tally>,
+    /// Accounts when the stop rule was met (the later of the two for `both`; the end for `hours`).
+    pub at_stop_rule: Option<Tally>,
     /// Mean kernel moisture at the start, % w.b.
     pub initial_kernel_pct: f64,
     /// …at the end.
@@ -238,25 +202,27 @@ pub struct Outcome {
     pub final_pod_pct: f64,
     /// Wet mass at the start, kg.
     pub initial_mass_kg: f64,
-    /// Wet mass at the end, kg.
+    /// Wet mass at the end (the weight sold if taken off air now), kg.
     pub final_mass_kg: f64,
     /// Water removed, kg.
     pub water_removed_kg: f64,
-    /// Fuel burnt, in the fuel's unit.
+    /// Fuel burnt to the end of the run, in the fuel's unit.
     pub fuel_used: f64,
     /// The fuel's unit.
     pub fuel_unit: String,
-    /// Fuel per tonne of wet peanuts at the start.
+    /// Fuel per tonne of wet peanuts at the start, to the end of the run.
     pub fuel_per_tonne: f64,
-    /// Fan electricity, kWh.
+    /// Fan electricity to the end of the run, kWh.
     pub fan_kwh: f64,
     /// Heat per kg water removed (burner + fan), kJ/kg.
     pub energy_kj_per_kg_water: f64,
+    /// Zones by mass at the end.
+    pub zones: ZoneMasses,
     /// Mass fraction over-dried at the end.
     pub over_dried_fraction: f64,
-    /// Mass fraction under-dried at the end.
+    /// Mass fraction still wet at the end.
     pub under_dried_fraction: f64,
-    /// Shrink: weight lost by cells dried below target, kg.
+    /// Over-dry shrink at the end: weight lost below target moisture, kg.
     pub shrink_kg: f64,
     /// Largest hourly drop of mean kernel moisture, percentage points per hour.
     pub max_rate_pct_per_h: f64,
@@ -273,6 +239,19 @@ pub struct Outcome {
     pub series: Vec<SeriesRow>,
 }
 
+impl Outcome {
+    /// The accounts when the load met its stop rule, or at the end of the run if it did not.
+    pub fn ready(&self) -> Tally {
+        self.at_stop_rule.unwrap_or(Tally {
+            hours: self.hours,
+            fuel_used: self.fuel_used,
+            fan_kwh: self.fan_kwh,
+            water_removed_kg: self.water_removed_kg,
+            shrink_kg: self.shrink_kg,
+        })
+    }
+}
+
 /// Errors of a run.
 #[derive(Debug, thiserror::Error)]
 pub enum RunError {
@@ -287,25 +266,65 @@ pub enum RunError {
         /// Initial, %.
         initial: f64,
     },
-    /// The airflow provider failed.
+    /// The airflow solve failed.
     #[error("airflow: {0}")]
-    Airflow(String),
-    /// A state became non-physical.
-    #[error("non-physical {quantity} = {value} at hour {hours:.2}")]
+    Airflow(#[from] AirflowError),
+    /// A state left its physical bounds.
+    #[error("non-physical state at hour {hours:.2}: {quantity} = {value} in cell (x {}, y {}, layer {}) (bound {bound})", .cell.0, .cell.1, .cell.2)]
     NonPhysical {
         /// Which quantity.
         quantity: &'static str,
         /// Its value.
         value: f64,
+        /// The bound it broke (NaN for a non-finite value).
+        bound: f64,
+        /// The cell: column along the length, across, layer from the floor.
+        cell: (usize, usize, usize),
         /// When.
         hours: f64,
     },
+    /// `step` was called after the run had stopped.
+    #[error("the run has already stopped")]
+    Finished,
 }
 
-/// Observers see every recorded row (progress bars, writers); tests pass `()`.
+/// What one step did.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StepReport {
+    /// Steps done so far (1 after the first).
+    pub step: u64,
+    /// Hours on air at the end of the step.
+    pub hours: f64,
+    /// The step's length, s.
+    pub dt_s: f64,
+    /// Ambient air at the step's middle.
+    pub ambient: AmbientSample,
+    /// Plenum air.
+    pub plenum: AirState,
+    /// Flow-weighted exhaust air.
+    pub exhaust: AirState,
+    /// Burner heat, W.
+    pub heat_w: f64,
+    /// Dry air through the bed, kg/s.
+    pub dry_air_kg_per_s: f64,
+    /// Whether the airflow was solved again for this step.
+    pub airflow_solved: bool,
+    /// Mean kernel moisture after the step, wet basis decimal.
+    pub mean_kernel_wb: f64,
+    /// Share of the dry matter above target after the step.
+    pub above_target_fraction: f64,
+    /// Accounts at the end of the step (shrink only where the stop rules needed it, else NaN).
+    pub tally: Tally,
+    /// The time-series row recorded at this step, if any.
+    pub row: Option<SeriesRow>,
+    /// Set when this step ended the run.
+    pub stop: Option<StopReason>,
+}
+
+/// Observers see every step with the bed after it (probes, progress, writers); tests pass `()`.
 pub trait RunObserver {
-    /// A new time-series row.
-    fn on_row(&mut self, _row: &SeriesRow) {}
+    /// A step was taken; `bed` is the state after it.
+    fn on_step(&mut self, _report: &StepReport, _bed: &BedState) {}
 }
 impl RunObserver for () {}
 
@@ -313,166 +332,189 @@ struct ColumnResult {
     totals: ColumnStepTotals,
     exhaust: LayerAir,
     dry_air_kg_per_m2: f64,
-    /// The column's state after the step.
     after: ColumnTotals,
+    above_target_dm: f64,
+    violation: Option<Violation>,
 }
 
-/// Run one load. `bed` is advanced in place.
-pub fn run_batch<M: LayerMaterial + ?Sized>(
-    material: &M,
-    bed: &mut BedState,
-    ambient: &dyn Ambient,
-    flow: &mut dyn FlowProvider,
-    heater: &Heater,
-    settings: &RunSettings,
-    observer: &mut dyn RunObserver,
-) -> Result<Outcome, RunError> {
-    let (nx, ny, nz) = bed.dim();
-    let area = bed.column_area_m2;
-    let initial_kernel_wb = bed.mean_kernel_wb(material);
-    // Bed totals that the loop reads every step, kept up to date from the columns' results so that no serial pass
-    // over the bed is needed: mean kernel moisture (wet basis) and water held (kg).
-    let mut mean_kernel_now = initial_kernel_wb;
-    if settings.target_kernel_wb >= initial_kernel_wb {
-        return Err(RunError::TargetNotBelowInitial {
-            target: settings.target_kernel_wb * 100.0,
-            initial: initial_kernel_wb * 100.0,
-        });
+/// The airflow the run is using and the states it was solved for.
+struct FlowState {
+    field: FlowField,
+    fan_density: f64,
+    plenum_density: f64,
+    pod_db: f64,
+    solves: u32,
+}
+
+/// A load being dried.
+pub struct Run<'a, M: LayerMaterial + ?Sized> {
+    material: &'a M,
+    bed: BedState,
+    ambient: &'a dyn Ambient,
+    provider: &'a mut dyn FlowProvider,
+    heater: Heater,
+    settings: RunSettings,
+    thresholds: Thresholds,
+    flow: FlowState,
+    bounds: Bounds,
+    tracker: StopTracker,
+    bal: Balances,
+    rate: RateWatch,
+    dry_kg: f64,
+    dry_per_area: f64,
+    initial_mass_kg: f64,
+    initial_kernel_wb: f64,
+    sensible_start_j: f64,
+    water_kg: f64,
+    levels: Levels,
+    tally: Tally,
+    shrink_at_tally: bool,
+    max_peanut_c: f64,
+    t_s: f64,
+    steps: u64,
+    series: Vec<SeriesRow>,
+    next_record_s: f64,
+    last_sample: AmbientSample,
+    stopped: Option<StopReason>,
+    results: Vec<ColumnResult>,
+}
+
+impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
+    /// Set up a run of `bed` (moved in; [`Run::finish`] gives it back).
+    pub fn new(
+        material: &'a M,
+        bed: BedState,
+        ambient: &'a dyn Ambient,
+        provider: &'a mut dyn FlowProvider,
+        heater: Heater,
+        settings: RunSettings,
+    ) -> Result<Self, RunError> {
+        let initial_kernel_wb = bed.mean_kernel_wb(material);
+        if settings.target_kernel_wb >= initial_kernel_wb {
+            return Err(RunError::TargetNotBelowInitial {
+                target: settings.target_kernel_wb * 100.0,
+                initial: initial_kernel_wb * 100.0,
+            });
+        }
+        let first = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
+        let dry_kg = bed.dry_matter_kg();
+        let water_kg = bed.water_kg(material);
+        let field = provider.flow(&first.air, &first.air, water_kg / dry_kg)?;
+        let density = first.air.density_kg_per_m3();
+        let t_min = bed.temp_c.iter().copied().fold(f64::MAX, f64::min);
+        let t_max = bed.temp_c.iter().copied().fold(f64::MIN, f64::max);
+        let m_max = (bed.hull_db.iter().chain(bed.kernel_db.iter()))
+            .copied()
+            .fold(0.0, f64::max);
+        let thresholds = Thresholds::of(&settings);
+        let levels = Levels {
+            mean_kernel_wb: initial_kernel_wb,
+            above_target_fraction: above_fraction(&bed, thresholds.target_db),
+        };
+        let tally = Tally {
+            shrink_kg: shrink_kg(material, &bed, thresholds.target_db),
+            ..Tally::default()
+        };
+        let mut tracker =
+            StopTracker::new(settings.stop, settings.target_kernel_wb, settings.fraction);
+        tracker.start(&levels, &tally);
+        let mut run = Run {
+            material,
+            ambient,
+            provider,
+            heater,
+            thresholds,
+            flow: FlowState {
+                field,
+                fan_density: density,
+                plenum_density: density,
+                pod_db: water_kg / dry_kg,
+                solves: 1,
+            },
+            bounds: Bounds::new(t_min, t_max, m_max.max(material.moisture_ceiling_db())),
+            tracker,
+            bal: Balances {
+                water_start_kg: water_kg,
+                ..Balances::default()
+            },
+            rate: RateWatch::new(initial_kernel_wb, settings.safe_rate_pct_per_h),
+            dry_kg,
+            dry_per_area: bed.dry_matter_kg_per_m2.sum(),
+            initial_mass_kg: dry_kg + water_kg,
+            initial_kernel_wb,
+            sensible_start_j: bed.sensible_heat_j(material),
+            water_kg,
+            levels,
+            tally,
+            shrink_at_tally: true,
+            max_peanut_c: t_max,
+            t_s: 0.0,
+            steps: 0,
+            series: Vec::new(),
+            next_record_s: settings.record_every_s,
+            last_sample: first,
+            stopped: None,
+            results: Vec::new(),
+            bed,
+            settings,
+        };
+        run.settle_start(&first)?;
+        let row = record(
+            material,
+            &run.bed,
+            0.0,
+            levels.above_target_fraction,
+            &first,
+            None,
+            0.0,
+        );
+        run.series.push(row);
+        Ok(run)
     }
-    let first = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
-    let dry_kg = bed.dry_matter_kg();
-    let water_start = bed.water_kg(material);
-    let mut water_now = water_start;
-    let dry_per_area: f64 = bed.dry_matter_kg_per_m2.sum();
-    let sensible_start = bed.sensible_heat_j(material);
-    let initial_mass = dry_kg + water_start;
 
-    let mut bal = Balances {
-        water_start_kg: water_start,
-        ..Default::default()
-    };
-    let mut field = flow
-        .flow(&first.air, water_start / dry_kg)
-        .map_err(RunError::Airflow)?;
-    let mut solves = 1u32;
-    let mut field_density = first.air.density_kg_per_m3();
-    let mut field_moisture = water_start / dry_kg;
-
-    let mut t_s = 0.0;
-    let mut next_record;
-    let mut hours_mean = None;
-    let mut hours_frac = None;
-    let mut prev_levels = (f64::NAN, f64::NAN);
-    let mut fuel_heat_j = 0.0;
-    let mut max_peanut = bed.temp_c.iter().cloned().fold(f64::MIN, f64::max);
-    let mut series = Vec::new();
-    let mut last_hour_kernel = (0.0, initial_kernel_wb);
-    let mut max_rate = 0.0f64;
-    let mut hours_fast = 0.0;
-    let fraction = match (settings.stop, settings.also_report) {
-        (StopRule::Fraction(f), _) | (_, StopRule::Fraction(f)) => f,
-        _ => 0.95,
-    };
-    let stop_reason;
-    let mut results: Vec<ColumnResult> = Vec::with_capacity(nx * ny);
-    let row = record(material, bed, 0.0, &first, None, &field);
-    observer.on_row(&row);
-    series.push(row);
-    next_record = settings.record_every_s;
-    let mut last_recorded_s = 0.0;
-
-    loop {
-        let hours = t_s / 3600.0;
-        let mean_kernel = mean_kernel_now;
-        let target = settings.target_kernel_wb;
-        // Crossing times are interpolated within the step, so they do not jump by whole steps.
-        // The fraction rule needs a sort of every cell; it can only hold once the mean is at most
-        // fraction·target + (1 − fraction)·60 % (the rest no wetter than 60 % w.b.; wet-basis means are near enough
-        // mass-weighted for this bound), so it is evaluated only from there on.
-        let quantile =
-            if hours_frac.is_none() && mean_kernel <= fraction * target + (1.0 - fraction) * 0.6 {
-                bed.kernel_wb_quantile(fraction)
-            } else {
-                f64::INFINITY
-            };
-        let crossing = |prev: f64, now: f64| {
-            let f = if prev.is_finite() && prev > now {
-                ((prev - target) / (prev - now)).clamp(0.0, 1.0)
-            } else {
-                1.0
-            };
-            (hours - settings.dt_s / 3600.0 * (1.0 - f)).max(0.0)
-        };
-        if hours_mean.is_none() && mean_kernel <= target {
-            hours_mean = Some(if t_s > 0.0 {
-                crossing(prev_levels.0, mean_kernel)
-            } else {
-                0.0
-            });
+    /// The first airflow was solved with the fan's air in the plenum too; solve again for the plenum air the fan
+    /// and burner actually deliver at the start (once: the mass flow hardly moves the plenum temperature).
+    fn settle_start(&mut self, first: &AmbientSample) -> Result<(), RunError> {
+        let (plenum, _, _) = self.plenum_for(first);
+        let d = plenum.density_kg_per_m3();
+        if d.to_bits() != self.flow.plenum_density.to_bits() {
+            self.flow.field = self.provider.flow(&first.air, &plenum, self.flow.pod_db)?;
+            self.flow.plenum_density = d;
+            self.flow.solves += 1;
         }
-        if hours_frac.is_none() && quantile <= target {
-            hours_frac = Some(if t_s > 0.0 {
-                crossing(prev_levels.1, quantile)
-            } else {
-                0.0
-            });
-        }
-        prev_levels = (mean_kernel, quantile);
-        let done = match settings.stop {
-            StopRule::Mean => hours_mean.is_some(),
-            StopRule::Fraction(_) => hours_frac.is_some(),
-        };
-        // Hourly drying-rate bookkeeping.
-        if hours - last_hour_kernel.0 >= 1.0 - 1e-9 {
-            let rate = (last_hour_kernel.1 - mean_kernel) * 100.0 / (hours - last_hour_kernel.0);
-            max_rate = max_rate.max(rate);
-            if rate > settings.safe_rate_pct_per_h {
-                hours_fast += hours - last_hour_kernel.0;
-            }
-            last_hour_kernel = (hours, mean_kernel);
-        }
-        let sample = ambient.at(t_s + 0.5 * settings.dt_s);
-        let stop = if done {
-            Some(StopReason::TargetReached)
-        } else if hours >= settings.max_hours - 1e-9 {
-            Some(StopReason::MaxHours)
-        } else if sample.is_none() {
-            Some(StopReason::WeatherEnded)
-        } else {
-            None
-        };
-        let (None, Some(sample)) = (stop, sample) else {
-            stop_reason = stop.unwrap_or(StopReason::WeatherEnded);
-            if t_s > last_recorded_s + 1e-9 || series.is_empty() {
-                // Final row so the series ends where the run ends.
-                let at = sample.unwrap_or(first);
-                let row = record(material, bed, hours, &at, None, &field);
-                observer.on_row(&row);
-                series.push(row);
-            }
-            break;
-        };
+        Ok(())
+    }
 
-        // Airflow: re-solve when the air density or the bed's moisture has moved enough.
-        let density = sample.air.density_kg_per_m3();
-        let mean_pod = water_now / dry_kg;
-        if (density / field_density - 1.0).abs() > settings.reflow_density_rel
-            || (mean_pod - field_moisture).abs() > settings.reflow_moisture_db
-        {
-            field = flow
-                .flow(&sample.air, mean_pod)
-                .map_err(RunError::Airflow)?;
-            solves += 1;
-            field_density = density;
-            field_moisture = mean_pod;
-        }
+    /// The bed as it is now.
+    pub fn bed(&self) -> &BedState {
+        &self.bed
+    }
 
-        // Fan heat, then the burner.
-        let total_m3_s: f64 = field.velocity_m_per_s.sum() * area;
-        let v_amb = sample.air.specific_volume_m3_per_kg();
-        let dry_air_kg_s = total_m3_s / v_amb;
-        let fan_air = if dry_air_kg_s > 0.0 {
-            let h = sample.air.enthalpy_j_per_kg() + field.fan_power_w / dry_air_kg_s;
+    /// Hours on air so far.
+    pub fn hours(&self) -> f64 {
+        self.t_s / 3600.0
+    }
+
+    /// Why the run stopped, once it has.
+    pub fn stop_reason(&self) -> Option<StopReason> {
+        self.stopped
+    }
+
+    /// The end of the run's time, s: the time limit, or the fixed hours of an `hours` rule if sooner.
+    fn limit_s(&self) -> f64 {
+        let rule = match self.settings.stop {
+            StopRule::Hours(h) => h,
+            _ => f64::INFINITY,
+        };
+        self.settings.max_hours.min(rule) * 3600.0
+    }
+
+    /// Plenum air for `sample` with the present airflow: fan heat, then the burner.
+    fn plenum_for(&self, sample: &AmbientSample) -> (AirState, f64, f64) {
+        let f = &self.flow.field;
+        let dry_air = f.dry_air_kg_per_s(self.bed.column_area_m2);
+        let fan_air = if dry_air > 0.0 {
+            let h = sample.air.enthalpy_j_per_kg() + f.fan_power_w / dry_air;
             AirState {
                 t_c: psychro::temperature_from_enthalpy_c(h, sample.air.w),
                 ..sample.air
@@ -480,43 +522,65 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         } else {
             sample.air
         };
-        let heat = heater.plenum_air(fan_air, sample.local_hour, dry_air_kg_s);
-        let plenum = heat.plenum;
-        fuel_heat_j += heat.heat_w * settings.dt_s;
-        bal.burner_heat_j += heat.heat_w * settings.dt_s;
-        bal.fan_electric_j += field.electric_power_w * settings.dt_s;
+        let heat = self.heater.plenum_air(fan_air, sample.local_hour, dry_air);
+        (heat.plenum, heat.heat_w, dry_air)
+    }
 
-        // The layer step, columns in parallel; results kept in column order.
-        let forcing_base = ColumnForcing {
+    /// The air path for this step, re-solving the airflow first if the fan's or plenum's air or the bed's moisture
+    /// moved past the thresholds. Returns plenum air, burner heat, dry air kg/s and whether it re-solved.
+    fn air_path(&mut self, sample: &AmbientSample) -> Result<(AirState, f64, f64, bool), RunError> {
+        let (plenum, heat_w, dry_air) = self.plenum_for(sample);
+        let s = &self.settings;
+        let fan_d = sample.air.density_kg_per_m3();
+        let plenum_d = plenum.density_kg_per_m3();
+        let pod_db = self.water_kg / self.dry_kg;
+        let f = &self.flow;
+        let moved = (fan_d / f.fan_density - 1.0).abs() > s.reflow_density_rel
+            || (plenum_d / f.plenum_density - 1.0).abs() > s.reflow_density_rel
+            || (pod_db - f.pod_db).abs() > s.reflow_moisture_db;
+        if !moved {
+            return Ok((plenum, heat_w, dry_air, false));
+        }
+        let field = self.provider.flow(&sample.air, &plenum, pod_db)?;
+        self.flow = FlowState {
+            field,
+            fan_density: fan_d,
+            plenum_density: plenum_d,
+            pod_db,
+            solves: self.flow.solves + 1,
+        };
+        let (plenum, heat_w, dry_air) = self.plenum_for(sample);
+        Ok((plenum, heat_w, dry_air, true))
+    }
+
+    /// The layer step over every column in parallel; results kept in column order.
+    fn step_columns(&mut self, plenum: &AirState, dt_s: f64) {
+        let nz = self.bed.dim().2;
+        let material = self.material;
+        let bounds = self.bounds;
+        let target_db = self.thresholds.target_db;
+        let base = ColumnForcing {
             air_in: LayerAir {
                 t_c: plenum.t_c,
                 w: plenum.w,
             },
             dry_air_kg_per_m2_s: 0.0,
             p_pa: plenum.p_pa,
-            dt_s: settings.dt_s,
+            dt_s,
         };
-        let flux: Vec<f64> = field.velocity_m_per_s.iter().map(|q| q / v_amb).collect();
-        let hull = bed
-            .hull_db
-            .as_slice_mut()
-            .expect("bed arrays are in standard layout");
-        let kernel = bed
-            .kernel_db
-            .as_slice_mut()
-            .expect("bed arrays are in standard layout");
-        let start = bed
-            .curve_start_db
-            .as_slice_mut()
-            .expect("bed arrays are in standard layout");
-        let temp = bed
-            .temp_c
-            .as_slice_mut()
-            .expect("bed arrays are in standard layout");
-        let dm = bed
-            .dry_matter_kg_per_m2
+        let flux = self
+            .flow
+            .field
+            .dry_air_flux_kg_per_m2_s
             .as_slice()
-            .expect("bed arrays are in standard layout");
+            .expect("flow arrays are in standard layout");
+        let bed = &mut self.bed;
+        let layout = "bed arrays are in standard layout";
+        let hull = bed.hull_db.as_slice_mut().expect(layout);
+        let kernel = bed.kernel_db.as_slice_mut().expect(layout);
+        let start = bed.curve_start_db.as_slice_mut().expect(layout);
+        let temp = bed.temp_c.as_slice_mut().expect(layout);
+        let dm = bed.dry_matter_kg_per_m2.as_slice().expect(layout);
         hull.par_chunks_mut(nz)
             .zip(kernel.par_chunks_mut(nz))
             .zip(start.par_chunks_mut(nz))
@@ -526,7 +590,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
             .map(|(((((h, k), c), t), d), &g)| {
                 let forcing = ColumnForcing {
                     dry_air_kg_per_m2_s: g,
-                    ..forcing_base
+                    ..base
                 };
                 let column = ColumnMut {
                     hull_db: &mut *h,
@@ -537,9 +601,10 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
                 };
                 let (exhaust, totals) = step_column(material, column, forcing);
                 ColumnResult {
+                    violation: bounds.check_column(h, k, t, totals.max_rh_out),
                     totals,
                     exhaust,
-                    dry_air_kg_per_m2: g * settings.dt_s,
+                    dry_air_kg_per_m2: g * dt_s,
                     after: ColumnTotals::of(
                         material,
                         (&*h).into(),
@@ -548,108 +613,284 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
                         (&*t).into(),
                         d.into(),
                     ),
+                    above_target_dm: d.iter().sum::<f64>()
+                        - column_mass_below((&*k).into(), d.into(), target_db),
                 }
             })
-            .collect_into_vec(&mut results);
+            .collect_into_vec(&mut self.results);
+    }
 
-        // Accounts, summed in column order (independent of thread count).
-        let h_amb = sample.air.enthalpy_j_per_kg();
-        let h_plenum = plenum.enthalpy_j_per_kg();
-        let mut removed = 0.0;
-        let (mut pod_water, mut kernel_db_dm, mut peak) = (0.0, 0.0, f64::MIN);
-        for r in &results {
-            pod_water += r.after.pod_water_kg_per_m2;
-            kernel_db_dm += r.after.kernel_db_dm_kg_per_m2;
-            peak = f64::max(peak, r.after.max_temp_c);
-            let air_kg = r.dry_air_kg_per_m2 * area;
-            if air_kg <= 0.0 {
-                continue;
-            }
-            removed += r.totals.water_removed_kg_per_m2 * area;
-            bal.water_to_air_kg += air_kg * (r.exhaust.w - plenum.w);
-            bal.air_heating_j += air_kg * (h_plenum - h_amb);
-            bal.exhaust_excess_j +=
-                air_kg * (psychro::enthalpy_j_per_kg(r.exhaust.t_c, r.exhaust.w) - h_amb);
-            bal.sorption_heat_j += r.totals.sorption_heat_j_per_m2 * area;
-            bal.condensate_kg += r.totals.condensate_kg_per_m2 * area;
-        }
-        // Physical bound: the air cannot take up more than it would leaving saturated at its wet bulb.
-        let t_wb = psychro::wet_bulb_c(plenum.t_c, plenum.w, plenum.p_pa);
-        let bound = dry_air_kg_s
-            * settings.dt_s
-            * (psychro::saturation_humidity_ratio(t_wb, plenum.p_pa) - plenum.w);
-        bal.adiabatic_capacity_kg += bound.max(0.0);
-        if bound > 0.0 {
-            bal.max_removal_vs_adiabatic = bal.max_removal_vs_adiabatic.max(removed / bound);
-        }
-
-        water_now = pod_water * area;
-        mean_kernel_now = ColumnTotals::mean_kernel_wb(kernel_db_dm, dry_per_area);
-        t_s += settings.dt_s;
-        if !peak.is_finite() {
-            return Err(RunError::NonPhysical {
-                quantity: "peanut temperature",
-                value: peak,
-                hours: t_s / 3600.0,
-            });
-        }
-        max_peanut = max_peanut.max(peak);
-        if t_s >= next_record - 1e-9 {
-            let exhaust = mean_exhaust(&results, plenum.p_pa);
-            let row = record(
-                material,
-                bed,
-                t_s / 3600.0,
-                &sample,
-                Some((plenum, exhaust, heat.heat_w)),
-                &field,
-            );
-            observer.on_row(&row);
-            series.push(row);
-            last_recorded_s = t_s;
-            next_record = t_s + settings.record_every_s;
+    /// The first out-of-bounds cell, in column order.
+    fn check_bounds(&self, hours: f64) -> Result<(), RunError> {
+        let ny = self.bed.dim().1;
+        match self
+            .results
+            .iter()
+            .enumerate()
+            .find_map(|(c, r)| r.violation.map(|v| (c, v)))
+        {
+            None => Ok(()),
+            Some((c, v)) => Err(RunError::NonPhysical {
+                quantity: v.quantity,
+                value: v.value,
+                bound: v.bound,
+                cell: (c / ny, c % ny, v.layer),
+                hours,
+            }),
         }
     }
 
-    let water_end = bed.water_kg(material);
-    bal.water_end_kg = water_end;
-    bal.sensible_storage_j = bed.sensible_heat_j(material) - sensible_start;
-    let final_mass = dry_kg + water_end;
-    let fuel_used = heater.fuel.quantity_for_heat(fuel_heat_j);
-    let (over, under, shrink) = zones(material, bed, settings);
-    let fan_kwh = bal.fan_electric_j / 3.6e6;
-    let removed = water_start - water_end;
-    Ok(Outcome {
-        stop_reason,
-        hours: t_s / 3600.0,
-        hours_to_mean_target: hours_mean,
-        hours_to_fraction_target: hours_frac,
-        fraction_rule: fraction,
-        initial_kernel_pct: initial_kernel_wb * 100.0,
-        final_kernel_pct: bed.mean_kernel_wb(material) * 100.0,
-        final_pod_pct: wb_from_db(water_end / dry_kg) * 100.0,
-        initial_mass_kg: initial_mass,
-        final_mass_kg: final_mass,
-        water_removed_kg: removed,
-        fuel_used,
-        fuel_unit: heater.fuel.unit.to_string(),
-        fuel_per_tonne: fuel_used / (initial_mass / 1000.0),
-        fan_kwh,
-        energy_kj_per_kg_water: if removed > 0.0 {
-            (bal.burner_heat_j + bal.fan_electric_j) / removed / 1000.0
+    /// Advance one time step.
+    pub fn step(&mut self) -> Result<StepReport, RunError> {
+        if self.stopped.is_some() {
+            return Err(RunError::Finished);
+        }
+        let dt_s = self.settings.dt_s.min(self.limit_s() - self.t_s);
+        let sample = self
+            .ambient
+            .at(self.t_s + 0.5 * dt_s)
+            .ok_or(RunError::NoWeatherAtStart)?;
+        let (plenum, heat_w, dry_air, solved) = self.air_path(&sample)?;
+        self.bounds.admit(&sample.air);
+        self.bounds.admit(&plenum);
+        self.step_columns(&plenum, dt_s);
+        let hours = (self.t_s + dt_s) / 3600.0;
+        self.check_bounds(hours)?;
+        let air = StepAir {
+            ambient: sample.air,
+            plenum,
+            heat_w,
+            electric_w: self.flow.field.electric_power_w,
+            dry_air_kg_per_s: dry_air,
+            dt_s,
+            column_area_m2: self.bed.column_area_m2,
+        };
+        let removed = self.bal.add_step(
+            &air,
+            self.results.iter().map(|r| ColumnFlux {
+                totals: &r.totals,
+                exhaust_t_c: r.exhaust.t_c,
+                exhaust_w: r.exhaust.w,
+                dry_air_kg: r.dry_air_kg_per_m2 * self.bed.column_area_m2,
+            }),
+        );
+        self.bal.add_adiabatic_bound(&air, removed);
+        self.t_s += dt_s;
+        self.steps += 1;
+        let before = self.levels;
+        self.update_totals();
+        self.rate.observe(hours, self.levels.mean_kernel_wb);
+        let tally = self.cross(&before);
+        let exhaust = mean_exhaust(&self.results, plenum.p_pa);
+        let row = self.maybe_record(
+            &sample,
+            PathAir {
+                plenum,
+                exhaust,
+                heat_w,
+            },
+        );
+        let stop = self.check_stop(hours);
+        let row = match (row, stop) {
+            (None, Some(_)) => Some(self.record_row(
+                &sample,
+                PathAir {
+                    plenum,
+                    exhaust,
+                    heat_w,
+                },
+            )),
+            (r, _) => r,
+        };
+        self.last_sample = sample;
+        Ok(StepReport {
+            step: self.steps,
+            hours,
+            dt_s,
+            ambient: sample,
+            plenum,
+            exhaust,
+            heat_w,
+            dry_air_kg_per_s: dry_air,
+            airflow_solved: solved,
+            mean_kernel_wb: self.levels.mean_kernel_wb,
+            above_target_fraction: self.levels.above_target_fraction,
+            tally,
+            row,
+            stop,
+        })
+    }
+
+    /// Bed totals from the columns' results (summed in column order).
+    fn update_totals(&mut self) {
+        let (mut water, mut kernel_dm, mut above, mut peak) = (0.0, 0.0, 0.0, f64::MIN);
+        for r in &self.results {
+            water += r.after.pod_water_kg_per_m2;
+            kernel_dm += r.after.kernel_db_dm_kg_per_m2;
+            above += r.above_target_dm;
+            peak = f64::max(peak, r.after.max_temp_c);
+        }
+        self.water_kg = water * self.bed.column_area_m2;
+        self.levels = Levels {
+            mean_kernel_wb: ColumnTotals::mean_kernel_wb(kernel_dm, self.dry_per_area),
+            above_target_fraction: above / self.dry_per_area,
+        };
+        self.max_peanut_c = self.max_peanut_c.max(peak);
+    }
+
+    /// Accounts now, and any crossing in the step just taken (accounts interpolated to it). Shrink takes a pass
+    /// over the bed, so it is evaluated only at the ends of steps in which a rule may cross.
+    fn cross(&mut self, before: &Levels) -> Tally {
+        let mut now = Tally {
+            hours: self.t_s / 3600.0,
+            fuel_used: self.heater.fuel.quantity_for_heat(self.bal.burner_heat_j),
+            fan_kwh: self.bal.fan_electric_j / 3.6e6,
+            water_removed_kg: self.bal.water_start_kg - self.water_kg,
+            shrink_kg: f64::NAN,
+        };
+        let mut start = self.tally;
+        let (mean_before, frac_before) = (self.tracker.mean, self.tracker.fraction);
+        let mut probe = self.tracker.clone();
+        probe.update(before, &self.levels, &start, &now);
+        let crosses = probe.mean != mean_before || probe.fraction != frac_before;
+        let soon = probe.may_cross_soon(before, &self.levels);
+        if crosses || soon {
+            now.shrink_kg = shrink_kg(self.material, &self.bed, self.thresholds.target_db);
+        }
+        if crosses {
+            if !self.shrink_at_tally {
+                // The last step gave no sign of a crossing: the step's end value stands for its start.
+                start.shrink_kg = now.shrink_kg;
+            }
+            self.tracker.update(before, &self.levels, &start, &now);
+        }
+        self.shrink_at_tally = crosses || soon;
+        self.tally = now;
+        now
+    }
+
+    fn record_row(&mut self, sample: &AmbientSample, air: PathAir) -> SeriesRow {
+        let row = record(
+            self.material,
+            &self.bed,
+            self.t_s / 3600.0,
+            self.levels.above_target_fraction,
+            sample,
+            Some(air),
+            self.flow.field.electric_power_w,
+        );
+        self.series.push(row);
+        self.next_record_s = self.t_s + self.settings.record_every_s;
+        row
+    }
+
+    fn maybe_record(&mut self, sample: &AmbientSample, air: PathAir) -> Option<SeriesRow> {
+        (self.t_s >= self.next_record_s - 1e-9).then(|| self.record_row(sample, air))
+    }
+
+    /// Whether the run ends after this step, and why.
+    fn check_stop(&mut self, hours: f64) -> Option<StopReason> {
+        let end_of_time = self.t_s >= self.limit_s() - 1e-6;
+        let rule_met = match self.settings.stop {
+            StopRule::Hours(h) => end_of_time && h <= self.settings.max_hours,
+            _ => self.tracker.met().is_some(),
+        };
+        let reason = if rule_met {
+            Some(StopReason::RuleMet)
+        } else if end_of_time || hours >= self.settings.max_hours - 1e-9 {
+            Some(StopReason::MaxHours)
         } else {
-            f64::NAN
-        },
-        over_dried_fraction: over,
-        under_dried_fraction: under,
-        shrink_kg: shrink,
-        max_rate_pct_per_h: max_rate,
-        hours_above_safe_rate: hours_fast,
-        max_peanut_c: max_peanut,
-        airflow_solves: solves,
-        balances: bal,
-        series,
-    })
+            let next_dt = self.settings.dt_s.min(self.limit_s() - self.t_s);
+            self.ambient
+                .at(self.t_s + 0.5 * next_dt)
+                .is_none()
+                .then_some(StopReason::WeatherEnded)
+        };
+        self.stopped = reason;
+        reason
+    }
+
+    /// Step until the run stops, showing every step and the bed to `observer`.
+    pub fn run_to_end(
+        mut self,
+        observer: &mut dyn RunObserver,
+    ) -> Result<(Outcome, BedState), RunError> {
+        while self.stopped.is_none() {
+            let report = self.step()?;
+            observer.on_step(&report, &self.bed);
+        }
+        Ok(self.finish())
+    }
+
+    /// The outcome so far and the bed.
+    pub fn finish(self) -> (Outcome, BedState) {
+        let material = self.material;
+        let bed = self.bed;
+        let water_end = self.water_kg;
+        let mut bal = self.bal;
+        bal.water_end_kg = water_end;
+        bal.sensible_storage_j = bed.sensible_heat_j(material) - self.sensible_start_j;
+        let fuel_used = self.heater.fuel.quantity_for_heat(bal.burner_heat_j);
+        let zones = zone_masses(material, &bed, &self.thresholds);
+        let removed = bal.water_start_kg - water_end;
+        let at_stop_rule = match self.settings.stop {
+            StopRule::Hours(_) if self.stopped == Some(StopReason::RuleMet) => Some(Tally {
+                shrink_kg: zones.shrink_kg,
+                ..self.tally
+            }),
+            _ => self.tracker.met(),
+        };
+        let outcome = Outcome {
+            stop_rule: self.settings.stop,
+            stop_reason: self.stopped.unwrap_or(StopReason::MaxHours),
+            hours: self.t_s / 3600.0,
+            hours_to_mean_target: self.tracker.mean.map(|t| t.hours),
+            hours_to_fraction_target: self.tracker.fraction.map(|t| t.hours),
+            fraction_rule: self.settings.fraction,
+            at_mean_target: self.tracker.mean,
+            at_fraction_target: self.tracker.fraction,
+            at_stop_rule,
+            initial_kernel_pct: self.initial_kernel_wb * 100.0,
+            final_kernel_pct: self.levels.mean_kernel_wb * 100.0,
+            final_pod_pct: wb_from_db(water_end / self.dry_kg) * 100.0,
+            initial_mass_kg: self.initial_mass_kg,
+            final_mass_kg: self.dry_kg + water_end,
+            water_removed_kg: removed,
+            fuel_used,
+            fuel_unit: self.heater.fuel.unit.to_string(),
+            fuel_per_tonne: fuel_used / (self.initial_mass_kg / 1000.0),
+            fan_kwh: bal.fan_electric_j / 3.6e6,
+            energy_kj_per_kg_water: if removed > 0.0 {
+                (bal.burner_heat_j + bal.fan_electric_j) / removed / 1000.0
+            } else {
+                f64::NAN
+            },
+            over_dried_fraction: zones.over_fraction(),
+            under_dried_fraction: zones.under_fraction(),
+            shrink_kg: zones.shrink_kg,
+            zones,
+            max_rate_pct_per_h: self.rate.max_pct_per_h,
+            hours_above_safe_rate: self.rate.hours_fast,
+            max_peanut_c: self.max_peanut_c,
+            airflow_solves: self.flow.solves,
+            balances: bal,
+            series: self.series,
+        };
+        (outcome, bed)
+    }
+}
+
+/// Share of the dry matter above `target_db` (profile method of `zones`).
+fn above_fraction(bed: &BedState, target_db: f64) -> f64 {
+    let total = bed.dry_matter_kg_per_m2.sum();
+    let below: f64 = bed
+        .kernel_db
+        .lanes(ndarray::Axis(2))
+        .into_iter()
+        .zip(bed.dry_matter_kg_per_m2.lanes(ndarray::Axis(2)))
+        .map(|(k, d)| column_mass_below(k, d, target_db))
+        .sum();
+    (total - below) / total
 }
 
 fn mean_exhaust(results: &[ColumnResult], p_pa: f64) -> AirState {
@@ -672,96 +913,4 @@ fn mean_exhaust(results: &[ColumnResult], p_pa: f64) -> AirState {
         w,
         p_pa,
     }
-}
-
-fn record<M: LayerMaterial + ?Sized>(
-    material: &M,
-    bed: &BedState,
-    hours: f64,
-    sample: &AmbientSample,
-    air: Option<(AirState, AirState, f64)>,
-    field: &FlowField,
-) -> SeriesRow {
-    let (nx, ny, nz) = bed.dim();
-    let layer_mean = |a: &Array3<f64>, k: usize| {
-        let (mut s, mut d) = (0.0, 0.0);
-        for i in 0..nx {
-            for j in 0..ny {
-                let dm = bed.dry_matter_kg_per_m2[[i, j, k]];
-                s += a[[i, j, k]] * dm;
-                d += dm;
-            }
-        }
-        wb_from_db(s / d) * 100.0
-    };
-    let all_mean = |a: &Array3<f64>| {
-        let s: f64 = Zip::from(a)
-            .and(&bed.dry_matter_kg_per_m2)
-            .fold(0.0, |acc, &m, &d| acc + m * d);
-        wb_from_db(s / bed.dry_matter_kg_per_m2.sum()) * 100.0
-    };
-    let wettest = bed.kernel_db.iter().cloned().fold(f64::MIN, f64::max);
-    let driest = bed.kernel_db.iter().cloned().fold(f64::MAX, f64::min);
-    let (plenum, exhaust, heat_w) = air.unwrap_or((
-        sample.air,
-        AirState {
-            t_c: f64::NAN,
-            ..sample.air
-        },
-        0.0,
-    ));
-    SeriesRow {
-        hours,
-        mean_kernel_pct: bed.mean_kernel_wb(material) * 100.0,
-        mean_pod_pct: wb_from_db(bed.water_kg(material) / bed.dry_matter_kg()) * 100.0,
-        mean_hull_pct: all_mean(&bed.hull_db),
-        top_kernel_pct: layer_mean(&bed.kernel_db, nz - 1),
-        bottom_kernel_pct: layer_mean(&bed.kernel_db, 0),
-        top_hull_pct: layer_mean(&bed.hull_db, nz - 1),
-        wettest_kernel_pct: wb_from_db(wettest) * 100.0,
-        driest_kernel_pct: wb_from_db(driest) * 100.0,
-        ambient_c: sample.air.t_c,
-        ambient_rh_pct: sample.air.rh() * 100.0,
-        plenum_c: plenum.t_c,
-        plenum_rh_pct: plenum.rh() * 100.0,
-        exhaust_c: exhaust.t_c,
-        exhaust_rh_pct: if exhaust.t_c.is_finite() {
-            exhaust.rh() * 100.0
-        } else {
-            f64::NAN
-        },
-        heat_kw: heat_w / 1000.0,
-        fan_kw: field.electric_power_w / 1000.0,
-        max_peanut_c: bed.temp_c.iter().cloned().fold(f64::MIN, f64::max),
-    }
-}
-
-/// Mass fractions over- and under-dried, and shrink (kg lost by cells below target), at the end of a run.
-pub fn zones<M: LayerMaterial + ?Sized>(
-    material: &M,
-    bed: &BedState,
-    s: &RunSettings,
-) -> (f64, f64, f64) {
-    let over_db = db_from_wb(s.over_dry_kernel_wb);
-    let under_db = db_from_wb(s.target_kernel_wb + s.under_dry_tolerance_wb);
-    let target_db = db_from_wb(s.target_kernel_wb);
-    let (mut over, mut under, mut shrink, mut total) = (0.0, 0.0, 0.0, 0.0);
-    for ((i, j, k), &dm) in bed.dry_matter_kg_per_m2.indexed_iter() {
-        let m = bed.kernel_db[[i, j, k]];
-        total += dm;
-        if m < over_db {
-            over += dm;
-        }
-        if m > under_db {
-            under += dm;
-        }
-        if m < target_db {
-            // Weight this cell would have if its kernels were at target (hulls in equilibrium with them).
-            let at_target =
-                material.pod_db(material.initial_state(target_db, bed.temp_c[[i, j, k]]));
-            let now = material.pod_db(bed.cell(i, j, k));
-            shrink += dm * (at_target - now).max(0.0);
-        }
-    }
-    (over / total, under / total, shrink * bed.column_area_m2)
 }

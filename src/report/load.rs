@@ -7,8 +7,8 @@ use std::fmt::Write as _;
 use ndarray::Array2;
 
 use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
-use crate::drying::run::{Outcome, RunSettings, StopReason};
-use crate::scenario::{Cost, LoadResult, LoadSetup};
+use crate::drying::run::{Outcome, RunSettings, StopReason, Tally};
+use crate::load::{Cost, LoadResult, LoadSpec};
 use crate::units::UnitSystem;
 
 /// The cautions printed with every drying report.
@@ -18,26 +18,36 @@ follow NFPA 58 and local codes, the dryer and burner manuals and licensed practi
 trash, never run a dryer unattended against its manual. Over-heated peanuts split and lose flavour; wet peanuts held \
 warm risk mold and aflatoxin.";
 
-fn hours_text(h: Option<f64>) -> String {
-    h.map(|h| format!("{h:.1} h"))
-        .unwrap_or_else(|| "not reached".into())
+fn fuel_text(units: UnitSystem, amount: f64, unit: &str) -> String {
+    if unit == "L" {
+        units.volume_l(amount)
+    } else {
+        format!("{amount:.1} {unit}")
+    }
 }
 
+/// What the figures mean, written beside them in the JSON outcome.
+pub const MEANING: &str = "Crossing times (at_mean_target, at_fraction_target, at_stop_rule) are interpolated inside the \
+time step, with fuel, fan energy, water removed and shrink at that moment. Zones are by dry mass with kernel moisture \
+linear in cumulative dry mass between layer centres. Over-dry shrink is the weight the over-dried part lost below what \
+it would weigh at target moisture. Sold weight (final_mass_kg) is the load's wet weight when taken off air. Costs are \
+to the moment the stop rule was met (or the end of the run if it was not).";
+
 /// A short human summary with units on every number.
-pub fn summary_text(setup: &LoadSetup, label: &str, r: &LoadResult, units: UnitSystem) -> String {
+pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSystem) -> String {
     let o = &r.outcome;
     let a = &r.airflow.summary;
-    let cur = &setup.file.prices.currency;
+    let cur = &spec.prices.currency;
     let mut s = String::new();
-    let _ = writeln!(s, "{} — {label}", setup.file.name);
+    let _ = writeln!(s, "{} — {label}", spec.name);
     let _ = writeln!(
         s,
         "  load: {} wet at {:.1} % kernel w.b., {} on {} from {}",
         units.mass(o.initial_mass_kg),
         o.initial_kernel_pct,
-        setup.crop.name,
-        setup.container.name,
-        setup.start.format("%Y-%m-%d %H:%M %:z")
+        spec.crop.name,
+        spec.container.name,
+        r.clock.start.format("%Y-%m-%d %H:%M %:z")
     );
     let _ = writeln!(
         s,
@@ -49,21 +59,49 @@ pub fn summary_text(setup: &LoadSetup, label: &str, r: &LoadResult, units: UnitS
         a.min_over_mean
     );
     let reason = match o.stop_reason {
-        StopReason::TargetReached => "target reached",
-        StopReason::MaxHours => "time limit reached first",
-        StopReason::WeatherEnded => "weather record ended first",
+        StopReason::RuleMet => format!("stop rule {} met", o.stop_rule),
+        StopReason::MaxHours => "time limit reached first".into(),
+        StopReason::WeatherEnded => "weather record ended first".into(),
     };
+    let target = spec.run.target_kernel_wb * 100.0;
     let _ = writeln!(
         s,
-        "  hours to {:.1} % mean kernel moisture: {}; {:.0} % of the load at or below it: {} (run stopped: {reason})",
-        setup.settings.target_kernel_wb * 100.0,
-        hours_text(o.hours_to_mean_target),
-        o.fraction_rule * 100.0,
-        hours_text(o.hours_to_fraction_target)
+        "  air on {} (as simulated); run stopped after {:.1} h at {}: {reason}",
+        r.clock.start.format("%Y-%m-%d %H:%M %:z"),
+        o.hours,
+        r.clock.end.format("%Y-%m-%d %H:%M")
+    );
+    let mut crossing = |what: String, t: Option<Tally>| {
+        let _ = match t {
+            Some(t) => writeln!(
+                s,
+                "  {what}: {:.1} h, at {}; by then {} {} ({:.1} {}/t), fan {:.1} kWh, shrink {}",
+                t.hours,
+                crate::load::clock_at(r.clock.start, t.hours).format("%a %Y-%m-%d %H:%M"),
+                fuel_text(units, t.fuel_used, &o.fuel_unit),
+                r.heater.fuel.name,
+                t.fuel_used / (o.initial_mass_kg / 1000.0),
+                o.fuel_unit,
+                t.fan_kwh,
+                units.mass(t.shrink_kg)
+            ),
+            None => writeln!(s, "  {what}: not reached"),
+        };
+    };
+    crossing(
+        format!("mean kernel moisture at {target:.1} % w.b."),
+        o.at_mean_target,
+    );
+    crossing(
+        format!(
+            "{:.0} % of the load at or below {target:.1} % w.b. (the whole load ready)",
+            o.fraction_rule * 100.0
+        ),
+        o.at_fraction_target,
     );
     let _ = writeln!(
         s,
-        "  final: kernel {:.2} % w.b. (pod {:.2} %), {} of water removed, {} sold weight",
+        "  final: kernel {:.2} % w.b. (pod {:.2} %), {} of water removed, {} sold weight (the load's wet weight when taken off air)",
         o.final_kernel_pct,
         o.final_pod_pct,
         units.mass(o.water_removed_kg),
@@ -71,23 +109,18 @@ pub fn summary_text(setup: &LoadSetup, label: &str, r: &LoadResult, units: UnitS
     );
     let _ = writeln!(
         s,
-        "  zones: {:.1} % of the load over-dried (< {:.1} %), {:.1} % still wet (> {:.1} %); shrink {} worth {cur} {:.0}",
+        "  zones at the end (by dry mass, moisture linear between layer centres): {:.1} % over-dried (< {:.1} %), {:.1} % still wet (> {:.1} %); over-dry shrink (weight lost below target) {} worth {cur} {:.0}",
         o.over_dried_fraction * 100.0,
-        setup.settings.over_dry_kernel_wb * 100.0,
+        spec.run.over_dry_kernel_wb * 100.0,
         o.under_dried_fraction * 100.0,
-        (setup.settings.target_kernel_wb + setup.settings.under_dry_tolerance_wb) * 100.0,
+        (spec.run.target_kernel_wb + spec.run.under_dry_tolerance_wb) * 100.0,
         units.mass(o.shrink_kg),
         r.cost.shrink
     );
-    let fuel_text = if o.fuel_unit == "L" {
-        units.volume_l(o.fuel_used)
-    } else {
-        format!("{:.1} {}", o.fuel_used, o.fuel_unit)
-    };
     let _ = writeln!(
         s,
-        "  energy: {} {} ({:.1} {}/t), fan {:.1} kWh, {:.0} kJ per kg water; cost {cur} {:.0} fuel + {cur} {:.0} electricity",
-        fuel_text,
+        "  energy to the end of the run: {} {} ({:.1} {}/t), fan {:.1} kWh, {:.0} kJ per kg water; cost to the stop rule {cur} {:.0} fuel + {cur} {:.0} electricity",
+        fuel_text(units, o.fuel_used, &o.fuel_unit),
         r.heater.fuel.name,
         o.fuel_per_tonne,
         o.fuel_unit,
@@ -101,32 +134,36 @@ pub fn summary_text(setup: &LoadSetup, label: &str, r: &LoadResult, units: UnitS
         "  peaks: drying rate {:.2} %-points/h ({:.1} h above {:.1} %-points/h), peanuts up to {}",
         o.max_rate_pct_per_h,
         o.hours_above_safe_rate,
-        setup.settings.safe_rate_pct_per_h,
+        spec.run.safe_rate_pct_per_h,
         units.temp(o.max_peanut_c)
     );
     s
 }
 
 /// The outcome as JSON (the time series goes to CSV).
-pub fn outcome_json(setup: &LoadSetup, label: &str, r: &LoadResult) -> String {
+pub fn outcome_json(spec: &LoadSpec, label: &str, r: &LoadResult) -> String {
     #[derive(serde::Serialize)]
     struct Doc<'a> {
         scenario: &'a str,
         strategy: String,
         start: String,
         outcome: &'a Outcome,
+        clock: &'a crate::load::ClockTimes,
+        meaning: &'a str,
         cost: &'a Cost,
         currency: &'a str,
         airflow: &'a crate::airflow::solve::AirflowSummary,
         cautions: &'a str,
     }
     let doc = Doc {
-        scenario: &setup.file.name,
+        scenario: &spec.name,
         strategy: label.to_string(),
-        start: setup.start.to_rfc3339(),
+        start: r.clock.start.to_rfc3339(),
         outcome: &r.outcome,
+        clock: &r.clock,
+        meaning: MEANING,
         cost: &r.cost,
-        currency: &setup.file.prices.currency,
+        currency: &spec.prices.currency,
         airflow: &r.airflow.summary,
         cautions: CAUTIONS,
     };
@@ -240,16 +277,16 @@ fn zone_code(over: f64, under: f64) -> i8 {
 }
 
 /// Final kernel moisture seen from above (per-column mean), marking columns mostly over-dried or still wet.
-pub fn final_top_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> String {
+pub fn final_top_svg(spec: &LoadSpec, r: &LoadResult, s: &RunSettings) -> String {
     let z = &r.zones;
     let marks: Array2<i8> = ndarray::Zip::from(&z.top_over_fraction)
         .and(&z.top_under_fraction)
         .map_collect(|&o, &u| zone_code(o, u));
     heat_map(&HeatMap {
         values: z.top_kernel_pct.view(),
-        x_extent_m: setup.container.length_m,
-        y_extent_m: setup.container.width_m,
-        title: format!("{}: final kernel moisture, column means (top view)", setup.file.name),
+        x_extent_m: spec.container.length_m,
+        y_extent_m: spec.container.width_m,
+        title: format!("{}: final kernel moisture, column means (top view)", spec.name),
         x_label: "length from inlet wall".into(),
         y_label: "width".into(),
         quantity: "kernel moisture".into(),
@@ -267,16 +304,16 @@ pub fn final_top_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> Stri
 }
 
 /// Final kernel moisture in a side section along the length (width-averaged), layers bottom to top.
-pub fn final_side_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> String {
+pub fn final_side_svg(spec: &LoadSpec, r: &LoadResult, s: &RunSettings) -> String {
     let z = &r.zones;
     let depth = r.bed.depth_m.iter().cloned().fold(0.0, f64::max);
     heat_map(&HeatMap {
         values: z.side_kernel_pct.view(),
-        x_extent_m: setup.container.length_m,
+        x_extent_m: spec.container.length_m,
         y_extent_m: depth,
         title: format!(
             "{}: final kernel moisture, side section (width mean)",
-            setup.file.name
+            spec.name
         ),
         x_label: "length from inlet wall".into(),
         y_label: "height in bed".into(),
@@ -295,15 +332,12 @@ pub fn final_side_svg(setup: &LoadSetup, r: &LoadResult, s: &RunSettings) -> Str
 }
 
 /// Air leaving the top surface, per column: where the air goes explains where the zones form.
-pub fn airflow_top_svg(setup: &LoadSetup, r: &LoadResult) -> String {
+pub fn airflow_top_svg(spec: &LoadSpec, r: &LoadResult) -> String {
     heat_map(&HeatMap {
         values: r.airflow.top_velocity_m_per_s.view(),
-        x_extent_m: setup.container.length_m,
-        y_extent_m: setup.container.width_m,
-        title: format!(
-            "{}: air leaving the top surface at the start",
-            setup.file.name
-        ),
+        x_extent_m: spec.container.length_m,
+        y_extent_m: spec.container.width_m,
+        title: format!("{}: air leaving the top surface at the start", spec.name),
         x_label: "length from inlet wall".into(),
         y_label: "width".into(),
         quantity: "superficial velocity".into(),
@@ -311,6 +345,11 @@ pub fn airflow_top_svg(setup: &LoadSetup, r: &LoadResult) -> String {
         range: None,
         marks: None,
     })
+}
+
+/// The accounts when the load met its stop rule, or at the end of the run.
+fn ready(r: &LoadResult) -> Tally {
+    r.outcome.ready()
 }
 
 /// One row of a comparison.
@@ -328,18 +367,22 @@ type Column = (&'static str, Box<dyn Fn(&LoadResult) -> f64>);
 pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -> String {
     let cols: Vec<Column> = vec![
         (
-            "hours to target (h)",
+            "h to mean target",
             Box::new(|r: &LoadResult| r.outcome.hours_to_mean_target.unwrap_or(f64::INFINITY)),
         ),
         (
-            "fuel per tonne",
-            Box::new(|r: &LoadResult| r.outcome.fuel_per_tonne),
+            "h to whole load",
+            Box::new(|r: &LoadResult| r.outcome.hours_to_fraction_target.unwrap_or(f64::INFINITY)),
         ),
-        ("fan (kWh)", Box::new(|r: &LoadResult| r.outcome.fan_kwh)),
+        (
+            "fuel per tonne",
+            Box::new(|r: &LoadResult| ready(r).fuel_used / (r.outcome.initial_mass_kg / 1000.0)),
+        ),
+        ("fan (kWh)", Box::new(|r: &LoadResult| ready(r).fan_kwh)),
         ("energy cost", Box::new(|r: &LoadResult| r.cost.energy)),
         (
-            "over-dried (kg)",
-            Box::new(|r: &LoadResult| r.outcome.over_dried_fraction * r.outcome.initial_mass_kg),
+            "over-dried (kg d.m.)",
+            Box::new(|r: &LoadResult| r.outcome.zones.over_dried_dry_kg),
         ),
         ("shrink value", Box::new(|r: &LoadResult| r.cost.shrink)),
         (
@@ -381,6 +424,6 @@ pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -
         }
         s.push('\n');
     }
-    s.push_str("* = best (lowest) in its column\n");
+    s.push_str("* = best (lowest) in its column; fuel, fan and costs to the stop rule; over-dried in kg of dry matter\n");
     s
 }

@@ -4,24 +4,31 @@
 //! * [`FixedTimeDrier`]: drying time from a function of the load (the test seam; no physics).
 //! * [`RateRuleDrier`]: a rule of thumb (hours = moisture to remove / rate; propane from a per-kg-water figure).
 //!   Common practice, no source; a stand-in until the deep-bed drier is wired to real crops, weather and airflow.
-//! * [`DeepBedDrier`]: builds a [`BedState`] for the dryer's container and runs [`run_batch`] under the weather
-//!   from the load's start, generic over the material, an ambient factory and a flow factory.
+//! * [`DeepBedDrier`]: builds each load's [`LoadSpec`] from a [`LoadTemplate`] and dries it through
+//!   [`run_load`], the same path as a single load.
 //!
 //! Shrink by the dry-matter method (DOMAIN.md §7.3, Hellevang via NDSU).
 
 use std::collections::BTreeMap;
+use std::sync::Arc;
 
 use chrono::{DateTime, FixedOffset};
-use ndarray::Array2;
 
 use super::arrivals::Load;
 use super::scenario::DryerUnit;
 use super::SeasonError;
-use crate::drying::bed::{BedState, InitialMoisture};
-use crate::drying::heater::{Fuel, Heater, HeaterStrategy};
-use crate::drying::layer::LayerMaterial;
-use crate::drying::run::{run_batch, Ambient, FlowProvider, RunError, RunSettings, StopReason};
-use crate::units::db_from_wb;
+use crate::airflow::fan::FlowSpec;
+use crate::airflow::geometry::{Container, Grid};
+use crate::crop::Crop;
+use crate::drying::bed::InitialMoisture;
+use crate::drying::flow::FanEfficiency;
+use crate::drying::heater::{Fuel, HeaterStrategy, StrategySpec};
+use crate::drying::material::CropMaterial;
+use crate::drying::run::{Outcome, RunError, RunSettings, StopReason};
+use crate::load::{
+    checked_heater, run_load, AirflowUpdates, FillSpec, LoadError, LoadSpec, Prices,
+};
+use crate::weather::series::WeatherSeries;
 
 /// What drying one load cost and gave.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -182,166 +189,131 @@ impl LoadDrier for RateRuleDrier {
     }
 }
 
-/// The geometry and grid of one container type, for building a bed.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct ContainerSpec {
-    /// Floor length, m.
-    pub length_m: f64,
-    /// Floor width, m.
-    pub width_m: f64,
-    /// Deepest fill the walls allow, m.
-    pub max_depth_m: f64,
-    /// Bulk density of peanuts as loaded (wet), kg/m³.
-    pub bulk_density_kg_per_m3: f64,
-    /// Columns along the length.
-    pub nx: usize,
-    /// Columns across.
-    pub ny: usize,
-    /// Layers.
-    pub nz: usize,
-}
-
-type AmbientFactory<'a> =
-    dyn Fn(DateTime<FixedOffset>) -> Option<Box<dyn Ambient + 'a>> + Sync + 'a;
-type FlowFactory<'a> =
-    dyn Fn(&DryerUnit, &BedState) -> Result<Box<dyn FlowProvider + 'a>, String> + Sync + 'a;
-
-/// Runs the deep-bed model for each load: a level bed of the load's mass in the dryer's container, uniform
-/// initial moisture, peanuts at the ambient temperature of the start, the dryer's heater strategy and burner.
-pub struct DeepBedDrier<'a, M: LayerMaterial + ?Sized> {
-    /// The crop material.
-    pub material: &'a M,
-    /// Container types by name (`DryerUnit::container`).
-    pub containers: BTreeMap<String, ContainerSpec>,
-    /// Weather from a start time (`None` if the record does not cover it).
-    pub ambient: Box<AmbientFactory<'a>>,
-    /// Airflow for a dryer and its fresh bed (cache inside if the field is the same for every load).
-    pub flow: Box<FlowFactory<'a>>,
-    /// Run settings (target moisture, time step, limits).
-    pub settings: RunSettings,
-    /// Crop's safe plenum maximum, °C.
-    pub max_plenum_c: f64,
-    /// Fuel burnt (propane, by the litre, for the season's costs).
+/// What the season's deep-bed drier builds every load from: the shared models and the settings of the season's
+/// runs (the coarse grid and the airflow solved once at each load's start by default). Each load becomes a
+/// [`LoadSpec`] through [`LoadTemplate::spec_for`] and dries through [`run_load`], exactly as `dryfront dry` does.
+#[derive(Debug, Clone)]
+pub struct LoadTemplate {
+    /// Crop.
+    pub crop: Arc<Crop>,
+    /// Crop as the layer step sees it.
+    pub material: Arc<CropMaterial>,
+    /// Weather.
+    pub weather: Arc<WeatherSeries>,
+    /// Containers by the names the buying point's dryers use.
+    pub containers: BTreeMap<String, Arc<Container>>,
+    /// Fans by name.
+    pub fans: BTreeMap<String, FlowSpec>,
+    /// Fan and motor efficiency.
+    pub efficiency: FanEfficiency,
+    /// Fuel every burner burns.
     pub fuel: Fuel,
+    /// Prices.
+    pub prices: Prices,
+    /// Grid of every load's bed.
+    pub grid: Grid,
+    /// Time step, limits, target and stop rule.
+    pub run: RunSettings,
+    /// When the airflow is re-solved.
+    pub airflow: AirflowUpdates,
+    /// Let heaters above the crop's safe limits run.
+    pub force: bool,
 }
 
-impl<M: LayerMaterial + ?Sized> std::fmt::Debug for DeepBedDrier<'_, M> {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_struct("DeepBedDrier")
-            .field("containers", &self.containers)
-            .field("settings", &self.settings)
-            .finish_non_exhaustive()
-    }
-}
-
-impl<M: LayerMaterial + ?Sized> DeepBedDrier<'_, M> {
-    /// The fresh bed for `load` in `spec`: depth from mass and bulk density, dry matter from the pod moisture of
-    /// kernels at the load's moisture with hulls in equilibrium.
-    pub fn bed_for(
+impl LoadTemplate {
+    /// The spec of `load` on `dryer`, air on at `start`: level fill of the load's net mass, uniform moisture.
+    pub fn spec_for(
         &self,
         load: &Load,
-        spec: &ContainerSpec,
-        temp_c: f64,
-    ) -> Result<BedState, String> {
-        let area = spec.length_m * spec.width_m;
-        let depth = load.mass_kg / (spec.bulk_density_kg_per_m3 * area);
-        if depth > spec.max_depth_m {
-            return Err(format!(
-                "{:.0} kg fills {depth:.2} m, deeper than the container's {:.2} m",
-                load.mass_kg, spec.max_depth_m
-            ));
-        }
-        let kernel_wb = load.moisture_pct / 100.0;
-        let cell = self.material.initial_state(db_from_wb(kernel_wb), temp_c);
-        let pod_db = self.material.pod_db(cell);
-        let dry_kg = load.mass_kg / (1.0 + pod_db);
-        let dry_density = dry_kg / (area * depth);
-        let columns = (spec.nx * spec.ny) as f64;
-        BedState::new(
-            self.material,
-            Array2::from_elem((spec.nx, spec.ny), depth),
-            area / columns,
-            spec.nz,
-            dry_density,
-            &InitialMoisture::Uniform(kernel_wb),
-            temp_c,
-        )
-        .map_err(|e| e.to_string())
+        dryer: &DryerUnit,
+        start: DateTime<FixedOffset>,
+    ) -> Result<LoadSpec, SeasonError> {
+        let fail = |message: String| SeasonError::Drying {
+            load: load.id.clone(),
+            dryer: dryer.id.clone(),
+            message,
+        };
+        let container = self
+            .containers
+            .get(&dryer.container)
+            .ok_or_else(|| fail(format!("container {:?} is not loaded", dryer.container)))?;
+        let flow = self
+            .fans
+            .get(&dryer.fan)
+            .ok_or_else(|| fail(format!("fan {:?} is not loaded", dryer.fan)))?;
+        let spec = StrategySpec {
+            strategy: dryer.heater,
+            window_h: None,
+        };
+        let burner_w = dryer.burner_kw.map(|kw| kw * 1000.0);
+        let (heater, _) = checked_heater(&self.crop, spec, burner_w, self.fuel, self.force)?;
+        Ok(LoadSpec {
+            name: load.id.clone(),
+            crop: self.crop.clone(),
+            material: self.material.clone(),
+            container: container.clone(),
+            fill: FillSpec::NetMass(load.mass_kg),
+            flow: flow.clone(),
+            efficiency: self.efficiency,
+            heater,
+            weather: self.weather.clone(),
+            start,
+            initial: InitialMoisture::Uniform(load.moisture_pct / 100.0),
+            grid: self.grid,
+            run: self.run,
+            airflow: self.airflow,
+            prices: self.prices.clone(),
+        })
     }
 }
 
-impl<M: LayerMaterial + ?Sized> LoadDrier for DeepBedDrier<'_, M> {
+/// The deep-bed model for each load, through the one load path.
+#[derive(Debug, Clone)]
+pub struct DeepBedDrier {
+    /// What each load is built from.
+    pub template: LoadTemplate,
+}
+
+/// A season's figures of a dried load.
+pub fn drying_result(out: &Outcome) -> DryingResult {
+    let ready = out.ready();
+    DryingResult {
+        hours: ready.hours,
+        fuel_l: ready.fuel_used,
+        kwh: ready.fan_kwh,
+        moisture_out_pct: out.final_kernel_pct,
+        over_dried_kg: out.over_dried_fraction * out.final_mass_kg,
+        shrink_kg: ready.shrink_kg,
+        finished: out.stop_reason == StopReason::RuleMet,
+    }
+}
+
+impl LoadDrier for DeepBedDrier {
     fn dry(
         &self,
         load: &Load,
         dryer: &DryerUnit,
         start: DateTime<FixedOffset>,
     ) -> Result<DryingResult, SeasonError> {
-        let fail = |message: String| SeasonError::Drying {
-            load: load.id.clone(),
-            dryer: dryer.id.clone(),
-            message,
-        };
-        let spec = self.containers.get(&dryer.container).ok_or_else(|| {
-            fail(format!(
-                "container type {:?} is not known to the drier",
-                dryer.container
-            ))
-        })?;
-        let ambient = (self.ambient)(start).ok_or_else(|| {
-            fail(format!(
-                "the weather record does not cover {}",
-                start.to_rfc3339()
-            ))
-        })?;
-        let first = ambient.at(0.0).ok_or_else(|| {
-            fail(format!(
-                "the weather record does not cover {}",
-                start.to_rfc3339()
-            ))
-        })?;
-        let mut bed = self.bed_for(load, spec, first.air.t_c).map_err(fail)?;
-        let mut flow = (self.flow)(dryer, &bed).map_err(fail)?;
-        let heater = Heater {
-            strategy: dryer.heater,
-            window_h: None,
-            capacity_w: dryer.burner_kw.map(|kw| kw * 1000.0),
-            max_plenum_c: self.max_plenum_c,
-            fuel: self.fuel,
-        };
-        let out = match run_batch(
-            self.material,
-            &mut bed,
-            ambient.as_ref(),
-            flow.as_mut(),
-            &heater,
-            &self.settings,
-            &mut (),
-        ) {
-            Ok(o) => o,
+        let spec = self.template.spec_for(load, dryer, start)?;
+        match run_load(&spec, &mut ()) {
+            Ok(r) => Ok(drying_result(&r.outcome)),
             // Already at or below target: nothing to dry; it still takes its slot for the turnaround.
-            Err(RunError::TargetNotBelowInitial { .. }) => {
-                return Ok(DryingResult {
-                    hours: 0.0,
-                    fuel_l: 0.0,
-                    kwh: 0.0,
-                    moisture_out_pct: load.moisture_pct,
-                    over_dried_kg: 0.0,
-                    shrink_kg: 0.0,
-                    finished: true,
-                })
-            }
-            Err(e) => return Err(fail(e.to_string())),
-        };
-        Ok(DryingResult {
-            hours: out.hours_to_mean_target.unwrap_or(out.hours),
-            fuel_l: out.fuel_used,
-            kwh: out.fan_kwh,
-            moisture_out_pct: out.final_kernel_pct,
-            over_dried_kg: out.over_dried_fraction * out.final_mass_kg,
-            shrink_kg: out.shrink_kg,
-            finished: out.stop_reason == StopReason::TargetReached,
-        })
+            Err(LoadError::Run(RunError::TargetNotBelowInitial { .. })) => Ok(DryingResult {
+                hours: 0.0,
+                fuel_l: 0.0,
+                kwh: 0.0,
+                moisture_out_pct: load.moisture_pct,
+                over_dried_kg: 0.0,
+                shrink_kg: 0.0,
+                finished: true,
+            }),
+            Err(e) => Err(SeasonError::Drying {
+                load: load.id.clone(),
+                dryer: dryer.id.clone(),
+                message: e.to_string(),
+            }),
+        }
     }
 }
 

@@ -5,8 +5,8 @@
 //! References: the event loop is a plain discrete-event simulation (next-event time advance); the queue checks use
 //! Little's law (L = λW, Little 1961). Everything else is our own.
 //!
-//! Pure computation apart from the two readers (`scenario::read_buying_point`, `arrivals::read_arrivals_csv`),
-//! which live here because they validate against the season's own rules.
+//! Pure computation apart from the arrivals reader (`arrivals::read_arrivals_csv`); the buying point's file is
+//! read by `input::season`.
 
 pub mod arrivals;
 pub mod dispatch;
@@ -15,7 +15,6 @@ pub mod kpi;
 pub mod scenario;
 pub mod sim;
 pub mod sweep;
-pub mod wiring;
 
 use crate::error::InputError;
 

@@ -4,12 +4,13 @@
 //! Container and fan names are plain strings here; the integrator resolves them against the airflow models. No
 //! reference beyond the trade's own vocabulary (common practice, no source).
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Duration, FixedOffset};
 use serde::{Deserialize, Serialize};
 
 use crate::drying::heater::HeaterStrategy;
+use crate::drying::stop::StopRule;
 use crate::error::InputError;
 
 /// One dryer unit: a container type with its fan and burner.
@@ -58,10 +59,32 @@ pub struct OperatingRules {
     pub max_wait_h: f64,
     /// Target kernel moisture, % w.b.
     pub target_kernel_pct: f64,
+    /// When a load is taken off air: `mean`, `fraction`, `both` (default) or `hours=H` (see `drying::stop`).
+    #[serde(default = "default_stop_rule", with = "stop_rule_text")]
+    pub stop_rule: StopRule,
     /// Local hours `[open, close)` when a load may be put on air (wrapping past midnight if open > close); absent =
     /// around the clock.
     #[serde(default)]
     pub hours_of_operation: Option<[u32; 2]>,
+}
+
+fn default_stop_rule() -> StopRule {
+    StopRule::Both
+}
+
+/// A stop rule written as its text form (`both`, `hours=36`).
+mod stop_rule_text {
+    use crate::drying::stop::StopRule;
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(r: &StopRule, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(&r.to_string())
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<StopRule, D::Error> {
+        let text = String::deserialize(d)?;
+        text.parse().map_err(serde::de::Error::custom)
+    }
 }
 
 /// Prices, in the scenario's currency.
@@ -326,15 +349,6 @@ impl BuyingPoint {
         }
         c
     }
-}
-
-/// Read and validate a scenario file.
-pub fn read_buying_point(path: &Path) -> Result<BuyingPoint, InputError> {
-    let text = std::fs::read_to_string(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
-    BuyingPoint::from_json(path, &text)
 }
 
 #[cfg(test)]

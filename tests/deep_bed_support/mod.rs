@@ -7,7 +7,7 @@ use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
 use dryfront::drying::layer::LayerMaterial;
 use dryfront::drying::material::CropMaterial;
 use dryfront::drying::run::{
-    run_batch, ConstantAmbient, FixedFlow, FlowField, Outcome, RunSettings,
+    Ambient, ConstantAmbient, FixedFlow, FlowField, Outcome, Run, RunSettings,
 };
 use dryfront::props::psychro::AirState;
 use ndarray::Array2;
@@ -64,7 +64,7 @@ impl Case {
             self.ambient_c,
         ));
         let dry_density = crop.dry_matter_density_kg_per_m3(100.0 * pod_db / (1.0 + pod_db));
-        let mut bed = BedState::new(
+        let bed = BedState::new(
             &material,
             depth,
             1.0,
@@ -75,13 +75,8 @@ impl Case {
         )
         .unwrap();
         let q = self.specific_airflow / 60.0 * self.depth_m;
-        let field = FlowField {
-            velocity_m_per_s: Array2::from_elem(self.columns, q),
-            fan_power_w: 0.0,
-            electric_power_w: 0.0,
-            leakage_m3_per_s: 0.0,
-            plenum_pa: 0.0,
-        };
+        let air = AirState::from_rh(self.ambient_c, self.ambient_rh, 101_325.0);
+        let field = FlowField::from_velocity(Array2::from_elem(self.columns, q), &air);
         let heater = Heater {
             strategy: self.strategy,
             window_h: None,
@@ -94,21 +89,29 @@ impl Case {
             max_hours: self.max_hours,
             ..RunSettings::default()
         };
-        let ambient = ConstantAmbient(AirState::from_rh(
-            self.ambient_c,
-            self.ambient_rh,
-            101_325.0,
-        ));
-        let out = run_batch(
+        run_fixed(
             &material,
-            &mut bed,
-            &ambient,
-            &mut FixedFlow(field),
-            &heater,
-            &settings,
-            &mut (),
+            bed,
+            &ConstantAmbient(air),
+            field,
+            heater,
+            settings,
         )
-        .expect("run");
-        (out, bed)
     }
+}
+
+/// Run `bed` to its end under `ambient` with a fixed airflow field.
+pub fn run_fixed<M: LayerMaterial + ?Sized>(
+    material: &M,
+    bed: BedState,
+    ambient: &dyn Ambient,
+    field: FlowField,
+    heater: Heater,
+    settings: RunSettings,
+) -> (Outcome, BedState) {
+    let mut flow = FixedFlow(field);
+    Run::new(material, bed, ambient, &mut flow, heater, settings)
+        .expect("run starts")
+        .run_to_end(&mut ())
+        .expect("run")
 }

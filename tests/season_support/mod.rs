@@ -35,6 +35,7 @@ pub fn point(n: usize, turnaround_h: f64, max_wait_h: f64, days: u32) -> BuyingP
         season: SeasonWindow { start: t0(), days },
         turnaround_h,
         rules: OperatingRules {
+            stop_rule: dryfront::drying::stop::StopRule::Both,
             max_wait_h,
             target_kernel_pct: 10.0,
             hours_of_operation: None,

@@ -1,0 +1,115 @@
+//! Physical bounds checked after every step, so a non-physical state stops the run where it appears instead of
+//! spreading through a season: every value finite; air leaving any layer at most saturated; moisture between zero
+//! and the crop's moisture ceiling; peanut temperatures between the coldest and hottest temperatures the air that
+//! entered so far could bring them to.
+//!
+//! Temperature bounds, from the moist-air process the layer step models (ASHRAE Fundamentals ch. 1 forms used by
+//! `props::psychro`): peanuts cannot be cooled below the inlet air's dew point without condensation that warms them
+//! again, and cannot be heated above the temperature of dry air with the inlet air's enthalpy (the end of its
+//! adiabatic line when all its vapour is adsorbed). The starting bed's own temperatures widen both bounds.
+
+use crate::props::psychro::{self, AirState};
+
+/// Round-off allowed on temperatures, K: the enthalpy-to-temperature inversion of the layer step is exact to about
+/// 1e-10 K; this leaves room for sums over a whole column.
+const TEMP_TOL_K: f64 = 1e-6;
+/// Round-off allowed on RH (decimal): the layer step caps exhaust air at saturation.
+pub const RH_TOL: f64 = 1e-9;
+
+/// The bounds in force.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Bounds {
+    /// Coldest allowed peanut temperature, °C.
+    pub t_lo_c: f64,
+    /// Hottest allowed peanut temperature, °C.
+    pub t_hi_c: f64,
+    /// Highest allowed moisture, dry basis.
+    pub m_hi_db: f64,
+}
+
+/// A value outside its bound, in one cell.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Violation {
+    /// Layer, from the floor (0).
+    pub layer: usize,
+    /// Which quantity.
+    pub quantity: &'static str,
+    /// Its value.
+    pub value: f64,
+    /// The bound it broke (NaN for a non-finite value).
+    pub bound: f64,
+}
+
+impl Bounds {
+    /// Bounds for a starting bed: its coldest and hottest peanuts, and the moisture ceiling.
+    pub fn new(t_min_c: f64, t_max_c: f64, m_hi_db: f64) -> Self {
+        Bounds {
+            t_lo_c: t_min_c,
+            t_hi_c: t_max_c,
+            m_hi_db,
+        }
+    }
+
+    /// Widen for air entering the bed.
+    pub fn admit(&mut self, inlet: &AirState) {
+        let dew = psychro::dew_point_from_vapour_pressure_c(
+            psychro::vapour_pressure_from_humidity_ratio(inlet.w, inlet.p_pa),
+        );
+        let dry_end = inlet.enthalpy_j_per_kg() / psychro::CP_DRY_AIR;
+        self.t_lo_c = self.t_lo_c.min(dew.min(inlet.t_c));
+        self.t_hi_c = self.t_hi_c.max(dry_end.max(inlet.t_c));
+    }
+
+    /// Check one column after its step; `max_rh_out` is the largest RH of air leaving any of its layers.
+    pub fn check_column(
+        &self,
+        hull_db: &[f64],
+        kernel_db: &[f64],
+        temp_c: &[f64],
+        max_rh_out: f64,
+    ) -> Option<Violation> {
+        let v = |layer, quantity, value, bound| {
+            Some(Violation {
+                layer,
+                quantity,
+                value,
+                bound,
+            })
+        };
+        if max_rh_out.is_nan() || max_rh_out > 1.0 + RH_TOL {
+            return v(
+                temp_c.len().saturating_sub(1),
+                "air RH leaving a layer",
+                max_rh_out,
+                1.0,
+            );
+        }
+        for k in 0..temp_c.len() {
+            for (name, m) in [
+                ("hull moisture (d.b.)", hull_db[k]),
+                ("kernel moisture (d.b.)", kernel_db[k]),
+            ] {
+                if !m.is_finite() {
+                    return v(k, name, m, f64::NAN);
+                }
+                if m < 0.0 {
+                    return v(k, name, m, 0.0);
+                }
+                if m > self.m_hi_db {
+                    return v(k, name, m, self.m_hi_db);
+                }
+            }
+            let t = temp_c[k];
+            if !t.is_finite() {
+                return v(k, "peanut temperature (°C)", t, f64::NAN);
+            }
+            if t < self.t_lo_c - TEMP_TOL_K {
+                return v(k, "peanut temperature (°C)", t, self.t_lo_c);
+            }
+            if t > self.t_hi_c + TEMP_TOL_K {
+                return v(k, "peanut temperature (°C)", t, self.t_hi_c);
+            }
+        }
+        None
+    }
+}
