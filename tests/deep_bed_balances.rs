@@ -1,6 +1,6 @@
-//! Conservation in the deep-bed model: water leaving the peanuts equals water gained by the air (within 0.1 %), and
+//! Conservation in the deep-bed model: water leaving the peanuts equals water gained by the air, and
 //! the heat the burner and fan put into the air equals what the exhaust carries off above ambient plus what the
-//! peanuts store (sensible heat and heat of sorption), within 1 %. Checked on steady weather and on a day–night
+//! peanuts store (sensible heat and heat of sorption), within 1e-6, and water within 1e-9. Checked on steady weather and on a day–night
 //! cycle with condensation, over several strategies. Also: no run removes water faster over the run than the air
 //! could carry leaving saturated at its wet bulb plus what the peanuts' own heat evaporates (DOMAIN.md §6.3).
 mod deep_bed_support;
@@ -14,13 +14,17 @@ fn assert_balances(case: &Case) -> dryfront::drying::run::Balances {
     let b = out.balances;
     let lost = b.water_start_kg - b.water_end_kg;
     assert!(
-        (lost - b.water_to_air_kg).abs() <= 1e-3 * lost.abs().max(1e-6),
+        // The layer step moves water between peanuts and air in one expression each way: closure is round-off
+        // (measured 1e-15 relative); 1e-9 leaves room for sums over long runs.
+        (lost - b.water_to_air_kg).abs() <= 1e-9 * lost.abs().max(1e-6),
         "water: peanuts lost {lost} kg, air gained {} kg ({case:?})",
         b.water_to_air_kg
     );
     let out_j = b.exhaust_excess_j + b.sensible_storage_j + b.sorption_heat_j;
     assert!(
-        (b.air_heating_j - out_j).abs() <= 0.01 * b.air_heating_j.abs().max(1.0),
+        // Exact enthalpy balance per layer; what remains is the latent-heat table's interpolation against the
+        // sorption heat added up separately (measured up to 2e-8 relative with condensation): 1e-6.
+        (b.air_heating_j - out_j).abs() <= 1e-6 * b.air_heating_j.abs().max(1.0),
         "energy: in {} J, out+stored {out_j} J ({case:?})",
         b.air_heating_j
     );
