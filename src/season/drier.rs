@@ -16,7 +16,7 @@ use chrono::{DateTime, FixedOffset};
 
 use super::arrivals::Load;
 use super::scenario::DryerUnit;
-use super::SeasonError;
+use super::{DryingFailure, SeasonError};
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::{Container, Grid};
 use crate::crop::Crop;
@@ -104,7 +104,7 @@ impl LoadDrier for FixedTimeDrier {
             return Err(SeasonError::Drying {
                 load: load.id.clone(),
                 dryer: dryer.id.clone(),
-                message: format!("drying time {h} h is not a finite, non-negative number"),
+                source: DryingFailure::BadTime(h),
             });
         }
         Ok(DryingResult {
@@ -228,19 +228,15 @@ impl LoadTemplate {
         dryer: &DryerUnit,
         start: DateTime<FixedOffset>,
     ) -> Result<LoadSpec, SeasonError> {
-        let fail = |message: String| SeasonError::Drying {
+        let fail = |source: DryingFailure| SeasonError::Drying {
             load: load.id.clone(),
             dryer: dryer.id.clone(),
-            message,
+            source,
         };
-        let container = self
-            .containers
-            .get(&dryer.container)
-            .ok_or_else(|| fail(format!("container {:?} is not loaded", dryer.container)))?;
-        let flow = self
-            .fans
-            .get(&dryer.fan)
-            .ok_or_else(|| fail(format!("fan {:?} is not loaded", dryer.fan)))?;
+        let container = (self.containers.get(&dryer.container))
+            .ok_or_else(|| fail(DryingFailure::UnknownContainer(dryer.container.clone())))?;
+        let flow = (self.fans.get(&dryer.fan))
+            .ok_or_else(|| fail(DryingFailure::UnknownFan(dryer.fan.clone())))?;
         let spec = StrategySpec {
             strategy: dryer.heater,
             window_h: None,
@@ -311,7 +307,7 @@ impl LoadDrier for DeepBedDrier {
             Err(e) => Err(SeasonError::Drying {
                 load: load.id.clone(),
                 dryer: dryer.id.clone(),
-                message: e.to_string(),
+                source: DryingFailure::Load(Box::new(e)),
             }),
         }
     }

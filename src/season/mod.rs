@@ -25,13 +25,31 @@ pub enum SeasonError {
     #[error(transparent)]
     Input(#[from] InputError),
     /// The drying of one load failed.
-    #[error("load {load:?} on dryer {dryer:?}: {message}")]
+    #[error("load {load:?} on dryer {dryer:?}: {source}")]
     Drying {
         /// The load's id.
         load: String,
         /// The dryer's id.
         dryer: String,
         /// What went wrong.
-        message: String,
+        #[source]
+        source: DryingFailure,
     },
+}
+
+/// Why one load could not be dried.
+#[derive(Debug, thiserror::Error)]
+pub enum DryingFailure {
+    /// The load's run failed (bad weather cover, airflow, a non-physical state).
+    #[error(transparent)]
+    Load(#[from] Box<crate::load::LoadError>),
+    /// A drier's time function gave no usable time.
+    #[error("drying time {0} h is not a finite, non-negative number")]
+    BadTime(f64),
+    /// The dryer names a container the drier was not given.
+    #[error("container {0:?} is not loaded")]
+    UnknownContainer(String),
+    /// The dryer names a fan the drier was not given.
+    #[error("fan {0:?} is not loaded")]
+    UnknownFan(String),
 }
