@@ -283,7 +283,11 @@ impl WeatherSeries {
             return Ok(self.hour(i));
         }
         let lerp = |v: &[f64]| v[i] + f * (v[i + 1] - v[i]);
-        let (t_c, w, p_pa) = (lerp(&self.t_c), lerp(&self.w), lerp(&self.p_pa));
+        let (t_c, p_pa) = (lerp(&self.t_c), lerp(&self.p_pa));
+        // Saturation humidity is convex in temperature, so a straight line between two saturated (or nearly
+        // saturated) hours passes above it: cap the humidity ratio at saturation, or foggy hours would give air
+        // at 100.01 % RH.
+        let w = lerp(&self.w).min(psychro::saturation_humidity_ratio(t_c, p_pa));
         let rh = psychro::rh_from_humidity_ratio(t_c, w, p_pa).clamp(0.0, 1.0);
         Ok(AirSample {
             t_c,
@@ -860,6 +864,30 @@ mod tests {
         assert_relative_eq!(a.t_c, 21.0, max_relative = 1e-12);
         assert_relative_eq!(a.air.w, 0.5 * (s.w()[0] + s.w()[1]), max_relative = 1e-12);
         assert!(a.rh < 0.9 && a.rh > 0.7);
+    }
+
+    #[test]
+    fn interpolating_between_saturated_hours_never_supersaturates() {
+        // Two foggy hours, 10 °C and 20 °C at 100 % RH: a straight line in humidity ratio lies above the convex
+        // saturation curve between them (ASHRAE 2017 ch. 1 saturation), so the midpoint must be capped at 1.
+        let start = site()
+            .utc_offset
+            .with_ymd_and_hms(2026, 9, 1, 0, 0, 0)
+            .unwrap();
+        let s = WeatherSeries::new(
+            site(),
+            start,
+            vec![10.0, 20.0],
+            vec![1.0, 1.0],
+            vec![101_325.0; 2],
+            None,
+            None,
+        )
+        .unwrap();
+        for minutes in [1, 15, 30, 45, 59] {
+            let a = s.at(start + Duration::minutes(minutes)).unwrap();
+            assert!(a.air.rh() <= 1.0 + 1e-12, "{minutes} min: RH {}", a.air.rh());
+        }
     }
 
     #[test]
