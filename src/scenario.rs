@@ -15,7 +15,9 @@ use crate::crop::Crop;
 use crate::drying::ambient::SeriesAmbient;
 use crate::drying::bed::{BedState, InitialMoisture};
 use crate::drying::flow::{FanEfficiency, SolvedFlow};
-use crate::drying::heater::{Fuel, Heater, StrategySpec};
+use crate::drying::heater::{
+    Fuel, Heater, HeaterSpecError, SafetyLimits, SafetyWarning, StrategySpec,
+};
 use crate::drying::layer::LayerMaterial;
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{
@@ -343,7 +345,7 @@ impl LoadSetup {
             .heater
             .strategy
             .parse()
-            .map_err(|e: String| field_err(p, "heater.strategy", e))?;
+            .map_err(|e: HeaterSpecError| field_err(p, "heater.strategy", e.to_string()))?;
         let burner_w = match file.heater.burner_kw {
             Some(kw) => Some(check(p, "heater.burner_kw", kw, 0.0, 10_000.0, "kW")? * 1000.0),
             None => None,
@@ -435,61 +437,19 @@ impl LoadSetup {
         }
     }
 
-    /// Refuse a strategy whose set-point is above the crop's safe limits (a plenum set-point or humidity-rule cap
-    /// above `safety.max_plenum_temp_c`, or a rise above `safety.max_temp_rise_k`) unless `force`. Every strategy
-    /// is also clamped at the safe plenum maximum while running; with `force` the clamp moves to what was asked.
+    /// The heater for a strategy (the scenario's unless given) after the one safety rule,
+    /// [`StrategySpec::check_safety`] against the crop's `safety` section: refused above its limits unless `force`;
+    /// with `force` the running clamp moves to what was asked ([`StrategySpec::plenum_clamp_c`]).
     pub fn checked_heater(
         &self,
         spec: Option<StrategySpec>,
         force: bool,
-    ) -> Result<(Heater, Option<String>), InputError> {
-        use crate::drying::heater::HeaterStrategy as H;
+    ) -> Result<(Heater, Option<SafetyWarning>), HeaterSpecError> {
         let spec = spec.unwrap_or(self.strategy);
+        let warning = spec.check_safety(&SafetyLimits::from(&self.crop.safety), force)?;
         let mut heater = self.heater(Some(spec));
-        let safety = &self.crop.safety;
-        let problem = match spec.strategy {
-            H::FixedPlenum { plenum_c } if plenum_c > safety.max_plenum_temp_c => Some((
-                plenum_c,
-                format!(
-                    "a plenum of {plenum_c:.1} °C is above the safe maximum of {:.1} °C",
-                    safety.max_plenum_temp_c
-                ),
-            )),
-            H::HumidityLimited { max_c, .. } if max_c > safety.max_plenum_temp_c => Some((
-                max_c,
-                format!(
-                    "a cap of {max_c:.1} °C is above the safe plenum maximum of {:.1} °C",
-                    safety.max_plenum_temp_c
-                ),
-            )),
-            H::FixedRise { rise_k } if rise_k > safety.max_temp_rise_k => Some((
-                safety.max_plenum_temp_c,
-                format!(
-                    "a rise of {rise_k:.1} K is above the safe maximum rise of {:.1} K",
-                    safety.max_temp_rise_k
-                ),
-            )),
-            _ => None,
-        };
-        let Some((asked_c, why)) = problem else {
-            return Ok((heater, None));
-        };
-        let msg = format!(
-            "heater strategy {spec}: {why} for {} (crop file, section safety)",
-            self.crop.name
-        );
-        if !force {
-            return Err(InputError::argument(
-                "heater strategy",
-                spec,
-                &format!(
-                    "is refused: {why} for {}; pass --force to run it anyway",
-                    self.crop.name
-                ),
-            ));
-        }
-        heater.max_plenum_c = heater.max_plenum_c.max(asked_c);
-        Ok((heater, Some(msg)))
+        heater.max_plenum_c = spec.plenum_clamp_c(heater.max_plenum_c);
+        Ok((heater, warning))
     }
 }
 

@@ -91,7 +91,7 @@ fn bed_holds_the_load_and_wetter_loads_dry_longer() {
         a.hours
     );
     let mut cold = dryer("D2");
-    cold.heater = HeaterStrategy::None;
+    cold.heater = HeaterStrategy::None.into();
     let c = d.dry(&ls[0], &cold, ls[0].arrival).unwrap();
     assert!(c.fuel_l.abs() < 1e-12);
     assert!(

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use anyhow::Context;
 use rayon::prelude::*;
 
-use crate::drying::heater::StrategySpec;
+use crate::drying::heater::{Heater, StrategySpec};
 use crate::drying::run::{RunObserver, SeriesRow};
 use crate::outfile::write_atomic;
 use crate::report::load::{
@@ -45,8 +45,9 @@ pub struct DryArgs {
     /// Scenario and outputs.
     #[command(flatten)]
     pub load: LoadOptions,
-    /// Heater strategy, overriding the scenario's: `none`, `rise=8`, `plenum=35`, `rh=55,max=35`, each optionally
-    /// with a burner window `@20-6` (local hours).
+    /// Heater strategy, overriding the scenario's: `none`, `rise=8` (over ambient air, fan heat counted),
+    /// `plenum=35`, `rh=55,max=35`, each optionally with a daily burner window `@START-END` in local hours
+    /// (`@20-6` wraps past midnight: 20:00 to 06:00).
     #[arg(long)]
     pub strategy: Option<StrategySpec>,
 }
@@ -57,7 +58,7 @@ pub struct CompareArgs {
     /// Scenario and outputs.
     #[command(flatten)]
     pub load: LoadOptions,
-    /// Strategies to compare, separated by `;`.
+    /// Strategies to compare, separated by `;`, each as for `dry --strategy`.
     #[arg(
         long,
         default_value = "none;rise=5;rise=8;plenum=35;rh=55,max=35;rise=8@18-9"
@@ -118,6 +119,26 @@ fn setup(opts: &LoadOptions) -> anyhow::Result<LoadSetup> {
     Ok(setup)
 }
 
+/// The heater for `spec` (the scenario's own when `None`) after the safety rule; a refusal names the option or the
+/// scenario's field, a forced excess is printed as a warning.
+fn checked_heater(
+    setup: &LoadSetup,
+    spec: Option<StrategySpec>,
+    option: &str,
+    force: bool,
+) -> anyhow::Result<Heater> {
+    let (heater, warning) = setup
+        .checked_heater(spec, force)
+        .with_context(|| match spec {
+            Some(_) => option.to_string(),
+            None => format!("{}: field \"heater.strategy\"", setup.path.display()),
+        })?;
+    if let Some(w) = warning {
+        eprintln!("dryfront: warning: {w} (running because of --force)");
+    }
+    Ok(heater)
+}
+
 fn inputs(setup: &LoadSetup) -> Vec<&Path> {
     vec![setup.path.as_path(), setup.weather_path.as_path()]
 }
@@ -174,10 +195,7 @@ pub fn write_load_outputs(
 /// `dryfront dry`.
 pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
     let setup = setup(&args.load)?;
-    let (heater, warning) = setup.checked_heater(args.strategy, args.load.force)?;
-    if let Some(w) = warning {
-        eprintln!("dryfront: warning: {w} (running because of --force)");
-    }
+    let heater = checked_heater(&setup, args.strategy, "--strategy", args.load.force)?;
     let label = args.strategy.unwrap_or(setup.strategy).to_string();
     let mut progress = Progress {
         enabled: std::io::stderr().is_terminal(),
@@ -208,22 +226,11 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
     let specs: Vec<StrategySpec> = args
         .strategies
         .split(';')
-        .filter(|s| !s.trim().is_empty())
-        .map(|s| {
-            s.parse::<StrategySpec>()
-                .map_err(|e| anyhow::anyhow!("--strategies: {e}"))
-        })
+        .map(|s| s.parse::<StrategySpec>().context("--strategies"))
         .collect::<Result<_, _>>()?;
-    if specs.is_empty() {
-        anyhow::bail!("--strategies: give at least one strategy");
-    }
     let heaters = specs
         .iter()
-        .map(|s| {
-            setup
-                .checked_heater(Some(*s), args.load.force)
-                .map(|(h, _)| h)
-        })
+        .map(|s| checked_heater(&setup, Some(*s), "--strategies", args.load.force))
         .collect::<Result<Vec<_>, _>>()?;
     eprintln!(
         "comparing {} strategies on {} (in parallel)…",
@@ -277,7 +284,7 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
     if args.count == 0 || args.count > 1000 {
         anyhow::bail!("--count: {} must be between 1 and 1000", args.count);
     }
-    let (heater, _) = setup.checked_heater(None, args.load.force)?;
+    let heater = checked_heater(&setup, None, "", args.load.force)?;
     let offsets: Vec<f64> = (0..args.count)
         .map(|i| args.load.start_offset_h + i as f64 * args.every_h)
         .collect();

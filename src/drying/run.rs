@@ -480,7 +480,7 @@ pub fn run_batch<M: LayerMaterial + ?Sized>(
         } else {
             sample.air
         };
-        let heat = heater.plenum_air(fan_air, sample.local_hour, dry_air_kg_s);
+        let heat = heater.plenum_air(sample.air, fan_air, sample.local_hour, dry_air_kg_s);
         let plenum = heat.plenum;
         fuel_heat_j += heat.heat_w * settings.dt_s;
         bal.burner_heat_j += heat.heat_w * settings.dt_s;

@@ -157,7 +157,7 @@ impl LoadDrier for RateRuleDrier {
         _start: DateTime<FixedOffset>,
     ) -> Result<DryingResult, SeasonError> {
         let points = (load.moisture_pct - self.target_pct).max(0.0);
-        let heated = !matches!(dryer.heater, HeaterStrategy::None);
+        let heated = !matches!(dryer.heater.strategy, HeaterStrategy::None);
         let rate = if heated {
             self.rate_pct_per_h
         } else {
@@ -303,10 +303,10 @@ impl<M: LayerMaterial + ?Sized> LoadDrier for DeepBedDrier<'_, M> {
         let mut bed = self.bed_for(load, spec, first.air.t_c).map_err(fail)?;
         let mut flow = (self.flow)(dryer, &bed).map_err(fail)?;
         let heater = Heater {
-            strategy: dryer.heater,
-            window_h: None,
+            strategy: dryer.heater.strategy,
+            window_h: dryer.heater.window_h,
             capacity_w: dryer.burner_kw.map(|kw| kw * 1000.0),
-            max_plenum_c: self.max_plenum_c,
+            max_plenum_c: dryer.heater.plenum_clamp_c(self.max_plenum_c),
             fuel: self.fuel,
         };
         let out = match run_batch(
@@ -377,7 +377,7 @@ mod tests {
             capacity_kg: 6000.0,
             fan_kw: 4.0,
             burner_kw: None,
-            heater: HeaterStrategy::FixedRise { rise_k: 8.0 },
+            heater: HeaterStrategy::FixedRise { rise_k: 8.0 }.into(),
         };
         let r = d.dry(&load, &dryer, load.arrival).unwrap();
         assert!((20.0..=30.0).contains(&r.fuel_l), "{}", r.fuel_l);

@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 use chrono::{DateTime, Duration, FixedOffset};
 use serde::{Deserialize, Serialize};
 
-use crate::drying::heater::HeaterStrategy;
+use crate::drying::heater::StrategySpec;
 use crate::error::InputError;
 
 /// One dryer unit: a container type with its fan and burner.
@@ -29,8 +29,8 @@ pub struct DryerUnit {
     /// Burner capacity, kW; absent = not limited.
     #[serde(default)]
     pub burner_kw: Option<f64>,
-    /// How the burner is controlled.
-    pub heater: HeaterStrategy,
+    /// How the burner is controlled, in the one heater language (`"rise=8@20-6"`, see [`StrategySpec`]).
+    pub heater: StrategySpec,
 }
 
 /// The harvest window the scenario covers.
@@ -119,13 +119,33 @@ fn check(path: &Path, field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Resu
     }
 }
 
+/// The first `dryers[i].heater` string that the heater language refuses, as an error naming that field (serde's
+/// own message for it would name only the line).
+fn heater_error(path: &Path, text: &str) -> Option<InputError> {
+    let v: serde_json::Value = serde_json::from_str(text).ok()?;
+    v.get("dryers")?
+        .as_array()?
+        .iter()
+        .enumerate()
+        .find_map(|(i, d)| {
+            let e = d.get("heater")?.as_str()?.parse::<StrategySpec>().err()?;
+            Some(field_err(
+                path,
+                format!("dryers[{i}].heater"),
+                e.to_string(),
+            ))
+        })
+}
+
 impl BuyingPoint {
     /// Parse and validate a scenario from JSON text; `path` names the source in errors.
     pub fn from_json(path: &Path, text: &str) -> Result<Self, InputError> {
-        let bp: BuyingPoint = serde_json::from_str(text).map_err(|e| InputError::Parse {
-            path: path.to_path_buf(),
-            line: Some(e.line() as u64),
-            message: e.to_string(),
+        let bp: BuyingPoint = serde_json::from_str(text).map_err(|e| {
+            heater_error(path, text).unwrap_or_else(|| InputError::Parse {
+                path: path.to_path_buf(),
+                line: Some(e.line() as u64),
+                message: e.to_string(),
+            })
         })?;
         bp.validate(path)?;
         Ok(bp)
@@ -235,29 +255,7 @@ impl BuyingPoint {
             if let Some(kw) = d.burner_kw {
                 check(path, &f("burner_kw"), kw, 0.0, 5_000.0, "kW")?;
             }
-            match d.heater {
-                HeaterStrategy::None => {}
-                HeaterStrategy::FixedPlenum { plenum_c } => {
-                    check(path, &f("heater.plenum_c"), plenum_c, 0.0, 60.0, "°C")?
-                }
-                HeaterStrategy::FixedRise { rise_k } => {
-                    check(path, &f("heater.rise_k"), rise_k, 0.0, 30.0, "K")?
-                }
-                HeaterStrategy::HumidityLimited {
-                    target_rh_pct,
-                    max_c,
-                } => {
-                    check(
-                        path,
-                        &f("heater.target_rh_pct"),
-                        target_rh_pct,
-                        5.0,
-                        95.0,
-                        "%",
-                    )?;
-                    check(path, &f("heater.max_c"), max_c, 0.0, 60.0, "°C")?;
-                }
-            }
+            // The heater was parsed and range-checked by `StrategySpec` (see `from_json`).
         }
         Ok(())
     }
@@ -281,8 +279,8 @@ impl BuyingPoint {
         }
     }
 
-    /// The same buying point with every burner on `strategy`.
-    pub fn with_heater(&self, strategy: HeaterStrategy) -> BuyingPoint {
+    /// The same buying point with every burner on `strategy` (its burner window included).
+    pub fn with_heater(&self, strategy: StrategySpec) -> BuyingPoint {
         let mut bp = self.clone();
         for d in &mut bp.dryers {
             d.heater = strategy;
