@@ -709,6 +709,13 @@ mod tests {
         assert!(h.plenum_air(amb, amb, 12, 5.0).heat_w.abs() < 1e-12);
         assert!(h.plenum_air(amb, amb, 23, 5.0).heat_w > 0.0);
         assert!(h.plenum_air(amb, amb, 2, 5.0).heat_w > 0.0);
+        // A window ending at 24 runs to midnight; 0-24 is all day.
+        h.window_h = Some((0, 24));
+        assert!((0..24).all(|hour| h.plenum_air(amb, amb, hour, 5.0).heat_w > 0.0));
+        h.window_h = Some((20, 24));
+        assert!(h.plenum_air(amb, amb, 23, 5.0).heat_w > 0.0);
+        assert!(h.plenum_air(amb, amb, 2, 5.0).heat_w.abs() < 1e-12);
+        h.window_h = Some((20, 6));
         h.capacity_w = Some(10_000.0);
         let out = h.plenum_air(amb, amb, 2, 5.0);
         assert_relative_eq!(out.heat_w, 10_000.0);

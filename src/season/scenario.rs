@@ -379,6 +379,37 @@ mod tests {
     }
 
     #[test]
+    fn bad_heater_names_dryer_index_with_the_languages_message() {
+        let mut v: serde_json::Value = serde_json::from_str(SMALL).unwrap();
+        v["dryers"][1]["heater"] = "rise=8@20-20".into();
+        let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
+        let want = "rise=8@20-20"
+            .parse::<StrategySpec>()
+            .unwrap_err()
+            .to_string();
+        assert_eq!(
+            err.to_string(),
+            format!("bp.json: field \"dryers[1].heater\": {want}")
+        );
+        // The old tagged-object form is no longer a heater.
+        v["dryers"][1]["heater"] = serde_json::json!({"kind": "fixed-rise", "rise_k": 8.0});
+        let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
+        assert!(
+            matches!(err, InputError::Parse { line: Some(_), .. }),
+            "{err}"
+        );
+    }
+
+    #[test]
+    fn heater_window_is_kept() {
+        let mut v: serde_json::Value = serde_json::from_str(SMALL).unwrap();
+        v["dryers"][0]["heater"] = "rise=8@20-6".into();
+        let b = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap();
+        assert_eq!(b.dryers[0].heater.window_h, Some((20, 6)));
+        assert_eq!(b.dryers[0].heater.to_string(), "rise=8@20-6");
+    }
+
+    #[test]
     fn next_open_waits_for_opening_hour() {
         let mut b = BuyingPoint::from_json(Path::new("x"), SMALL).unwrap();
         b.rules.hours_of_operation = Some([6, 22]);
