@@ -682,7 +682,8 @@ mod tests {
         let spec = |t: &str| t.parse::<StrategySpec>().unwrap();
         for ok in ["none", "rise=8", "plenum=35", "rh=55,max=35@20-6"] {
             assert_eq!(spec(ok).check_safety(&limits, false), Ok(None), "{ok}");
-            assert_eq!(spec(ok).plenum_clamp_c(35.0), 35.0);
+            // Exact: the clamp is a `max` of the two values.
+            assert_relative_eq!(spec(ok).plenum_clamp_c(35.0), 35.0, epsilon = 0.0);
         }
         for (unsafe_text, clamp_c) in [
             ("rise=8.5", 35.0),
@@ -697,7 +698,11 @@ mod tests {
                 .unwrap()
                 .unwrap();
             assert_eq!(warning.spec, spec(unsafe_text));
-            assert_eq!(spec(unsafe_text).plenum_clamp_c(35.0), clamp_c);
+            assert_relative_eq!(
+                spec(unsafe_text).plenum_clamp_c(35.0),
+                clamp_c,
+                epsilon = 0.0
+            );
         }
     }
 
@@ -736,7 +741,7 @@ mod tests {
         // Fan heat above the rise: no burner heat, the fan air passes as it is.
         let hot_fan = AirState { t_c: 33.5, ..amb };
         let out = h.plenum_air(amb, hot_fan, 12, 5.0);
-        assert_eq!(out.heat_w, 0.0);
+        assert_relative_eq!(out.heat_w, 0.0, epsilon = 0.0);
         assert_eq!(out.plenum, hot_fan);
     }
 }
