@@ -18,7 +18,9 @@ use crate::crop::Crop;
 use crate::drying::ambient::SeriesAmbient;
 use crate::drying::bed::{BedState, InitialMoisture};
 use crate::drying::flow::{FanEfficiency, SolvedFlow};
-use crate::drying::heater::{Fuel, Heater, StrategySpec};
+use crate::drying::heater::{
+    Fuel, Heater, HeaterSpecError, SafetyLimits, SafetyWarning, StrategySpec,
+};
 use crate::drying::layer::LayerMaterial;
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{FlowProvider, Outcome, Run, RunError, RunObserver, RunSettings, Tally};
@@ -336,66 +338,22 @@ pub fn cost_of(p: &Prices, t: &Tally) -> Cost {
     }
 }
 
-/// Refuse a strategy whose set-point is above the crop's safe limits (a plenum set-point or humidity-rule cap
-/// above `safety.max_plenum_temp_c`, or a rise above `safety.max_temp_rise_k`) unless `force`. Every strategy is
-/// also clamped at the safe plenum maximum while running; with `force` the clamp moves to what was asked. Returns
-/// the heater and, when forced, the warning to show.
+/// The heater of a load after the one safety rule (`StrategySpec::check_safety` against the crop's limits): a
+/// strategy above them is refused unless `force`; with `force` the running clamp moves to what was asked and the
+/// warning to show is returned.
 pub fn checked_heater(
     crop: &Crop,
     spec: StrategySpec,
     burner_w: Option<f64>,
     fuel: Fuel,
     force: bool,
-) -> Result<(HeaterSetup, Option<String>), InputError> {
-    use crate::drying::heater::HeaterStrategy as H;
-    let safety = &crop.safety;
-    let mut setup = HeaterSetup {
+) -> Result<(HeaterSetup, Option<SafetyWarning>), HeaterSpecError> {
+    let warning = spec.check_safety(&SafetyLimits::from(&crop.safety), force)?;
+    let setup = HeaterSetup {
         spec,
         burner_w,
         fuel,
-        max_plenum_c: safety.max_plenum_temp_c,
+        max_plenum_c: spec.plenum_clamp_c(crop.safety.max_plenum_temp_c),
     };
-    let problem = match spec.strategy {
-        H::FixedPlenum { plenum_c } if plenum_c > safety.max_plenum_temp_c => Some((
-            plenum_c,
-            format!(
-                "a plenum of {plenum_c:.1} °C is above the safe maximum of {:.1} °C",
-                safety.max_plenum_temp_c
-            ),
-        )),
-        H::HumidityLimited { max_c, .. } if max_c > safety.max_plenum_temp_c => Some((
-            max_c,
-            format!(
-                "a cap of {max_c:.1} °C is above the safe plenum maximum of {:.1} °C",
-                safety.max_plenum_temp_c
-            ),
-        )),
-        H::FixedRise { rise_k } if rise_k > safety.max_temp_rise_k => Some((
-            safety.max_plenum_temp_c,
-            format!(
-                "a rise of {rise_k:.1} K is above the safe maximum rise of {:.1} K",
-                safety.max_temp_rise_k
-            ),
-        )),
-        _ => None,
-    };
-    let Some((asked_c, why)) = problem else {
-        return Ok((setup, None));
-    };
-    if !force {
-        return Err(InputError::argument(
-            "heater strategy",
-            spec,
-            &format!(
-                "is refused: {why} for {}; pass --force to run it anyway",
-                crop.name
-            ),
-        ));
-    }
-    setup.max_plenum_c = setup.max_plenum_c.max(asked_c);
-    let msg = format!(
-        "heater strategy {spec}: {why} for {} (crop file, section safety)",
-        crop.name
-    );
-    Ok((setup, Some(msg)))
+    Ok((setup, warning))
 }

@@ -127,7 +127,7 @@ fn bad_load_input_exits_2_with_one_line_and_no_output() {
     fails(
         &["dry", "--strategy", "warm"],
         &good,
-        "unknown heater strategy \"warm\"",
+        "heater strategy \"warm\": unknown strategy",
     );
     fails(
         &["dry", "--strategy", "plenum=45"],

@@ -84,7 +84,7 @@ fn wetter_loads_dry_longer_and_unheated_dryers_burn_no_fuel() {
     let (bp, d) = drier(SeasonRunSettings::default());
     let (dry_l, wet_l) = (load("D", 0, 4000.0, 16.0), load("W", 0, 4000.0, 22.0));
     let heated = &bp.dryers[0];
-    assert!(!matches!(heated.heater, HeaterStrategy::None));
+    assert!(!matches!(heated.heater.strategy, HeaterStrategy::None));
     let a = d.dry(&dry_l, heated, dry_l.arrival).unwrap();
     let b = d.dry(&wet_l, heated, wet_l.arrival).unwrap();
     assert!(a.finished && b.finished && b.hours > a.hours, "{a:?} {b:?}");
@@ -92,7 +92,7 @@ fn wetter_loads_dry_longer_and_unheated_dryers_burn_no_fuel() {
     let cold = bp
         .dryers
         .iter()
-        .find(|u| matches!(u.heater, HeaterStrategy::None))
+        .find(|u| matches!(u.heater.strategy, HeaterStrategy::None))
         .expect("Wrenfield has an unheated wagon");
     let c = d.dry(&dry_l, cold, dry_l.arrival).unwrap();
     assert!(c.fuel_l.abs() < 1e-12, "{c:?}");

@@ -27,7 +27,7 @@ fn grid() -> SweepGrid {
     SweepGrid {
         dryer_counts: (3..=14).collect(),
         policies: vec![DispatchPolicy::Fcfs, DispatchPolicy::WaitLimit],
-        heaters: vec![None, Some(HeaterStrategy::None)],
+        heaters: vec![None, Some(HeaterStrategy::None.into())],
     }
 }
 
@@ -90,7 +90,11 @@ fn smallest_count_holding_the_wait_limit_is_tight() {
     assert!(total(DispatchPolicy::WaitLimit) < total(DispatchPolicy::Fcfs));
     // Unheated dryers (half the rate under the rule of thumb) need at least as many units.
     let heated = smallest_holding(&res, DispatchPolicy::Fcfs, None).unwrap();
-    if let Some(cold) = smallest_holding(&res, DispatchPolicy::Fcfs, Some(HeaterStrategy::None)) {
+    if let Some(cold) = smallest_holding(
+        &res,
+        DispatchPolicy::Fcfs,
+        Some(HeaterStrategy::None.into()),
+    ) {
         assert!(cold >= heated);
     }
 }

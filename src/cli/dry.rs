@@ -7,7 +7,7 @@ use anyhow::Context;
 use rayon::prelude::*;
 
 use crate::drying::bed::BedState;
-use crate::drying::heater::StrategySpec;
+use crate::drying::heater::{SafetyWarning, StrategySpec};
 use crate::drying::run::{RunObserver, StepReport, StopRule};
 use crate::input::scenario::Scenario;
 use crate::load::{checked_heater, run_load, LoadResult, LoadSpec};
@@ -106,7 +106,7 @@ impl RunObserver for Progress {
 }
 
 /// The scenario with the command line's overrides; the heater's safety warning when `--force` let it run.
-fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<String>)> {
+fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<SafetyWarning>)> {
     let (mut sc, warning) = Scenario::read(&opts.scenario, opts.force)?;
     let spec = &mut sc.spec;
     if let Some(pct) = opts.initial_pct {
@@ -135,7 +135,7 @@ fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<String>)> {
     Ok((sc, warning))
 }
 
-fn warn(warning: &Option<String>) {
+fn warn(warning: &Option<SafetyWarning>) {
     if let Some(w) = warning {
         eprintln!("dryfront: warning: {w} (running because of --force)");
     }
@@ -194,7 +194,8 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
     let (mut sc, mut warning) = setup(&args.load)?;
     if let Some(spec) = args.strategy {
         let h = sc.spec.heater;
-        let (heater, w) = checked_heater(&sc.spec.crop, spec, h.burner_w, h.fuel, args.load.force)?;
+        let (heater, w) = checked_heater(&sc.spec.crop, spec, h.burner_w, h.fuel, args.load.force)
+            .context("--strategy")?;
         sc.spec.heater = heater;
         warning = w;
     }
@@ -228,31 +229,27 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
 
 /// `dryfront compare`.
 pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
-    let (sc, _) = setup(&args.load)?;
+    let (sc, warning) = setup(&args.load)?;
+    warn(&warning);
     let specs: Vec<StrategySpec> = args
         .strategies
         .split(';')
-        .filter(|s| !s.trim().is_empty())
-        .map(|s| {
-            s.parse::<StrategySpec>()
-                .map_err(|e| anyhow::anyhow!("--strategies: {e}"))
-        })
+        .map(|s| s.parse::<StrategySpec>().context("--strategies"))
         .collect::<Result<_, _>>()?;
-    if specs.is_empty() {
-        anyhow::bail!("--strategies: give at least one strategy");
-    }
     let h = sc.spec.heater;
     let loads = specs
         .iter()
         .map(|s| {
-            checked_heater(&sc.spec.crop, *s, h.burner_w, h.fuel, args.load.force).map(
-                |(heater, _)| LoadSpec {
-                    heater,
-                    ..sc.spec.clone()
-                },
-            )
+            let (heater, w) =
+                checked_heater(&sc.spec.crop, *s, h.burner_w, h.fuel, args.load.force)
+                    .context("--strategies")?;
+            warn(&w);
+            Ok(LoadSpec {
+                heater,
+                ..sc.spec.clone()
+            })
         })
-        .collect::<Result<Vec<_>, _>>()?;
+        .collect::<anyhow::Result<Vec<_>>>()?;
     eprintln!(
         "comparing {} strategies on {} (in parallel)…",
         specs.len(),

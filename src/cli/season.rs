@@ -9,7 +9,8 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use anyhow::{bail, Context};
 
 use crate::airflow::geometry::Grid;
-use crate::drying::heater::HeaterStrategy;
+use crate::crop::Crop;
+use crate::drying::heater::{SafetyLimits, StrategySpec};
 use crate::input::season::{read_buying_point, season_template, SeasonRunSettings};
 use crate::outfile::write_atomic;
 use crate::report::gantt::{gantt_svg, queue_svg};
@@ -20,7 +21,7 @@ use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};
 use crate::season::scenario::BuyingPoint;
 use crate::season::sim::simulate;
 use crate::season::sweep::{
-    heater_label, season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
+    season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
 };
 use crate::weather::series::{ReadOptions, WeatherSeries};
 use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
@@ -46,7 +47,7 @@ pub enum DrierChoice {
 /// Models for the deep-bed drier.
 #[derive(Debug, Clone, clap::Args)]
 pub struct DeepBedOptions {
-    /// Crop model (bundled name or path).
+    /// Crop model (bundled name or path); its `safety` section also sets the heater limits checked for every drier.
     #[arg(long, default_value = "peanut-inshell")]
     pub crop: String,
     /// Season grid per dryer, NXxNYxNZ (columns along × across × layers); coarse by default for speed.
@@ -123,6 +124,9 @@ pub struct RunArgs {
     /// Deep-bed drier models.
     #[command(flatten)]
     pub models: DeepBedOptions,
+    /// Run dryer heaters above the crop's safe limits anyway (they are refused otherwise).
+    #[arg(long)]
+    pub force: bool,
     /// Folder for the outputs (created if missing).
     #[arg(long)]
     pub out: PathBuf,
@@ -149,6 +153,7 @@ impl RunArgs {
                     nz: 10,
                 },
             },
+            force: false,
             out,
         }
     }
@@ -166,10 +171,14 @@ pub struct SweepArgs {
     /// Policies, comma-separated (fcfs, wettest, shortest, wait-limit).
     #[arg(long, default_value = "fcfs,wait-limit")]
     pub policies: String,
-    /// Heater strategies, comma-separated: `scenario` (as in the file), `none`, `rise:K`, `plenum:C`,
-    /// `rh:TARGET_PCT:MAX_C`.
+    /// Heater strategies on every dryer, separated by `;`: `scenario` (each dryer's own, as in the file) or a
+    /// strategy as for `dry --strategy` (`none`, `rise=8`, `plenum=35`, `rh=55,max=35`, each optionally with a burner
+    /// window `@20-6`), e.g. "scenario;none;rise=8;rh=55,max=35". A rise is over ambient air, fan heat counted.
     #[arg(long, default_value = "scenario")]
     pub heaters: String,
+    /// Run heater strategies above the crop's safe limits anyway (they are refused otherwise).
+    #[arg(long)]
+    pub force: bool,
     /// Seasons (arrival draws; weather draws once the deep-bed drier is wired in).
     #[arg(long, default_value_t = 10)]
     pub seasons: usize,
@@ -226,36 +235,67 @@ fn parse_counts(s: &str) -> anyhow::Result<Vec<usize>> {
     Ok(v)
 }
 
-fn parse_heater(s: &str) -> anyhow::Result<Option<HeaterStrategy>> {
-    let parts: Vec<&str> = s.trim().split(':').collect();
-    let num = |x: &str| -> anyhow::Result<f64> {
-        x.parse::<f64>()
-            .ok()
-            .filter(|v| v.is_finite())
-            .with_context(|| format!("--heaters: {x:?} in {s:?} is not a number"))
-    };
-    Ok(match parts.as_slice() {
-        ["scenario"] => None,
-        ["none"] => Some(HeaterStrategy::None),
-        ["rise", k] => Some(HeaterStrategy::FixedRise { rise_k: num(k)? }),
-        ["plenum", c] => Some(HeaterStrategy::FixedPlenum { plenum_c: num(c)? }),
-        ["rh", rh, c] => Some(HeaterStrategy::HumidityLimited {
-            target_rh_pct: num(rh)?,
-            max_c: num(c)?,
-        }),
-        _ => bail!(
-            "--heaters: {s:?} is not a heater strategy (expected scenario, none, rise:K, plenum:C or rh:TARGET_PCT:MAX_C)"
-        ),
-    })
+/// `--heaters`: `;`-separated strategies in the heater language, or `scenario` (`None`) for each dryer's own.
+fn parse_heaters(s: &str) -> anyhow::Result<Vec<Option<StrategySpec>>> {
+    s.split(';')
+        .map(|h| match h.trim() {
+            "scenario" => Ok(None),
+            h => Ok(Some(h.parse::<StrategySpec>().context("--heaters")?)),
+        })
+        .collect()
+}
+
+/// The one safety rule on `spec`, with `context` naming where it came from; a forced excess is printed once.
+fn check_heater(
+    spec: &StrategySpec,
+    limits: &SafetyLimits,
+    force: bool,
+    context: impl FnOnce() -> String,
+    warned: &mut Vec<StrategySpec>,
+) -> anyhow::Result<()> {
+    if let Some(w) = spec.check_safety(limits, force).with_context(context)? {
+        if !warned.contains(spec) {
+            eprintln!("dryfront: warning: {w} (running because of --force)");
+            warned.push(*spec);
+        }
+    }
+    Ok(())
+}
+
+/// The safety rule on every dryer's own heater, errors naming the file and `dryers[i].heater`.
+fn check_dryer_heaters(
+    bp: &BuyingPoint,
+    path: &Path,
+    limits: &SafetyLimits,
+    force: bool,
+    warned: &mut Vec<StrategySpec>,
+) -> anyhow::Result<()> {
+    for (i, d) in bp.dryers.iter().enumerate() {
+        let context = || format!("{}: field \"dryers[{i}].heater\"", path.display());
+        check_heater(&d.heater, limits, force, context, warned)?;
+    }
+    Ok(())
+}
+
+/// Each dryer's heater as written in the heater language.
+fn heaters_line(bp: &BuyingPoint) -> String {
+    let each: Vec<String> = bp
+        .dryers
+        .iter()
+        .map(|d| format!("{} {}", d.id, d.heater))
+        .collect();
+    format!("heaters: {}", each.join("; "))
 }
 
 fn template(
     bp: &BuyingPoint,
     opts: &DeepBedOptions,
     weather: WeatherSeries,
+    force: bool,
 ) -> anyhow::Result<LoadTemplate> {
     let settings = SeasonRunSettings {
         grid: opts.grid,
+        force,
         ..SeasonRunSettings::default()
     };
     Ok(season_template(bp, &opts.crop, std::sync::Arc::new(weather), &settings)?.0)
@@ -339,11 +379,14 @@ pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
 
 fn run_one(a: RunArgs) -> anyhow::Result<()> {
     let bp = read_buying_point(&a.scenario)?;
+    let crop = Crop::load_named(&a.models.crop)?;
+    let limits = SafetyLimits::from(&crop.safety);
+    check_dryer_heaters(&bp, &a.scenario, &limits, a.force, &mut Vec::new())?;
     let models = match a.drier {
         DrierChoice::DeepBed => {
             let path = a.weather.clone().unwrap_or_else(default_weather);
             let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
-            Some(template(&bp, &a.models, weather)?)
+            Some(template(&bp, &a.models, weather, a.force)?)
         }
         DrierChoice::RateRule => None,
     };
@@ -426,6 +469,7 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
         }
     );
     println!("{}", drier_note(a.drier));
+    println!("{}", heaters_line(&bp));
     print!("{}", k.summary(cur));
     println!(
         "wait limit {:.1} h; outputs in {}",
@@ -443,11 +487,16 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         .split(',')
         .map(|s| parse_policy(s).map_err(|e| anyhow::anyhow!("--policies: {e}")))
         .collect::<anyhow::Result<_>>()?;
-    let heaters: Vec<Option<HeaterStrategy>> = a
-        .heaters
-        .split(',')
-        .map(parse_heater)
-        .collect::<anyhow::Result<_>>()?;
+    let heaters = parse_heaters(&a.heaters)?;
+    let crop = Crop::load_named(&a.models.crop)?;
+    let limits = SafetyLimits::from(&crop.safety);
+    let mut warned = Vec::new();
+    for h in &heaters {
+        match h {
+            None => check_dryer_heaters(&bp, &a.scenario, &limits, a.force, &mut warned)?,
+            Some(spec) => check_heater(spec, &limits, a.force, || "--heaters".into(), &mut warned)?,
+        }
+    }
     if a.seasons == 0 {
         bail!("--seasons: 0 must be at least 1");
     }
@@ -470,7 +519,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             let seasons = generate_seasons(&stats, &plan, a.seasons as u64)?;
             seasons
                 .into_iter()
-                .map(|w| template(&bp, &a.models, w))
+                .map(|w| template(&bp, &a.models, w, a.force))
                 .collect::<anyhow::Result<_>>()?
         }
         DrierChoice::RateRule => Vec::new(),
@@ -516,7 +565,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     println!("{}", drier_note(a.drier));
     for h in &heaters {
         let hl = h
-            .map(|h| heater_label(&h))
+            .map(|h| h.to_string())
             .unwrap_or_else(|| "scenario".into());
         for &p in &policies {
             match smallest_holding(&res, p, *h) {

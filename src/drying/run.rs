@@ -522,7 +522,9 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         } else {
             sample.air
         };
-        let heat = self.heater.plenum_air(fan_air, sample.local_hour, dry_air);
+        let heat = self
+            .heater
+            .plenum_air(sample.air, fan_air, sample.local_hour, dry_air);
         (heat.plenum, heat.heat_w, dry_air)
     }
 

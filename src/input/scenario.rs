@@ -14,7 +14,7 @@ use crate::airflow::geometry::{Container, Grid};
 use crate::crop::Crop;
 use crate::drying::bed::InitialMoisture;
 use crate::drying::flow::FanEfficiency;
-use crate::drying::heater::{Fuel, StrategySpec};
+use crate::drying::heater::{Fuel, SafetyWarning, StrategySpec};
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{RunSettings, StopRule};
 use crate::error::InputError;
@@ -220,7 +220,10 @@ fn weather_path(scenario: &Path, name: &str) -> PathBuf {
 impl Scenario {
     /// Read and check a scenario file (a bundled scenario name or a path). `force` lets a heater above the crop's
     /// safe limits run (its warning is returned).
-    pub fn read(name_or_path: &str, force: bool) -> Result<(Self, Option<String>), InputError> {
+    pub fn read(
+        name_or_path: &str,
+        force: bool,
+    ) -> Result<(Self, Option<SafetyWarning>), InputError> {
         let path = resolve("scenarios", name_or_path, "--scenario")?;
         let file: ScenarioFile = parse_json(&path, &read_text(&path)?)?;
         Self::from_file(path, file, force)
@@ -231,7 +234,7 @@ impl Scenario {
         path: PathBuf,
         file: ScenarioFile,
         force: bool,
-    ) -> Result<(Self, Option<String>), InputError> {
+    ) -> Result<(Self, Option<SafetyWarning>), InputError> {
         let p = path.as_path();
         let wrap = |field: &'static str| move |e: InputError| field_err(p, field, e.to_string());
         let (crop, crop_path) = read_crop(&file.crop, "crop").map_err(wrap("crop"))?;
@@ -288,15 +291,17 @@ impl Scenario {
             Some(kg) => FillSpec::NetMass(check_field(p, "net_mass_kg", kg, 10.0, 60_000.0, "kg")?),
         };
         let spec_text = &file.heater.strategy;
-        let strategy: StrategySpec = spec_text
-            .parse()
-            .map_err(|e: String| field_err(p, "heater.strategy", e))?;
+        let heater_err = |e: crate::drying::heater::HeaterSpecError| {
+            field_err(p, "heater.strategy", e.to_string())
+        };
+        let strategy: StrategySpec = spec_text.parse().map_err(heater_err)?;
         let burner_w = match file.heater.burner_kw {
             Some(kw) => Some(check_field(p, "heater.burner_kw", kw, 0.0, 10_000.0, "kW")? * 1000.0),
             None => None,
         };
         let fuel = fuel_named(p, "heater.fuel", &file.heater.fuel)?;
-        let (heater, warning) = checked_heater(&crop, strategy, burner_w, fuel, force)?;
+        let (heater, warning) =
+            checked_heater(&crop, strategy, burner_w, fuel, force).map_err(heater_err)?;
         let run = run_settings(p, &file, &crop)?;
         let airflow = match file.airflow_updates.as_deref() {
             None | Some("follow") => AirflowUpdates::Follow,

@@ -22,7 +22,7 @@ use crate::airflow::geometry::{Container, Grid};
 use crate::crop::Crop;
 use crate::drying::bed::InitialMoisture;
 use crate::drying::flow::FanEfficiency;
-use crate::drying::heater::{Fuel, HeaterStrategy, StrategySpec};
+use crate::drying::heater::{Fuel, HeaterStrategy};
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{Outcome, RunError, RunSettings, StopReason};
 use crate::load::{
@@ -164,7 +164,7 @@ impl LoadDrier for RateRuleDrier {
         _start: DateTime<FixedOffset>,
     ) -> Result<DryingResult, SeasonError> {
         let points = (load.moisture_pct - self.target_pct).max(0.0);
-        let heated = !matches!(dryer.heater, HeaterStrategy::None);
+        let heated = !matches!(dryer.heater.strategy, HeaterStrategy::None);
         let rate = if heated {
             self.rate_pct_per_h
         } else {
@@ -237,12 +237,9 @@ impl LoadTemplate {
             .ok_or_else(|| fail(DryingFailure::UnknownContainer(dryer.container.clone())))?;
         let flow = (self.fans.get(&dryer.fan))
             .ok_or_else(|| fail(DryingFailure::UnknownFan(dryer.fan.clone())))?;
-        let spec = StrategySpec {
-            strategy: dryer.heater,
-            window_h: None,
-        };
         let burner_w = dryer.burner_kw.map(|kw| kw * 1000.0);
-        let (heater, _) = checked_heater(&self.crop, spec, burner_w, self.fuel, self.force)?;
+        let (heater, _) =
+            checked_heater(&self.crop, dryer.heater, burner_w, self.fuel, self.force)?;
         Ok(LoadSpec {
             name: load.id.clone(),
             crop: self.crop.clone(),
@@ -345,7 +342,7 @@ mod tests {
             capacity_kg: 6000.0,
             fan_kw: 4.0,
             burner_kw: None,
-            heater: HeaterStrategy::FixedRise { rise_k: 8.0 },
+            heater: HeaterStrategy::FixedRise { rise_k: 8.0 }.into(),
         };
         let r = d.dry(&load, &dryer, load.arrival).unwrap();
         assert!((20.0..=30.0).contains(&r.fuel_l), "{}", r.fuel_l);

@@ -24,6 +24,9 @@ pub enum SeasonError {
     /// Bad input: a scenario, an arrivals file or an argument.
     #[error(transparent)]
     Input(#[from] InputError),
+    /// A dryer's heater is refused (above the crop's safe limits without `force`).
+    #[error(transparent)]
+    Heater(#[from] crate::drying::heater::HeaterSpecError),
     /// The drying of one load failed.
     #[error("load {load:?} on dryer {dryer:?}: {source}")]
     Drying {

@@ -9,7 +9,7 @@ use std::path::Path;
 use chrono::{DateTime, Duration, FixedOffset};
 use serde::{Deserialize, Serialize};
 
-use crate::drying::heater::HeaterStrategy;
+use crate::drying::heater::StrategySpec;
 use crate::drying::stop::StopRule;
 use crate::error::InputError;
 
@@ -30,8 +30,8 @@ pub struct DryerUnit {
     /// Burner capacity, kW; absent = not limited.
     #[serde(default)]
     pub burner_kw: Option<f64>,
-    /// How the burner is controlled.
-    pub heater: HeaterStrategy,
+    /// How the burner is controlled, in the one heater language (`"rise=8@20-6"`, see [`StrategySpec`]).
+    pub heater: StrategySpec,
 }
 
 /// The harvest window the scenario covers.
@@ -142,13 +142,33 @@ fn check(path: &Path, field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Resu
     }
 }
 
+/// The first `dryers[i].heater` string that the heater language refuses, as an error naming that field (serde's
+/// own message for it would name only the line).
+fn heater_error(path: &Path, text: &str) -> Option<InputError> {
+    let v: serde_json::Value = serde_json::from_str(text).ok()?;
+    v.get("dryers")?
+        .as_array()?
+        .iter()
+        .enumerate()
+        .find_map(|(i, d)| {
+            let e = d.get("heater")?.as_str()?.parse::<StrategySpec>().err()?;
+            Some(field_err(
+                path,
+                format!("dryers[{i}].heater"),
+                e.to_string(),
+            ))
+        })
+}
+
 impl BuyingPoint {
     /// Parse and validate a scenario from JSON text; `path` names the source in errors.
     pub fn from_json(path: &Path, text: &str) -> Result<Self, InputError> {
-        let bp: BuyingPoint = serde_json::from_str(text).map_err(|e| InputError::Parse {
-            path: path.to_path_buf(),
-            line: Some(e.line() as u64),
-            message: e.to_string(),
+        let bp: BuyingPoint = serde_json::from_str(text).map_err(|e| {
+            heater_error(path, text).unwrap_or_else(|| InputError::Parse {
+                path: path.to_path_buf(),
+                line: Some(e.line() as u64),
+                message: e.to_string(),
+            })
         })?;
         bp.validate(path)?;
         Ok(bp)
@@ -258,29 +278,7 @@ impl BuyingPoint {
             if let Some(kw) = d.burner_kw {
                 check(path, &f("burner_kw"), kw, 0.0, 5_000.0, "kW")?;
             }
-            match d.heater {
-                HeaterStrategy::None => {}
-                HeaterStrategy::FixedPlenum { plenum_c } => {
-                    check(path, &f("heater.plenum_c"), plenum_c, 0.0, 60.0, "°C")?
-                }
-                HeaterStrategy::FixedRise { rise_k } => {
-                    check(path, &f("heater.rise_k"), rise_k, 0.0, 30.0, "K")?
-                }
-                HeaterStrategy::HumidityLimited {
-                    target_rh_pct,
-                    max_c,
-                } => {
-                    check(
-                        path,
-                        &f("heater.target_rh_pct"),
-                        target_rh_pct,
-                        5.0,
-                        95.0,
-                        "%",
-                    )?;
-                    check(path, &f("heater.max_c"), max_c, 0.0, 60.0, "°C")?;
-                }
-            }
+            // The heater was parsed and range-checked by `StrategySpec` (see `from_json`).
         }
         Ok(())
     }
@@ -304,8 +302,8 @@ impl BuyingPoint {
         }
     }
 
-    /// The same buying point with every burner on `strategy`.
-    pub fn with_heater(&self, strategy: HeaterStrategy) -> BuyingPoint {
+    /// The same buying point with every burner on `strategy` (its burner window included).
+    pub fn with_heater(&self, strategy: StrategySpec) -> BuyingPoint {
         let mut bp = self.clone();
         for d in &mut bp.dryers {
             d.heater = strategy;
@@ -392,6 +390,37 @@ mod tests {
         v["dryers"][1]["capacity_kg"] = serde_json::json!(-5.0);
         let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
         assert!(err.to_string().contains("dryers[1].capacity_kg"), "{err}");
+    }
+
+    #[test]
+    fn bad_heater_names_dryer_index_with_the_languages_message() {
+        let mut v: serde_json::Value = serde_json::from_str(SMALL).unwrap();
+        v["dryers"][1]["heater"] = "rise=8@20-20".into();
+        let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
+        let want = "rise=8@20-20"
+            .parse::<StrategySpec>()
+            .unwrap_err()
+            .to_string();
+        assert_eq!(
+            err.to_string(),
+            format!("bp.json: field \"dryers[1].heater\": {want}")
+        );
+        // The old tagged-object form is no longer a heater.
+        v["dryers"][1]["heater"] = serde_json::json!({"kind": "fixed-rise", "rise_k": 8.0});
+        let err = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap_err();
+        assert!(
+            matches!(err, InputError::Parse { line: Some(_), .. }),
+            "{err}"
+        );
+    }
+
+    #[test]
+    fn heater_window_is_kept() {
+        let mut v: serde_json::Value = serde_json::from_str(SMALL).unwrap();
+        v["dryers"][0]["heater"] = "rise=8@20-6".into();
+        let b = BuyingPoint::from_json(Path::new("bp.json"), &v.to_string()).unwrap();
+        assert_eq!(b.dryers[0].heater.window_h, Some((20, 6)));
+        assert_eq!(b.dryers[0].heater.to_string(), "rise=8@20-6");
     }
 
     #[test]

@@ -18,7 +18,7 @@ use super::kpi::{kpis, percentile, Kpis, KPI_FIELDS};
 use super::scenario::BuyingPoint;
 use super::sim::simulate;
 use super::SeasonError;
-use crate::drying::heater::HeaterStrategy;
+use crate::drying::heater::StrategySpec;
 
 /// What one season of a sweep needs: its loads, a drier bound to its weather, and its end.
 pub struct SeasonInputs<'a> {
@@ -38,7 +38,7 @@ pub struct SweepCase {
     /// Dispatch policy.
     pub policy: DispatchPolicy,
     /// Heater strategy on every dryer; `None` keeps the scenario's own.
-    pub heater: Option<HeaterStrategy>,
+    pub heater: Option<StrategySpec>,
 }
 
 /// The grid: every combination is run.
@@ -49,7 +49,7 @@ pub struct SweepGrid {
     /// Policies.
     pub policies: Vec<DispatchPolicy>,
     /// Heater strategies (`None` = the scenario's own).
-    pub heaters: Vec<Option<HeaterStrategy>>,
+    pub heaters: Vec<Option<StrategySpec>>,
 }
 
 impl SweepGrid {
@@ -167,7 +167,7 @@ pub fn sweep<'a>(
 pub fn smallest_holding(
     results: &[CaseResult],
     policy: DispatchPolicy,
-    heater: Option<HeaterStrategy>,
+    heater: Option<StrategySpec>,
 ) -> Option<usize> {
     let over = KPI_FIELDS
         .iter()
@@ -181,41 +181,35 @@ pub fn smallest_holding(
         .min()
 }
 
-/// The sweep table as CSV: one row per case and figure, with P10/P50/P90 across seasons.
+/// The sweep table as CSV: one row per case and figure, with P10/P50/P90 across seasons. The heater column is the
+/// strategy in the heater language (`rh=55,max=35`, quoted where it holds a comma) or `scenario`.
 pub fn sweep_csv(results: &[CaseResult], currency: &str) -> String {
-    let mut s = String::from("dryers,policy,heater,figure,unit,p10,p50,p90\n");
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let header = [
+        "dryers", "policy", "heater", "figure", "unit", "p10", "p50", "p90",
+    ];
+    w.write_record(header)
+        .expect("writing to memory cannot fail");
     for r in results {
         let heater = match r.case.heater {
             None => "scenario".to_string(),
-            Some(h) => heater_label(&h),
+            Some(h) => h.to_string(),
         };
         for (f, (name, unit)) in KPI_FIELDS.iter().enumerate() {
             let unit = if *unit == "currency" { currency } else { unit };
-            s.push_str(&format!(
-                "{},{},{},{},{},{:.4},{:.4},{:.4}\n",
-                r.case.dryers,
-                r.case.policy.name(),
-                heater,
-                name,
-                unit,
-                r.p10[f],
-                r.p50[f],
-                r.p90[f]
-            ));
+            let row = [
+                r.case.dryers.to_string(),
+                r.case.policy.name().to_string(),
+                heater.clone(),
+                name.to_string(),
+                unit.to_string(),
+                format!("{:.4}", r.p10[f]),
+                format!("{:.4}", r.p50[f]),
+                format!("{:.4}", r.p90[f]),
+            ];
+            w.write_record(&row).expect("writing to memory cannot fail");
         }
     }
-    s
-}
-
-/// A short label for a heater strategy ("rise-8K", "rh55-max35C").
-pub fn heater_label(h: &HeaterStrategy) -> String {
-    match *h {
-        HeaterStrategy::None => "none".into(),
-        HeaterStrategy::FixedPlenum { plenum_c } => format!("plenum-{plenum_c}C"),
-        HeaterStrategy::FixedRise { rise_k } => format!("rise-{rise_k}K"),
-        HeaterStrategy::HumidityLimited {
-            target_rh_pct,
-            max_c,
-        } => format!("rh{target_rh_pct}-max{max_c}C"),
-    }
+    let bytes = w.into_inner().expect("writing to memory cannot fail");
+    String::from_utf8(bytes).expect("every cell is UTF-8")
 }

@@ -886,7 +886,11 @@ mod tests {
         .unwrap();
         for minutes in [1, 15, 30, 45, 59] {
             let a = s.at(start + Duration::minutes(minutes)).unwrap();
-            assert!(a.air.rh() <= 1.0 + 1e-12, "{minutes} min: RH {}", a.air.rh());
+            assert!(
+                a.air.rh() <= 1.0 + 1e-12,
+                "{minutes} min: RH {}",
+                a.air.rh()
+            );
         }
     }
 

@@ -24,7 +24,7 @@ pub fn dryer(id: &str) -> DryerUnit {
         capacity_kg: 6000.0,
         fan_kw: 4.0,
         burner_kw: None,
-        heater: HeaterStrategy::FixedRise { rise_k: 8.0 },
+        heater: HeaterStrategy::FixedRise { rise_k: 8.0 }.into(),
     }
 }
 
