@@ -7,6 +7,7 @@
 use crate::airflow::bed::BedLaw;
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Container;
+use crate::airflow::path::AirPath;
 use crate::airflow::solve::{solve, AirflowSolution, SolverSettings};
 use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
@@ -43,6 +44,8 @@ pub struct SolvedFlow<'a> {
 
 impl FlowProvider for SolvedFlow<'_> {
     fn flow(&mut self, air: &AirState, mean_pod_db: f64) -> Result<FlowField, String> {
+        // One air for fan and bed until the run passes the ambient and plenum air apart.
+        let path = AirPath::same(*air);
         let mut law = self.law;
         // ASAE D272.3 note (DOMAIN.md §1.2): clean loose fill in equilibrium with RH > 85 % resists 0.80 ×.
         let factor = d272_moisture_factor((self.bed_erh)(mean_pod_db));
@@ -50,24 +53,25 @@ impl FlowProvider for SolvedFlow<'_> {
         if let (Some(sol), Some(last)) = (&self.last, self.last_key) {
             // Same inputs to the bit: the solve would give the same answer.
             if last.0.to_bits() == key.0.to_bits() && last.1.to_bits() == key.1.to_bits() {
-                return Ok(field_from_solution(sol, air, self.efficiency));
+                return Ok(field_from_solution(sol, &path, self.efficiency));
             }
         }
         law.packing_factor *= factor;
-        let sol = solve(self.container, &self.flow, &law, air, &self.settings)
+        let sol = solve(self.container, &self.flow, &law, &path, &self.settings)
             .map_err(|e| e.to_string())?;
-        let field = field_from_solution(&sol, air, self.efficiency);
+        let field = field_from_solution(&sol, &path, self.efficiency);
         self.last = Some(sol);
         self.last_key = Some(key);
         Ok(field)
     }
 }
 
-/// The run's view of an airflow solution: per-column superficial velocity at the inlet air state, fan power.
-pub fn field_from_solution(sol: &AirflowSolution, air: &AirState, eff: FanEfficiency) -> FlowField {
-    let v = air.specific_volume_m3_per_kg();
+/// The run's view of an airflow solution solved along `air`: per-column superficial velocity at the plenum air
+/// state, fan power from the fan's own volumetric flow (at the air it draws) and static pressure.
+pub fn field_from_solution(sol: &AirflowSolution, air: &AirPath, eff: FanEfficiency) -> FlowField {
+    let v = air.plenum.specific_volume_m3_per_kg();
     let op = sol.operating_point;
-    let air_power_w = op.flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
+    let air_power_w = op.fan_flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
     let electric = air_power_w / (eff.fan * eff.motor);
     FlowField {
         velocity_m_per_s: sol.mass_flux_kg_per_m2_s.mapv(|g| g * v),

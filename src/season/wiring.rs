@@ -111,6 +111,7 @@ impl SeasonModels {
             grid: self.grid,
             ..SolverSettings::default()
         };
+        let air = crate::airflow::AirPath::same(air);
         let sol =
             solve(&c, flow, &bed_law(&self.crop), &air, &settings).map_err(|e| e.to_string())?;
         let field = field_from_solution(&sol, &air, self.efficiency);
