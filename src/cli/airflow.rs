@@ -54,14 +54,15 @@ pub struct AirflowOptions {
     /// Container name (in MODELS/containers) or path to its JSON file.
     #[arg(long)]
     pub container: String,
-    /// Fan name (in MODELS/fans) or path: the flow is where its curve meets the load's.
+    /// Fan name (in MODELS/fans) or path: the flow is where its curve, at the air the fan draws (its file's
+    /// `position`: ambient air ahead of the burner, the default, or heated air after it), meets the load's.
     #[arg(
         long,
         conflicts_with = "flow_m3_min",
         required_unless_present = "flow_m3_min"
     )]
     pub fan: Option<String>,
-    /// A fixed total flow into the plenum instead of a fan, m³/min.
+    /// A fixed total flow into the plenum instead of a fan, m³/min at the plenum air.
     #[arg(long)]
     pub flow_m3_min: Option<f64>,
     /// Crop name (in MODELS/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
@@ -92,24 +93,24 @@ pub struct AirflowOptions {
     #[arg(long, default_value_t = 16)]
     pub nz: usize,
     /// Ambient air temperature, °C: the air drawn in ahead of the burner.
-    #[arg(long, default_value_t = 25.0)]
+    #[arg(long, default_value_t = 25.0, allow_negative_numbers = true)]
     pub air_temp_c: f64,
     /// Ambient air relative humidity, %.
     #[arg(long, default_value_t = 70.0)]
     pub air_rh_pct: f64,
     /// Burner temperature rise of the plenum air over the ambient air, K (0–60; humidity ratio unchanged).
     /// Without this or --plenum-temp-c the air is unheated.
-    #[arg(long, conflicts_with = "plenum_temp_c")]
+    #[arg(long, conflicts_with = "plenum_temp_c", allow_negative_numbers = true)]
     pub rise_k: Option<f64>,
     /// Plenum air temperature, °C (from the ambient temperature to 60 K above it; humidity ratio unchanged).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub plenum_temp_c: Option<f64>,
     /// Mean kernel moisture of the bed, % wet basis (5–45): a bed whose equilibrium RH is above 85 % gets the
     /// D272 wet factor, as in a drying run. Without it no wet factor is applied.
     #[arg(long)]
     pub bed_kernel_moisture_pct: Option<f64>,
     /// Site elevation, m (sets the barometric pressure).
-    #[arg(long, default_value_t = 0.0)]
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub elevation_m: f64,
     /// Treat the plenum as one pressure (the classical assumption) instead of the manifold model.
     #[arg(long)]
