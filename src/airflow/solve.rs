@@ -12,9 +12,9 @@
 //! flow, `Q_bed + C·√p̄ = Q_total`; for a fan, bisection on the plenum flow Q for
 //! `P_fan(Q·v_fan/v_pl)·ρ_fan/ρ_rated − K_t·ρ_pl·(Q/A_in)²/2 = p_in(Q)`, which is the intersection of the fan and
 //! system curves (DOMAIN.md §8.1) with the fan at its own air and the same dry-air mass flow through both
-//! (`v`: specific volume per kg dry air; see `airflow::path` for which air each part sees). The plenum profile is then re-marched
-//! from the new floor outflows and the resistivities re-evaluated from the new velocities. The loop stops when the
-//! largest pressure change falls below the tolerance relative to the largest pressure.
+//! (`v`: specific volume per kg dry air; see `airflow::path` for which air each part sees). The plenum profile is
+//! then re-marched from the new floor outflows and the resistivities re-evaluated from the new velocities. The loop
+//! stops when the largest pressure change falls below the tolerance relative to the largest pressure.
 //!
 //! References: DOMAIN.md §1.6 (Picard on the nonlinear Darcy form), §8.1 (fan and system curves, density).
 use ndarray::{Array2, Array3};
@@ -26,6 +26,7 @@ use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
 use super::path::AirPath;
 use super::plenum::{profile, PlenumGeometry, PlenumModel};
 use crate::error::InputError;
+use crate::props::psychro::AirState;
 
 /// Errors from an airflow solve.
 #[derive(Debug, thiserror::Error)]
@@ -211,10 +212,7 @@ pub fn solve(
 }
 
 /// Density and specific volume (per kg dry air) of one air state, checked to be physical.
-fn air_props(
-    air: &crate::props::psychro::AirState,
-    which: &'static str,
-) -> Result<(f64, f64), AirflowError> {
+fn air_props(air: &AirState, which: &'static str) -> Result<(f64, f64), AirflowError> {
     let rho = air.density_kg_per_m3();
     let v = air.specific_volume_m3_per_kg();
     if rho.is_finite() && rho > 0.3 && rho < 3.0 && v.is_finite() && v > 0.0 {
