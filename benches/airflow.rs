@@ -6,7 +6,7 @@ use std::path::PathBuf;
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use dryfront::airflow::{
-    solve, BedLaw, Container, FanCurve, FlowSpec, Grid, ResistanceLaw, SolverSettings,
+    solve, AirPath, BedLaw, Container, FanCurve, FlowSpec, Grid, ResistanceLaw, SolverSettings,
 };
 use dryfront::props::psychro::AirState;
 use dryfront::props::resistance::Shedd;
@@ -33,7 +33,7 @@ fn bench(c: &mut Criterion) {
         packing_factor: 1.5,
         horizontal_ratio: 1.0,
     };
-    let air = AirState::from_rh(30.0, 0.5, 101_325.0);
+    let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
     let mut g = c.benchmark_group("airflow");
     g.sample_size(10);
     for grid in [

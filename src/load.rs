@@ -191,6 +191,10 @@ pub fn bed_law(crop: &Crop) -> BedLaw {
     }
 }
 
+/// Temperature at which the bed's equilibrium RH is taken for the D272 wet factor, °C: a fixed reference (our own
+/// choice), so the factor follows the bed's moisture only and the airflow is not re-solved for the weather's swings.
+pub const BED_ERH_REFERENCE_C: f64 = 25.0;
+
 /// Equilibrium RH of pods at mean pod moisture `pod_db` with hull and kernel in equilibrium with each other
 /// (bisection on the kernel moisture).
 pub fn pod_erh<M: LayerMaterial + ?Sized>(material: &M, pod_db: f64, t_c: f64) -> f64 {
@@ -262,7 +266,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
             ..SolverSettings::default()
         },
         efficiency: spec.efficiency,
-        bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, 25.0)),
+        bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, BED_ERH_REFERENCE_C)),
         last: None,
         last_key: None,
     }

@@ -5,7 +5,9 @@
 mod common;
 
 use approx::assert_relative_eq;
-use dryfront::airflow::{solve, AirflowError, Fill, FlowSpec, Grid, PlenumModel, SolverSettings};
+use dryfront::airflow::{
+    solve, AirPath, AirflowError, Fill, FlowSpec, Grid, PlenumModel, SolverSettings,
+};
 use dryfront::props::resistance::floor_pressure_drop_pa;
 use dryfront::props::resistance::Shedd;
 
@@ -30,7 +32,7 @@ fn solved_point_matches_independent_intersection() {
         &c,
         &FlowSpec::Fan(fan.clone()),
         &common::peanut(1.5),
-        &air,
+        &AirPath::same(air),
         &settings,
     )
     .unwrap();
@@ -62,10 +64,14 @@ fn solved_point_matches_independent_intersection() {
     let q_star = 0.5 * (lo + hi);
     eprintln!(
         "solver {} m³/min, independent {} m³/min",
-        s.operating_point.flow_m3_per_s * 60.0,
+        s.operating_point.fan_flow_m3_per_s * 60.0,
         q_star * 60.0
     );
-    assert_relative_eq!(s.operating_point.flow_m3_per_s, q_star, max_relative = 1e-5);
+    assert_relative_eq!(
+        s.operating_point.fan_flow_m3_per_s,
+        q_star,
+        max_relative = 1e-5
+    );
     assert_relative_eq!(
         s.operating_point.fan_static_pressure_pa,
         system(q_star),
@@ -92,7 +98,7 @@ fn lighter_air_moves_the_point_to_less_flow() {
         &c,
         &FlowSpec::Fan(fan.clone()),
         &common::peanut(1.5),
-        &cool,
+        &AirPath::same(cool),
         &settings,
     )
     .unwrap();
@@ -100,11 +106,11 @@ fn lighter_air_moves_the_point_to_less_flow() {
         &c,
         &FlowSpec::Fan(fan),
         &common::peanut(1.5),
-        &hot,
+        &AirPath::same(hot),
         &settings,
     )
     .unwrap();
-    assert!(b.operating_point.flow_m3_per_s < a.operating_point.flow_m3_per_s);
+    assert!(b.operating_point.fan_flow_m3_per_s < a.operating_point.fan_flow_m3_per_s);
 }
 
 #[test]
@@ -129,7 +135,14 @@ fn a_load_too_deep_for_the_fan_is_an_error() {
         packing_factor: 1.0,
         horizontal_ratio: 1.0,
     };
-    let e = solve(&c, &FlowSpec::Fan(fan), &law, &common::air(), &settings).unwrap_err();
+    let e = solve(
+        &c,
+        &FlowSpec::Fan(fan),
+        &law,
+        &AirPath::same(common::air()),
+        &settings,
+    )
+    .unwrap_err();
     assert!(matches!(e, AirflowError::OffCurve { .. }), "{e}");
     assert!(e.to_string().contains("cannot push air"), "{e}");
 }

@@ -6,7 +6,7 @@ mod common;
 use approx::assert_relative_eq;
 use dryfront::airflow::geometry::{Permeability, PermeabilityBlock};
 use dryfront::airflow::{
-    solve, AirflowSolution, Container, Fill, FlowSpec, Grid, PlenumModel, SolverSettings,
+    solve, AirPath, AirflowSolution, Container, Fill, FlowSpec, Grid, PlenumModel, SolverSettings,
 };
 
 fn run(c: &Container, plenum: PlenumModel) -> AirflowSolution {
@@ -25,7 +25,7 @@ fn run(c: &Container, plenum: PlenumModel) -> AirflowSolution {
             total_m3_per_s: 230.0 / 60.0,
         },
         &common::peanut(1.5),
-        &common::air(),
+        &AirPath::same(common::air()),
         &settings,
     )
     .unwrap()

@@ -5,7 +5,9 @@
 mod common;
 
 use dryfront::airflow::geometry::InletWall;
-use dryfront::airflow::{solve, AirflowSolution, Container, FlowSpec, Grid, SolverSettings};
+use dryfront::airflow::{
+    solve, AirPath, AirflowSolution, Container, FlowSpec, Grid, SolverSettings,
+};
 
 fn run(c: &Container) -> AirflowSolution {
     let settings = SolverSettings {
@@ -22,7 +24,7 @@ fn run(c: &Container) -> AirflowSolution {
             total_m3_per_s: 230.0 / 60.0,
         },
         &common::peanut(1.5),
-        &common::air(),
+        &AirPath::same(common::air()),
         &settings,
     )
     .unwrap()

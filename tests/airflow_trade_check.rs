@@ -3,7 +3,7 @@
 //! top averages about 0.25 m/s and the inlet jet runs at roughly 8–15 m/s. The solve must land near all three.
 mod common;
 
-use dryfront::airflow::{solve, FlowSpec, Grid, SolverSettings};
+use dryfront::airflow::{solve, AirPath, FlowSpec, Grid, SolverSettings};
 
 #[test]
 fn trailer_at_230_m3_per_min_matches_trade_pressure_and_velocities() {
@@ -25,7 +25,7 @@ fn trailer_at_230_m3_per_min_matches_trade_pressure_and_velocities() {
             total_m3_per_s: 230.0 / 60.0,
         },
         &law,
-        &common::air(),
+        &AirPath::same(common::air()),
         &settings,
     )
     .unwrap();

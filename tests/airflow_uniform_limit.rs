@@ -4,7 +4,7 @@
 mod common;
 
 use approx::assert_relative_eq;
-use dryfront::airflow::{solve, FlowSpec, Grid, PlenumModel, SolverSettings};
+use dryfront::airflow::{solve, AirPath, FlowSpec, Grid, PlenumModel, SolverSettings};
 use dryfront::props::resistance::floor_pressure_drop_pa;
 use dryfront::props::resistance::Shedd;
 
@@ -30,7 +30,7 @@ fn uniform_bed_reduces_to_shedd_pressure_drop_times_depth() {
             total_m3_per_s: q_total,
         },
         &law,
-        &common::air(),
+        &AirPath::same(common::air()),
         &settings,
     )
     .unwrap();
@@ -48,7 +48,7 @@ fn uniform_bed_reduces_to_shedd_pressure_drop_times_depth() {
         assert_relative_eq!(p, expected_bed_pa, max_relative = 0.005);
     }
     // Floor: Δp = ρ/2·(q/(C_d·φ))² (DOMAIN.md §1.4, orifice physics), within 0.5 %.
-    let rho = s.summary.air_density_kg_per_m3;
+    let rho = s.summary.plenum_air_density_kg_per_m3;
     let floor_pa = floor_pressure_drop_pa(q, 0.20, 0.6, rho);
     let drop = s.plenum_pressure_pa[[3, 2]] - s.bottom_pressure_pa[[3, 2]];
     assert_relative_eq!(drop, floor_pa, max_relative = 0.005);
@@ -92,8 +92,22 @@ fn shedd_bed_check_value_from_domain() {
     let flow = FlowSpec::Fixed {
         total_m3_per_s: q * c.floor_area_m2(),
     };
-    let s = solve(&c, &flow, &common::peanut(1.0), &common::air(), &settings).unwrap();
+    let s = solve(
+        &c,
+        &flow,
+        &common::peanut(1.0),
+        &AirPath::same(common::air()),
+        &settings,
+    )
+    .unwrap();
     assert_relative_eq!(s.bottom_pressure_pa[[2, 2]], 72.0, max_relative = 0.02);
-    let s = solve(&c, &flow, &common::peanut(1.5), &common::air(), &settings).unwrap();
+    let s = solve(
+        &c,
+        &flow,
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings,
+    )
+    .unwrap();
     assert_relative_eq!(s.bottom_pressure_pa[[2, 2]], 108.0, max_relative = 0.02);
 }

@@ -6,6 +6,10 @@
 //! (the three-point derivative with the harmonic-mean rule of Fritsch & Butland, as used by common PCHIP codes —
 //! from memory); fan laws, density correction P ∝ ρ at the same flow and the 1.204 kg/m³ rating basis: DOMAIN.md
 //! §8.1. Leakage as an orifice-like path Q ∝ √p is common practice, no source.
+//!
+//! A fan file says where the fan sits in the air path (`"position"`): `"ahead-of-burner"` (the default, as on most
+//! trailer dryers) draws ambient air and pushes it through the burner; `"after-burner"` draws the heated air. The
+//! curve is density-corrected at the air the fan draws (see `airflow::path`).
 use std::path::Path;
 
 use serde::{Deserialize, Serialize};
@@ -25,6 +29,33 @@ pub struct FanPoint {
     pub static_pressure_pa: f64,
 }
 
+/// Where the fan sits relative to the burner, which decides the air it works on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FanPosition {
+    /// Ahead of the burner (most trailer dryers): the fan draws ambient air.
+    #[default]
+    AheadOfBurner,
+    /// After the burner: the fan draws the heated air.
+    AfterBurner,
+}
+
+impl FanPosition {
+    /// The spelling in a fan file.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            FanPosition::AheadOfBurner => "ahead-of-burner",
+            FanPosition::AfterBurner => "after-burner",
+        }
+    }
+
+    fn parse(text: &str) -> Option<Self> {
+        [FanPosition::AheadOfBurner, FanPosition::AfterBurner]
+            .into_iter()
+            .find(|p| p.as_str() == text)
+    }
+}
+
 /// A fan file (`models/fans/*.json`).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -34,6 +65,9 @@ struct FanFile {
     description: String,
     #[serde(default)]
     rated_density_kg_per_m3: Option<f64>,
+    /// Kept as raw JSON so that a bad value is reported naming the field and its line.
+    #[serde(default)]
+    position: Option<serde_json::Value>,
     points: Vec<FanPoint>,
 }
 
@@ -50,6 +84,8 @@ pub struct FanCurve {
     slope: Vec<f64>,
     /// Air density the ratings refer to, kg/m³.
     pub rated_density_kg_per_m3: f64,
+    /// Where the fan sits relative to the burner ([`FanCurve::new`] gives the default, ahead of it).
+    pub position: FanPosition,
 }
 
 /// Errors in a fan curve.
@@ -144,6 +180,7 @@ impl FanCurve {
             pressure_pa: p,
             slope,
             rated_density_kg_per_m3,
+            position: FanPosition::default(),
         })
     }
 
@@ -158,11 +195,29 @@ impl FanCurve {
         let rho = f
             .rated_density_kg_per_m3
             .unwrap_or(STANDARD_AIR_DENSITY_KG_PER_M3);
-        FanCurve::new(&f.name, &f.points, rho).map_err(|e| InputError::Model {
+        let position =
+            match &f.position {
+                None => FanPosition::default(),
+                Some(v) => v.as_str().and_then(FanPosition::parse).ok_or_else(|| {
+                    InputError::Field {
+                    path: path.to_path_buf(),
+                    line: line_of_key(text, "position"),
+                    field: "position".into(),
+                    value: v.as_str().map_or_else(|| v.to_string(), str::to_string),
+                    expected:
+                        "must be \"ahead-of-burner\" (the fan draws ambient air; the default) or \
+                               \"after-burner\" (the fan draws the heated air)"
+                            .into(),
+                }
+                })?,
+            };
+        let mut curve = FanCurve::new(&f.name, &f.points, rho).map_err(|e| InputError::Model {
             path: path.to_path_buf(),
             field: "points".into(),
             message: e.to_string(),
-        })
+        })?;
+        curve.position = position;
+        Ok(curve)
     }
 
     /// Flow range covered by the rating points, m³/s.
@@ -204,6 +259,14 @@ impl FanCurve {
     pub fn pressure_pa(&self, q_m3_per_s: f64, rho_kg_per_m3: f64) -> f64 {
         self.rated_pressure_pa(q_m3_per_s) * rho_kg_per_m3 / self.rated_density_kg_per_m3
     }
+}
+
+/// 1-based line of the first `"key"` in `text` (1 if absent: the parser has already accepted the file).
+fn line_of_key(text: &str, key: &str) -> u64 {
+    let quoted = format!("\"{key}\"");
+    text.find(&quoted)
+        .map(|at| 1 + text[..at].matches('\n').count() as u64)
+        .unwrap_or(1)
 }
 
 /// Fritsch–Carlson/Butland derivatives: zero at local extrema or sign changes, weighted harmonic mean otherwise,

@@ -1,7 +1,7 @@
 //! Airflow through a drying trailer: plenum, floor, bed and fan solved together, giving the airflow through every
 //! column of a load. `geometry` describes the container, `bed` the 3-D porous-flow discretisation and its linear
-//! solver, `plenum` the dividing-flow manifold under the floor, `fan` the fan curve and leakage, and `solve` the
-//! coupled iteration and its `AirflowSolution`.
+//! solver, `plenum` the dividing-flow manifold under the floor, `fan` the fan curve and leakage, `path` the ambient
+//! and plenum air each part is solved at, and `solve` the coupled iteration and its `AirflowSolution`.
 //!
 //! References: Shedd (1953) / ASAE D272 for the bed law; DOMAIN.md §1.4 (floor), §1.6 (solver), §8.1 (fans).
 
@@ -9,14 +9,16 @@ pub mod bed;
 pub mod fan;
 pub mod geometry;
 mod mg;
+pub mod path;
 pub mod plenum;
 pub mod solve;
 
 pub use bed::{BedLaw, ResistanceLaw};
-pub use fan::{FanCurve, FanPoint, FlowSpec};
+pub use fan::{FanCurve, FanPoint, FanPosition, FlowSpec};
 pub use geometry::{Container, Fill, Grid};
+pub use path::AirPath;
 pub use plenum::{ManifoldParams, PlenumModel};
 pub use solve::{
-    solve, solve_prescribed, AirInlet, AirflowError, AirflowSolution, AirflowSummary, Converged,
+    solve, solve_prescribed, AirflowError, AirflowSolution, AirflowSummary, Converged,
     OperatingPoint, SolverSettings,
 };

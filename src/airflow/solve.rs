@@ -9,10 +9,12 @@
 //! `φ_δ = p_s − p_in,prev·φ₁`; φ₁ itself is re-solved only on the first two steps and every fourth step. A stale
 //! φ₁ affects only the part `(p_in − p_in,prev)·φ₁`, which vanishes as the iteration converges, and the linear
 //! solves' tolerance follows the outer change (inexact Picard) down to `linear_tolerance`. The scalar closure then finds p_in: for a fixed
-//! flow, `Q_bed + C·√p̄ = Q_total`; for a fan, bisection on Q for `P_fan(Q)·ρ/ρ_rated − K_t·ρ·(Q/A_in)²/2 = p_in(Q)`,
-//! which is the intersection of the fan and system curves (DOMAIN.md §8.1). The plenum profile is then re-marched
-//! from the new floor outflows and the resistivities re-evaluated from the new velocities. The loop stops when the
-//! largest pressure change falls below the tolerance relative to the largest pressure.
+//! flow, `Q_bed + C·√p̄ = Q_total`; for a fan, bisection on the plenum flow Q for
+//! `P_fan(Q·v_fan/v_pl)·ρ_fan/ρ_rated − K_t·ρ_pl·(Q/A_in)²/2 = p_in(Q)`, which is the intersection of the fan and
+//! system curves (DOMAIN.md §8.1) with the fan at its own air and the same dry-air mass flow through both
+//! (`v`: specific volume per kg dry air; see `airflow::path` for which air each part sees). The plenum profile is
+//! then re-marched from the new floor outflows and the resistivities re-evaluated from the new velocities. The loop
+//! stops when the largest pressure change falls below the tolerance relative to the largest pressure.
 //!
 //! References: DOMAIN.md §1.6 (Picard on the nonlinear Darcy form), §8.1 (fan and system curves, density).
 use ndarray::{Array2, Array3};
@@ -21,12 +23,10 @@ use serde::Serialize;
 use super::bed::{BedLaw, BedSystem, LinearStats};
 use super::fan::{leakage_m3_per_s, FanError, FlowSpec};
 use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
+use super::path::AirPath;
 use super::plenum::{profile, PlenumGeometry, PlenumModel};
 use crate::error::InputError;
 use crate::props::psychro::AirState;
-
-/// The air entering the plenum (after any heater).
-pub type AirInlet = AirState;
 
 /// Errors from an airflow solve.
 #[derive(Debug, thiserror::Error)]
@@ -116,24 +116,31 @@ pub struct Converged {
 /// Where fan and system meet (or the fixed flow).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct OperatingPoint {
-    /// Total flow delivered into the plenum, m³/s.
-    pub flow_m3_per_s: f64,
-    /// Fan static pressure at that flow (density-corrected), Pa; for a fixed flow, the pressure the fan would need.
+    /// Volumetric flow through the fan at the air it draws, m³/s (for a fixed flow: at the ambient air).
+    pub fan_flow_m3_per_s: f64,
+    /// Total volumetric flow delivered into the plenum at the plenum air, m³/s (bed plus leakage).
+    pub plenum_flow_m3_per_s: f64,
+    /// Dry-air mass flow through the fan, the burner and into the plenum, kg/s.
+    pub dry_air_kg_per_s: f64,
+    /// Fan static pressure at that flow (density-corrected at the fan's air), Pa; for a fixed flow, the pressure a
+    /// fan would need.
     pub fan_static_pressure_pa: f64,
     /// Static pressure in the jet at the inlet plane, Pa.
     pub inlet_static_pressure_pa: f64,
-    /// Mean velocity through the inlet opening, m/s.
+    /// Mean velocity through the inlet opening at the plenum air, m/s.
     pub inlet_velocity_m_per_s: f64,
 }
 
 /// Whole-load figures.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct AirflowSummary {
-    /// Total flow into the plenum, m³/s.
-    pub total_flow_m3_per_s: f64,
-    /// Flow through the bed (out of the top), m³/s.
+    /// Total flow into the plenum at the plenum air, m³/s.
+    pub plenum_flow_m3_per_s: f64,
+    /// Flow through the fan at the air it draws, m³/s.
+    pub fan_flow_m3_per_s: f64,
+    /// Flow through the bed (out of the top) at the plenum air, m³/s.
     pub bed_flow_m3_per_s: f64,
-    /// Flow lost through leakage, m³/s.
+    /// Flow lost through leakage out of the plenum, at the plenum air, m³/s.
     pub leakage_m3_per_s: f64,
     /// Mean superficial velocity out of the top, m/s (= m³/(s·m²)).
     pub mean_column_velocity_m_per_s: f64,
@@ -155,8 +162,10 @@ pub struct AirflowSummary {
     pub mean_plenum_pressure_pa: f64,
     /// Plenum static pressure range (max − min), Pa.
     pub plenum_pressure_range_pa: f64,
-    /// Moist-air density used, kg/m³.
-    pub air_density_kg_per_m3: f64,
+    /// Moist-air density of the air the fan draws, kg/m³ (its curve is corrected to it).
+    pub fan_air_density_kg_per_m3: f64,
+    /// Moist-air density of the plenum air (inlet transition, plenum, floor and bed), kg/m³.
+    pub plenum_air_density_kg_per_m3: f64,
 }
 
 /// Everything one airflow solve gives. 2-D arrays are [nx, ny] with i = 0 at the **front** wall (x = 0) and
@@ -189,17 +198,31 @@ pub struct AirflowSolution {
     pub converged: Converged,
 }
 
-/// Solve the airflow through a loaded container.
+/// Solve the airflow through a loaded container, each part at its own air along `air` (see `airflow::path`).
 pub fn solve(
     container: &Container,
     flow: &FlowSpec,
     law: &BedLaw,
-    inlet: &AirInlet,
+    air: &AirPath,
     settings: &SolverSettings,
 ) -> Result<AirflowSolution, AirflowError> {
     check_law(law)?;
     let disc = container.discretize(settings.grid)?;
-    solve_discrete(container, &disc, flow, law, inlet, settings)
+    solve_discrete(container, &disc, flow, law, air, settings)
+}
+
+/// Density and specific volume (per kg dry air) of one air state, checked to be physical.
+fn air_props(air: &AirState, which: &'static str) -> Result<(f64, f64), AirflowError> {
+    let rho = air.density_kg_per_m3();
+    let v = air.specific_volume_m3_per_kg();
+    if rho.is_finite() && rho > 0.3 && rho < 3.0 && v.is_finite() && v > 0.0 {
+        Ok((rho, v))
+    } else {
+        Err(AirflowError::NonPhysical {
+            quantity: which,
+            value: rho,
+        })
+    }
 }
 
 fn check_law(law: &BedLaw) -> Result<(), InputError> {
@@ -382,18 +405,15 @@ pub fn solve_discrete(
     disc: &DiscreteContainer,
     flow: &FlowSpec,
     law: &BedLaw,
-    inlet: &AirInlet,
+    air: &AirPath,
     settings: &SolverSettings,
 ) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
-    let rho = inlet.density_kg_per_m3();
-    let v_dry = inlet.specific_volume_m3_per_kg();
-    if !(rho.is_finite() && rho > 0.3 && rho < 3.0 && v_dry.is_finite()) {
-        return Err(AirflowError::NonPhysical {
-            quantity: "inlet air density (kg/m³)",
-            value: rho,
-        });
-    }
+    // Plenum air: inlet transition, plenum, floor, leakage and bed. Fan air: the fan curve.
+    let (rho, v_dry) = air_props(&air.plenum, "plenum air density (kg/m³)")?;
+    let (rho_fan, v_fan) = air_props(air.source_air(flow), "fan air density (kg/m³)")?;
+    // Fan volumetric flow per plenum volumetric flow at the same dry-air mass flow (exactly 1 for one air).
+    let to_fan = v_fan / v_dry;
     if let FlowSpec::Fixed { total_m3_per_s } = flow {
         crate::error::check_range("--flow-m3-min", total_m3_per_s * 60.0, 1e-3, 1e5, "m³/min")?;
     }
@@ -494,19 +514,21 @@ pub fn solve_discrete(
                 )
             }
             FlowSpec::Fan(fan) => {
+                // q is the plenum flow; the fan sees q·v_fan/v_pl at its own density.
                 let g = |q: f64| {
                     let u = q / a_in;
-                    fan.pressure_pa(q, rho)
+                    fan.pressure_pa(q * to_fan, rho_fan)
                         - inl.transition_loss_coefficient * 0.5 * rho * u * u
                         - p_in_for(q)
                 };
-                let (mut lo, mut hi) = fan.flow_range_m3_per_s();
+                let (fan_lo, fan_hi) = fan.flow_range_m3_per_s();
+                let (mut lo, mut hi) = (fan_lo / to_fan, fan_hi / to_fan);
                 if g(hi) > 0.0 {
                     return Err(AirflowError::OffCurve {
                         fan: fan.name.clone(),
                         message: format!(
                             "the system needs less pressure than the fan gives at its last rating point ({:.1} m³/min): extend the curve to free delivery",
-                            hi * 60.0
+                            fan_hi * 60.0
                         ),
                     });
                 }
@@ -515,8 +537,8 @@ pub fn solve_discrete(
                         fan: fan.name.clone(),
                         message: format!(
                             "the system needs more pressure than the fan gives at its first rating point ({:.1} m³/min, {:.0} Pa): the fan cannot push air through this load",
-                            lo * 60.0,
-                            fan.pressure_pa(lo, rho)
+                            fan_lo * 60.0,
+                            fan.pressure_pa(fan_lo, rho_fan)
                         ),
                     });
                 }
@@ -532,7 +554,7 @@ pub fn solve_discrete(
                     }
                 }
                 let q = 0.5 * (lo + hi);
-                (q, p_in_for(q), fan.pressure_pa(q, rho))
+                (q, p_in_for(q), fan.pressure_pa(q * to_fan, rho_fan))
             }
         };
         p_in_prev = p_in;
@@ -563,6 +585,8 @@ pub fn solve_discrete(
                     p_fan,
                     rho,
                     v_dry,
+                    rho_fan,
+                    to_fan,
                     a_in,
                 },
                 Converged {
@@ -600,6 +624,8 @@ struct FinishInputs<'a> {
     p_fan: f64,
     rho: f64,
     v_dry: f64,
+    rho_fan: f64,
+    to_fan: f64,
     a_in: f64,
 }
 
@@ -655,13 +681,16 @@ fn finish(
         plenum_pressure_pa: col(f.p_pl),
         pressure_pa: pressure,
         operating_point: OperatingPoint {
-            flow_m3_per_s: f.q_total,
+            fan_flow_m3_per_s: f.q_total * f.to_fan,
+            plenum_flow_m3_per_s: f.q_total,
+            dry_air_kg_per_s: f.q_total / f.v_dry,
             fan_static_pressure_pa: f.p_fan,
             inlet_static_pressure_pa: f.p_in,
             inlet_velocity_m_per_s: f.q_total / f.a_in,
         },
         summary: AirflowSummary {
-            total_flow_m3_per_s: f.q_total,
+            plenum_flow_m3_per_s: f.q_total,
+            fan_flow_m3_per_s: f.q_total * f.to_fan,
             bed_flow_m3_per_s: bed_flow,
             leakage_m3_per_s: f.leak,
             mean_column_velocity_m_per_s: mean,
@@ -674,7 +703,8 @@ fn finish(
             specific_airflow_m3_per_min_per_m3: bed_flow * 60.0 / volume,
             mean_plenum_pressure_pa: pmean,
             plenum_pressure_range_pa: pmax - pmin,
-            air_density_kg_per_m3: f.rho,
+            fan_air_density_kg_per_m3: f.rho_fan,
+            plenum_air_density_kg_per_m3: f.rho,
         },
         converged,
     })

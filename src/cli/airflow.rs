@@ -4,16 +4,24 @@
 //! Loading happens here, at the edge: container, fan and crop files are read, checked and converted before the
 //! library is called. Names resolve to `<models>/containers/NAME.json`, `<models>/fans/NAME.json` and
 //! `<models>/crops/NAME.json`; anything with a `/` or ending in `.json` is taken as a path.
+//!
+//! The air path is given as the ambient air and a plenum temperature (or rise); the fan is solved at the air its
+//! file says it draws, the plenum, floor and bed at the plenum air. A bed moisture sets the D272 wet factor the way
+//! a drying run does. Both are printed and written to `summary.json`.
 use crate::crop::Crop;
-use crate::load::bed_law;
+use crate::drying::layer::LayerMaterial;
+use crate::drying::material::CropMaterial;
+use crate::load::{bed_law, pod_erh, BED_ERH_REFERENCE_C};
+use crate::props::resistance::d272_moisture_factor;
+use crate::units::db_from_wb;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use anyhow::Context;
 
 use crate::airflow::{
-    solve, AirflowSolution, BedLaw, Container, FanCurve, Fill, FlowSpec, Grid, PlenumModel,
-    SolverSettings,
+    solve, AirPath, AirflowSolution, BedLaw, Container, FanCurve, FanPosition, Fill, FlowSpec,
+    Grid, PlenumModel, SolverSettings,
 };
 use crate::error::{check_range, InputError};
 use crate::outfile::write_atomic;
@@ -46,14 +54,15 @@ pub struct AirflowOptions {
     /// Container name (in MODELS/containers) or path to its JSON file.
     #[arg(long)]
     pub container: String,
-    /// Fan name (in MODELS/fans) or path: the flow is where its curve meets the load's.
+    /// Fan name (in MODELS/fans) or path: the flow is where its curve, at the air the fan draws (its file's
+    /// `position`: ambient air ahead of the burner, the default, or heated air after it), meets the load's.
     #[arg(
         long,
         conflicts_with = "flow_m3_min",
         required_unless_present = "flow_m3_min"
     )]
     pub fan: Option<String>,
-    /// A fixed total flow into the plenum instead of a fan, m³/min.
+    /// A fixed total flow into the plenum instead of a fan, m³/min at the plenum air.
     #[arg(long)]
     pub flow_m3_min: Option<f64>,
     /// Crop name (in MODELS/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
@@ -83,14 +92,25 @@ pub struct AirflowOptions {
     /// Layers in each column.
     #[arg(long, default_value_t = 16)]
     pub nz: usize,
-    /// Inlet (plenum) air temperature, °C.
-    #[arg(long, default_value_t = 30.0)]
+    /// Ambient air temperature, °C: the air drawn in ahead of the burner.
+    #[arg(long, default_value_t = 25.0, allow_negative_numbers = true)]
     pub air_temp_c: f64,
-    /// Inlet air relative humidity, %.
-    #[arg(long, default_value_t = 50.0)]
-    pub rh_pct: f64,
+    /// Ambient air relative humidity, %.
+    #[arg(long, default_value_t = 70.0)]
+    pub air_rh_pct: f64,
+    /// Burner temperature rise of the plenum air over the ambient air, K (0–60; humidity ratio unchanged).
+    /// Without this or --plenum-temp-c the air is unheated.
+    #[arg(long, conflicts_with = "plenum_temp_c", allow_negative_numbers = true)]
+    pub rise_k: Option<f64>,
+    /// Plenum air temperature, °C (from the ambient temperature to 60 K above it; humidity ratio unchanged).
+    #[arg(long, allow_negative_numbers = true)]
+    pub plenum_temp_c: Option<f64>,
+    /// Mean kernel moisture of the bed, % wet basis (5–45): a bed whose equilibrium RH is above 85 % gets the
+    /// D272 wet factor, as in a drying run. Without it no wet factor is applied.
+    #[arg(long)]
+    pub bed_kernel_moisture_pct: Option<f64>,
     /// Site elevation, m (sets the barometric pressure).
-    #[arg(long, default_value_t = 0.0)]
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub elevation_m: f64,
     /// Treat the plenum as one pressure (the classical assumption) instead of the manifold model.
     #[arg(long)]
@@ -215,10 +235,9 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
         }
         (None, None) => anyhow::bail!("give either --fan NAME or --flow-m3-min VALUE"),
     };
-    let t = check_range("--air-temp-c", args.air_temp_c, -30.0, 80.0, "°C")?;
-    let rh = check_range("--rh-pct", args.rh_pct, 0.0, 100.0, "%")?;
-    let elev = check_range("--elevation-m", args.elevation_m, -500.0, 5000.0, "m")?;
-    let air = AirState::from_rh(t, rh / 100.0, pressure_at_elevation_pa(elev));
+    let air = air_path(&args)?;
+    let bed = BedMoisture::new(&crop, args.bed_kernel_moisture_pct, air.ambient.t_c)?;
+    law.packing_factor *= bed.d272_wet_factor;
     let settings = SolverSettings {
         grid: Grid {
             nx: args.nx,
@@ -233,13 +252,20 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
         ..SolverSettings::default()
     };
     let sol = solve(&container, &flow, &law, &air, &settings)?;
+    let used = Used::new(&air, &flow, bed);
+    print!("{}", used.human(args.units));
     print!("{}", human_summary(&container, &flow, &sol, args.units));
     if let Some(dir) = &args.out {
         let mut inputs: Vec<&Path> = vec![&container_path, &crop_path];
         if let Some(p) = &fan_path {
             inputs.push(p);
         }
-        write_outputs(dir, &container, &flow, &law, &settings, &sol, &inputs)?;
+        let run = Run {
+            law: &law,
+            settings: &settings,
+            used: &used,
+        };
+        write_outputs(dir, &container, &flow, &run, &sol, &inputs)?;
         println!("wrote columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
     }
     Ok(())
@@ -251,8 +277,15 @@ fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSys
     let g = s.grid;
     let mut o = String::new();
     let source = match flow {
-        FlowSpec::Fan(f) => format!("fan {}", f.name),
-        FlowSpec::Fixed { .. } => "fixed flow".to_string(),
+        FlowSpec::Fan(f) => format!(
+            "fan {}: {} at the air it draws",
+            f.name,
+            u.flow(op.fan_flow_m3_per_s)
+        ),
+        FlowSpec::Fixed { .. } => format!(
+            "fixed flow: {} at the ambient air",
+            u.flow(op.fan_flow_m3_per_s)
+        ),
     };
     let _ = writeln!(
         o,
@@ -266,8 +299,15 @@ fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSys
     );
     let _ = writeln!(
         o,
-        "air in: {} ({source}); through the bed {}, leakage {}",
-        u.flow(op.flow_m3_per_s),
+        "{source} ({:.3} kg/m³); into the plenum {} at the plenum air ({:.3} kg/m³), {:.3} kg/s of dry air",
+        sm.fan_air_density_kg_per_m3,
+        u.flow(op.plenum_flow_m3_per_s),
+        sm.plenum_air_density_kg_per_m3,
+        op.dry_air_kg_per_s
+    );
+    let _ = writeln!(
+        o,
+        "through the bed {}, leakage {} (at the plenum air)",
         u.flow(sm.bed_flow_m3_per_s),
         u.flow(sm.leakage_m3_per_s)
     );
@@ -306,12 +346,18 @@ fn fold(s: &AirflowSolution, init: f64, f: fn(f64, f64) -> f64) -> f64 {
     s.plenum_pressure_pa.iter().copied().fold(init, f)
 }
 
+/// What a solve was run with, for `summary.json`.
+struct Run<'a> {
+    law: &'a BedLaw,
+    settings: &'a SolverSettings,
+    used: &'a Used,
+}
+
 fn write_outputs(
     dir: &Path,
     c: &Container,
     flow: &FlowSpec,
-    law: &BedLaw,
-    settings: &SolverSettings,
+    run: &Run<'_>,
     s: &AirflowSolution,
     inputs: &[&Path],
 ) -> anyhow::Result<()> {
@@ -347,9 +393,11 @@ fn write_outputs(
             FlowSpec::Fan(f) => serde_json::json!({ "fan": f.name }),
             FlowSpec::Fixed { total_m3_per_s } => serde_json::json!({ "fixed_m3_per_min": total_m3_per_s * 60.0 }),
         },
-        "bed_law": law,
+        "air": run.used.air,
+        "bed_moisture": run.used.bed,
+        "bed_law": run.law,
         "fill": c.fill,
-        "settings": settings,
+        "settings": run.settings,
         "operating_point": s.operating_point,
         "summary": s.summary,
         "converged": s.converged,
@@ -423,4 +471,171 @@ fn write_outputs(
         write_atomic(&dir.join(name), &bytes, inputs)?;
     }
     Ok(())
+}
+
+/// The ambient and plenum air from the options: ambient air at the site's pressure, the plenum air the same air
+/// sensibly heated (humidity ratio unchanged; no combustion water, no fan heat).
+fn air_path(args: &AirflowOptions) -> Result<AirPath, InputError> {
+    let t = check_range("--air-temp-c", args.air_temp_c, -30.0, 50.0, "°C")?;
+    let rh = check_range("--air-rh-pct", args.air_rh_pct, 0.0, 100.0, "%")?;
+    let elev = check_range("--elevation-m", args.elevation_m, -500.0, 5000.0, "m")?;
+    let ambient = AirState::from_rh(t, rh / 100.0, pressure_at_elevation_pa(elev));
+    let rise = match (args.rise_k, args.plenum_temp_c) {
+        (Some(r), _) => check_range("--rise-k", r, 0.0, 60.0, "K")?,
+        (None, Some(p)) => check_range("--plenum-temp-c", p, t, t + 60.0, "°C")? - t,
+        (None, None) => 0.0,
+    };
+    Ok(AirPath {
+        ambient,
+        plenum: ambient.heated_by(rise),
+    })
+}
+
+/// The bed moisture a solve used and the D272 wet factor it gives.
+#[derive(Debug, Clone, Copy, serde::Serialize)]
+struct BedMoisture {
+    /// Mean kernel moisture, % w.b. (`None`: not given).
+    kernel_moisture_pct_wb: Option<f64>,
+    /// Mean pod moisture with the hull in equilibrium with the kernel, % d.b.
+    pod_moisture_pct_db: Option<f64>,
+    /// Equilibrium RH of the pods at `BED_ERH_REFERENCE_C`, %.
+    bed_erh_pct: Option<f64>,
+    /// Temperature of that equilibrium RH, °C.
+    bed_erh_temperature_c: Option<f64>,
+    /// Factor on the bed's resistance (D272: 0.80 above 85 % ERH, else 1).
+    d272_wet_factor: f64,
+}
+
+impl BedMoisture {
+    /// As a drying run: the hull in equilibrium with the kernel at the ambient temperature `t_c` (a fresh load),
+    /// the pods' ERH at `BED_ERH_REFERENCE_C`, the D272 factor from it (DOMAIN.md §1.2).
+    fn new(crop: &Crop, kernel_pct: Option<f64>, t_c: f64) -> Result<Self, InputError> {
+        let Some(k) = kernel_pct else {
+            return Ok(BedMoisture {
+                kernel_moisture_pct_wb: None,
+                pod_moisture_pct_db: None,
+                bed_erh_pct: None,
+                bed_erh_temperature_c: None,
+                d272_wet_factor: 1.0,
+            });
+        };
+        let k = check_range("--bed-kernel-moisture-pct", k, 5.0, 45.0, "% w.b.")?;
+        let material = CropMaterial::new(crop);
+        let pod_db = material.pod_db(material.initial_state(db_from_wb(k / 100.0), t_c));
+        let erh = pod_erh(&material, pod_db, BED_ERH_REFERENCE_C);
+        Ok(BedMoisture {
+            kernel_moisture_pct_wb: Some(k),
+            pod_moisture_pct_db: Some(100.0 * pod_db),
+            bed_erh_pct: Some(100.0 * erh),
+            bed_erh_temperature_c: Some(BED_ERH_REFERENCE_C),
+            d272_wet_factor: d272_moisture_factor(erh),
+        })
+    }
+}
+
+/// One air state as written to `summary.json`.
+#[derive(Debug, Clone, Copy, serde::Serialize)]
+struct AirReport {
+    temperature_c: f64,
+    relative_humidity_pct: f64,
+    humidity_ratio_kg_per_kg: f64,
+    pressure_pa: f64,
+    density_kg_per_m3: f64,
+    specific_volume_m3_per_kg_dry_air: f64,
+}
+
+impl AirReport {
+    fn new(a: &AirState) -> Self {
+        AirReport {
+            temperature_c: a.t_c,
+            relative_humidity_pct: 100.0 * a.rh(),
+            humidity_ratio_kg_per_kg: a.w,
+            pressure_pa: a.p_pa,
+            density_kg_per_m3: a.density_kg_per_m3(),
+            specific_volume_m3_per_kg_dry_air: a.specific_volume_m3_per_kg(),
+        }
+    }
+}
+
+/// The air states a solve used and which the fan drew.
+#[derive(Debug, Clone, Copy, serde::Serialize)]
+struct AirUsed {
+    ambient: AirReport,
+    plenum: AirReport,
+    /// `"ambient"` or `"plenum"`.
+    fan_draws: &'static str,
+    /// The fan file's position (`None` for a fixed flow).
+    fan_position: Option<FanPosition>,
+}
+
+/// The air states and bed moisture a solve used.
+struct Used {
+    air: AirUsed,
+    bed: BedMoisture,
+}
+
+impl Used {
+    fn new(path: &AirPath, flow: &FlowSpec, bed: BedMoisture) -> Self {
+        let fan_position = match flow {
+            FlowSpec::Fan(f) => Some(f.position),
+            FlowSpec::Fixed { .. } => None,
+        };
+        let draws_plenum = fan_position == Some(FanPosition::AfterBurner);
+        Used {
+            air: AirUsed {
+                ambient: AirReport::new(&path.ambient),
+                plenum: AirReport::new(&path.plenum),
+                fan_draws: if draws_plenum { "plenum" } else { "ambient" },
+                fan_position,
+            },
+            bed,
+        }
+    }
+
+    fn human(&self, u: UnitSystem) -> String {
+        let (a, p) = (&self.air.ambient, &self.air.plenum);
+        let mut o = String::new();
+        let rise = p.temperature_c - a.temperature_c;
+        let heated = if rise > 0.0 {
+            format!("heated {} over ambient", u.temp_delta(rise))
+        } else {
+            "unheated".to_string()
+        };
+        let _ = writeln!(
+            o,
+            "ambient air {}, {:.1} % RH, {:.3} kg/m³; plenum air {} ({heated}), {:.1} % RH, {:.3} kg/m³",
+            u.temp(a.temperature_c),
+            a.relative_humidity_pct,
+            a.density_kg_per_m3,
+            u.temp(p.temperature_c),
+            p.relative_humidity_pct,
+            p.density_kg_per_m3
+        );
+        let who = match self.air.fan_position {
+            Some(pos) => format!(
+                "the fan ({}) draws the {} air",
+                pos.as_str(),
+                self.air.fan_draws
+            ),
+            None => {
+                "fixed flow into the plenum at the plenum air (its fan flow at the ambient air)"
+                    .into()
+            }
+        };
+        let _ = writeln!(o, "{who}; plenum, floor and bed at the plenum air");
+        let b = &self.bed;
+        let _ = match (b.kernel_moisture_pct_wb, b.bed_erh_pct) {
+            (Some(k), Some(erh)) => writeln!(
+                o,
+                "bed kernel moisture {k:.1} % w.b. (pods in equilibrium with {erh:.1} % RH at {:.0} °C): D272 wet factor {:.2}",
+                BED_ERH_REFERENCE_C, b.d272_wet_factor
+            ),
+            _ => writeln!(
+                o,
+                "bed moisture not given (--bed-kernel-moisture-pct): D272 wet factor {:.2}",
+                b.d272_wet_factor
+            ),
+        };
+        o
+    }
 }

@@ -7,6 +7,7 @@
 use crate::airflow::bed::BedLaw;
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Container;
+use crate::airflow::path::AirPath;
 use crate::airflow::solve::{solve, AirflowError, AirflowSolution, SolverSettings};
 use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
@@ -37,29 +38,39 @@ pub struct SolvedFlow<'a> {
     pub bed_erh: Box<dyn Fn(f64) -> f64 + Send + Sync + 'a>,
     /// The last solution, for reports.
     pub last: Option<AirflowSolution>,
-    /// Air density and D272 factor the last solution was solved for; a request with the same pair reuses it.
-    pub last_key: Option<(f64, f64)>,
+    /// Ambient and plenum air density and D272 factor the last solution was solved for; a request with the same
+    /// three reuses it.
+    pub last_key: Option<(f64, f64, f64)>,
 }
 
 impl FlowProvider for SolvedFlow<'_> {
     fn flow(
         &mut self,
-        _fan_air: &AirState,
-        air: &AirState,
+        ambient: &AirState,
+        plenum: &AirState,
         mean_pod_db: f64,
     ) -> Result<FlowField, AirflowError> {
+        let path = AirPath {
+            ambient: *ambient,
+            plenum: *plenum,
+        };
         let mut law = self.law;
         // ASAE D272.3 note (DOMAIN.md §1.2): clean loose fill in equilibrium with RH > 85 % resists 0.80 ×.
         let factor = d272_moisture_factor((self.bed_erh)(mean_pod_db));
-        let key = (air.density_kg_per_m3(), factor);
+        let key = (
+            ambient.density_kg_per_m3(),
+            plenum.density_kg_per_m3(),
+            factor,
+        );
         if let (Some(sol), Some(last)) = (&self.last, self.last_key) {
             // Same inputs to the bit: the solve would give the same answer.
-            if last.0.to_bits() == key.0.to_bits() && last.1.to_bits() == key.1.to_bits() {
+            let same = |a: f64, b: f64| a.to_bits() == b.to_bits();
+            if same(last.0, key.0) && same(last.1, key.1) && same(last.2, key.2) {
                 return Ok(field_from_solution(sol, self.efficiency));
             }
         }
         law.packing_factor *= factor;
-        let sol = solve(self.container, &self.flow, &law, air, &self.settings)?;
+        let sol = solve(self.container, &self.flow, &law, &path, &self.settings)?;
         let field = field_from_solution(&sol, self.efficiency);
         self.last = Some(sol);
         self.last_key = Some(key);
@@ -67,10 +78,11 @@ impl FlowProvider for SolvedFlow<'_> {
     }
 }
 
-/// The run's view of an airflow solution: per-column dry-air mass flux, fan power.
+/// The run's view of an airflow solution: per-column dry-air mass flux, and fan power from the fan's own
+/// volumetric flow (at the air it draws) and static pressure.
 pub fn field_from_solution(sol: &AirflowSolution, eff: FanEfficiency) -> FlowField {
     let op = sol.operating_point;
-    let air_power_w = op.flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
+    let air_power_w = op.fan_flow_m3_per_s * op.fan_static_pressure_pa.max(0.0);
     let electric = air_power_w / (eff.fan * eff.motor);
     FlowField {
         dry_air_flux_kg_per_m2_s: sol.mass_flux_kg_per_m2_s.clone(),

@@ -93,11 +93,11 @@ impl FlowField {
 /// Gives the run its airflow; asked again when the fan's or the plenum's air density or the bed's moisture has
 /// moved past the run's thresholds. A fixed field ignores all three.
 pub trait FlowProvider {
-    /// Airflow with the fan drawing `fan_air`, the plenum and bed at `plenum_air`, and the bed at mean pod
-    /// moisture `mean_pod_db`.
+    /// Airflow with `ambient` air outside (what a fan ahead of the burner draws), the plenum and bed at
+    /// `plenum_air`, and the bed at mean pod moisture `mean_pod_db`.
     fn flow(
         &mut self,
-        fan_air: &AirState,
+        ambient: &AirState,
         plenum_air: &AirState,
         mean_pod_db: f64,
     ) -> Result<FlowField, AirflowError>;
