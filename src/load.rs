@@ -170,7 +170,7 @@ pub struct LoadResult {
     pub outcome: Outcome,
     /// Final bed.
     pub bed: BedState,
-    /// Airflow solution at the start of the run (what the airflow map shows).
+    /// Airflow solution at the start of the run, for the start's plenum air (what the airflow map shows).
     pub airflow: AirflowSolution,
     /// Zone maps at the end.
     pub zones: ZoneMaps,
@@ -268,6 +268,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         efficiency: spec.efficiency,
         bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, BED_ERH_REFERENCE_C)),
         last: None,
+        first: None,
         last_key: None,
     }
 }
@@ -290,11 +291,11 @@ pub fn run_load(spec: &LoadSpec, observer: &mut dyn RunObserver) -> Result<LoadR
     // The start's airflow solve also gives the bed's geometry (terrain-following layers, column depths); the run's
     // first request for the same air and moisture reuses it instead of solving again.
     FlowProvider::flow(&mut flow, &first.air, &first.air, pod_db)?;
-    let start_sol = flow.last.clone().expect("a successful solve is kept");
+    let geometry_sol = flow.first.take().expect("a successful solve is kept");
     let bed = BedState::new(
         material,
-        start_sol.depth_m.clone(),
-        start_sol.dx_m * start_sol.dy_m,
+        geometry_sol.depth_m.clone(),
+        geometry_sol.dx_m * geometry_sol.dy_m,
         spec.grid.nz,
         dry_density,
         &spec.initial,
@@ -308,6 +309,8 @@ pub fn run_load(spec: &LoadSpec, observer: &mut dyn RunObserver) -> Result<LoadR
     let heater = spec.heater.heater();
     let run = Run::new(material, bed, &ambient, &mut flow, heater, settings)?;
     let (outcome, bed) = run.run_to_end(observer)?;
+    // The airflow the load started with: solved again for the start's plenum air, unless that air was the same.
+    let start_sol = flow.first.take().unwrap_or(geometry_sol);
     let zones = zone_maps(&bed, &spec.run);
     let ready = outcome.ready();
     let cost = cost_of(&spec.prices, &ready);

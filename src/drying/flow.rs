@@ -38,6 +38,8 @@ pub struct SolvedFlow<'a> {
     pub bed_erh: Box<dyn Fn(f64) -> f64 + Send + Sync + 'a>,
     /// The last solution, for reports.
     pub last: Option<AirflowSolution>,
+    /// The first solution solved since this was last cleared (a load keeps the one for its start's plenum air).
+    pub first: Option<AirflowSolution>,
     /// Ambient and plenum air density and D272 factor the last solution was solved for; a request with the same
     /// three reuses it.
     pub last_key: Option<(f64, f64, f64)>,
@@ -72,6 +74,9 @@ impl FlowProvider for SolvedFlow<'_> {
         law.packing_factor *= factor;
         let sol = solve(self.container, &self.flow, &law, &path, &self.settings)?;
         let field = field_from_solution(&sol, self.efficiency);
+        if self.first.is_none() {
+            self.first = Some(sol.clone());
+        }
         self.last = Some(sol);
         self.last_key = Some(key);
         Ok(field)
