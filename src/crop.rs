@@ -193,10 +193,7 @@ impl Crop {
 
     /// Read and validate a crop file.
     pub fn load(path: &Path) -> Result<Crop, InputError> {
-        let text = std::fs::read_to_string(path).map_err(|source| InputError::Io {
-            path: path.to_path_buf(),
-            source,
-        })?;
+        let text = crate::input::read_text(path)?;
         Self::from_json_str(&text, path)
     }
 

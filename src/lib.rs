@@ -11,6 +11,7 @@ pub mod cli;
 pub mod crop;
 pub mod drying;
 pub mod error;
+pub mod input;
 pub mod models;
 pub mod outfile;
 pub mod props;

@@ -79,10 +79,7 @@ pub fn bundled_names(kind: &str) -> Vec<String> {
     Vec::new()
 }
 
-/// Read a whole text file, naming it on failure.
+/// Read a whole text file within the input limits, naming it on failure (see [`crate::input::read_text`]).
 pub fn read_text(path: &Path) -> Result<String, InputError> {
-    std::fs::read_to_string(path).map_err(|source| InputError::Io {
-        path: path.to_path_buf(),
-        source,
-    })
+    crate::input::read_text(path)
 }

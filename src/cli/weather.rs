@@ -134,11 +134,7 @@ fn read_options(r: &ReadArgs, default_year: Option<i32>) -> anyhow::Result<ReadO
 }
 
 fn load(path: &Path, r: &ReadArgs, from: Option<NaiveDate>) -> anyhow::Result<WeatherSeries> {
-    let text = std::fs::read(path).map_err(|source| crate::error::InputError::Io {
-        path: path.into(),
-        source,
-    })?;
-    let text = weather::series::text_from_bytes(path, &text)?;
+    let text = crate::input::read_text(path)?;
     let format = match r.format {
         FormatArg::Auto => weather::detect_format(path, &text),
         FormatArg::Epw => WeatherFormat::Epw,
@@ -286,11 +282,7 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         }
         (None, Some(path)) => {
             inputs.push(path);
-            let text =
-                std::fs::read_to_string(path).map_err(|source| crate::error::InputError::Io {
-                    path: path.clone(),
-                    source,
-                })?;
+            let text = crate::input::read_text(path)?;
             ClimateStats::from_json(path, &text)?
         }
         _ => anyhow::bail!("give exactly one of --from-sample FILE or --stats FILE.json"),

@@ -8,7 +8,7 @@
 //! moisture are truncated normals (resampled until inside their bounds). Random numbers: ChaCha8 from a seed,
 //! distributions from `statrs`.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Duration, FixedOffset};
 use rand::distr::Distribution;
@@ -185,11 +185,8 @@ pub fn read_arrivals_csv(
     path: &Path,
     range: Option<(DateTime<FixedOffset>, DateTime<FixedOffset>)>,
 ) -> Result<Vec<Load>, InputError> {
-    let f = std::fs::File::open(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
-    parse_arrivals_csv(path, f, range)
+    let bytes = crate::input::read_bytes(path)?;
+    parse_arrivals_csv(path, bytes.as_slice(), range)
 }
 
 /// Parameters of the arrivals generator. Defaults are our own, in the range the trade describes (common practice,

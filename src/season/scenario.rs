@@ -4,7 +4,7 @@
 //! Container and fan names are plain strings here; the integrator resolves them against the airflow models. No
 //! reference beyond the trade's own vocabulary (common practice, no source).
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Duration, FixedOffset};
 use serde::{Deserialize, Serialize};
@@ -330,10 +330,7 @@ impl BuyingPoint {
 
 /// Read and validate a scenario file.
 pub fn read_buying_point(path: &Path) -> Result<BuyingPoint, InputError> {
-    let text = std::fs::read_to_string(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
+    let text = crate::input::read_text(path)?;
     BuyingPoint::from_json(path, &text)
 }
 

@@ -6,7 +6,7 @@
 //! two air samples conserves water, so humidity ratio is the quantity to interpolate, and RH is derived from it
 //! (linear-within-the-hour forcing is common practice, no source; see DOMAIN.md §6 "Weather forcing").
 //! Psychrometrics: `props::psychro` (ASHRAE Handbook—Fundamentals 2017, ch. 1).
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Duration, FixedOffset, NaiveDate, TimeZone};
 
@@ -787,32 +787,15 @@ pub(crate) fn check_typical_year(path: &Path, year: i32) -> Result<(), InputErro
     Ok(())
 }
 
-/// Read a file to a string, naming it on failure; a UTF-8 byte-order mark is dropped.
+/// Read a file to a string within the input limits, naming it on failure; a UTF-8 byte-order mark is dropped
+/// (see [`crate::input::read_text`]).
 pub fn read_text(path: &Path) -> Result<String, InputError> {
-    let bytes = std::fs::read(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
-    text_from_bytes(path, &bytes)
+    crate::input::read_text(path)
 }
 
 /// Decode bytes as UTF-8 (dropping a byte-order mark), naming the file and line of the first bad byte.
 pub fn text_from_bytes(path: &Path, bytes: &[u8]) -> Result<String, InputError> {
-    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
-    match std::str::from_utf8(bytes) {
-        Ok(s) => Ok(s.to_string()),
-        Err(e) => {
-            let line = 1 + bytes[..e.valid_up_to()]
-                .iter()
-                .filter(|b| **b == b'\n')
-                .count() as u64;
-            Err(InputError::Parse {
-                path: path.to_path_buf(),
-                line: Some(line),
-                message: "is not UTF-8 text".into(),
-            })
-        }
-    }
+    crate::input::text_from_bytes(path, bytes)
 }
 
 #[cfg(test)]
