@@ -155,6 +155,21 @@ fn local_midnight(offset: FixedOffset, d: NaiveDate) -> chrono::DateTime<FixedOf
 
 fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     let full = load(&a.file, &a.read, a.from)?;
+    let warnings = full.warnings().to_vec();
+    let warnings_path = a.out.as_ref().map(|o| o.with_extension("warnings.txt"));
+    if let Some(first) = warnings.first() {
+        eprintln!(
+            "dryfront: warning: {}: {} values filled, recomputed or assumed (first: line {}, field {:?}); {}",
+            a.file.display(),
+            warnings.len(),
+            first.line,
+            first.field,
+            warnings_path.as_ref().map_or(
+                "--out FILE also writes the full list".to_string(),
+                |p| format!("full list in {}", p.display())
+            )
+        );
+    }
     for th in &a.rh_below {
         crate::error::check_range("--rh-below", *th, 0.0, 100.0, "%")?;
     }
@@ -263,6 +278,21 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
         let csv = series.to_csv(&[format!("cleaned from {}", a.file.display())]);
         write_atomic(out, csv.as_bytes(), &[&a.file])?;
         println!("wrote {} ({} h)", out.display(), series.len());
+        // Always written, so a list from an earlier run never stands beside a new series.
+        let list: String = std::iter::once(format!(
+            "# {} values filled, recomputed or assumed while reading {}\n",
+            warnings.len(),
+            a.file.display()
+        ))
+        .chain(warnings.iter().map(|w| format!("{w}\n")))
+        .collect();
+        let list_path = warnings_path.expect("set with --out");
+        write_atomic(&list_path, list.as_bytes(), &[&a.file])?;
+        println!(
+            "wrote {} ({} warnings)",
+            list_path.display(),
+            warnings.len()
+        );
     }
     Ok(())
 }

@@ -10,7 +10,8 @@ use std::path::Path;
 use chrono::{DateTime, FixedOffset, NaiveDate, NaiveDateTime, TimeZone};
 
 use super::series::{
-    self, humidity_from, number, Assembler, FieldNames, RawHour, ReadOptions, Site, WeatherSeries,
+    self, humidity_from, number, Assembler, FieldNames, Humidity, RawHour, ReadOptions,
+    ReadWarning, Site, WeatherSeries,
 };
 use crate::error::InputError;
 use crate::props::psychro;
@@ -178,6 +179,7 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
     let mut rows = Vec::with_capacity(body.len() / 40);
     let mut site_offset: Option<FixedOffset> = offset;
     let mut record = ::csv::StringRecord::new();
+    let mut warnings = Vec::new();
     loop {
         let more = rdr.read_record(&mut record).map_err(|e| {
             let line = e.position().map(|p| p.line() + skipped_lines);
@@ -248,7 +250,19 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             }
             None => (f64::NAN, "", String::new()),
         };
-        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, dew_name, &dew_text)?;
+        let rh = humidity_from(
+            path,
+            line,
+            Humidity {
+                t_c,
+                rh_pct,
+                dew_c,
+                rh_field: rh_col.map(|_| "rh_pct"),
+                dew_field: dew_name,
+                dew_text: &dew_text,
+            },
+            &mut warnings,
+        )?;
         let p_pa = match p_col {
             Some(i) => opt_num(i, "pressure_kpa", (50.0, 110.0), "kPa")? * 1000.0,
             None => f64::NAN,
@@ -288,6 +302,21 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             filled,
         });
     }
+    let default_p_pa = p_col
+        .is_none()
+        .then(|| psychro::pressure_at_elevation_pa(elevation_m.unwrap_or(0.0)));
+    if let Some(p0) = default_p_pa {
+        warnings.push(ReadWarning {
+            path: path.to_path_buf(),
+            line: header_line,
+            field: "pressure_kpa".into(),
+            message: format!(
+                "column absent: the standard atmosphere at {} m ({:.2} kPa) is used for every hour",
+                elevation_m.unwrap_or(0.0),
+                p0 / 1000.0
+            ),
+        });
+    }
     let site = Site {
         name: site_name,
         utc_offset: site_offset.unwrap_or_else(|| FixedOffset::east_opt(0).expect("zero offset")),
@@ -310,9 +339,8 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         rows,
         has_rain: rain_col.is_some(),
         has_wind: wind_col.is_some(),
-        default_p_pa: p_col
-            .is_none()
-            .then(|| psychro::pressure_at_elevation_pa(elevation_m.unwrap_or(0.0))),
+        default_p_pa,
+        warnings,
     };
     asm.finish(site, opts.max_gap_h)
 }

@@ -14,8 +14,8 @@ use std::path::Path;
 use chrono::{FixedOffset, NaiveDate};
 
 use super::series::{
-    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, RawHour,
-    ReadOptions, Site, WeatherSeries,
+    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, Humidity,
+    RawHour, ReadOptions, Site, WeatherSeries,
 };
 use crate::error::InputError;
 
@@ -140,6 +140,7 @@ pub fn parse_epw(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
     let mut prev_year: Option<(u64, i32, u32, u32)> = None;
     let mut has_rain = false;
     let mut has_wind = false;
+    let mut warnings = Vec::new();
     let mut f: Vec<&str> = Vec::with_capacity(EPW_FIELDS + 1);
     for (line, l) in lines {
         if l.trim().is_empty() {
@@ -276,11 +277,15 @@ pub fn parse_epw(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         let rh = humidity_from(
             path,
             line,
-            t_c,
-            rh_pct,
-            dew_c,
-            "dew point",
-            f[field::DEW_POINT],
+            Humidity {
+                t_c,
+                rh_pct,
+                dew_c,
+                rh_field: Some("relative humidity"),
+                dew_field: "dew point",
+                dew_text: f[field::DEW_POINT],
+            },
+            &mut warnings,
         )?;
         rows.push(RawHour {
             line,
@@ -308,6 +313,7 @@ pub fn parse_epw(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         has_rain,
         has_wind,
         default_p_pa: None,
+        warnings,
     }
     .finish(site, opts.max_gap_h)
 }

@@ -17,7 +17,9 @@ pub mod tmy3;
 
 pub use self::csv::{parse_csv, read_csv};
 pub use epw::{parse_epw, read_epw};
-pub use series::{AirSample, FillCounts, OutsideSeries, ReadOptions, Site, WeatherSeries};
+pub use series::{
+    AirSample, FillCounts, OutsideSeries, ReadOptions, ReadWarning, Site, WeatherSeries,
+};
 pub use summary::{summarize, DailyStats, Summary};
 pub use synth::{generate_season, generate_seasons, ClimateStats, MonthStats, SeasonPlan};
 pub use tmy3::{parse_tmy3, read_tmy3};

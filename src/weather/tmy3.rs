@@ -15,8 +15,8 @@ use std::path::Path;
 use chrono::NaiveDate;
 
 use super::series::{
-    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, RawHour,
-    ReadOptions, Site, WeatherSeries,
+    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, Humidity,
+    RawHour, ReadOptions, Site, WeatherSeries,
 };
 use crate::error::InputError;
 
@@ -111,6 +111,7 @@ pub fn parse_tmy3(
     );
     let c_wind = header.iter().position(|h| h == WIND);
     let mut rows = Vec::with_capacity(8760);
+    let mut warnings = Vec::new();
     while read(&mut rdr, &mut rec)? {
         let line = rec.position().map_or(0, |p| p.line());
         if rec.len() == 1 && rec[0].trim().is_empty() {
@@ -169,7 +170,19 @@ pub fn parse_tmy3(
             None => f64::NAN,
         };
         let rain_mm = f64::NAN;
-        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, DEW_POINT, rec[c_dp].trim())?;
+        let rh = humidity_from(
+            path,
+            line,
+            Humidity {
+                t_c,
+                rh_pct,
+                dew_c,
+                rh_field: Some(RH),
+                dew_field: DEW_POINT,
+                dew_text: rec[c_dp].trim(),
+            },
+            &mut warnings,
+        )?;
         rows.push(RawHour {
             line,
             time,
@@ -198,6 +211,7 @@ pub fn parse_tmy3(
         has_rain: false,
         has_wind: c_wind.is_some(),
         default_p_pa: None,
+        warnings,
     }
     .finish(
         Site {
