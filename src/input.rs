@@ -17,6 +17,11 @@ pub const MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
 /// line), so reading stops there instead of at [`MAX_FILE_BYTES`].
 pub const MAX_LINE_BYTES: usize = 1024 * 1024;
 
+/// What every comma-separated reader says about a semicolon-separated file: reading `;` as a separator would
+/// need decimal commas understood too, so such files are refused rather than half read.
+pub const SEMICOLON_HINT: &str =
+    "this reader expects comma-separated values (semicolon-separated files are not read; replace ';' with ',')";
+
 /// Read at most [`MAX_FILE_BYTES`] of a file, refusing a larger file or a line longer than [`MAX_LINE_BYTES`]
 /// (reading stops at the first such line).
 pub fn read_bytes(path: &Path) -> Result<Vec<u8>, InputError> {

@@ -2,7 +2,9 @@
 //! optional `# key=value` lines (`utc_offset`, `site`, `elevation_m`), a header row, a `timestamp` column in
 //! ISO 8601 (with or without a UTC offset), `temp_c` or `temp_f`, `rh_pct` and/or `dew_point_c`/`dew_point_f`, and
 //! optional `pressure_kpa`, `rain_mm`, `wind_m_s`, `filled`. Empty cells are missing values (filled if the gap is
-//! short). Commas only: a semicolon-delimited file is refused with a message saying so.
+//! short). Commas only: a semicolon-separated file is refused with a message saying so. A temperature column
+//! whose values do not fit its unit is refused (`series::check_temperature_unit`: °C under `temp_f`, °F under
+//! `temp_c`).
 //!
 //! Reference: ISO 8601 date and time formats; RFC 4180 CSV (parsed with the `csv` crate).
 use std::path::Path;
@@ -95,12 +97,10 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         .iter()
         .map(str::trim)
         .collect::<::csv::StringRecord>();
-    if headers.len() == 1 && headers[0].contains(';') {
+    if headers.iter().any(|h| h.contains(';')) {
         return Err(perr(
             Some(header_line),
-            "header has one column containing ';': this reader expects comma-separated values \
-             (semicolon-delimited files are not accepted; replace ';' with ',')"
-                .into(),
+            format!("header is separated by ';': {}", series::SEMICOLON_HINT),
         ));
     }
     let col = |name: &str| -> Result<Option<usize>, InputError> {
@@ -191,6 +191,12 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         let line = record.position().map_or(0, |p| p.line()) + skipped_lines;
         if record.len() == 1 && record[0].trim().is_empty() {
             continue; // blank line
+        }
+        if record.len() == 1 && record[0].contains(';') {
+            return Err(perr(
+                Some(line),
+                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
+            ));
         }
         if record.len() != headers.len() {
             return Err(perr(
@@ -302,6 +308,8 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             filled,
         });
     }
+    let t_values: Vec<f64> = rows.iter().map(|r| r.t_c).collect();
+    series::check_temperature_unit(path, header_line, temp_name, &t_values, temp_f)?;
     let default_p_pa = p_col
         .is_none()
         .then(|| psychro::pressure_at_elevation_pa(elevation_m.unwrap_or(0.0)));

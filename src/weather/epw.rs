@@ -678,6 +678,8 @@ pub fn parse_epw(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             ),
         ));
     }
+    let t_values: Vec<f64> = rows.iter().map(|r| r.t_c).collect();
+    series::check_temperature_unit(path, rows[0].line, "dry bulb", &t_values, false)?;
     let site = Site {
         name: header.name,
         utc_offset: offset,

@@ -38,7 +38,8 @@ pub enum WeatherFormat {
 }
 
 /// Guess the format: `.epw` extension or a first line starting with `LOCATION` → EPW; a first line of 7 fields
-/// whose first is a number (the TMY3 site line) → TMY3; anything else → our CSV.
+/// (by commas, or by semicolons when the line has no comma) whose first is a number (the TMY3 site line) → TMY3;
+/// anything else → our CSV.
 pub fn detect_format(path: &Path, text: &str) -> WeatherFormat {
     let first = text
         .trim_start_matches('\u{feff}')
@@ -51,7 +52,9 @@ pub fn detect_format(path: &Path, text: &str) -> WeatherFormat {
     if ext_epw || first.starts_with("LOCATION") {
         return WeatherFormat::Epw;
     }
-    let fields: Vec<&str> = first.split(',').collect();
+    // A semicolon-separated TMY3 site line is still recognised, so that its reader can say what is wrong.
+    let sep = if first.contains(',') { ',' } else { ';' };
+    let fields: Vec<&str> = first.split(sep).collect();
     if fields.len() == 7 && fields[0].trim().parse::<u64>().is_ok() {
         return WeatherFormat::Tmy3;
     }

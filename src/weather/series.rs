@@ -822,6 +822,68 @@ pub(crate) fn humidity_from(
     Ok(rh)
 }
 
+pub(crate) use crate::input::SEMICOLON_HINT;
+
+/// A dry-bulb median above this, °C, is taken for °F under a °C label: no weather station's monthly mean reaches
+/// 40 °C (from memory), so a whole record's median of 45 °C is not weather in °C, while 45–60 °F is ordinary.
+pub const MEDIAN_C_MAX: f64 = 45.0;
+/// A `temp_f` column whose median is below this, °F (freezing), while every value lies within [`T_RANGE_C`], is
+/// taken for °C under a °F label: ordinary weather in °C (say 5–30) read as °F is −15 to −1 °C, a record no drying
+/// season is run on; a genuine record below freezing is to be given in °C (`temp_c`).
+pub const MEDIAN_F_MIN: f64 = 32.0;
+
+/// Refuse a temperature column whose values do not fit its declared unit (see [`MEDIAN_C_MAX`], [`MEDIAN_F_MIN`]).
+/// `values_c` are the column's present values in °C; `declared_f` says the column was in °F; `line` is where the
+/// unit is declared (a header line) or, for formats fixed in °C, the first data row.
+pub(crate) fn check_temperature_unit(
+    path: &Path,
+    line: u64,
+    field: &str,
+    values_c: &[f64],
+    declared_f: bool,
+) -> Result<(), InputError> {
+    let mut v: Vec<f64> = values_c.iter().copied().filter(|x| !x.is_nan()).collect();
+    if v.is_empty() {
+        return Ok(());
+    }
+    v.sort_by(f64::total_cmp);
+    let median_c = if v.len() % 2 == 1 {
+        v[v.len() / 2]
+    } else {
+        0.5 * (v[v.len() / 2 - 1] + v[v.len() / 2])
+    };
+    let err = |value: String, expected: String| InputError::Field {
+        path: path.to_path_buf(),
+        line,
+        field: field.to_string(),
+        value,
+        expected,
+    };
+    if declared_f {
+        let to_f = crate::units::c_to_f;
+        let (lo, hi) = T_RANGE_C;
+        let fits_c = to_f(v[0]) >= lo && to_f(v[v.len() - 1]) <= hi;
+        if to_f(median_c) < MEDIAN_F_MIN && fits_c {
+            return Err(err(
+                format!("median {:.1} °F", to_f(median_c)),
+                format!(
+                    "is below freezing ({median_c:.1} °C) with every value within {lo}…{hi}: these look like °C \
+                     under a °F label; rename the column temp_c (a record truly below freezing: convert it to °C)"
+                ),
+            ));
+        }
+    } else if median_c > MEDIAN_C_MAX {
+        return Err(err(
+            format!("median {median_c:.1} °C"),
+            format!(
+                "is above {MEDIAN_C_MAX} °C, hotter than any station's monthly mean: these look like °F under a °C \
+                 label (for our CSV: name the column temp_f)"
+            ),
+        ));
+    }
+    Ok(())
+}
+
 /// Parse a number, checking its range.
 pub(crate) fn number(
     path: &Path,

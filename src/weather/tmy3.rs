@@ -75,6 +75,12 @@ pub fn parse_tmy3(
     if !read(&mut rdr, &mut rec)? {
         return Err(perr(None, "empty file: expected a TMY3 site line".into()));
     }
+    if rec.len() == 1 && rec[0].contains(';') {
+        return Err(perr(
+            Some(1),
+            format!("site line is separated by ';': {}", series::SEMICOLON_HINT),
+        ));
+    }
     if rec.len() != 7 {
         return Err(perr(
             Some(1),
@@ -95,6 +101,12 @@ pub fn parse_tmy3(
         ));
     }
     let header: ::csv::StringRecord = rec.iter().map(str::trim).collect();
+    if header.len() == 1 && header[0].contains(';') {
+        return Err(perr(
+            Some(2),
+            format!("header is separated by ';': {}", series::SEMICOLON_HINT),
+        ));
+    }
     let col = |name: &str| -> Result<usize, InputError> {
         header
             .iter()
@@ -116,6 +128,12 @@ pub fn parse_tmy3(
         let line = rec.position().map_or(0, |p| p.line());
         if rec.len() == 1 && rec[0].trim().is_empty() {
             continue;
+        }
+        if rec.len() == 1 && rec[0].contains(';') {
+            return Err(perr(
+                Some(line),
+                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
+            ));
         }
         if rec.len() != header.len() {
             return Err(perr(
@@ -197,6 +215,8 @@ pub fn parse_tmy3(
     if rows.is_empty() {
         return Err(perr(None, "no data rows after the TMY3 header".into()));
     }
+    let t_values: Vec<f64> = rows.iter().map(|r| r.t_c).collect();
+    series::check_temperature_unit(path, 2, DRY_BULB, &t_values, false)?;
     Assembler {
         path,
         names: FieldNames {
