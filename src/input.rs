@@ -22,6 +22,14 @@ pub const MAX_LINE_BYTES: usize = 1024 * 1024;
 pub const SEMICOLON_HINT: &str =
     "this reader expects comma-separated values (semicolon-separated files are not read; replace ';' with ',')";
 
+/// What every comma-separated reader says about a tab-separated file.
+pub const TAB_HINT: &str = "this reader expects comma-separated values (replace each tab with ',')";
+
+/// What every comma-separated reader says about a field that holds a line end: a quote opened and never closed
+/// swallows the following lines into one field.
+pub const UNCLOSED_QUOTE: &str =
+    "a quoted field starting on this line runs past its line end: is a '\"' left unclosed?";
+
 /// Read at most [`MAX_FILE_BYTES`] of a file, refusing a larger file or a line longer than [`MAX_LINE_BYTES`]
 /// (reading stops at the first such line).
 pub fn read_bytes(path: &Path) -> Result<Vec<u8>, InputError> {

@@ -325,7 +325,8 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         days: a.days,
         seed: a.seed,
     };
-    let seasons = weather::generate_seasons(&stats, &plan, a.seasons)?;
+    let seasons = weather::generate_seasons(&stats, &plan, a.seasons)
+        .with_context(|| format!("{}: field \"months\"", inputs[0].display()))?;
     let json = serde_json::to_string_pretty(&stats)? + "\n";
     write_atomic(&a.out.join("stats.json"), json.as_bytes(), &inputs)?;
     for (i, s) in seasons.iter().enumerate() {

@@ -17,7 +17,7 @@ use rand_chacha::ChaCha8Rng;
 use statrs::distribution::Normal;
 
 use crate::error::InputError;
-use crate::input::SEMICOLON_HINT;
+use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
 
 /// One load of farmer-stock peanuts.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -79,6 +79,12 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
                 .into(),
         ));
     }
+    if headers.iter().any(|h| h.contains('\t')) {
+        return Err(perr(
+            Some(header_line),
+            format!("header is separated by tabs: {TAB_HINT}"),
+        ));
+    }
     if headers.iter().any(|h| h.contains(';')) {
         return Err(perr(
             Some(header_line),
@@ -110,6 +116,9 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
     for rec in rdr.records() {
         let rec = rec.map_err(parse_err)?;
         let line = rec.position().map(|p| p.line()).unwrap_or(0);
+        if rec.iter().any(|f| f.contains('\n')) {
+            return Err(perr(Some(line), UNCLOSED_QUOTE.into()));
+        }
         if rec.len() == 1 && rec[0].contains(';') {
             return Err(perr(
                 Some(line),

@@ -97,6 +97,12 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         .iter()
         .map(str::trim)
         .collect::<::csv::StringRecord>();
+    if headers.iter().any(|h| h.contains('\t')) {
+        return Err(perr(
+            Some(header_line),
+            format!("header is separated by tabs: {}", series::TAB_HINT),
+        ));
+    }
     if headers.iter().any(|h| h.contains(';')) {
         return Err(perr(
             Some(header_line),
@@ -191,6 +197,9 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         let line = record.position().map_or(0, |p| p.line()) + skipped_lines;
         if record.len() == 1 && record[0].trim().is_empty() {
             continue; // blank line
+        }
+        if record.iter().any(|f| f.contains('\n')) {
+            return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
         }
         if record.len() == 1 && record[0].contains(';') {
             return Err(perr(

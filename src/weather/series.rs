@@ -822,7 +822,7 @@ pub(crate) fn humidity_from(
     Ok(rh)
 }
 
-pub(crate) use crate::input::SEMICOLON_HINT;
+pub(crate) use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
 
 /// A dry-bulb median above this, °C, is taken for °F under a °C label: no weather station's monthly mean reaches
 /// 40 °C (from memory), so a whole record's median of 45 °C is not weather in °C, while 45–60 °F is ordinary.
@@ -873,11 +873,16 @@ pub(crate) fn check_temperature_unit(
             ));
         }
     } else if median_c > MEDIAN_C_MAX {
+        let fix = if field == "temp_c" {
+            "name the column temp_f"
+        } else {
+            "this format holds °C"
+        };
         return Err(err(
             format!("median {median_c:.1} °C"),
             format!(
-                "is above {MEDIAN_C_MAX} °C, hotter than any station's monthly mean: these look like °F under a °C \
-                 label (for our CSV: name the column temp_f)"
+                "is above {MEDIAN_C_MAX} °C, hotter than any station's monthly mean: these look like °F, not °C \
+                 ({fix})"
             ),
         ));
     }
