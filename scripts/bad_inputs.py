@@ -349,6 +349,7 @@ warr("moisture_50.csv", arr(arr_row(1, moisture="50")))
 warr("moisture_2.csv", arr(arr_row(1, moisture="2")))
 warr("moisture_text.csv", arr(arr_row(1, moisture="wet")))
 warr("not_utf8.csv", (ARR_HEAD + arr_row(1)).encode().replace(b"C001", b"C\xff01"))
+warr("unclosed_quote_in_header.csv", 'load_id,"arrival,net_mass_kg\nC001,2026-09-17T14:00:00-04:00,4200,20,\n')
 warr("tab_separated.csv", (ARR_HEAD + arr_row(1)).replace(",", "\t"))
 warr("unterminated_quote.csv", arr(arr_row(1) + '"C002,2026-09-18T14:00:00-04:00,4200,20,\n' + arr_row(3)))
 

@@ -79,6 +79,9 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
                 .into(),
         ));
     }
+    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
+        return Err(perr(Some(header_line), UNCLOSED_QUOTE.into()));
+    }
     if headers.iter().any(|h| h.contains('\t')) {
         return Err(perr(
             Some(header_line),
@@ -116,7 +119,7 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
     for rec in rdr.records() {
         let rec = rec.map_err(parse_err)?;
         let line = rec.position().map(|p| p.line()).unwrap_or(0);
-        if rec.iter().any(|f| f.contains('\n')) {
+        if rec.iter().any(|f| f.contains(['\n', '\r'])) {
             return Err(perr(Some(line), UNCLOSED_QUOTE.into()));
         }
         if rec.len() == 1 && rec[0].contains(';') {

@@ -198,7 +198,7 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         if record.len() == 1 && record[0].trim().is_empty() {
             continue; // blank line
         }
-        if record.iter().any(|f| f.contains('\n')) {
+        if record.iter().any(|f| f.contains(['\n', '\r'])) {
             return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
         }
         if record.len() == 1 && record[0].contains(';') {

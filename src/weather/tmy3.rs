@@ -129,7 +129,7 @@ pub fn parse_tmy3(
         if rec.len() == 1 && rec[0].trim().is_empty() {
             continue;
         }
-        if rec.iter().any(|f| f.contains('\n')) {
+        if rec.iter().any(|f| f.contains(['\n', '\r'])) {
             return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
         }
         if rec.len() == 1 && rec[0].contains(';') {
