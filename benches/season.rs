@@ -75,6 +75,7 @@ fn deep_bed(c: &mut Criterion) {
     .0;
     let (template, _) = season_template(
         &bp,
+        std::path::Path::new("wrenfield.json"),
         "peanut-inshell",
         Arc::new(weather),
         &SeasonRunSettings::default(),

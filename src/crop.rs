@@ -161,7 +161,7 @@ impl Crop {
     /// `models`).
     pub fn load_named(name_or_path: &str) -> Result<Crop, InputError> {
         let path = crate::models::resolve("crops", name_or_path, "--crop")?;
-        Self::from_json_str(&crate::models::read_text(&path)?, &path)
+        Self::from_json_str(&crate::input::read_text(&path)?, &path)
     }
 
     /// Parse and validate crop JSON text; `path` is used in error messages.

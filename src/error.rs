@@ -39,8 +39,9 @@ pub enum InputError {
         /// What the parser said.
         message: String,
     },
-    /// A file could not be read.
-    #[error("cannot read {}: {source}", .path.display())]
+    /// A file could not be read. The operating system's reason is the error's source (the CLI prints the chain,
+    /// so it is not repeated in this message).
+    #[error("cannot read {}", .path.display())]
     Io {
         /// The file.
         path: PathBuf,

@@ -78,11 +78,3 @@ pub fn bundled_names(kind: &str) -> Vec<String> {
     }
     Vec::new()
 }
-
-/// Read a whole text file, naming it on failure.
-pub fn read_text(path: &Path) -> Result<String, InputError> {
-    std::fs::read_to_string(path).map_err(|source| InputError::Io {
-        path: path.to_path_buf(),
-        source,
-    })
-}

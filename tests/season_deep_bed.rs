@@ -28,8 +28,14 @@ fn drier(settings: SeasonRunSettings) -> (BuyingPoint, DeepBedDrier) {
     let weather = dryfront::weather::read(path.as_ref(), None, &Default::default())
         .unwrap()
         .0;
-    let (template, _) =
-        season_template(&bp, "peanut-inshell", Arc::new(weather), &settings).unwrap();
+    let (template, _) = season_template(
+        &bp,
+        std::path::Path::new("bp.json"),
+        "peanut-inshell",
+        Arc::new(weather),
+        &settings,
+    )
+    .unwrap();
     (bp, DeepBedDrier { template })
 }
 

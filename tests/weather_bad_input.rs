@@ -59,6 +59,13 @@ fn epw_row(hour: u32, t: &str, rh: &str) -> String {
     f.join(",") + "\n"
 }
 
+/// A whole day of EPW rows (the header's data period is 9/1 to 9/1), with row `hour` given dry bulb `t`.
+fn epw_day_with(hour: u32, t: &str) -> String {
+    (1..=24)
+        .map(|h| epw_row(h, if h == hour { t } else { "20.0" }, "60"))
+        .collect()
+}
+
 fn tmy3(time: &str) -> String {
     let hdr =
         "Date (MM/DD/YYYY),Time (HH:MM),Dry-bulb (C),Dew-point (C),RHum (%),Pressure (mbar)\n";
@@ -93,7 +100,7 @@ fn bad_cases() -> Vec<(&'static str, Vec<u8>, Vec<&'static str>)> {
         ("rh_140.epw", c(format!("{}{}{}", epw_header(), epw_row(1, "20.0", "60"), epw_row(2, "20.0", "140"))), vec![":10:", "field \"relative humidity\": \"140\""]),
         ("short_row.epw", c(format!("{}{}2026,9,1,2,60,?,20\n", epw_header(), epw_row(1, "20.0", "60"))), vec![":10:", "expected 35 fields in an EPW data row, found 7"]),
         ("no_location.epw", c(format!("HELLO\n{}", epw_row(1, "20", "50"))), vec![":1:", "LOCATION"]),
-        ("missing_first.epw", c(format!("{}{}{}", epw_header(), epw_row(1, "99.9", "60"), epw_row(2, "20.0", "60"))), vec![":9:", "field \"dry bulb\"", "start of the file"]),
+        ("missing_first.epw", c(format!("{}{}", epw_header(), epw_day_with(1, "99.9"))), vec![":9:", "field \"dry bulb\"", "start of the file"]),
         ("header_only.epw", c(epw_header()), vec!["header_only.epw", "no data rows"]),
         ("bad_time.csv", c(tmy3("25:00")), vec![":4:", "field \"Time (HH:MM)\": \"25:00\""]),
         ("bad_drybulb.csv", c(tmy3("02:00").replace("01/01/1988,02:00,10.0", "01/01/1988,02:00,x")), vec![":4:", "field \"Dry-bulb (C)\": \"x\" is not a number"]),
@@ -181,16 +188,11 @@ fn bom_crlf_and_a_dew_point_within_tolerance_are_accepted() {
     let crlf_epw = write_case(
         dir.path(),
         "crlf.epw",
-        format!(
-            "{}{}{}",
-            epw_header(),
-            epw_row(1, "20", "50"),
-            epw_row(2, "20", "50")
-        )
-        .replace('\n', "\r\n")
-        .as_bytes(),
+        format!("{}{}", epw_header(), epw_day_with(0, ""))
+            .replace('\n', "\r\n")
+            .as_bytes(),
     );
-    assert_eq!(read(&crlf_epw).unwrap().len(), 2);
+    assert_eq!(read(&crlf_epw).unwrap().len(), 24);
     // Dew point 0.4 K above the dry bulb: within the 0.5 K tolerance, RH clamped to 100 %.
     let dew = write_case(
         dir.path(),

@@ -147,10 +147,7 @@ fn resolve(models: &Path, kind: &str, name: &str) -> PathBuf {
 }
 
 fn read(path: &Path) -> Result<String, InputError> {
-    std::fs::read_to_string(path).map_err(|source| InputError::Io {
-        path: path.to_path_buf(),
-        source,
-    })
+    crate::input::read_text(path)
 }
 
 fn mean_depth(c: &Container) -> f64 {

@@ -289,6 +289,7 @@ fn heaters_line(bp: &BuyingPoint) -> String {
 
 fn template(
     bp: &BuyingPoint,
+    bp_path: &Path,
     opts: &DeepBedOptions,
     weather: WeatherSeries,
     force: bool,
@@ -298,7 +299,14 @@ fn template(
         force,
         ..SeasonRunSettings::default()
     };
-    Ok(season_template(bp, &opts.crop, std::sync::Arc::new(weather), &settings)?.0)
+    Ok(season_template(
+        bp,
+        bp_path,
+        &opts.crop,
+        std::sync::Arc::new(weather),
+        &settings,
+    )?
+    .0)
 }
 
 fn make_drier<'a>(
@@ -386,7 +394,7 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
         DrierChoice::DeepBed => {
             let path = a.weather.clone().unwrap_or_else(default_weather);
             let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
-            Some(template(&bp, &a.models, weather, a.force)?)
+            Some(template(&bp, &a.scenario, &a.models, weather, a.force)?)
         }
         DrierChoice::RateRule => None,
     };
@@ -509,7 +517,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     let models: Vec<LoadTemplate> = match choice {
         DrierChoice::DeepBed => {
             let path = a.weather_stats.clone().unwrap_or_else(default_stats);
-            let stats = ClimateStats::from_json(&path, &crate::models::read_text(&path)?)?;
+            let stats = ClimateStats::from_json(&path, &crate::input::read_text(&path)?)?;
             // Each season gets its own generated weather, a week longer than the season so late loads finish.
             let plan = SeasonPlan {
                 start: bp.season.start.date_naive(),
@@ -519,7 +527,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             let seasons = generate_seasons(&stats, &plan, a.seasons as u64)?;
             seasons
                 .into_iter()
-                .map(|w| template(&bp, &a.models, w, a.force))
+                .map(|w| template(&bp, &a.scenario, &a.models, w, a.force))
                 .collect::<anyhow::Result<_>>()?
         }
         DrierChoice::RateRule => Vec::new(),

@@ -134,11 +134,7 @@ fn read_options(r: &ReadArgs, default_year: Option<i32>) -> anyhow::Result<ReadO
 }
 
 fn load(path: &Path, r: &ReadArgs, from: Option<NaiveDate>) -> anyhow::Result<WeatherSeries> {
-    let text = std::fs::read(path).map_err(|source| crate::error::InputError::Io {
-        path: path.into(),
-        source,
-    })?;
-    let text = weather::series::text_from_bytes(path, &text)?;
+    let text = crate::input::read_text(path)?;
     let format = match r.format {
         FormatArg::Auto => weather::detect_format(path, &text),
         FormatArg::Epw => WeatherFormat::Epw,
@@ -159,6 +155,21 @@ fn local_midnight(offset: FixedOffset, d: NaiveDate) -> chrono::DateTime<FixedOf
 
 fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     let full = load(&a.file, &a.read, a.from)?;
+    let warnings = full.warnings().to_vec();
+    let warnings_path = a.out.as_ref().map(|o| o.with_extension("warnings.txt"));
+    if let Some(first) = warnings.first() {
+        eprintln!(
+            "dryfront: warning: {}: {} values filled, recomputed or assumed (first: line {}, field {:?}); {}",
+            a.file.display(),
+            warnings.len(),
+            first.line,
+            first.field,
+            warnings_path.as_ref().map_or(
+                "--out FILE also writes the full list".to_string(),
+                |p| format!("full list in {}", p.display())
+            )
+        );
+    }
     for th in &a.rh_below {
         crate::error::check_range("--rh-below", *th, 0.0, 100.0, "%")?;
     }
@@ -267,6 +278,21 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
         let csv = series.to_csv(&[format!("cleaned from {}", a.file.display())]);
         write_atomic(out, csv.as_bytes(), &[&a.file])?;
         println!("wrote {} ({} h)", out.display(), series.len());
+        // Always written, so a list from an earlier run never stands beside a new series.
+        let list: String = std::iter::once(format!(
+            "# {} values filled, recomputed or assumed while reading {}\n",
+            warnings.len(),
+            a.file.display()
+        ))
+        .chain(warnings.iter().map(|w| format!("{w}\n")))
+        .collect();
+        let list_path = warnings_path.expect("set with --out");
+        write_atomic(&list_path, list.as_bytes(), &[&a.file])?;
+        println!(
+            "wrote {} ({} warnings)",
+            list_path.display(),
+            warnings.len()
+        );
     }
     Ok(())
 }
@@ -286,11 +312,7 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         }
         (None, Some(path)) => {
             inputs.push(path);
-            let text =
-                std::fs::read_to_string(path).map_err(|source| crate::error::InputError::Io {
-                    path: path.clone(),
-                    source,
-                })?;
+            let text = crate::input::read_text(path)?;
             ClimateStats::from_json(path, &text)?
         }
         _ => anyhow::bail!("give exactly one of --from-sample FILE or --stats FILE.json"),
@@ -303,7 +325,8 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         days: a.days,
         seed: a.seed,
     };
-    let seasons = weather::generate_seasons(&stats, &plan, a.seasons)?;
+    let seasons = weather::generate_seasons(&stats, &plan, a.seasons)
+        .with_context(|| format!("{}: field \"months\"", inputs[0].display()))?;
     let json = serde_json::to_string_pretty(&stats)? + "\n";
     write_atomic(&a.out.join("stats.json"), json.as_bytes(), &inputs)?;
     for (i, s) in seasons.iter().enumerate() {

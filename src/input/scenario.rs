@@ -18,8 +18,9 @@ use crate::drying::heater::{Fuel, SafetyWarning, StrategySpec};
 use crate::drying::material::CropMaterial;
 use crate::drying::run::{RunSettings, StopRule};
 use crate::error::InputError;
+use crate::input::read_text;
 use crate::load::{checked_heater, AirflowUpdates, FillSpec, LoadSpec, Prices};
-use crate::models::{read_text, resolve};
+use crate::models::resolve;
 use crate::weather::series::ReadOptions;
 
 /// The scenario file as written.

@@ -5,6 +5,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
+use super::field_err;
 use super::scenario::{
     read_container, read_crop, read_fan, DEFAULT_FAN_EFFICIENCY, DEFAULT_MOTOR_EFFICIENCY,
 };
@@ -15,8 +16,8 @@ use crate::drying::heater::Fuel;
 use crate::drying::material::CropMaterial;
 use crate::drying::run::RunSettings;
 use crate::error::InputError;
+use crate::input::read_text;
 use crate::load::{AirflowUpdates, Prices};
-use crate::models::read_text;
 use crate::season::drier::LoadTemplate;
 use crate::season::scenario::BuyingPoint;
 use crate::weather::series::WeatherSeries;
@@ -60,6 +61,7 @@ impl Default for SeasonRunSettings {
 /// files read.
 pub fn season_template(
     bp: &BuyingPoint,
+    bp_path: &Path,
     crop: &str,
     weather: Arc<WeatherSeries>,
     settings: &SeasonRunSettings,
@@ -68,14 +70,18 @@ pub fn season_template(
     let mut inputs = vec![crop_path];
     let mut containers = BTreeMap::new();
     let mut fans = BTreeMap::new();
-    for d in &bp.dryers {
+    for (i, d) in bp.dryers.iter().enumerate() {
+        let named = |field: &str| {
+            let field = format!("dryers[{i}].{field}");
+            move |e: InputError| field_err(bp_path, field, e.to_string())
+        };
         if !containers.contains_key(&d.container) {
-            let (c, p) = read_container(&d.container, &format!("dryer {} container", d.id))?;
+            let (c, p) = read_container(&d.container, "container").map_err(named("container"))?;
             containers.insert(d.container.clone(), Arc::new(c));
             inputs.push(p);
         }
         if !fans.contains_key(&d.fan) {
-            let (f, p) = read_fan(&d.fan, &format!("dryer {} fan", d.id))?;
+            let (f, p) = read_fan(&d.fan, "fan").map_err(named("fan"))?;
             fans.insert(d.fan.clone(), FlowSpec::Fan(f));
             inputs.push(p);
         }

@@ -8,7 +8,7 @@
 //! moisture are truncated normals (resampled until inside their bounds). Random numbers: ChaCha8 from a seed,
 //! distributions from `statrs`.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use chrono::{DateTime, Duration, FixedOffset};
 use rand::distr::Distribution;
@@ -17,6 +17,7 @@ use rand_chacha::ChaCha8Rng;
 use statrs::distribution::Normal;
 
 use crate::error::InputError;
+use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
 
 /// One load of farmer-stock peanuts.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -46,7 +47,8 @@ fn field(path: &Path, line: u64, name: &str, value: &str, expected: &str) -> Inp
     }
 }
 
-/// Parse an arrivals CSV. `range` is the weather record's `[start, end)`: each arrival must fall inside it.
+/// Parse an arrivals CSV. `range` is the weather record's `[start, end)`: each arrival must fall inside it. A row
+/// with more fields than the header, a semicolon-separated file and a file without loads are errors.
 /// Loads come back sorted by arrival (stable, so file order breaks ties).
 pub fn parse_arrivals_csv<R: std::io::Read>(
     path: &Path,
@@ -64,6 +66,34 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         message: e.to_string(),
     };
     let headers = rdr.headers().map_err(parse_err)?.clone();
+    let header_line = headers.position().map_or(1, |p| p.line());
+    let perr = |line: Option<u64>, message: String| InputError::Parse {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    if headers.iter().all(str::is_empty) {
+        return Err(perr(
+            None,
+            "empty file: expected a header row (load_id, arrival, net_mass_kg, kernel_moisture_pct[, notes])"
+                .into(),
+        ));
+    }
+    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
+        return Err(perr(Some(header_line), UNCLOSED_QUOTE.into()));
+    }
+    if headers.iter().any(|h| h.contains('\t')) {
+        return Err(perr(
+            Some(header_line),
+            format!("header is separated by tabs: {TAB_HINT}"),
+        ));
+    }
+    if headers.iter().any(|h| h.contains(';')) {
+        return Err(perr(
+            Some(header_line),
+            format!("header is separated by ';': {SEMICOLON_HINT}"),
+        ));
+    }
     let col = |name: &str| headers.iter().position(|h| h == name);
     let mut idx = [0usize; 4];
     for (k, name) in ["load_id", "arrival", "net_mass_kg", "kernel_moisture_pct"]
@@ -73,7 +103,7 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         idx[k] = col(name).ok_or_else(|| {
             field(
                 path,
-                1,
+                header_line,
                 name,
                 "",
                 &format!(
@@ -89,6 +119,28 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
     for rec in rdr.records() {
         let rec = rec.map_err(parse_err)?;
         let line = rec.position().map(|p| p.line()).unwrap_or(0);
+        if rec.iter().any(|f| f.contains(['\n', '\r'])) {
+            return Err(perr(Some(line), UNCLOSED_QUOTE.into()));
+        }
+        if rec.len() == 1 && rec[0].contains(';') {
+            return Err(perr(
+                Some(line),
+                format!("row is separated by ';': {SEMICOLON_HINT}"),
+            ));
+        }
+        if rec.len() > headers.len() {
+            // Never cut silently: an extra field usually means a comma inside a value or a shifted row.
+            let k = headers.len();
+            return Err(perr(
+                Some(line),
+                format!(
+                    "field {} ({:?}) has no column: the header names {k} ({})",
+                    k + 1,
+                    &rec[k],
+                    headers.iter().collect::<Vec<_>>().join(", ")
+                ),
+            ));
+        }
         let get = |k: usize, name: &str| {
             rec.get(idx[k])
                 .ok_or_else(|| field(path, line, name, "", "is missing on this line"))
@@ -176,6 +228,12 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
             notes,
         });
     }
+    if loads.is_empty() {
+        return Err(perr(
+            None,
+            "no loads: the file has a header but no rows".into(),
+        ));
+    }
     loads.sort_by_key(|l| l.arrival);
     Ok(loads)
 }
@@ -185,11 +243,8 @@ pub fn read_arrivals_csv(
     path: &Path,
     range: Option<(DateTime<FixedOffset>, DateTime<FixedOffset>)>,
 ) -> Result<Vec<Load>, InputError> {
-    let f = std::fs::File::open(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
-    parse_arrivals_csv(path, f, range)
+    let text = crate::input::read_text(path)?;
+    parse_arrivals_csv(path, text.as_bytes(), range)
 }
 
 /// Parameters of the arrivals generator. Defaults are our own, in the range the trade describes (common practice,

@@ -2,7 +2,9 @@
 //! optional `# key=value` lines (`utc_offset`, `site`, `elevation_m`), a header row, a `timestamp` column in
 //! ISO 8601 (with or without a UTC offset), `temp_c` or `temp_f`, `rh_pct` and/or `dew_point_c`/`dew_point_f`, and
 //! optional `pressure_kpa`, `rain_mm`, `wind_m_s`, `filled`. Empty cells are missing values (filled if the gap is
-//! short). Commas only: a semicolon-delimited file is refused with a message saying so.
+//! short). Commas only: a semicolon-separated file is refused with a message saying so. A temperature column
+//! whose values do not fit its unit is refused (`series::check_temperature_unit`: °C under `temp_f`, °F under
+//! `temp_c`).
 //!
 //! Reference: ISO 8601 date and time formats; RFC 4180 CSV (parsed with the `csv` crate).
 use std::path::Path;
@@ -10,7 +12,8 @@ use std::path::Path;
 use chrono::{DateTime, FixedOffset, NaiveDate, NaiveDateTime, TimeZone};
 
 use super::series::{
-    self, humidity_from, number, Assembler, FieldNames, RawHour, ReadOptions, Site, WeatherSeries,
+    self, humidity_from, number, Assembler, FieldNames, Humidity, RawHour, ReadOptions,
+    ReadWarning, Site, WeatherSeries,
 };
 use crate::error::InputError;
 use crate::props::psychro;
@@ -32,7 +35,7 @@ const KNOWN: [&str; 11] = [
 
 /// Read a weather CSV of the project's schema.
 pub fn read_csv(path: &Path, opts: &ReadOptions) -> Result<WeatherSeries, InputError> {
-    let text = series::read_text(path)?;
+    let text = crate::input::read_text(path)?;
     parse_csv(path, &text, opts)
 }
 
@@ -94,12 +97,16 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         .iter()
         .map(str::trim)
         .collect::<::csv::StringRecord>();
-    if headers.len() == 1 && headers[0].contains(';') {
+    if headers.iter().any(|h| h.contains('\t')) {
         return Err(perr(
             Some(header_line),
-            "header has one column containing ';': this reader expects comma-separated values \
-             (semicolon-delimited files are not accepted; replace ';' with ',')"
-                .into(),
+            format!("header is separated by tabs: {}", series::TAB_HINT),
+        ));
+    }
+    if headers.iter().any(|h| h.contains(';')) {
+        return Err(perr(
+            Some(header_line),
+            format!("header is separated by ';': {}", series::SEMICOLON_HINT),
         ));
     }
     let col = |name: &str| -> Result<Option<usize>, InputError> {
@@ -178,6 +185,7 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
     let mut rows = Vec::with_capacity(body.len() / 40);
     let mut site_offset: Option<FixedOffset> = offset;
     let mut record = ::csv::StringRecord::new();
+    let mut warnings = Vec::new();
     loop {
         let more = rdr.read_record(&mut record).map_err(|e| {
             let line = e.position().map(|p| p.line() + skipped_lines);
@@ -189,6 +197,15 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         let line = record.position().map_or(0, |p| p.line()) + skipped_lines;
         if record.len() == 1 && record[0].trim().is_empty() {
             continue; // blank line
+        }
+        if record.iter().any(|f| f.contains(['\n', '\r'])) {
+            return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
+        }
+        if record.len() == 1 && record[0].contains(';') {
+            return Err(perr(
+                Some(line),
+                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
+            ));
         }
         if record.len() != headers.len() {
             return Err(perr(
@@ -248,7 +265,19 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             }
             None => (f64::NAN, "", String::new()),
         };
-        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, dew_name, &dew_text)?;
+        let rh = humidity_from(
+            path,
+            line,
+            Humidity {
+                t_c,
+                rh_pct,
+                dew_c,
+                rh_field: rh_col.map(|_| "rh_pct"),
+                dew_field: dew_name,
+                dew_text: &dew_text,
+            },
+            &mut warnings,
+        )?;
         let p_pa = match p_col {
             Some(i) => opt_num(i, "pressure_kpa", (50.0, 110.0), "kPa")? * 1000.0,
             None => f64::NAN,
@@ -288,6 +317,23 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             filled,
         });
     }
+    let t_values: Vec<f64> = rows.iter().map(|r| r.t_c).collect();
+    series::check_temperature_unit(path, header_line, temp_name, &t_values, temp_f)?;
+    let default_p_pa = p_col
+        .is_none()
+        .then(|| psychro::pressure_at_elevation_pa(elevation_m.unwrap_or(0.0)));
+    if let Some(p0) = default_p_pa {
+        warnings.push(ReadWarning {
+            path: path.to_path_buf(),
+            line: header_line,
+            field: "pressure_kpa".into(),
+            message: format!(
+                "column absent: the standard atmosphere at {} m ({:.2} kPa) is used for every hour",
+                elevation_m.unwrap_or(0.0),
+                p0 / 1000.0
+            ),
+        });
+    }
     let site = Site {
         name: site_name,
         utc_offset: site_offset.unwrap_or_else(|| FixedOffset::east_opt(0).expect("zero offset")),
@@ -310,9 +356,8 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
         rows,
         has_rain: rain_col.is_some(),
         has_wind: wind_col.is_some(),
-        default_p_pa: p_col
-            .is_none()
-            .then(|| psychro::pressure_at_elevation_pa(elevation_m.unwrap_or(0.0))),
+        default_p_pa,
+        warnings,
     };
     asm.finish(site, opts.max_gap_h)
 }

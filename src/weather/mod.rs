@@ -17,7 +17,9 @@ pub mod tmy3;
 
 pub use self::csv::{parse_csv, read_csv};
 pub use epw::{parse_epw, read_epw};
-pub use series::{AirSample, FillCounts, OutsideSeries, ReadOptions, Site, WeatherSeries};
+pub use series::{
+    AirSample, FillCounts, OutsideSeries, ReadOptions, ReadWarning, Site, WeatherSeries,
+};
 pub use summary::{summarize, DailyStats, Summary};
 pub use synth::{generate_season, generate_seasons, ClimateStats, MonthStats, SeasonPlan};
 pub use tmy3::{parse_tmy3, read_tmy3};
@@ -36,7 +38,8 @@ pub enum WeatherFormat {
 }
 
 /// Guess the format: `.epw` extension or a first line starting with `LOCATION` → EPW; a first line of 7 fields
-/// whose first is a number (the TMY3 site line) → TMY3; anything else → our CSV.
+/// (by commas, or by semicolons when the line has no comma) whose first is a number (the TMY3 site line) → TMY3;
+/// anything else → our CSV.
 pub fn detect_format(path: &Path, text: &str) -> WeatherFormat {
     let first = text
         .trim_start_matches('\u{feff}')
@@ -49,7 +52,9 @@ pub fn detect_format(path: &Path, text: &str) -> WeatherFormat {
     if ext_epw || first.starts_with("LOCATION") {
         return WeatherFormat::Epw;
     }
-    let fields: Vec<&str> = first.split(',').collect();
+    // A semicolon-separated TMY3 site line is still recognised, so that its reader can say what is wrong.
+    let sep = if first.contains(',') { ',' } else { ';' };
+    let fields: Vec<&str> = first.split(sep).collect();
     if fields.len() == 7 && fields[0].trim().parse::<u64>().is_ok() {
         return WeatherFormat::Tmy3;
     }
@@ -76,7 +81,7 @@ pub fn read(
     format: Option<WeatherFormat>,
     opts: &ReadOptions,
 ) -> Result<(WeatherSeries, WeatherFormat), InputError> {
-    let text = series::read_text(path)?;
+    let text = crate::input::read_text(path)?;
     let format = format.unwrap_or_else(|| detect_format(path, &text));
     Ok((parse(path, &text, format, opts)?, format))
 }

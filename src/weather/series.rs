@@ -81,6 +81,34 @@ pub struct FillCounts {
     pub wind: usize,
 }
 
+/// A value the reader supplied or recomputed instead of reading it as written: an hour filled by interpolation, a
+/// humidity recomputed from the dew point, a pressure assumed from the elevation. Readers return these with the
+/// series ([`WeatherSeries::warnings`]) so that every changed hour can be located in the file.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct ReadWarning {
+    /// The file.
+    pub path: PathBuf,
+    /// 1-based line the value belongs to (for a whole absent hour: the line after the gap).
+    pub line: u64,
+    /// The column or field, as the file names it.
+    pub field: String,
+    /// What was done.
+    pub message: String,
+}
+
+impl std::fmt::Display for ReadWarning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "{}:{}: field {:?}: {}",
+            self.path.display(),
+            self.line,
+            self.field,
+            self.message
+        )
+    }
+}
+
 /// An hourly weather series on a regular grid.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WeatherSeries {
@@ -95,6 +123,7 @@ pub struct WeatherSeries {
     filled: Vec<bool>,
     fill_counts: FillCounts,
     pressure_assumed: bool,
+    warnings: Vec<ReadWarning>,
 }
 
 impl WeatherSeries {
@@ -177,6 +206,7 @@ impl WeatherSeries {
             filled: vec![false; n],
             fill_counts: FillCounts::default(),
             pressure_assumed: false,
+            warnings: Vec::new(),
         })
     }
 
@@ -243,6 +273,11 @@ impl WeatherSeries {
     /// True if the file had no pressure and the standard atmosphere at the site's elevation was used.
     pub fn pressure_assumed(&self) -> bool {
         self.pressure_assumed
+    }
+    /// Every value the reader filled or recomputed, with its line and field, in file order (empty for a series
+    /// built in memory). A slice keeps the whole file's list.
+    pub fn warnings(&self) -> &[ReadWarning] {
+        &self.warnings
     }
 
     /// The weather at hour `i` (no interpolation).
@@ -336,6 +371,7 @@ impl WeatherSeries {
             },
             filled,
             pressure_assumed: self.pressure_assumed,
+            warnings: self.warnings.clone(),
         })
     }
 
@@ -420,6 +456,7 @@ pub(crate) struct RawHour {
 }
 
 /// Field names used in gap messages, per reader.
+#[derive(Clone, Copy)]
 pub(crate) struct FieldNames {
     pub time: &'static str,
     pub t: &'static str,
@@ -438,9 +475,20 @@ pub(crate) struct Assembler<'a> {
     pub has_wind: bool,
     /// Pressure to use when the file has none at all, and whether that was assumed.
     pub default_p_pa: Option<f64>,
+    /// Values the reader recomputed while parsing rows; `finish` adds the filled ones.
+    pub warnings: Vec<ReadWarning>,
 }
 
 impl Assembler<'_> {
+    fn warn(&mut self, line: u64, field: &str, message: String) {
+        self.warnings.push(ReadWarning {
+            path: self.path.to_path_buf(),
+            line,
+            field: field.to_string(),
+            message,
+        });
+    }
+
     fn err(&self, line: u64, field: &str, value: String, expected: String) -> InputError {
         InputError::Field {
             path: self.path.to_path_buf(),
@@ -451,8 +499,9 @@ impl Assembler<'_> {
         }
     }
 
-    /// Check the grid, insert rows for absent hours, fill gaps of at most `max_gap_h`.
-    pub fn finish(self, site: Site, max_gap_h: usize) -> Result<WeatherSeries, InputError> {
+    /// Check the grid, insert rows for absent hours, fill gaps of at most `max_gap_h`; every filled value (and
+    /// every whole absent hour) becomes a [`ReadWarning`] naming its line and field.
+    pub fn finish(mut self, site: Site, max_gap_h: usize) -> Result<WeatherSeries, InputError> {
         let Some(first) = self.rows.first() else {
             return Err(InputError::Parse {
                 path: self.path.to_path_buf(),
@@ -472,7 +521,8 @@ impl Assembler<'_> {
         // Place rows on the grid.
         let mut grid: Vec<RawHour> = Vec::with_capacity(self.rows.len());
         let mut lines: Vec<u64> = Vec::with_capacity(self.rows.len());
-        let mut missing_rows = 0usize;
+        let mut absent: Vec<bool> = Vec::with_capacity(self.rows.len());
+        let mut notes: Vec<(u64, &str, String)> = Vec::new();
         for (k, r) in self.rows.iter().enumerate() {
             let ms = (r.time - start).num_milliseconds();
             if ms % 3_600_000 != 0 {
@@ -522,10 +572,20 @@ impl Assembler<'_> {
                     ));
                 }
                 for g in 0..gap {
-                    missing_rows += 1;
+                    let time = start + Duration::hours(expected_idx + g as i64);
+                    notes.push((
+                        r.line,
+                        self.names.time,
+                        format!(
+                            "hour {} is absent: filled linearly between line {} and line {}",
+                            fmt(time),
+                            prev.line,
+                            r.line
+                        ),
+                    ));
                     grid.push(RawHour {
                         line: r.line,
-                        time: start + Duration::hours(expected_idx + g as i64),
+                        time,
                         t_c: f64::NAN,
                         rh: f64::NAN,
                         p_pa: f64::NAN,
@@ -534,11 +594,24 @@ impl Assembler<'_> {
                         filled: true,
                     });
                     lines.push(r.line);
+                    absent.push(true);
                 }
+            }
+            if r.filled {
+                notes.push((
+                    r.line,
+                    "filled",
+                    "flagged as filled in the file (filled = 1)".into(),
+                ));
             }
             grid.push(*r);
             lines.push(r.line);
+            absent.push(false);
         }
+        for (line, field, message) in notes {
+            self.warn(line, field, message);
+        }
+        let missing_rows = absent.iter().filter(|a| **a).count();
         let n = grid.len();
         let mut filled: Vec<bool> = grid.iter().map(|r| r.filled).collect();
         let take = |f: fn(&RawHour) -> f64| grid.iter().map(f).collect::<Vec<f64>>();
@@ -556,19 +629,24 @@ impl Assembler<'_> {
             missing_rows,
             ..FillCounts::default()
         };
-        counts.t = self.fill(&mut t_c, &lines, self.names.t, max_gap_h, &mut filled)?;
-        counts.rh = self.fill(&mut rh, &lines, self.names.rh, max_gap_h, &mut filled)?;
-        counts.p = self.fill(&mut p_pa, &lines, self.names.p, max_gap_h, &mut filled)?;
+        let grid_lines = GridLines {
+            lines: &lines,
+            absent: &absent,
+        };
+        let names = self.names;
+        counts.t = self.fill(&mut t_c, &grid_lines, names.t, max_gap_h, &mut filled)?;
+        counts.rh = self.fill(&mut rh, &grid_lines, names.rh, max_gap_h, &mut filled)?;
+        counts.p = self.fill(&mut p_pa, &grid_lines, names.p, max_gap_h, &mut filled)?;
         let rain_mm = if self.has_rain {
             let mut v = take(|r| r.rain_mm);
-            counts.rain = self.fill(&mut v, &lines, self.names.rain, max_gap_h, &mut filled)?;
+            counts.rain = self.fill(&mut v, &grid_lines, names.rain, max_gap_h, &mut filled)?;
             Some(v)
         } else {
             None
         };
         let wind_m_s = if self.has_wind {
             let mut v = take(|r| r.wind_m_s);
-            counts.wind = self.fill(&mut v, &lines, self.names.wind, max_gap_h, &mut filled)?;
+            counts.wind = self.fill(&mut v, &grid_lines, names.wind, max_gap_h, &mut filled)?;
             Some(v)
         } else {
             None
@@ -576,6 +654,8 @@ impl Assembler<'_> {
         let w = (0..n)
             .map(|i| psychro::humidity_ratio_from_rh(t_c[i], rh[i], p_pa[i]))
             .collect();
+        // File order; stable, so the notes of one line keep the order they were made in.
+        self.warnings.sort_by_key(|w| w.line);
         Ok(WeatherSeries {
             site,
             start,
@@ -588,14 +668,16 @@ impl Assembler<'_> {
             filled,
             fill_counts: counts,
             pressure_assumed,
+            warnings: self.warnings,
         })
     }
 
-    /// Fill NaN runs of at most `max_gap_h` linearly between their neighbours; return how many were filled.
+    /// Fill NaN runs of at most `max_gap_h` linearly between their neighbours; return how many were filled. Each
+    /// filled value of a row present in the file is a warning (a wholly absent hour already has one).
     fn fill(
-        &self,
+        &mut self,
         v: &mut [f64],
-        lines: &[u64],
+        at: &GridLines,
         field: &str,
         max_gap_h: usize,
         filled: &mut [bool],
@@ -613,7 +695,7 @@ impl Assembler<'_> {
             if i == 0 || j == n {
                 let where_ = if i == 0 { "first" } else { "last" };
                 return Err(self.err(
-                    lines[i],
+                    at.lines[i],
                     field,
                     "missing".into(),
                     format!(
@@ -624,7 +706,7 @@ impl Assembler<'_> {
             }
             if run > max_gap_h {
                 return Err(self.err(
-                    lines[i],
+                    at.lines[i],
                     field,
                     "missing".into(),
                     format!(
@@ -638,6 +720,14 @@ impl Assembler<'_> {
                 let f = (k - i + 1) as f64 / (run + 1) as f64;
                 v[k] = a + f * (b - a);
                 filled[k] = true;
+                if !at.absent[k] {
+                    let message = format!(
+                        "missing: filled linearly between line {} and line {}",
+                        at.lines[i - 1],
+                        at.lines[j]
+                    );
+                    self.warn(at.lines[k], field, message);
+                }
             }
             count += run;
             i = j;
@@ -646,18 +736,46 @@ impl Assembler<'_> {
     }
 }
 
+/// Per grid hour: the file line it came from (for an absent hour, the line after the gap) and whether the whole
+/// hour was absent.
+struct GridLines<'a> {
+    lines: &'a [u64],
+    absent: &'a [bool],
+}
+
+/// One row's humidity fields as read (NaN = missing).
+pub(crate) struct Humidity<'a> {
+    /// Dry bulb, °C.
+    pub t_c: f64,
+    /// Relative humidity, %.
+    pub rh_pct: f64,
+    /// Dew point, °C.
+    pub dew_c: f64,
+    /// The RH field's name when the format has one: a dew point standing in for a missing RH is then a warning.
+    pub rh_field: Option<&'a str>,
+    /// The dew point's field name and text as found.
+    pub dew_field: &'a str,
+    pub dew_text: &'a str,
+}
+
 /// Relative humidity (decimal) from an RH and/or a dew point, both optional (NaN = missing), after checking the
 /// dew point against the dry bulb. RH is preferred when both are given; a dew point above the dry bulb by up to
-/// [`DEW_POINT_TOLERANCE_K`] gives RH = 100 %; more is an error.
+/// [`DEW_POINT_TOLERANCE_K`] gives RH = 100 %; more is an error. An RH recomputed from the dew point (where the
+/// format has an RH field) and an RH set to 100 % are pushed to `warnings`.
 pub(crate) fn humidity_from(
     path: &Path,
     line: u64,
-    t_c: f64,
-    rh_pct: f64,
-    dew_c: f64,
-    dew_field: &str,
-    dew_text: &str,
+    h: Humidity<'_>,
+    warnings: &mut Vec<ReadWarning>,
 ) -> Result<f64, InputError> {
+    let Humidity {
+        t_c,
+        rh_pct,
+        dew_c,
+        rh_field,
+        dew_field,
+        dew_text,
+    } = h;
     if !dew_c.is_nan() && !t_c.is_nan() && dew_c > t_c + DEW_POINT_TOLERANCE_K {
         return Err(InputError::Field {
             path: path.to_path_buf(),
@@ -675,7 +793,104 @@ pub(crate) fn humidity_from(
     if dew_c.is_nan() || t_c.is_nan() {
         return Ok(f64::NAN);
     }
-    Ok((psychro::saturation_pressure_pa(dew_c) / psychro::saturation_pressure_pa(t_c)).min(1.0))
+    let rh =
+        (psychro::saturation_pressure_pa(dew_c) / psychro::saturation_pressure_pa(t_c)).min(1.0);
+    let mut warn = |field: &str, message: String| {
+        warnings.push(ReadWarning {
+            path: path.to_path_buf(),
+            line,
+            field: field.to_string(),
+            message,
+        })
+    };
+    if let Some(rh_field) = rh_field {
+        warn(
+            rh_field,
+            format!(
+                "missing: recomputed as {:.1} % from the dew point ({}) and the dry bulb",
+                100.0 * rh,
+                dew_text.trim()
+            ),
+        );
+    }
+    if dew_c > t_c {
+        warn(
+            dew_field,
+            format!(
+                "{:?} is above the dry bulb ({t_c:.1} °C) by at most {DEW_POINT_TOLERANCE_K} K (rounding): RH set \
+                 to 100 %",
+                dew_text.trim()
+            ),
+        );
+    }
+    Ok(rh)
+}
+
+pub(crate) use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
+
+/// A dry-bulb median above this, °C, is taken for °F under a °C label: no weather station's monthly mean reaches
+/// 40 °C (from memory), so a whole record's median of 45 °C is not weather in °C, while 45–60 °F is ordinary.
+pub const MEDIAN_C_MAX: f64 = 45.0;
+/// A `temp_f` column whose median is below this, °F (freezing), while every value lies within [`T_RANGE_C`], is
+/// taken for °C under a °F label: ordinary weather in °C (say 5–30) read as °F is −15 to −1 °C, a record no drying
+/// season is run on; a genuine record below freezing is to be given in °C (`temp_c`).
+pub const MEDIAN_F_MIN: f64 = 32.0;
+
+/// Refuse a temperature column whose values do not fit its declared unit (see [`MEDIAN_C_MAX`], [`MEDIAN_F_MIN`]).
+/// `values_c` are the column's present values in °C; `declared_f` says the column was in °F; `line` is where the
+/// unit is declared (a header line) or, for formats fixed in °C, the first data row.
+pub(crate) fn check_temperature_unit(
+    path: &Path,
+    line: u64,
+    field: &str,
+    values_c: &[f64],
+    declared_f: bool,
+) -> Result<(), InputError> {
+    let mut v: Vec<f64> = values_c.iter().copied().filter(|x| !x.is_nan()).collect();
+    if v.is_empty() {
+        return Ok(());
+    }
+    v.sort_by(f64::total_cmp);
+    let median_c = if v.len() % 2 == 1 {
+        v[v.len() / 2]
+    } else {
+        0.5 * (v[v.len() / 2 - 1] + v[v.len() / 2])
+    };
+    let err = |value: String, expected: String| InputError::Field {
+        path: path.to_path_buf(),
+        line,
+        field: field.to_string(),
+        value,
+        expected,
+    };
+    if declared_f {
+        let to_f = crate::units::c_to_f;
+        let (lo, hi) = T_RANGE_C;
+        let fits_c = to_f(v[0]) >= lo && to_f(v[v.len() - 1]) <= hi;
+        if to_f(median_c) < MEDIAN_F_MIN && fits_c {
+            return Err(err(
+                format!("median {:.1} °F", to_f(median_c)),
+                format!(
+                    "is below freezing ({median_c:.1} °C) with every value within {lo}…{hi}: these look like °C \
+                     under a °F label; rename the column temp_c (a record truly below freezing: convert it to °C)"
+                ),
+            ));
+        }
+    } else if median_c > MEDIAN_C_MAX {
+        let fix = if field == "temp_c" {
+            "name the column temp_f"
+        } else {
+            "this format holds °C"
+        };
+        return Err(err(
+            format!("median {median_c:.1} °C"),
+            format!(
+                "is above {MEDIAN_C_MAX} °C, hotter than any station's monthly mean: these look like °F, not °C \
+                 ({fix})"
+            ),
+        ));
+    }
+    Ok(())
 }
 
 /// Parse a number, checking its range.
@@ -789,34 +1004,6 @@ pub(crate) fn check_typical_year(path: &Path, year: i32) -> Result<(), InputErro
         });
     }
     Ok(())
-}
-
-/// Read a file to a string, naming it on failure; a UTF-8 byte-order mark is dropped.
-pub fn read_text(path: &Path) -> Result<String, InputError> {
-    let bytes = std::fs::read(path).map_err(|source| InputError::Io {
-        path: PathBuf::from(path),
-        source,
-    })?;
-    text_from_bytes(path, &bytes)
-}
-
-/// Decode bytes as UTF-8 (dropping a byte-order mark), naming the file and line of the first bad byte.
-pub fn text_from_bytes(path: &Path, bytes: &[u8]) -> Result<String, InputError> {
-    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
-    match std::str::from_utf8(bytes) {
-        Ok(s) => Ok(s.to_string()),
-        Err(e) => {
-            let line = 1 + bytes[..e.valid_up_to()]
-                .iter()
-                .filter(|b| **b == b'\n')
-                .count() as u64;
-            Err(InputError::Parse {
-                path: path.to_path_buf(),
-                line: Some(line),
-                message: "is not UTF-8 text".into(),
-            })
-        }
-    }
 }
 
 #[cfg(test)]

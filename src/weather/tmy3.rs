@@ -15,8 +15,8 @@ use std::path::Path;
 use chrono::NaiveDate;
 
 use super::series::{
-    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, RawHour,
-    ReadOptions, Site, WeatherSeries,
+    self, humidity_from, local_time, number, offset_from_hours, Assembler, FieldNames, Humidity,
+    RawHour, ReadOptions, Site, WeatherSeries,
 };
 use crate::error::InputError;
 
@@ -33,7 +33,7 @@ const WIND: &str = "Wspd (m/s)";
 
 /// Read a TMY3 CSV, placing the typical year in `opts.year` (required: a typical year has no calendar year).
 pub fn read_tmy3(path: &Path, opts: &ReadOptions) -> Result<WeatherSeries, InputError> {
-    let text = series::read_text(path)?;
+    let text = crate::input::read_text(path)?;
     parse_tmy3(path, &text, opts)
 }
 
@@ -75,6 +75,12 @@ pub fn parse_tmy3(
     if !read(&mut rdr, &mut rec)? {
         return Err(perr(None, "empty file: expected a TMY3 site line".into()));
     }
+    if rec.len() == 1 && rec[0].contains(';') {
+        return Err(perr(
+            Some(1),
+            format!("site line is separated by ';': {}", series::SEMICOLON_HINT),
+        ));
+    }
     if rec.len() != 7 {
         return Err(perr(
             Some(1),
@@ -95,6 +101,12 @@ pub fn parse_tmy3(
         ));
     }
     let header: ::csv::StringRecord = rec.iter().map(str::trim).collect();
+    if header.len() == 1 && header[0].contains(';') {
+        return Err(perr(
+            Some(2),
+            format!("header is separated by ';': {}", series::SEMICOLON_HINT),
+        ));
+    }
     let col = |name: &str| -> Result<usize, InputError> {
         header
             .iter()
@@ -111,10 +123,20 @@ pub fn parse_tmy3(
     );
     let c_wind = header.iter().position(|h| h == WIND);
     let mut rows = Vec::with_capacity(8760);
+    let mut warnings = Vec::new();
     while read(&mut rdr, &mut rec)? {
         let line = rec.position().map_or(0, |p| p.line());
         if rec.len() == 1 && rec[0].trim().is_empty() {
             continue;
+        }
+        if rec.iter().any(|f| f.contains(['\n', '\r'])) {
+            return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
+        }
+        if rec.len() == 1 && rec[0].contains(';') {
+            return Err(perr(
+                Some(line),
+                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
+            ));
         }
         if rec.len() != header.len() {
             return Err(perr(
@@ -169,7 +191,19 @@ pub fn parse_tmy3(
             None => f64::NAN,
         };
         let rain_mm = f64::NAN;
-        let rh = humidity_from(path, line, t_c, rh_pct, dew_c, DEW_POINT, rec[c_dp].trim())?;
+        let rh = humidity_from(
+            path,
+            line,
+            Humidity {
+                t_c,
+                rh_pct,
+                dew_c,
+                rh_field: Some(RH),
+                dew_field: DEW_POINT,
+                dew_text: rec[c_dp].trim(),
+            },
+            &mut warnings,
+        )?;
         rows.push(RawHour {
             line,
             time,
@@ -184,6 +218,8 @@ pub fn parse_tmy3(
     if rows.is_empty() {
         return Err(perr(None, "no data rows after the TMY3 header".into()));
     }
+    let t_values: Vec<f64> = rows.iter().map(|r| r.t_c).collect();
+    series::check_temperature_unit(path, 2, DRY_BULB, &t_values, false)?;
     Assembler {
         path,
         names: FieldNames {
@@ -198,6 +234,7 @@ pub fn parse_tmy3(
         has_rain: false,
         has_wind: c_wind.is_some(),
         default_p_pa: None,
+        warnings,
     }
     .finish(
         Site {
