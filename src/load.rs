@@ -23,7 +23,10 @@ use crate::drying::heater::{
 };
 use crate::drying::layer::LayerMaterial;
 use crate::drying::material::CropMaterial;
-use crate::drying::run::{FlowProvider, Outcome, Run, RunError, RunObserver, RunSettings, Tally};
+use crate::drying::run::{
+    start_plenum_estimate, Ambient, FlowProvider, Outcome, Run, RunError, RunObserver, RunSettings,
+    Tally,
+};
 use crate::drying::zones::{zone_maps, ZoneMaps};
 use crate::error::InputError;
 use crate::units::db_from_wb;
@@ -290,7 +293,10 @@ pub fn run_load(spec: &LoadSpec, observer: &mut dyn RunObserver) -> Result<LoadR
         material.pod_db(material.initial_state(db_from_wb(spec.initial_kernel_wb()), first.t_c));
     // The start's airflow solve also gives the bed's geometry (terrain-following layers, column depths); the run's
     // first request for the same air and moisture reuses it instead of solving again.
-    FlowProvider::flow(&mut flow, &first.air, &first.air, pod_db)?;
+    let heater = spec.heater.heater();
+    let ambient0 = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
+    let plenum0 = start_plenum_estimate(&heater, &ambient0);
+    FlowProvider::flow(&mut flow, &first.air, &plenum0, pod_db)?;
     let geometry_sol = flow.first.take().expect("a successful solve is kept");
     let bed = BedState::new(
         material,
@@ -306,7 +312,6 @@ pub fn run_load(spec: &LoadSpec, observer: &mut dyn RunObserver) -> Result<LoadR
         settings.reflow_density_rel = f64::INFINITY;
         settings.reflow_moisture_db = f64::INFINITY;
     }
-    let heater = spec.heater.heater();
     let run = Run::new(material, bed, &ambient, &mut flow, heater, settings)?;
     let (outcome, bed) = run.run_to_end(observer)?;
     // The airflow the load started with: solved again for the start's plenum air, unless that air was the same.

@@ -58,9 +58,8 @@ impl CropMaterial {
 }
 
 /// The wettest either compartment can be in equilibrium with air at RH 0.9999 and −10 °C (the coldest end of the
-/// latent-heat table; EMC falls as temperature rises for every isotherm form used here), adsorption or desorption,
-/// plus a quarter of that for free water condensed on the pods (our own allowance: condensation is physical but
-/// not bounded by the isotherm; the check is there to catch a state that runs away, not a wet night).
+/// latent-heat table; EMC falls as temperature rises for every isotherm form used here), adsorption or desorption.
+/// The run allows a quarter more than this or than its wettest starting cell (see `drying::bounds`).
 fn moisture_ceiling_db(model: &PodModel) -> f64 {
     let (rh, t_c) = (0.9999, T_MIN_C);
     [model.hull(), model.kernel()]
@@ -73,7 +72,6 @@ fn moisture_ceiling_db(model: &PodModel) -> f64 {
         })
         .filter(|m| m.is_finite())
         .fold(0.0, f64::max)
-        * 1.25
 }
 
 fn to_pod(m: CellMoisture) -> PodState {

@@ -28,6 +28,11 @@ use crate::airflow::solve::AirflowError;
 use crate::props::psychro::{self, AirState};
 use crate::units::wb_from_db;
 
+/// The moisture bound is the wetter of the starting bed and the isotherms' ceiling, times this: free water condensed
+/// on the pods on a humid night is physical but not bounded by the isotherm (our own allowance; the check is there
+/// to catch a state that runs away, not a wet night).
+const CONDENSATE_ALLOWANCE: f64 = 1.25;
+
 /// One sample of ambient weather.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AmbientSample {
@@ -328,6 +333,22 @@ pub trait RunObserver {
 }
 impl RunObserver for () {}
 
+/// One column's slices as the layer step takes them: hull, kernel, curve start, temperature, dry matter, flux.
+type Lanes<'a> = (
+    (
+        (
+            ((&'a mut [f64], &'a mut [f64]), &'a mut [f64]),
+            &'a mut [f64],
+        ),
+        &'a [f64],
+    ),
+    &'a f64,
+);
+
+/// Below this many cells a step runs its columns on the calling thread: handing a few hundred cells to the pool
+/// and back costs more than stepping them (a 4 × 2 × 10 season bed takes about 10 µs a step).
+const PARALLEL_MIN_CELLS: usize = 512;
+
 struct ColumnResult {
     totals: ColumnStepTotals,
     exhaust: LayerAir,
@@ -399,7 +420,8 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let first = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
         let dry_kg = bed.dry_matter_kg();
         let water_kg = bed.water_kg(material);
-        let field = provider.flow(&first.air, &first.air, water_kg / dry_kg)?;
+        let plenum0 = start_plenum_estimate(&heater, &first);
+        let field = provider.flow(&first.air, &plenum0, water_kg / dry_kg)?;
         let density = first.air.density_kg_per_m3();
         let t_min = bed.temp_c.iter().copied().fold(f64::MAX, f64::min);
         let t_max = bed.temp_c.iter().copied().fold(f64::MIN, f64::max);
@@ -427,11 +449,15 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             flow: FlowState {
                 field,
                 fan_density: density,
-                plenum_density: density,
+                plenum_density: plenum0.density_kg_per_m3(),
                 pod_db: water_kg / dry_kg,
                 solves: 1,
             },
-            bounds: Bounds::new(t_min, t_max, m_max.max(material.moisture_ceiling_db())),
+            bounds: Bounds::new(
+                t_min,
+                t_max,
+                m_max.max(material.moisture_ceiling_db()) * CONDENSATE_ALLOWANCE,
+            ),
             tracker,
             bal: Balances {
                 water_start_kg: water_kg,
@@ -472,12 +498,14 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         Ok(run)
     }
 
-    /// The first airflow was solved with the fan's air in the plenum too; solve again for the plenum air the fan
-    /// and burner actually deliver at the start (once: the mass flow hardly moves the plenum temperature).
+    /// The first airflow was solved for an estimate of the start's plenum air (no fan heat, no burner limit:
+    /// [`start_plenum_estimate`]); solve again if the plenum air the fan and burner deliver with that airflow is
+    /// further from it than the run's re-solve threshold (at most 1 %, even when the run keeps its first airflow).
     fn settle_start(&mut self, first: &AmbientSample) -> Result<(), RunError> {
         let (plenum, _, _) = self.plenum_for(first);
         let d = plenum.density_kg_per_m3();
-        if d.to_bits() != self.flow.plenum_density.to_bits() {
+        let tolerance = self.settings.reflow_density_rel.min(0.01);
+        if (d / self.flow.plenum_density - 1.0).abs() > tolerance {
             self.flow.field = self.provider.flow(&first.air, &plenum, self.flow.pod_db)?;
             self.flow.plenum_density = d;
             self.flow.solves += 1;
@@ -583,43 +611,54 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let start = bed.curve_start_db.as_slice_mut().expect(layout);
         let temp = bed.temp_c.as_slice_mut().expect(layout);
         let dm = bed.dry_matter_kg_per_m2.as_slice().expect(layout);
-        hull.par_chunks_mut(nz)
-            .zip(kernel.par_chunks_mut(nz))
-            .zip(start.par_chunks_mut(nz))
-            .zip(temp.par_chunks_mut(nz))
-            .zip(dm.par_chunks(nz))
-            .zip(flux.par_iter())
-            .map(|(((((h, k), c), t), d), &g)| {
-                let forcing = ColumnForcing {
-                    dry_air_kg_per_m2_s: g,
-                    ..base
-                };
-                let column = ColumnMut {
-                    hull_db: &mut *h,
-                    kernel_db: &mut *k,
-                    curve_start_db: &mut *c,
-                    temp_c: &mut *t,
-                    dry_matter_kg_per_m2: d,
-                };
-                let (exhaust, totals) = step_column(material, column, forcing);
-                ColumnResult {
-                    violation: bounds.check_column(h, k, t, totals.max_rh_out),
-                    totals,
-                    exhaust,
-                    dry_air_kg_per_m2: g * dt_s,
-                    after: ColumnTotals::of(
-                        material,
-                        (&*h).into(),
-                        (&*k).into(),
-                        (&*c).into(),
-                        (&*t).into(),
-                        d.into(),
-                    ),
-                    above_target_dm: d.iter().sum::<f64>()
-                        - column_mass_below((&*k).into(), d.into(), target_db),
-                }
-            })
-            .collect_into_vec(&mut self.results);
+        let column = |(((((h, k), c), t), d), &g): Lanes<'_>| {
+            let forcing = ColumnForcing {
+                dry_air_kg_per_m2_s: g,
+                ..base
+            };
+            let column = ColumnMut {
+                hull_db: &mut *h,
+                kernel_db: &mut *k,
+                curve_start_db: &mut *c,
+                temp_c: &mut *t,
+                dry_matter_kg_per_m2: d,
+            };
+            let (exhaust, totals) = step_column(material, column, forcing);
+            ColumnResult {
+                violation: bounds.check_column(h, k, t, totals.max_rh_out),
+                totals,
+                exhaust,
+                dry_air_kg_per_m2: g * dt_s,
+                after: ColumnTotals::of(
+                    material,
+                    (&*h).into(),
+                    (&*k).into(),
+                    (&*c).into(),
+                    (&*t).into(),
+                    d.into(),
+                ),
+                above_target_dm: d.iter().sum::<f64>()
+                    - column_mass_below((&*k).into(), d.into(), target_db),
+            }
+        };
+        if hull.len() < PARALLEL_MIN_CELLS {
+            // A small bed (a season's coarse grid) steps faster on this thread than handed to the pool and back.
+            self.results.clear();
+            let lanes = (hull.chunks_mut(nz).zip(kernel.chunks_mut(nz)))
+                .zip(start.chunks_mut(nz))
+                .zip(temp.chunks_mut(nz))
+                .zip(dm.chunks(nz))
+                .zip(flux.iter());
+            self.results.extend(lanes.map(column));
+        } else {
+            (hull.par_chunks_mut(nz).zip(kernel.par_chunks_mut(nz)))
+                .zip(start.par_chunks_mut(nz))
+                .zip(temp.par_chunks_mut(nz))
+                .zip(dm.par_chunks(nz))
+                .zip(flux.par_iter())
+                .map(column)
+                .collect_into_vec(&mut self.results);
+        }
     }
 
     /// The first out-of-bounds cell, in column order.
@@ -880,6 +919,20 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         };
         (outcome, bed)
     }
+}
+
+/// The plenum air expected at the start before any airflow is known: the heater on ambient air without fan heat
+/// and without a burner limit (a rise or set-point does not depend on the mass flow otherwise). The run's first
+/// airflow is solved for it; a caller that solves the start's airflow itself (for the bed's geometry) uses the same
+/// air, so the run finds that solution instead of solving again.
+pub fn start_plenum_estimate(heater: &Heater, first: &AmbientSample) -> AirState {
+    let unlimited = Heater {
+        capacity_w: None,
+        ..*heater
+    };
+    unlimited
+        .plenum_air(first.air, first.air, first.local_hour, 1.0)
+        .plenum
 }
 
 /// Share of the dry matter above `target_db` (profile method of `zones`).

@@ -104,7 +104,7 @@ impl LoadDrier for FixedTimeDrier {
             return Err(SeasonError::Drying {
                 load: load.id.clone(),
                 dryer: dryer.id.clone(),
-                source: DryingFailure::BadTime(h),
+                failure: DryingFailure::BadTime(h),
             });
         }
         Ok(DryingResult {
@@ -228,10 +228,10 @@ impl LoadTemplate {
         dryer: &DryerUnit,
         start: DateTime<FixedOffset>,
     ) -> Result<LoadSpec, SeasonError> {
-        let fail = |source: DryingFailure| SeasonError::Drying {
+        let fail = |failure: DryingFailure| SeasonError::Drying {
             load: load.id.clone(),
             dryer: dryer.id.clone(),
-            source,
+            failure,
         };
         let container = (self.containers.get(&dryer.container))
             .ok_or_else(|| fail(DryingFailure::UnknownContainer(dryer.container.clone())))?;
@@ -304,7 +304,7 @@ impl LoadDrier for DeepBedDrier {
             Err(e) => Err(SeasonError::Drying {
                 load: load.id.clone(),
                 dryer: dryer.id.clone(),
-                source: DryingFailure::Load(Box::new(e)),
+                failure: DryingFailure::Load(Box::new(e)),
             }),
         }
     }

@@ -28,15 +28,14 @@ pub enum SeasonError {
     #[error(transparent)]
     Heater(#[from] crate::drying::heater::HeaterSpecError),
     /// The drying of one load failed.
-    #[error("load {load:?} on dryer {dryer:?}: {source}")]
+    #[error("load {load:?} on dryer {dryer:?}: {failure}")]
     Drying {
         /// The load's id.
         load: String,
         /// The dryer's id.
         dryer: String,
-        /// What went wrong.
-        #[source]
-        source: DryingFailure,
+        /// What went wrong (shown in the message, so not also chained as a source).
+        failure: DryingFailure,
     },
 }
 
