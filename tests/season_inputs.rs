@@ -177,7 +177,7 @@ fn loads_past_the_season_or_too_heavy_are_errors() {
 fn bundled_demo_arrivals_fit_their_scenario() {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("models/buying-points");
     let bp = dryfront::input::season::read_buying_point(&dir.join("wrenfield.json")).unwrap();
-    let ls = dryfront::season::arrivals::read_arrivals_csv(
+    let ls = dryfront::input::season::read_arrivals_csv(
         &dir.join("wrenfield-arrivals.csv"),
         Some((bp.season.start, bp.season.end())),
     )

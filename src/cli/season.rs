@@ -11,10 +11,12 @@ use anyhow::{bail, Context};
 use crate::airflow::geometry::Grid;
 use crate::crop::Crop;
 use crate::drying::heater::{SafetyLimits, StrategySpec};
-use crate::input::season::{read_buying_point, season_template, SeasonRunSettings};
+use crate::input::season::{
+    read_arrivals_csv, read_buying_point, season_template, SeasonRunSettings,
+};
 use crate::outfile::write_atomic;
 use crate::report::gantt::{gantt_svg, queue_svg};
-use crate::season::arrivals::{arrivals_csv, generate, read_arrivals_csv, ArrivalParams, Load};
+use crate::season::arrivals::{arrivals_csv, generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
 use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};

@@ -1,9 +1,11 @@
-//! What a season reads: the buying point's file, and the crop, containers and fans its dryers name, built into the
-//! [`LoadTemplate`] every load of the season is dried from.
+//! What a season reads: the buying point's file, its arrivals file, and the crop, containers and fans its dryers
+//! name, built into the [`LoadTemplate`] every load of the season is dried from.
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
+
+use chrono::{DateTime, FixedOffset};
 
 use super::field_err;
 use super::scenario::{
@@ -18,6 +20,7 @@ use crate::drying::run::RunSettings;
 use crate::error::InputError;
 use crate::input::read_text;
 use crate::load::{AirflowUpdates, Prices};
+use crate::season::arrivals::{parse_arrivals_csv, Load};
 use crate::season::drier::LoadTemplate;
 use crate::season::scenario::BuyingPoint;
 use crate::weather::series::WeatherSeries;
@@ -25,6 +28,15 @@ use crate::weather::series::WeatherSeries;
 /// Read and validate a buying point's file.
 pub fn read_buying_point(path: &Path) -> Result<BuyingPoint, InputError> {
     BuyingPoint::from_json(path, &read_text(path)?)
+}
+
+/// Read an arrivals CSV file (see [`parse_arrivals_csv`]), refusing arrivals outside `range` when given.
+pub fn read_arrivals_csv(
+    path: &Path,
+    range: Option<(DateTime<FixedOffset>, DateTime<FixedOffset>)>,
+) -> Result<Vec<Load>, InputError> {
+    let text = read_text(path)?;
+    parse_arrivals_csv(path, text.as_bytes(), range)
 }
 
 /// The season's settings of every load's run.

@@ -238,15 +238,6 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
     Ok(loads)
 }
 
-/// Read an arrivals CSV file (see [`parse_arrivals_csv`]).
-pub fn read_arrivals_csv(
-    path: &Path,
-    range: Option<(DateTime<FixedOffset>, DateTime<FixedOffset>)>,
-) -> Result<Vec<Load>, InputError> {
-    let text = crate::input::read_text(path)?;
-    parse_arrivals_csv(path, text.as_bytes(), range)
-}
-
 /// Parameters of the arrivals generator. Defaults are our own, in the range the trade describes (common practice,
 /// no source): a harvest peaking about 40 % into the season, arrivals centred on 16:00 (σ 3 h, kept to 07:00–23:00),
 /// wagons of 4.5 t ± 1 t, kernels at 20 % ± 4 % w.b. (kept to 12–35 %), 30 % of a day's share on rain days and the

@@ -5,8 +5,7 @@
 //! References: the event loop is a plain discrete-event simulation (next-event time advance); the queue checks use
 //! Little's law (L = λW, Little 1961). Everything else is our own.
 //!
-//! Pure computation apart from the arrivals reader (`arrivals::read_arrivals_csv`); the buying point's file is
-//! read by `input::season`.
+//! Pure computation: the buying point's and arrivals files are read by `input::season`.
 
 pub mod arrivals;
 pub mod dispatch;
