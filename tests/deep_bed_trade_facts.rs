@@ -11,19 +11,18 @@ use deep_bed_support as common;
 #[test]
 fn wagon_on_fixed_air_lands_in_the_trade_windows() {
     let (out, _) = common::Case::default().run();
-    let hours = out.hours_to_mean_target.expect("reaches target");
-    let rate = (out.initial_kernel_pct - out.final_kernel_pct) / hours;
+    // "Reaches 10 %" is the mean at target: hours, rate and propane to that moment (the run itself goes on until
+    // 95 % of the load is there too).
+    let at = out.at_mean_target.expect("reaches target");
+    let hours = at.hours;
+    let rate = (out.initial_kernel_pct - 10.0) / hours;
+    let per_tonne = at.fuel_used / (out.initial_mass_kg / 1000.0);
     eprintln!(
-        "hours to 10 %: {hours:.2} h; mean rate {rate:.3} %-points/h; propane {:.2} L/t; plenum +8 K on 25 °C",
-        out.fuel_per_tonne
+        "hours to 10 %: {hours:.2} h; mean rate {rate:.3} %-points/h; propane {per_tonne:.2} L/t; plenum +8 K on 25 °C"
     );
     assert!((12.0..=36.0).contains(&hours), "{hours} h");
     assert!((0.3..=0.6).contains(&rate), "{rate} %-points/h");
-    assert!(
-        (20.0..=35.0).contains(&out.fuel_per_tonne),
-        "{} L/t",
-        out.fuel_per_tonne
-    );
+    assert!((20.0..=35.0).contains(&per_tonne), "{per_tonne} L/t");
     // Every run stays under the adiabatic-saturation bound over the run (DOMAIN.md §6.3).
     let b = out.balances;
     assert!(
