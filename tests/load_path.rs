@@ -164,13 +164,7 @@ fn a_non_finite_state_stops_the_run_naming_the_cell() {
     )
     .unwrap();
     let field = FlowField::from_velocity(Array2::from_elem((4, 3), 0.2), &air);
-    let heater = dryfront::drying::heater::Heater {
-        strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
-        window_h: None,
-        capacity_w: None,
-        max_plenum_c: 35.0,
-        fuel: dryfront::drying::heater::Fuel::propane(),
-    };
+    let heater = rise8();
     let mut flow = dryfront::drying::run::FixedFlow(field);
     let ambient = ConstantAmbient(air);
     let err = Run::new(
@@ -196,6 +190,17 @@ fn a_non_finite_state_stops_the_run_naming_the_cell() {
         msg.contains("hull moisture") && msg.contains("cell (x 2, y 1, layer 3)"),
         "{msg}"
     );
+}
+
+/// A burner holding +8 K with the crop's safe plenum maximum.
+fn rise8() -> dryfront::drying::heater::Heater {
+    dryfront::drying::heater::Heater {
+        strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
+        window_h: None,
+        capacity_w: None,
+        max_plenum_c: 35.0,
+        fuel: dryfront::drying::heater::Fuel::propane(),
+    }
 }
 
 struct Probe {
@@ -225,13 +230,7 @@ fn an_observer_sees_every_step_and_the_bed() {
     )
     .unwrap();
     let field = FlowField::from_velocity(Array2::from_elem((1, 1), 0.2), &air);
-    let heater = dryfront::drying::heater::Heater {
-        strategy: HeaterStrategy::FixedRise { rise_k: 8.0 },
-        window_h: None,
-        capacity_w: None,
-        max_plenum_c: 35.0,
-        fuel: dryfront::drying::heater::Fuel::propane(),
-    };
+    let heater = rise8();
     let settings = RunSettings {
         stop: StopRule::Hours(3.05),
         ..RunSettings::default()

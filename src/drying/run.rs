@@ -367,6 +367,16 @@ struct FlowState {
     solves: u32,
 }
 
+/// What the bed held at the start, for the accounts and the outcome.
+#[derive(Debug, Clone, Copy)]
+struct StartFigures {
+    dry_kg: f64,
+    dry_per_area: f64,
+    mass_kg: f64,
+    kernel_wb: f64,
+    sensible_j: f64,
+}
+
 /// A load being dried.
 pub struct Run<'a, M: LayerMaterial + ?Sized> {
     material: &'a M,
@@ -381,11 +391,7 @@ pub struct Run<'a, M: LayerMaterial + ?Sized> {
     tracker: StopTracker,
     bal: Balances,
     rate: RateWatch,
-    dry_kg: f64,
-    dry_per_area: f64,
-    initial_mass_kg: f64,
-    initial_kernel_wb: f64,
-    sensible_start_j: f64,
+    start: StartFigures,
     water_kg: f64,
     levels: Levels,
     tally: Tally,
@@ -395,7 +401,6 @@ pub struct Run<'a, M: LayerMaterial + ?Sized> {
     steps: u64,
     series: Vec<SeriesRow>,
     next_record_s: f64,
-    last_sample: AmbientSample,
     stopped: Option<StopReason>,
     results: Vec<ColumnResult>,
 }
@@ -464,11 +469,13 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                 ..Balances::default()
             },
             rate: RateWatch::new(initial_kernel_wb, settings.safe_rate_pct_per_h),
-            dry_kg,
-            dry_per_area: bed.dry_matter_kg_per_m2.sum(),
-            initial_mass_kg: dry_kg + water_kg,
-            initial_kernel_wb,
-            sensible_start_j: bed.sensible_heat_j(material),
+            start: StartFigures {
+                dry_kg,
+                dry_per_area: bed.dry_matter_kg_per_m2.sum(),
+                mass_kg: dry_kg + water_kg,
+                kernel_wb: initial_kernel_wb,
+                sensible_j: bed.sensible_heat_j(material),
+            },
             water_kg,
             levels,
             tally,
@@ -478,7 +485,6 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             steps: 0,
             series: Vec::new(),
             next_record_s: settings.record_every_s,
-            last_sample: first,
             stopped: None,
             results: Vec::new(),
             bed,
@@ -563,7 +569,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let s = &self.settings;
         let fan_d = sample.air.density_kg_per_m3();
         let plenum_d = plenum.density_kg_per_m3();
-        let pod_db = self.water_kg / self.dry_kg;
+        let pod_db = self.water_kg / self.start.dry_kg;
         let f = &self.flow;
         let moved = (fan_d / f.fan_density - 1.0).abs() > s.reflow_density_rel
             || (plenum_d / f.plenum_density - 1.0).abs() > s.reflow_density_rel
@@ -743,7 +749,6 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             )),
             (r, _) => r,
         };
-        self.last_sample = sample;
         Ok(StepReport {
             step: self.steps,
             hours,
@@ -773,8 +778,8 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         }
         self.water_kg = water * self.bed.column_area_m2;
         self.levels = Levels {
-            mean_kernel_wb: ColumnTotals::mean_kernel_wb(kernel_dm, self.dry_per_area),
-            above_target_fraction: above / self.dry_per_area,
+            mean_kernel_wb: ColumnTotals::mean_kernel_wb(kernel_dm, self.start.dry_per_area),
+            above_target_fraction: above / self.start.dry_per_area,
         };
         self.max_peanut_c = self.max_peanut_c.max(peak);
     }
@@ -870,7 +875,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let water_end = self.water_kg;
         let mut bal = self.bal;
         bal.water_end_kg = water_end;
-        bal.sensible_storage_j = bed.sensible_heat_j(material) - self.sensible_start_j;
+        bal.sensible_storage_j = bed.sensible_heat_j(material) - self.start.sensible_j;
         let fuel_used = self.heater.fuel.quantity_for_heat(bal.burner_heat_j);
         let zones = zone_masses(material, &bed, &self.thresholds);
         let removed = bal.water_start_kg - water_end;
@@ -891,15 +896,15 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             at_mean_target: self.tracker.mean,
             at_fraction_target: self.tracker.fraction,
             at_stop_rule,
-            initial_kernel_pct: self.initial_kernel_wb * 100.0,
+            initial_kernel_pct: self.start.kernel_wb * 100.0,
             final_kernel_pct: self.levels.mean_kernel_wb * 100.0,
-            final_pod_pct: wb_from_db(water_end / self.dry_kg) * 100.0,
-            initial_mass_kg: self.initial_mass_kg,
-            final_mass_kg: self.dry_kg + water_end,
+            final_pod_pct: wb_from_db(water_end / self.start.dry_kg) * 100.0,
+            initial_mass_kg: self.start.mass_kg,
+            final_mass_kg: self.start.dry_kg + water_end,
             water_removed_kg: removed,
             fuel_used,
             fuel_unit: self.heater.fuel.unit.to_string(),
-            fuel_per_tonne: fuel_used / (self.initial_mass_kg / 1000.0),
+            fuel_per_tonne: fuel_used / (self.start.mass_kg / 1000.0),
             fan_kwh: bal.fan_electric_j / 3.6e6,
             energy_kj_per_kg_water: if removed > 0.0 {
                 (bal.burner_heat_j + bal.fan_electric_j) / removed / 1000.0
