@@ -263,6 +263,12 @@ pub enum RunError {
     /// The weather record does not cover the start.
     #[error("the weather record does not cover the run's start")]
     NoWeatherAtStart,
+    /// The weather record ends inside the next step.
+    #[error("the weather record ends within the step after hour {hours:.2}")]
+    NoWeather {
+        /// Hours on air when the step was asked for.
+        hours: f64,
+    },
     /// Target is not below the initial moisture.
     #[error("target kernel moisture {target:.1} % w.b. is not below the load's initial moisture {initial:.1} % w.b.")]
     TargetNotBelowInitial {
@@ -696,7 +702,9 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let sample = self
             .ambient
             .at(self.t_s + 0.5 * dt_s)
-            .ok_or(RunError::NoWeatherAtStart)?;
+            .ok_or(RunError::NoWeather {
+                hours: self.t_s / 3600.0,
+            })?;
         let (plenum, heat_w, dry_air, solved) = self.air_path(&sample)?;
         self.bounds.admit(&sample.air);
         self.bounds.admit(&plenum);
