@@ -36,11 +36,22 @@ pub fn search_dirs(kind: &str) -> Vec<PathBuf> {
 /// Resolve `name` (a bundled model's name, or a path to a `.json` file) to a file of `kind`. `what` names the
 /// option or field for the error message.
 pub fn resolve(kind: &str, name: &str, what: &str) -> Result<PathBuf, InputError> {
+    resolve_in(None, kind, name, what)
+}
+
+/// As [`resolve`], looking first in `models/<kind>` of the folder `dir` (a command's `--models`) when given.
+pub fn resolve_in(
+    dir: Option<&Path>,
+    kind: &str,
+    name: &str,
+    what: &str,
+) -> Result<PathBuf, InputError> {
     let as_path = Path::new(name);
     if name.ends_with(".json") || as_path.components().count() > 1 {
         return Ok(as_path.to_path_buf());
     }
-    for dir in search_dirs(kind) {
+    let first = dir.map(|d| d.join(kind));
+    for dir in first.into_iter().chain(search_dirs(kind)) {
         let p = dir.join(format!("{name}.json"));
         if p.is_file() {
             return Ok(p);
