@@ -9,6 +9,7 @@ use std::sync::Arc;
 
 use chrono::{DateTime, Duration, FixedOffset};
 use dryfront::drying::heater::HeaterStrategy;
+use dryfront::input::scenario::Scenario;
 use dryfront::input::season::{read_buying_point, season_template, SeasonRunSettings};
 use dryfront::load::run_load;
 use dryfront::season::arrivals::Load;
@@ -71,6 +72,42 @@ fn the_season_drier_and_the_single_load_path_give_identical_results() {
         .unwrap()
         .max(o.hours_to_fraction_target.unwrap());
     assert_eq!(season.hours.to_bits(), later.to_bits());
+}
+
+#[test]
+fn a_scenario_file_of_the_same_load_gives_what_the_season_gives() {
+    // `dryfront dry`'s own input path: a scenario file naming the same crop, container, fan, heater, burner, weather,
+    // start, mass, moisture, grid, step, stop rule and airflow mode as the season's first wagon and load.
+    let (bp, d) = drier(SeasonRunSettings::default());
+    let l = load("L1", 0, 4000.0, 20.0);
+    let w = &bp.dryers[0];
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = serde_json::json!({
+        "name": "same-load",
+        "crop": "peanut-inshell",
+        "container": w.container,
+        "net_mass_kg": l.mass_kg,
+        "fan": w.fan,
+        "weather": root("weather-samples/cypress-neck-2026/season_000.csv"),
+        "start": l.arrival.to_rfc3339(),
+        "initial_kernel_moisture_pct": l.moisture_pct,
+        "heater": { "strategy": w.heater.to_string(), "burner_kw": w.burner_kw.unwrap(), "fuel": "propane" },
+        "grid": { "nx": 4, "ny": 2, "nz": 10 },
+        "time_step_h": 0.2,
+        "max_hours": 120,
+        "target_kernel_moisture_pct": bp.rules.target_kernel_pct,
+        "stop_rule": "both",
+        "airflow_updates": "at-start",
+        "prices": { "currency": "$", "fuel_per_unit": bp.prices.propane_per_l,
+                    "electricity_per_kwh": bp.prices.electricity_per_kwh,
+                    "peanuts_per_tonne": bp.prices.peanuts_per_tonne }
+    });
+    let path = dir.path().join("same-load.json");
+    std::fs::write(&path, scenario.to_string()).unwrap();
+    let (sc, _) = Scenario::read(path.to_str().unwrap(), false).unwrap();
+    let single = drying_result(&run_load(&sc.spec, &mut ()).unwrap().outcome);
+    let season = d.dry(&l, w, l.arrival).unwrap();
+    assert_eq!(format!("{single:?}"), format!("{season:?}"));
 }
 
 #[test]

@@ -9,12 +9,12 @@ use chrono::{DateTime, FixedOffset};
 
 use super::field_err;
 use super::scenario::{
-    read_container, read_crop, read_fan, DEFAULT_FAN_EFFICIENCY, DEFAULT_MOTOR_EFFICIENCY,
+    fuel_named, read_container, read_crop, read_fan, DEFAULT_FAN_EFFICIENCY,
+    DEFAULT_MOTOR_EFFICIENCY,
 };
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Grid;
 use crate::drying::flow::FanEfficiency;
-use crate::drying::heater::Fuel;
 use crate::drying::material::CropMaterial;
 use crate::drying::run::RunSettings;
 use crate::error::InputError;
@@ -116,7 +116,7 @@ pub fn season_template(
             fan: DEFAULT_FAN_EFFICIENCY,
             motor: DEFAULT_MOTOR_EFFICIENCY,
         },
-        fuel: Fuel::propane(),
+        fuel: fuel_named(bp_path, "fuel", &bp.fuel)?,
         prices: Prices {
             currency: bp.prices.currency.clone(),
             fuel_per_unit: bp.prices.propane_per_l,

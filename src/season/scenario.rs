@@ -68,6 +68,10 @@ pub struct OperatingRules {
     pub hours_of_operation: Option<[u32; 2]>,
 }
 
+fn default_fuel() -> String {
+    "propane".into()
+}
+
 fn default_stop_rule() -> StopRule {
     StopRule::Both
 }
@@ -118,6 +122,10 @@ pub struct BuyingPoint {
     pub rules: OperatingRules,
     /// Prices.
     pub prices: Prices,
+    /// Fuel every burner burns: `propane` (the default, and for now the only one a season accepts, since its prices
+    /// and figures are in litres of propane).
+    #[serde(default = "default_fuel")]
+    pub fuel: String,
     /// The dryer units.
     pub dryers: Vec<DryerUnit>,
 }
@@ -217,6 +225,16 @@ impl BuyingPoint {
                     ),
                 ));
             }
+        }
+        if self.fuel != "propane" {
+            return Err(field_err(
+                path,
+                "fuel",
+                format!(
+                    "{:?}: a season's prices and figures are in litres of propane, so \"propane\" is the only fuel it takes",
+                    self.fuel
+                ),
+            ));
         }
         let p = &self.prices;
         check(

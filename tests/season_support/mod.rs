@@ -30,6 +30,7 @@ pub fn dryer(id: &str) -> DryerUnit {
 
 pub fn point(n: usize, turnaround_h: f64, max_wait_h: f64, days: u32) -> BuyingPoint {
     BuyingPoint {
+        fuel: "propane".into(),
         name: "Test Yard (invented)".into(),
         notes: String::new(),
         season: SeasonWindow { start: t0(), days },
