@@ -464,6 +464,7 @@ variants("buying-point", BUYING_POINT, bp, COMMON_JSON + [
     ("heater_unknown.json", set_path(["dryers", 0, "heater"], "blast")),
     ("heater_object_form.json", set_path(["dryers", 0, "heater"], {"kind": "fixed-rise", "rise_k": 8.0})),
     ("stop_rule_unknown.json", set_path(["rules", "stop_rule"], "median")),
+    ("fuel_natural_gas.json", set_path(["fuel"], "natural-gas")),
     ("target_50.json", set_path(["rules", "target_kernel_pct"], 50.0)),
 ])
 
