@@ -15,7 +15,6 @@ pub mod error;
 pub mod input;
 pub mod load;
 pub mod models;
-pub mod outfile;
 pub mod props;
 pub mod report;
 pub mod season;

@@ -86,6 +86,7 @@ fn dry_writes_every_output_whole() {
     assert_eq!(
         names,
         [
+            ".dryfront-outputs",
             "air_temperatures.svg",
             "airflow_top.svg",
             "drying_curves.svg",

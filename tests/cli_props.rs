@@ -247,10 +247,11 @@ fn demo_writes_property_table_whole() {
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
     names.sort();
-    // The whole demo: one load, a comparison, a season and the property table; no temporary files left.
+    // The whole demo: one load, a comparison, a season, the property table and the manifest of what was written;
+    // no temporary files left.
     assert_eq!(
         names,
-        ["compare", "load", "properties.csv", "season"],
+        [".dryfront-outputs", "compare", "load", "properties.csv", "season"],
         "{names:?}"
     );
     for sub in ["load", "compare", "season"] {
@@ -261,4 +262,6 @@ fn demo_writes_property_table_whole() {
     }
     assert!(out_dir.join("load/final_moisture_top.svg").is_file());
     assert!(out_dir.join("season/gantt.svg").is_file());
+    let beside: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+    assert_eq!(beside.len(), 1, "no temporary folder beside the output");
 }

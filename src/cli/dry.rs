@@ -1,7 +1,7 @@
 //! `dryfront dry`, `dryfront compare` and `dryfront starts`: one load through the deep-bed model, the same load under
 //! several heater strategies side by side, and the same load started at different times through the season.
 use std::io::IsTerminal;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use anyhow::Context;
 use rayon::prelude::*;
@@ -11,15 +11,14 @@ use crate::drying::heater::{SafetyWarning, StrategySpec};
 use crate::drying::run::{RunObserver, StepReport, StopRule};
 use crate::input::scenario::Scenario;
 use crate::load::{checked_heater, run_load, LoadResult, LoadSpec};
-use crate::outfile::write_atomic;
 use crate::report::load::{
-    air_svg, airflow_top_svg, compare_table, drying_curves_svg, final_side_svg, final_top_svg,
-    outcome_json, series_csv, summary_text, CompareRow, CAUTIONS,
+    compare_table, load_outputs, starts_csv, summary_text, CompareRow, CAUTIONS,
 };
+use crate::report::output::{check_target, OutputSet};
 use crate::units::UnitSystem;
 
 /// Options shared by the load commands.
-#[derive(Debug, clap::Args)]
+#[derive(Debug, Clone, clap::Args)]
 pub struct LoadOptions {
     /// Scenario: a bundled name (`demo-load`) or a path to a scenario JSON file.
     #[arg(long, default_value = "demo-load")]
@@ -41,9 +40,13 @@ pub struct LoadOptions {
     /// Units for the printed summary.
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
-    /// Folder for the output files (created if missing); nothing is written without it.
+    /// Folder for the output files (created if missing; an earlier set there is replaced whole); nothing is
+    /// written without it.
     #[arg(long)]
     pub out: Option<PathBuf>,
+    /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
+    #[arg(long)]
+    pub replace: bool,
 }
 
 /// Arguments of `dryfront dry`.
@@ -141,56 +144,46 @@ fn warn(warning: &Option<SafetyWarning>) {
     }
 }
 
-fn write(dir: &Path, name: &str, text: &str, sc: &Scenario) -> anyhow::Result<()> {
-    let inputs: Vec<&Path> = sc.inputs.iter().map(PathBuf::as_path).collect();
-    write_atomic(&dir.join(name), text.as_bytes(), &inputs)?;
+/// Refuse early an output folder that is, holds or lies inside an input, or holds foreign files.
+fn check_out(opts: &LoadOptions, sc: &Scenario) -> anyhow::Result<()> {
+    if let Some(dir) = &opts.out {
+        check_target(dir, &sc.inputs, opts.replace)?;
+    }
     Ok(())
 }
 
-/// Write the full set of files for one run into `dir`.
-pub fn write_load_outputs(
-    dir: &Path,
+/// Write a command's set into `--out` (when given) and say so with `said(dir)`.
+fn commit(
+    opts: &LoadOptions,
     sc: &Scenario,
-    label: &str,
-    r: &LoadResult,
-) -> anyhow::Result<Vec<String>> {
-    let spec = &sc.spec;
-    let target = spec.run.target_kernel_wb * 100.0;
-    let files = vec![
-        (
-            "summary.txt",
-            format!(
-                "{}\n{CAUTIONS}\n",
-                summary_text(spec, label, r, UnitSystem::Si)
-            ),
-        ),
-        ("outcome.json", outcome_json(spec, label, r)),
-        ("series.csv", series_csv(&r.outcome)),
-        (
-            "drying_curves.svg",
-            drying_curves_svg(&format!("{}: {label}", spec.name), &r.outcome, target),
-        ),
-        (
-            "air_temperatures.svg",
-            air_svg(&format!("{}: {label}", spec.name), &r.outcome),
-        ),
-        ("final_moisture_top.svg", final_top_svg(spec, r, &spec.run)),
-        (
-            "final_moisture_side.svg",
-            final_side_svg(spec, r, &spec.run),
-        ),
-        ("airflow_top.svg", airflow_top_svg(spec, r)),
-    ];
-    let mut names = Vec::new();
-    for (name, text) in &files {
-        write(dir, name, text, sc)?;
-        names.push(name.to_string());
+    set: &OutputSet,
+    said: impl Fn(&std::path::Path) -> String,
+) -> anyhow::Result<()> {
+    if let Some(dir) = &opts.out {
+        set.commit(dir, &sc.inputs, opts.replace)?;
+        println!("{}", said(dir));
     }
-    Ok(names)
+    Ok(())
 }
 
 /// `dryfront dry`.
 pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
+    let (sc, set) = dry(&args)?;
+    let names: Vec<String> = set.names().map(|n| n.display().to_string()).collect();
+    commit(&args.load, &sc, &set, |dir| {
+        format!(
+            "  wrote {} files to {}: {}",
+            names.len(),
+            dir.display(),
+            names.join(", ")
+        )
+    })?;
+    println!("{CAUTIONS}");
+    Ok(())
+}
+
+/// Run `dry` and print its summary; its files as a set, and the scenario (whose inputs the set must not replace).
+pub fn dry(args: &DryArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     let (mut sc, mut warning) = setup(&args.load)?;
     if let Some(spec) = args.strategy {
         let h = sc.spec.heater;
@@ -199,6 +192,7 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
         sc.spec.heater = heater;
         warning = w;
     }
+    check_out(&args.load, &sc)?;
     warn(&warning);
     let label = sc.spec.heater.spec.to_string();
     let mut progress = Progress {
@@ -214,22 +208,27 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
         "{}",
         summary_text(&sc.spec, &label, &result, args.load.units)
     );
-    if let Some(dir) = &args.load.out {
-        let names = write_load_outputs(dir, &sc, &label, &result)?;
-        println!(
-            "  wrote {} files to {}: {}",
-            names.len(),
-            dir.display(),
-            names.join(", ")
-        );
-    }
-    println!("{CAUTIONS}");
-    Ok(())
+    let set = load_outputs(&sc.spec, &label, &result);
+    Ok((sc, set))
 }
 
 /// `dryfront compare`.
 pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
+    let (sc, set) = compare(&args)?;
+    commit(&args.load, &sc, &set, |dir| {
+        format!(
+            "  wrote compare.txt and one folder per strategy to {}",
+            dir.display()
+        )
+    })?;
+    println!("{CAUTIONS}");
+    Ok(())
+}
+
+/// Run `compare` and print its table; its files (`compare.txt` and one folder per strategy) as a set.
+pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     let (sc, warning) = setup(&args.load)?;
+    check_out(&args.load, &sc)?;
     warn(&warning);
     let specs: Vec<StrategySpec> = args
         .strategies
@@ -273,19 +272,13 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
         sc.spec.name, sc.spec.run.stop
     );
     print!("{table}");
-    if let Some(dir) = &args.load.out {
-        write(dir, "compare.txt", &format!("{table}\n{CAUTIONS}\n"), &sc)?;
-        for (spec, r) in specs.iter().zip(&results) {
-            let sub = dir.join(spec.to_string().replace([',', '=', '@'], "_"));
-            write_load_outputs(&sub, &sc, &spec.to_string(), r)?;
-        }
-        println!(
-            "  wrote compare.txt and one folder per strategy to {}",
-            dir.display()
-        );
+    let mut set = OutputSet::new();
+    set.add("compare.txt", format!("{table}\n{CAUTIONS}\n"));
+    for (spec, r) in specs.iter().zip(&results) {
+        let sub = spec.to_string().replace([',', '=', '@'], "_");
+        set.add_set(sub, load_outputs(&sc.spec, &spec.to_string(), r));
     }
-    println!("{CAUTIONS}");
-    Ok(())
+    Ok((sc, set))
 }
 
 fn hours_cell(h: Option<f64>) -> String {
@@ -296,6 +289,7 @@ fn hours_cell(h: Option<f64>) -> String {
 /// `dryfront starts`.
 pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
     let (sc, _) = setup(&args.load)?;
+    check_out(&args.load, &sc)?;
     if !(args.every_h.is_finite() && args.every_h > 0.0) {
         anyhow::bail!("--every-h: {} h must be positive", args.every_h);
     }
@@ -324,9 +318,6 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
         .par_iter()
         .map(|l| run_load(l, &mut ()))
         .collect::<Result<_, _>>()?;
-    let mut csv = String::from(
-        "start,hours_to_mean_target_h,hours_to_fraction_target_h,ready_at,fuel_per_tonne_to_ready,fan_kwh_to_ready,over_dried_pct,final_kernel_pct_wb\n",
-    );
     println!(
         "{} — the same load started at different times ({})",
         sc.spec.name, sc.spec.heater.spec
@@ -354,21 +345,6 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
             ready.fan_kwh,
             o.over_dried_fraction * 100.0
         );
-        let opt = |h: Option<f64>| h.map(|x| format!("{x:.3}")).unwrap_or_default();
-        csv.push_str(&format!(
-            "{},{},{},{},{:.3},{:.3},{:.3},{:.3}\n",
-            l.start.to_rfc3339(),
-            opt(o.hours_to_mean_target),
-            opt(o.hours_to_fraction_target),
-            r.clock
-                .stop_rule
-                .map(|t| t.to_rfc3339())
-                .unwrap_or_default(),
-            per_t,
-            ready.fan_kwh,
-            o.over_dried_fraction * 100.0,
-            o.final_kernel_pct
-        ));
     }
     let mut done: Vec<f64> = results
         .iter()
@@ -386,10 +362,11 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
             results.len()
         );
     }
-    if let Some(dir) = &args.load.out {
-        write(dir, "starts.csv", &csv, &sc)?;
-        println!("  wrote starts.csv to {}", dir.display());
-    }
+    let mut set = OutputSet::new();
+    set.add("starts.csv", starts_csv(&loads, &results));
+    commit(&args.load, &sc, &set, |dir| {
+        format!("  wrote starts.csv to {}", dir.display())
+    })?;
     println!("{CAUTIONS}");
     Ok(())
 }

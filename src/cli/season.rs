@@ -14,17 +14,16 @@ use crate::drying::heater::{SafetyLimits, StrategySpec};
 use crate::input::season::{
     read_arrivals_csv, read_buying_point, season_template, SeasonRunSettings,
 };
-use crate::outfile::write_atomic;
 use crate::report::gantt::{gantt_svg, queue_svg};
-use crate::season::arrivals::{arrivals_csv, generate, ArrivalParams, Load};
+use crate::report::output::{check_target, OutputSet};
+use crate::report::season::{arrivals_csv, daily_csv, kpis_csv, schedule_csv, sweep_csv};
+use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
-use crate::season::kpi::{daily, daily_csv, kpis, kpis_csv, schedule_csv};
+use crate::season::kpi::{daily, kpis};
 use crate::season::scenario::BuyingPoint;
 use crate::season::sim::simulate;
-use crate::season::sweep::{
-    season_seed, smallest_holding, sweep, sweep_csv, SeasonInputs, SweepGrid,
-};
+use crate::season::sweep::{season_seed, smallest_holding, sweep, SeasonInputs, SweepGrid};
 use crate::weather::series::{ReadOptions, WeatherSeries};
 use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
 
@@ -129,9 +128,12 @@ pub struct RunArgs {
     /// Run dryer heaters above the crop's safe limits anyway (they are refused otherwise).
     #[arg(long)]
     pub force: bool,
-    /// Folder for the outputs (created if missing).
+    /// Folder for the outputs (created if missing; an earlier set there is replaced whole).
     #[arg(long)]
     pub out: PathBuf,
+    /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
+    #[arg(long)]
+    pub replace: bool,
 }
 
 impl RunArgs {
@@ -157,6 +159,7 @@ impl RunArgs {
             },
             force: false,
             out,
+            replace: false,
         }
     }
 }
@@ -204,9 +207,12 @@ pub struct SweepArgs {
     /// Deep-bed drier models.
     #[command(flatten)]
     pub models: DeepBedOptions,
-    /// Folder for the outputs (created if missing).
+    /// Folder for the outputs (created if missing; an earlier set there is replaced whole).
     #[arg(long)]
     pub out: PathBuf,
+    /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
+    #[arg(long)]
+    pub replace: bool,
 }
 
 fn parse_policy(s: &str) -> Result<DispatchPolicy, String> {
@@ -295,7 +301,7 @@ fn template(
     opts: &DeepBedOptions,
     weather: WeatherSeries,
     force: bool,
-) -> anyhow::Result<LoadTemplate> {
+) -> anyhow::Result<(LoadTemplate, Vec<PathBuf>)> {
     let settings = SeasonRunSettings {
         grid: opts.grid,
         force,
@@ -307,8 +313,7 @@ fn template(
         &opts.crop,
         std::sync::Arc::new(weather),
         &settings,
-    )?
-    .0)
+    )?)
 }
 
 fn make_drier<'a>(
@@ -373,12 +378,6 @@ fn predictor(bp: &BuyingPoint) -> MoistureRatePredictor {
     }
 }
 
-fn write(out: &Path, name: &str, text: &str, inputs: &[&Path]) -> anyhow::Result<()> {
-    let path = out.join(name);
-    write_atomic(&path, text.as_bytes(), inputs)?;
-    Ok(())
-}
-
 /// Run a season command.
 pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
     match cmd {
@@ -388,15 +387,26 @@ pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
 }
 
 fn run_one(a: RunArgs) -> anyhow::Result<()> {
+    let (set, inputs) = season_run(&a)?;
+    set.commit(&a.out, &inputs, a.replace)?;
+    Ok(())
+}
+
+/// Simulate one season and print its figures; its files as a set, and the files it read.
+pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
     let bp = read_buying_point(&a.scenario)?;
     let crop = Crop::load_named(&a.models.crop)?;
+    let mut inputs = vec![a.scenario.clone(), crop.path.clone()];
     let limits = SafetyLimits::from(&crop.safety);
     check_dryer_heaters(&bp, &a.scenario, &limits, a.force, &mut Vec::new())?;
     let models = match a.drier {
         DrierChoice::DeepBed => {
             let path = a.weather.clone().unwrap_or_else(default_weather);
             let (weather, _) = crate::weather::read(&path, None, &ReadOptions::default())?;
-            Some(template(&bp, &a.scenario, &a.models, weather, a.force)?)
+            inputs.push(path);
+            let (t, read) = template(&bp, &a.scenario, &a.models, weather, a.force)?;
+            inputs.extend(read);
+            Some(t)
         }
         DrierChoice::RateRule => None,
     };
@@ -409,7 +419,10 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
         None => Some((bp.season.start, bp.season.end())),
     };
     let (loads, generated): (Vec<Load>, bool) = match &a.arrivals {
-        Some(p) => (read_arrivals_csv(p, range)?, false),
+        Some(p) => {
+            inputs.push(p.clone());
+            (read_arrivals_csv(p, range)?, false)
+        }
         None => {
             if a.loads == 0 {
                 bail!("--loads: 0 must be at least 1");
@@ -420,6 +433,7 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
             )
         }
     };
+    check_target(&a.out, &inputs, a.replace)?;
     let drier = make_drier(a.drier, &bp, models.as_ref());
     let run = simulate(
         &bp,
@@ -437,34 +451,24 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
             .map(|l| (l.arrival, l.mass_kg))
             .collect::<Vec<_>>(),
     );
-    let mut inputs: Vec<&Path> = vec![&a.scenario];
-    if let Some(p) = &a.arrivals {
-        inputs.push(p);
-    }
     let cur = &bp.prices.currency;
-    write(&a.out, "schedule.csv", &schedule_csv(&run, &bp), &inputs)?;
-    write(&a.out, "daily.csv", &daily_csv(&days), &inputs)?;
-    write(&a.out, "kpis.csv", &kpis_csv(&k, cur), &inputs)?;
     let title = format!(
         "{} — {} dryers, {}",
         bp.name,
         bp.dryers.len(),
         a.policy.name()
     );
-    write(
-        &a.out,
-        "gantt.svg",
-        &gantt_svg(&run, &format!("Dryers: {title}")),
-        &inputs,
-    )?;
-    write(
-        &a.out,
+    let mut set = OutputSet::new();
+    set.add("schedule.csv", schedule_csv(&run, &bp));
+    set.add("daily.csv", daily_csv(&days));
+    set.add("kpis.csv", kpis_csv(&k, cur));
+    set.add("gantt.svg", gantt_svg(&run, &format!("Dryers: {title}")));
+    set.add(
         "queue.svg",
-        &queue_svg(&run, &format!("Queue and occupancy: {title}")),
-        &inputs,
-    )?;
+        queue_svg(&run, &format!("Queue and occupancy: {title}")),
+    );
     if generated {
-        write(&a.out, "arrivals.csv", &arrivals_csv(&loads), &inputs)?;
+        set.add("arrivals.csv", arrivals_csv(&loads));
     }
     println!(
         "{}: {} dryers, policy {}, {} loads ({})",
@@ -486,7 +490,7 @@ fn run_one(a: RunArgs) -> anyhow::Result<()> {
         bp.rules.max_wait_h,
         a.out.display()
     );
-    Ok(())
+    Ok((set, inputs))
 }
 
 fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
@@ -499,6 +503,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         .collect::<anyhow::Result<_>>()?;
     let heaters = parse_heaters(&a.heaters)?;
     let crop = Crop::load_named(&a.models.crop)?;
+    let mut inputs = vec![a.scenario.clone(), crop.path.clone()];
     let limits = SafetyLimits::from(&crop.safety);
     let mut warned = Vec::new();
     for h in &heaters {
@@ -520,6 +525,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         DrierChoice::DeepBed => {
             let path = a.weather_stats.clone().unwrap_or_else(default_stats);
             let stats = ClimateStats::from_json(&path, &crate::input::read_text(&path)?)?;
+            inputs.push(path);
             // Each season gets its own generated weather, a week longer than the season so late loads finish.
             let plan = SeasonPlan {
                 start: bp.season.start.date_naive(),
@@ -527,14 +533,18 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
                 seed: a.seed,
             };
             let seasons = generate_seasons(&stats, &plan, a.seasons as u64)?;
-            seasons
-                .into_iter()
-                .map(|w| template(&bp, &a.scenario, &a.models, w, a.force))
-                .collect::<anyhow::Result<_>>()?
+            let mut models = Vec::new();
+            for w in seasons {
+                let (t, read) = template(&bp, &a.scenario, &a.models, w, a.force)?;
+                inputs.extend(read);
+                models.push(t);
+            }
+            models
         }
         DrierChoice::RateRule => Vec::new(),
     };
-    let inputs = |s: usize| -> Result<SeasonInputs<'_>, crate::season::SeasonError> {
+    check_target(&a.out, &inputs, a.replace)?;
+    let season_inputs = |s: usize| -> Result<SeasonInputs<'_>, crate::season::SeasonError> {
         Ok(SeasonInputs {
             loads: generate(&params, season_seed(a.seed, s))?,
             drier: make_drier(choice, &bp, models.get(s)),
@@ -557,13 +567,17 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             }
         }
     };
-    let res = sweep(&bp, &grid, a.seasons, &inputs, &predictor(&bp), &progress)?;
-    write(
-        &a.out,
-        "sweep.csv",
-        &sweep_csv(&res, &bp.prices.currency),
-        &[&a.scenario],
+    let res = sweep(
+        &bp,
+        &grid,
+        a.seasons,
+        &season_inputs,
+        &predictor(&bp),
+        &progress,
     )?;
+    let mut set = OutputSet::new();
+    set.add("sweep.csv", sweep_csv(&res, &bp.prices.currency));
+    set.commit(&a.out, &inputs, a.replace)?;
     println!(
         "{}: {} cases × {} seasons of {} loads (seed {})",
         bp.name,

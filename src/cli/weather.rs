@@ -7,7 +7,8 @@ use std::path::{Path, PathBuf};
 use anyhow::Context;
 use chrono::{Datelike, Duration, FixedOffset, NaiveDate, TimeZone};
 
-use crate::outfile::write_atomic;
+use crate::report::output::{check_files, check_target, OutputSet};
+use crate::report::weather::{series_csv, warnings_list};
 use crate::weather::{
     self, csv::parse_offset, summarize, ClimateStats, ReadOptions, SeasonPlan, WeatherFormat,
     WeatherSeries,
@@ -106,9 +107,12 @@ pub struct SynthArgs {
     /// Days per season.
     #[arg(long, default_value_t = 91)]
     pub days: u32,
-    /// Output folder: season_000.csv, … and stats.json.
+    /// Output folder: season_000.csv, … and stats.json (an earlier set there is replaced whole).
     #[arg(long)]
     pub out: PathBuf,
+    /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
+    #[arg(long)]
+    pub replace: bool,
 }
 
 /// Run a weather command.
@@ -197,6 +201,11 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     };
     // Drying potential: the kernel isotherm of the chosen crop (the trade grades on kernel moisture).
     let crop = crate::crop::Crop::load_named(&a.crop)?;
+    let inputs = vec![a.file.clone(), crop.path.clone()];
+    if let Some(out) = &a.out {
+        let list = warnings_path.as_deref().expect("set with --out");
+        check_files(&[out.as_path(), list], &inputs)?;
+    }
     let iso = crop.moisture.kernel().sorption.desorption;
     let emc = move |t_c: f64, rh: f64| iso.emc_db(t_c, rh);
     let s = summarize(&series, &a.rh_below, Some(&emc));
@@ -275,19 +284,14 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
         }
     }
     if let Some(out) = &a.out {
-        let csv = series.to_csv(&[format!("cleaned from {}", a.file.display())]);
-        write_atomic(out, csv.as_bytes(), &[&a.file])?;
-        println!("wrote {} ({} h)", out.display(), series.len());
-        // Always written, so a list from an earlier run never stands beside a new series.
-        let list: String = std::iter::once(format!(
-            "# {} values filled, recomputed or assumed while reading {}\n",
-            warnings.len(),
-            a.file.display()
-        ))
-        .chain(warnings.iter().map(|w| format!("{w}\n")))
-        .collect();
         let list_path = warnings_path.expect("set with --out");
-        write_atomic(&list_path, list.as_bytes(), &[&a.file])?;
+        let mut set = OutputSet::new();
+        let csv = series_csv(&series, &[format!("cleaned from {}", a.file.display())]);
+        // Both files sit in the same folder (the list's name is the series' with another extension).
+        set.add(file_name(out)?, csv);
+        set.add(file_name(&list_path)?, warnings_list(&a.file, &warnings));
+        set.commit_files(parent(out), &inputs)?;
+        println!("wrote {} ({} h)", out.display(), series.len());
         println!(
             "wrote {} ({} warnings)",
             list_path.display(),
@@ -297,11 +301,23 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     Ok(())
 }
 
+fn file_name(p: &Path) -> anyhow::Result<&std::ffi::OsStr> {
+    p.file_name()
+        .with_context(|| format!("--out: {} names no file", p.display()))
+}
+
+fn parent(p: &Path) -> &Path {
+    match p.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    }
+}
+
 fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
-    let mut inputs: Vec<&Path> = Vec::new();
+    let mut inputs: Vec<PathBuf> = Vec::new();
     let stats = match (&a.from_sample, &a.stats) {
         (Some(sample), None) => {
-            inputs.push(sample);
+            inputs.push(sample.clone());
             let series = load(sample, &a.read, Some(a.start))?;
             let st = ClimateStats::from_series(
                 &series,
@@ -311,12 +327,13 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
             st
         }
         (None, Some(path)) => {
-            inputs.push(path);
+            inputs.push(path.clone());
             let text = crate::input::read_text(path)?;
             ClimateStats::from_json(path, &text)?
         }
         _ => anyhow::bail!("give exactly one of --from-sample FILE or --stats FILE.json"),
     };
+    check_target(&a.out, &inputs, a.replace)?;
     if a.seasons == 0 || a.seasons > 10_000 {
         anyhow::bail!("--seasons: {} must be between 1 and 10000", a.seasons);
     }
@@ -328,18 +345,20 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
     let seasons = weather::generate_seasons(&stats, &plan, a.seasons)
         .with_context(|| format!("{}: field \"months\"", inputs[0].display()))?;
     let json = serde_json::to_string_pretty(&stats)? + "\n";
-    write_atomic(&a.out.join("stats.json"), json.as_bytes(), &inputs)?;
+    let mut set = OutputSet::new();
+    set.add("stats.json", json);
+    let mut lines = Vec::new();
     for (i, s) in seasons.iter().enumerate() {
-        let path = a.out.join(format!("season_{i:03}.csv"));
+        let name = format!("season_{i:03}.csv");
         let note = format!(
             "synthetic season {i} of {}: dryfront weather synth --seed {} --start {} --days {}",
             a.seasons, a.seed, a.start, a.days
         );
-        write_atomic(&path, s.to_csv(&[note]).as_bytes(), &inputs)?;
+        set.add(&name, series_csv(s, &[note]));
         let sum = summarize(s, &[60.0], None);
-        println!(
+        lines.push(format!(
             "wrote {} ({} h; mean {:.1} °C, mean RH {:.1} %, mean daily range {:.1} K, {})",
-            path.display(),
+            a.out.join(&name).display(),
             s.len(),
             sum.t_mean_c,
             sum.rh_mean_pct,
@@ -349,7 +368,11 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
                     "rain {:.0} mm",
                     r.iter().sum::<f64>()
                 ))
-        );
+        ));
+    }
+    set.commit(&a.out, &inputs, a.replace)?;
+    for l in lines {
+        println!("{l}");
     }
     println!("wrote {}", a.out.join("stats.json").display());
     Ok(())

@@ -6,6 +6,7 @@ use std::fmt::Write as _;
 
 use ndarray::Array2;
 
+use super::output::OutputSet;
 use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
 use crate::drying::run::{Outcome, RunSettings, StopReason, Tally};
 use crate::load::{Cost, LoadResult, LoadSpec};
@@ -426,4 +427,60 @@ pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -
     }
     s.push_str("* = best (lowest) in its column; fuel, fan and costs to the stop rule; over-dried in kg of dry matter\n");
     s
+}
+
+/// The full set of files for one load: summary, outcome, series and pictures.
+pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult) -> OutputSet {
+    let target = spec.run.target_kernel_wb * 100.0;
+    let title = format!("{}: {label}", spec.name);
+    let mut set = OutputSet::new();
+    set.add(
+        "summary.txt",
+        format!(
+            "{}\n{CAUTIONS}\n",
+            summary_text(spec, label, r, UnitSystem::Si)
+        ),
+    );
+    set.add("outcome.json", outcome_json(spec, label, r));
+    set.add("series.csv", series_csv(&r.outcome));
+    set.add(
+        "drying_curves.svg",
+        drying_curves_svg(&title, &r.outcome, target),
+    );
+    set.add("air_temperatures.svg", air_svg(&title, &r.outcome));
+    set.add("final_moisture_top.svg", final_top_svg(spec, r, &spec.run));
+    set.add(
+        "final_moisture_side.svg",
+        final_side_svg(spec, r, &spec.run),
+    );
+    set.add("airflow_top.svg", airflow_top_svg(spec, r));
+    set
+}
+
+/// `starts.csv`: one row per start time.
+pub fn starts_csv(loads: &[LoadSpec], results: &[LoadResult]) -> String {
+    let mut csv = String::from(
+        "start,hours_to_mean_target_h,hours_to_fraction_target_h,ready_at,fuel_per_tonne_to_ready,fan_kwh_to_ready,over_dried_pct,final_kernel_pct_wb\n",
+    );
+    let opt = |h: Option<f64>| h.map(|x| format!("{x:.3}")).unwrap_or_default();
+    for (l, r) in loads.iter().zip(results) {
+        let o = &r.outcome;
+        let ready = o.ready();
+        let per_t = ready.fuel_used / (o.initial_mass_kg / 1000.0);
+        csv.push_str(&format!(
+            "{},{},{},{},{:.3},{:.3},{:.3},{:.3}\n",
+            l.start.to_rfc3339(),
+            opt(o.hours_to_mean_target),
+            opt(o.hours_to_fraction_target),
+            r.clock
+                .stop_rule
+                .map(|t| t.to_rfc3339())
+                .unwrap_or_default(),
+            per_t,
+            ready.fan_kwh,
+            o.over_dried_fraction * 100.0,
+            o.final_kernel_pct
+        ));
+    }
+    csv
 }

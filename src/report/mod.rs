@@ -1,5 +1,10 @@
-//! Reports: tables, SVG charts and heat maps.
+//! Reports: every file and table the program writes is built here, and `output` is the one writer.
 
+pub mod airflow;
 pub mod gantt;
 pub mod load;
+pub mod output;
+pub mod props;
+pub mod season;
 pub mod svg;
+pub mod weather;

@@ -1,6 +1,6 @@
 //! Self-contained SVG charts: a heat map of a grid of values over a footprint in metres (with axes, a colour scale
 //! bar carrying the unit, and a title) and a simple line chart (x–y series with axes, units and a legend).
-//! Pure string building, no I/O; the caller writes the text (e.g. with `outfile::write_atomic`).
+//! Pure string building, no I/O; the caller writes the text (through `report::output::OutputSet`).
 //!
 //! The colour ramp is our own: five control colours from deep indigo through teal and green to pale yellow,
 //! interpolated linearly in sRGB, chosen so that relative luminance (ITU-R BT.709 weights) rises monotonically —

@@ -438,25 +438,10 @@ pub fn generate(params: &ArrivalParams, seed: u64) -> Result<Vec<Load>, InputErr
     Ok(loads)
 }
 
-/// Write loads back as an arrivals CSV (the format [`parse_arrivals_csv`] reads).
-pub fn arrivals_csv(loads: &[Load]) -> String {
-    let mut s = String::from("load_id,arrival,net_mass_kg,kernel_moisture_pct,notes\n");
-    for l in loads {
-        s.push_str(&format!(
-            "{},{},{},{},{}\n",
-            l.id,
-            l.arrival.to_rfc3339(),
-            l.mass_kg,
-            l.moisture_pct,
-            l.notes.replace([',', '\n'], " ")
-        ));
-    }
-    s
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::report::season::arrivals_csv;
 
     fn start() -> DateTime<FixedOffset> {
         DateTime::parse_from_rfc3339("2026-09-08T00:00:00-04:00").unwrap()

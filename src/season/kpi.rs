@@ -1,6 +1,5 @@
 //! Season results as the yard manager reads them: key figures (waits, utilisation, throughput, propane, cost,
-//! shrink), a daily table, and the schedule, each as CSV text with the unit in every column name. No I/O here; the
-//! CLI writes the text with `outfile::write_atomic`.
+//! shrink), a daily table, and the schedule, computed here; `report::season` builds their CSV text. No I/O here.
 //!
 //! Percentiles use linear interpolation between order statistics (Hyndman & Fan 1996 definition 7, the default of
 //! R's `quantile` and NumPy's `percentile`).
@@ -254,97 +253,6 @@ pub fn daily(run: &SeasonRun, arrivals: &[(DateTime<FixedOffset>, f64)]) -> Vec<
         });
     }
     rows
-}
-
-fn money_col(currency: &str) -> String {
-    let c: String = currency
-        .chars()
-        .map(|c| {
-            if c.is_alphanumeric() || c == '$' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    if c.is_empty() {
-        "money".into()
-    } else {
-        c
-    }
-}
-
-/// The schedule as CSV: one row per load, started or not (`status` = dried, not-dry or never-started).
-pub fn schedule_csv(run: &SeasonRun, bp: &BuyingPoint) -> String {
-    let m = money_col(&bp.prices.currency);
-    let mut s = format!(
-        "load_id,dryer_id,status,arrival,start,finish,wait_h,drying_h,net_mass_kg,moisture_in_pct_wb,\
-         moisture_out_pct_wb,propane_l,fan_kwh,over_dried_kg,shrink_kg,shrink_value_{m}\n"
-    );
-    let price = bp.prices.peanuts_per_tonne / 1000.0;
-    for r in &run.schedule {
-        let x = &r.result;
-        s.push_str(&format!(
-            "{},{},{},{},{},{},{:.3},{:.3},{:.1},{:.2},{:.2},{:.2},{:.2},{:.1},{:.1},{:.2}\n",
-            r.load_id,
-            r.dryer_id,
-            if x.finished { "dried" } else { "not-dry" },
-            r.arrival.to_rfc3339(),
-            r.start.to_rfc3339(),
-            r.finish.to_rfc3339(),
-            r.wait_h,
-            x.hours,
-            r.mass_kg,
-            r.moisture_in_pct,
-            x.moisture_out_pct,
-            x.fuel_l,
-            x.kwh,
-            x.over_dried_kg,
-            x.shrink_kg,
-            x.shrink_kg * price,
-        ));
-    }
-    for u in &run.never_started {
-        s.push_str(&format!(
-            "{},,never-started,{},,,{:.3},,{:.1},{:.2},,,,,,\n",
-            u.load_id,
-            u.arrival.to_rfc3339(),
-            hours_between(u.arrival, run.end),
-            u.mass_kg,
-            u.moisture_pct
-        ));
-    }
-    s
-}
-
-/// The daily table as CSV.
-pub fn daily_csv(rows: &[DayRow]) -> String {
-    let mut s = String::from(
-        "date,arrivals_loads,tonnes_in_t,loads_finished,mean_dryers_busy,peak_dryers_busy,longest_queue_loads\n",
-    );
-    for r in rows {
-        s.push_str(&format!(
-            "{},{},{:.2},{},{:.2},{},{}\n",
-            r.day.format("%Y-%m-%d"),
-            r.arrivals,
-            r.tonnes_in,
-            r.loads_finished,
-            r.mean_dryers_busy,
-            r.peak_dryers_busy,
-            r.longest_queue
-        ));
-    }
-    s
-}
-
-/// Key figures as CSV (`figure,value,unit`).
-pub fn kpis_csv(k: &Kpis, currency: &str) -> String {
-    let mut s = String::from("figure,value,unit\n");
-    for ((name, unit), v) in KPI_FIELDS.iter().zip(k.values()) {
-        let unit = if *unit == "currency" { currency } else { unit };
-        s.push_str(&format!("{name},{v:.4},{unit}\n"));
-    }
-    s
 }
 
 #[cfg(test)]

@@ -180,36 +180,3 @@ pub fn smallest_holding(
         .map(|r| r.case.dryers)
         .min()
 }
-
-/// The sweep table as CSV: one row per case and figure, with P10/P50/P90 across seasons. The heater column is the
-/// strategy in the heater language (`rh=55,max=35`, quoted where it holds a comma) or `scenario`.
-pub fn sweep_csv(results: &[CaseResult], currency: &str) -> String {
-    let mut w = csv::Writer::from_writer(Vec::new());
-    let header = [
-        "dryers", "policy", "heater", "figure", "unit", "p10", "p50", "p90",
-    ];
-    w.write_record(header)
-        .expect("writing to memory cannot fail");
-    for r in results {
-        let heater = match r.case.heater {
-            None => "scenario".to_string(),
-            Some(h) => h.to_string(),
-        };
-        for (f, (name, unit)) in KPI_FIELDS.iter().enumerate() {
-            let unit = if *unit == "currency" { currency } else { unit };
-            let row = [
-                r.case.dryers.to_string(),
-                r.case.policy.name().to_string(),
-                heater.clone(),
-                name.to_string(),
-                unit.to_string(),
-                format!("{:.4}", r.p10[f]),
-                format!("{:.4}", r.p50[f]),
-                format!("{:.4}", r.p90[f]),
-            ];
-            w.write_record(&row).expect("writing to memory cannot fail");
-        }
-    }
-    let bytes = w.into_inner().expect("writing to memory cannot fail");
-    String::from_utf8(bytes).expect("every cell is UTF-8")
-}

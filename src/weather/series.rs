@@ -374,48 +374,6 @@ impl WeatherSeries {
             warnings: self.warnings.clone(),
         })
     }
-
-    /// The series in the project's CSV schema (see `weather-samples/README.md`), readable by `read_csv`.
-    pub fn to_csv(&self, comments: &[String]) -> String {
-        use std::fmt::Write;
-        let mut s = String::with_capacity(self.len() * 64);
-        let _ = writeln!(s, "# utc_offset={}", self.site.utc_offset);
-        if !self.site.name.is_empty() {
-            let _ = writeln!(s, "# site={}", self.site.name.replace(['\n', '\r'], " "));
-        }
-        if let Some(e) = self.site.elevation_m {
-            let _ = writeln!(s, "# elevation_m={e}");
-        }
-        for c in comments {
-            let _ = writeln!(s, "# {}", c.replace(['\n', '\r'], " "));
-        }
-        s.push_str("timestamp,temp_c,rh_pct,pressure_kpa");
-        if self.rain_mm.is_some() {
-            s.push_str(",rain_mm");
-        }
-        if self.wind_m_s.is_some() {
-            s.push_str(",wind_m_s");
-        }
-        s.push_str(",filled\n");
-        for i in 0..self.len() {
-            let _ = write!(
-                s,
-                "{},{:.2},{:.2},{:.3}",
-                self.time(i).format("%Y-%m-%dT%H:%M:%S%:z"),
-                self.t_c[i],
-                self.rh[i] * 100.0,
-                self.p_pa[i] / 1000.0
-            );
-            if let Some(r) = &self.rain_mm {
-                let _ = write!(s, ",{:.2}", r[i]);
-            }
-            if let Some(v) = &self.wind_m_s {
-                let _ = write!(s, ",{:.2}", v[i]);
-            }
-            let _ = writeln!(s, ",{}", u8::from(self.filled[i]));
-        }
-        s
-    }
 }
 
 /// Settings shared by all readers.

@@ -1,0 +1,215 @@
+//! The airflow command's reports: the printed summary, the per-column table, the JSON summary and SVG maps of the
+//! top-surface airflow and the plenum pressure.
+use std::fmt::Write as _;
+
+use super::output::OutputSet;
+use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
+use crate::airflow::{AirflowSolution, BedLaw, Container, FlowSpec, SolverSettings};
+use crate::units::UnitSystem;
+
+const MEMORY: &str = "writing to memory cannot fail";
+
+/// The printed summary of a solve.
+pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSystem) -> String {
+    let sm = &s.summary;
+    let op = &s.operating_point;
+    let g = s.grid;
+    let mut o = String::new();
+    let source = match flow {
+        FlowSpec::Fan(f) => format!(
+            "fan {}: {} at the air it draws",
+            f.name,
+            u.flow(op.fan_flow_m3_per_s)
+        ),
+        FlowSpec::Fixed { .. } => format!(
+            "fixed flow: {} at the ambient air",
+            u.flow(op.fan_flow_m3_per_s)
+        ),
+    };
+    let _ = writeln!(
+        o,
+        "{}: {:.1} m³ of peanuts, mean depth {}, grid {}×{} columns × {} layers",
+        c.name,
+        sm.bed_volume_m3,
+        u.length(sm.bed_volume_m3 / c.floor_area_m2()),
+        g.nx,
+        g.ny,
+        g.nz
+    );
+    let _ = writeln!(
+        o,
+        "{source} ({:.3} kg/m³); into the plenum {} at the plenum air ({:.3} kg/m³), {:.3} kg/s of dry air",
+        sm.fan_air_density_kg_per_m3,
+        u.flow(op.plenum_flow_m3_per_s),
+        sm.plenum_air_density_kg_per_m3,
+        op.dry_air_kg_per_s
+    );
+    let _ = writeln!(
+        o,
+        "through the bed {}, leakage {} (at the plenum air)",
+        u.flow(sm.bed_flow_m3_per_s),
+        u.flow(sm.leakage_m3_per_s)
+    );
+    let _ = writeln!(
+        o,
+        "fan static pressure {}; inlet jet {:.1} m/s; plenum {} to {} (mean {})",
+        u.pressure(op.fan_static_pressure_pa),
+        op.inlet_velocity_m_per_s,
+        u.pressure(fold(s, f64::INFINITY, f64::min)),
+        u.pressure(fold(s, f64::NEG_INFINITY, f64::max)),
+        u.pressure(sm.mean_plenum_pressure_pa)
+    );
+    let _ = writeln!(
+        o,
+        "air leaving the top: mean {:.3} m/s (lowest column {:.3}, highest {:.3}), CV {:.1} %, lowest/mean {:.2}",
+        sm.mean_column_velocity_m_per_s,
+        sm.min_column_velocity_m_per_s,
+        sm.max_column_velocity_m_per_s,
+        100.0 * sm.column_flow_cv,
+        sm.min_over_mean
+    );
+    let _ = writeln!(
+        o,
+        "specific airflow {:.1} m³/min per m³ of peanuts; mean dry-air flux {:.3} kg/(s·m²)",
+        sm.specific_airflow_m3_per_min_per_m3, sm.mean_mass_flux_kg_per_m2_s
+    );
+    let _ = writeln!(
+        o,
+        "solved: {} outer iterations, {} CG iterations, last relative change {:.1e}",
+        s.converged.iters, s.converged.linear_iters, s.converged.residual
+    );
+    o
+}
+
+fn fold(s: &AirflowSolution, init: f64, f: fn(f64, f64) -> f64) -> f64 {
+    s.plenum_pressure_pa.iter().copied().fold(init, f)
+}
+
+/// What a solve was run with, for `summary.json`.
+pub struct AirflowRun<'a> {
+    /// The bed's resistance law as used.
+    pub law: &'a BedLaw,
+    /// The solver settings.
+    pub settings: &'a SolverSettings,
+    /// The air states used.
+    pub air: serde_json::Value,
+    /// The bed moisture used.
+    pub bed: serde_json::Value,
+}
+
+/// The airflow command's files: `columns.csv`, `summary.json` and three SVG pictures.
+pub fn airflow_outputs(
+    c: &Container,
+    flow: &FlowSpec,
+    run: &AirflowRun<'_>,
+    s: &AirflowSolution,
+) -> OutputSet {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "i",
+        "j",
+        "x_m",
+        "y_m",
+        "depth_m",
+        "top_velocity_m_per_s",
+        "dry_air_mass_flux_kg_per_m2_s",
+        "bed_bottom_pressure_pa",
+        "plenum_pressure_pa",
+    ])
+    .expect(MEMORY);
+    for ((i, j), &v) in s.top_velocity_m_per_s.indexed_iter() {
+        w.write_record([
+            i.to_string(),
+            j.to_string(),
+            format!("{:.4}", (i as f64 + 0.5) * s.dx_m),
+            format!("{:.4}", (j as f64 + 0.5) * s.dy_m),
+            format!("{:.4}", s.depth_m[[i, j]]),
+            format!("{v:.6}"),
+            format!("{:.6}", s.mass_flux_kg_per_m2_s[[i, j]]),
+            format!("{:.3}", s.bottom_pressure_pa[[i, j]]),
+            format!("{:.3}", s.plenum_pressure_pa[[i, j]]),
+        ])
+        .expect(MEMORY);
+    }
+    let csv_bytes = w.into_inner().expect(MEMORY);
+    let summary = serde_json::json!({
+        "container": c.name,
+        "flow": match flow {
+            FlowSpec::Fan(f) => serde_json::json!({ "fan": f.name }),
+            FlowSpec::Fixed { total_m3_per_s } => serde_json::json!({ "fixed_m3_per_min": total_m3_per_s * 60.0 }),
+        },
+        "air": run.air,
+        "bed_moisture": run.bed,
+        "bed_law": run.law,
+        "fill": c.fill,
+        "settings": run.settings,
+        "operating_point": s.operating_point,
+        "summary": s.summary,
+        "converged": s.converged,
+    });
+    let json = serde_json::to_string_pretty(&summary).expect(MEMORY) + "\n";
+    let top = heat_map(&HeatMap {
+        values: s.top_velocity_m_per_s.view(),
+        x_extent_m: c.length_m,
+        y_extent_m: c.width_m,
+        title: format!("{}: air leaving the top surface", c.name),
+        x_label: "distance from front wall".into(),
+        y_label: "across".into(),
+        quantity: "superficial velocity".into(),
+        unit: "m/s".into(),
+        range: None,
+        marks: None,
+    });
+    let plenum = heat_map(&HeatMap {
+        values: s.plenum_pressure_pa.view(),
+        x_extent_m: c.length_m,
+        y_extent_m: c.width_m,
+        title: format!("{}: plenum static pressure", c.name),
+        x_label: "distance from front wall".into(),
+        y_label: "across".into(),
+        quantity: "static pressure".into(),
+        unit: "Pa".into(),
+        range: None,
+        marks: None,
+    });
+    let rows: Vec<(f64, f64)> = (0..s.grid.nx)
+        .map(|i| {
+            (
+                (i as f64 + 0.5) * s.dx_m,
+                s.plenum_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
+            )
+        })
+        .collect();
+    let bottoms: Vec<(f64, f64)> = (0..s.grid.nx)
+        .map(|i| {
+            (
+                (i as f64 + 0.5) * s.dx_m,
+                s.bottom_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
+            )
+        })
+        .collect();
+    let profile = line_chart(&LineChart {
+        title: format!("{}: pressure along the length", c.name),
+        x_label: "distance from front wall".into(),
+        x_unit: "m".into(),
+        y_label: "static pressure".into(),
+        y_unit: "Pa".into(),
+        series: vec![
+            Series {
+                name: "plenum".into(),
+                points: rows,
+            },
+            Series {
+                name: "bed bottom (above floor)".into(),
+                points: bottoms,
+            },
+        ],
+    });
+    let mut set = OutputSet::new();
+    set.add("columns.csv", csv_bytes);
+    set.add("summary.json", json);
+    set.add("top_airflow.svg", top);
+    set.add("plenum_pressure.svg", plenum);
+    set.add("plenum_profile.svg", profile);
+    set
+}
