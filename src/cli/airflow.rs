@@ -130,24 +130,9 @@ pub struct AirflowOptions {
     pub units: UnitSystem,
 }
 
-fn models_dir(arg: &Option<PathBuf>) -> PathBuf {
-    if let Some(p) = arg {
-        return p.clone();
-    }
-    let local = PathBuf::from("models");
-    if local.is_dir() {
-        local
-    } else {
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("models")
-    }
-}
-
-fn resolve(models: &Path, kind: &str, name: &str) -> PathBuf {
-    if name.contains('/') || name.contains('\\') || name.ends_with(".json") {
-        PathBuf::from(name)
-    } else {
-        models.join(kind).join(format!("{name}.json"))
-    }
+/// A model file by bundled name or path, looking first in `--models` when given (the one resolver).
+fn resolve(models: Option<&Path>, kind: &str, name: &str, what: &str) -> Result<PathBuf, InputError> {
+    crate::models::resolve_in(models, kind, name, what)
 }
 
 fn read(path: &Path) -> Result<String, InputError> {
@@ -175,14 +160,10 @@ fn mean_depth(c: &Container) -> f64 {
 /// Run the airflow solve.
 pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     let args = *args.opts;
-    let models = models_dir(&args.models);
-    let container_path = resolve(&models, "containers", &args.container);
+    let models = args.models.as_deref();
+    let container_path = resolve(models, "containers", &args.container, "--container")?;
     let mut container = Container::from_json_str(&read(&container_path)?, &container_path)?;
-    let crop_path = if args.models.is_some() {
-        resolve(&models, "crops", &args.crop)
-    } else {
-        crate::models::resolve("crops", &args.crop, "--crop")?
-    };
+    let crop_path = resolve(models, "crops", &args.crop, "--crop")?;
     let crop = Crop::from_json_str(&read(&crop_path)?, &crop_path)?;
     let mut law = bed_law(&crop);
     if let Some(p) = args.packing {
@@ -219,7 +200,7 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     }
     let (flow, fan_path) = match (&args.fan, args.flow_m3_min) {
         (Some(name), _) => {
-            let p = resolve(&models, "fans", name);
+            let p = resolve(models, "fans", name, "--fan")?;
             (
                 FlowSpec::Fan(FanCurve::from_json_str(&read(&p)?, &p)?),
                 Some(p),
