@@ -131,7 +131,12 @@ pub struct AirflowOptions {
 }
 
 /// A model file by bundled name or path, looking first in `--models` when given (the one resolver).
-fn resolve(models: Option<&Path>, kind: &str, name: &str, what: &str) -> Result<PathBuf, InputError> {
+fn resolve(
+    models: Option<&Path>,
+    kind: &str,
+    name: &str,
+    what: &str,
+) -> Result<PathBuf, InputError> {
     crate::models::resolve_in(models, kind, name, what)
 }
 

@@ -12,6 +12,7 @@ use serde::{Deserialize, Serialize};
 use crate::drying::heater::StrategySpec;
 use crate::drying::stop::StopRule;
 use crate::error::InputError;
+use crate::input::{check_field, field_err};
 
 /// One dryer unit: a container type with its fan and burner.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -130,26 +131,6 @@ pub struct BuyingPoint {
     pub dryers: Vec<DryerUnit>,
 }
 
-fn field_err(path: &Path, field: impl Into<String>, message: impl Into<String>) -> InputError {
-    InputError::Model {
-        path: path.to_path_buf(),
-        field: field.into(),
-        message: message.into(),
-    }
-}
-
-fn check(path: &Path, field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Result<(), InputError> {
-    if v.is_finite() && v >= lo && v <= hi {
-        Ok(())
-    } else {
-        Err(field_err(
-            path,
-            field,
-            format!("{v} {unit} must be between {lo} and {hi} {unit}"),
-        ))
-    }
-}
-
 /// The first `dryers[i].heater` string that the heater language refuses, as an error naming that field (serde's
 /// own message for it would name only the line).
 fn heater_error(path: &Path, text: &str) -> Option<InputError> {
@@ -198,8 +179,8 @@ impl BuyingPoint {
                 format!("{} must be between 1 and 366 days", self.season.days),
             ));
         }
-        check(path, "turnaround_h", self.turnaround_h, 0.0, 48.0, "h")?;
-        check(
+        check_field(path, "turnaround_h", self.turnaround_h, 0.0, 48.0, "h")?;
+        check_field(
             path,
             "rules.max_wait_h",
             self.rules.max_wait_h,
@@ -207,7 +188,7 @@ impl BuyingPoint {
             240.0,
             "h",
         )?;
-        check(
+        check_field(
             path,
             "rules.target_kernel_pct",
             self.rules.target_kernel_pct,
@@ -237,7 +218,7 @@ impl BuyingPoint {
             ));
         }
         let p = &self.prices;
-        check(
+        check_field(
             path,
             "prices.propane_per_l",
             p.propane_per_l,
@@ -245,7 +226,7 @@ impl BuyingPoint {
             100.0,
             &p.currency,
         )?;
-        check(
+        check_field(
             path,
             "prices.electricity_per_kwh",
             p.electricity_per_kwh,
@@ -253,7 +234,7 @@ impl BuyingPoint {
             100.0,
             &p.currency,
         )?;
-        check(
+        check_field(
             path,
             "prices.peanuts_per_tonne",
             p.peanuts_per_tonne,
@@ -284,7 +265,7 @@ impl BuyingPoint {
             if d.fan.trim().is_empty() {
                 return Err(field_err(path, f("fan"), "must name a fan"));
             }
-            check(
+            check_field(
                 path,
                 &f("capacity_kg"),
                 d.capacity_kg,
@@ -292,9 +273,9 @@ impl BuyingPoint {
                 60_000.0,
                 "kg",
             )?;
-            check(path, &f("fan_kw"), d.fan_kw, 0.0, 200.0, "kW")?;
+            check_field(path, &f("fan_kw"), d.fan_kw, 0.0, 200.0, "kW")?;
             if let Some(kw) = d.burner_kw {
-                check(path, &f("burner_kw"), kw, 0.0, 5_000.0, "kW")?;
+                check_field(path, &f("burner_kw"), kw, 0.0, 5_000.0, "kW")?;
             }
             // The heater was parsed and range-checked by `StrategySpec` (see `from_json`).
         }
