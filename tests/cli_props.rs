@@ -251,7 +251,13 @@ fn demo_writes_property_table_whole() {
     // no temporary files left.
     assert_eq!(
         names,
-        [".dryfront-outputs", "compare", "load", "properties.csv", "season"],
+        [
+            ".dryfront-outputs",
+            "compare",
+            "load",
+            "properties.csv",
+            "season"
+        ],
         "{names:?}"
     );
     for sub in ["load", "compare", "season"] {

@@ -27,10 +27,13 @@ fn model_error(v: &Value) -> (String, String) {
     match load_value(v) {
         Err(InputError::Model {
             path,
+            line,
             field,
             message,
         }) => {
             assert_eq!(path, PathBuf::from("bad/peanut.json"));
+            // The file is written as one line of JSON, so every field found is on line 1.
+            assert!(matches!(line, Some(1) | None), "{line:?}");
             (field, message)
         }
         other => panic!("expected a model error, got {other:?}"),

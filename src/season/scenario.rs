@@ -124,6 +124,7 @@ pub struct BuyingPoint {
 
 fn field_err(path: &Path, field: impl Into<String>, message: impl Into<String>) -> InputError {
     InputError::Model {
+        line: None,
         path: path.to_path_buf(),
         field: field.into(),
         message: message.into(),
@@ -170,7 +171,8 @@ impl BuyingPoint {
                 message: e.to_string(),
             })
         })?;
-        bp.validate(path)?;
+        bp.validate(path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))?;
         Ok(bp)
     }
 
