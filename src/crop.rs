@@ -166,6 +166,11 @@ impl Crop {
 
     /// Parse and validate crop JSON text; `path` is used in error messages.
     pub fn from_json_str(text: &str, path: &Path) -> Result<Crop, InputError> {
+        Self::from_json_unlocated(text, path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))
+    }
+
+    fn from_json_unlocated(text: &str, path: &Path) -> Result<Crop, InputError> {
         let root: Value = serde_json::from_str(text).map_err(|e| InputError::Parse {
             path: path.to_path_buf(),
             line: Some(e.line() as u64),
@@ -393,6 +398,7 @@ fn join(prefix: &str, key: &str) -> String {
 impl Reader<'_> {
     fn err(&self, field: &str, message: &str) -> InputError {
         InputError::Model {
+            line: None,
             path: self.path.to_path_buf(),
             field: field.to_string(),
             message: message.to_string(),

@@ -20,10 +20,12 @@ pub enum InputError {
         expected: String,
     },
     /// A value in a structured file (JSON) is missing, unknown or out of range.
-    #[error("{}: field {field:?}: {message}", .path.display())]
+    #[error("{}{}: field {field:?}: {message}", .path.display(), .line.map(|l| format!(":{l}")).unwrap_or_default())]
     Model {
         /// The file.
         path: PathBuf,
+        /// 1-based line of the field in the file, when found (see `input::with_json_line`).
+        line: Option<u64>,
         /// Dotted path of the field (`sorption.kernel.a`).
         field: String,
         /// What is wrong.

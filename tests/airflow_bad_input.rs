@@ -26,7 +26,7 @@ fn negative_length_names_the_field() {
     let e = container_error(|v| v["length_m"] = (-6.4).into());
     assert_eq!(
         e,
-        "bad.json: field \"length_m\": -6.4 m must be a positive number"
+        "bad.json:1: field \"length_m\": -6.4 m must be a positive number"
     );
 }
 
@@ -34,7 +34,7 @@ fn negative_length_names_the_field() {
 fn zero_open_area_is_rejected() {
     let e = container_error(|v| v["floor"]["open_area_fraction"] = 0.0.into());
     assert!(
-        e.starts_with("bad.json: field \"floor.open_area_fraction\": 0 must be above 0"),
+        e.starts_with("bad.json:1: field \"floor.open_area_fraction\": 0 must be above 0"),
         "{e}"
     );
 }
@@ -44,7 +44,7 @@ fn fill_over_wall_height_is_rejected() {
     let e = container_error(|v| v["fill"] = serde_json::json!({"shape": "level", "depth_m": 1.8}));
     assert_eq!(
         e,
-        "bad.json: field \"fill.depth_m\": fill depth 1.8 m is over the wall height 1.5 m"
+        "bad.json:1: field \"fill.depth_m\": fill depth 1.8 m is over the wall height 1.5 m"
     );
     let e = container_error(|v| {
         v["fill"] = serde_json::json!({"shape": "grid", "depths_m": [[1.2, 1.2], [1.2, 1.6]]})
@@ -62,7 +62,7 @@ fn ragged_permeability_map_is_rejected() {
     });
     assert_eq!(
         e,
-        "bad.json: field \"permeability.cells[1]\": row has 2 values but row 0 has 3: the map must be rectangular"
+        "bad.json:1: field \"permeability.cells[1]\": row has 2 values but row 0 has 3: the map must be rectangular"
     );
 }
 
@@ -94,7 +94,7 @@ fn non_monotone_fan_curve_names_the_point() {
         .to_string();
     assert_eq!(
         e,
-        "fan.json: field \"points\": fan curve: pressure must fall as airflow rises (point 3: 320 Pa after 300 Pa)"
+        "fan.json:1: field \"points\": fan curve: pressure must fall as airflow rises (point 3: 320 Pa after 300 Pa)"
     );
 }
 
@@ -147,7 +147,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
     );
     assert_eq!(code, 2);
     assert!(
-        err.starts_with("dryfront: error: bad.json: field \"floor.open_area_fraction\""),
+        err.starts_with("dryfront: error: bad.json:1: field \"floor.open_area_fraction\""),
         "{err}"
     );
     assert!(!dir.path().join("out").exists());

@@ -27,10 +27,13 @@ fn model_error(v: &Value) -> (String, String) {
     match load_value(v) {
         Err(InputError::Model {
             path,
+            line,
             field,
             message,
         }) => {
             assert_eq!(path, PathBuf::from("bad/peanut.json"));
+            // Every error names a field whose first part is in the (pretty-printed) file, so it has a line.
+            assert!(line.is_some_and(|l| l > 1), "{field}: {line:?}");
             (field, message)
         }
         other => panic!("expected a model error, got {other:?}"),

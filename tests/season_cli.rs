@@ -129,7 +129,7 @@ fn bad_scenario_and_bad_options_exit_non_zero() {
     fails_cleanly(
         &["season", "run", "--scenario", &bp, "--generate"],
         None,
-        "empty.json: field \"dryers\": a buying point needs at least one dryer",
+        "empty.json:1: field \"dryers\": a buying point needs at least one dryer",
     );
     let s = scenario();
     fails_cleanly(

@@ -130,7 +130,7 @@ fn zero_dryers_is_an_error_not_a_panic() {
     let err = BuyingPoint::from_json(Path::new("yard/bp.json"), &json.to_string()).unwrap_err();
     assert!(
         err.to_string()
-            .starts_with("yard/bp.json: field \"dryers\""),
+            .starts_with("yard/bp.json:1: field \"dryers\""),
         "{err}"
     );
 }

@@ -274,9 +274,10 @@ fn bad_statistics_name_the_field() {
     let err = ClimateStats::from_json(Path::new("stats.json"), &text)
         .unwrap_err()
         .to_string();
+    // Line 12 of the bundled statistics holds October's row (months[1]).
     assert!(
         err.contains(
-            "stats.json: field \"months[1].rh_mean_pct\": 175 % must be between 5 and 100 %"
+            "stats.json:12: field \"months[1].rh_mean_pct\": 175 % must be between 5 and 100 %"
         ),
         "{err}"
     );

@@ -186,6 +186,11 @@ impl FanCurve {
 
     /// Parse and validate a fan file; `path` names the file in errors.
     pub fn from_json_str(text: &str, path: &Path) -> Result<Self, InputError> {
+        Self::from_json_unlocated(text, path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))
+    }
+
+    fn from_json_unlocated(text: &str, path: &Path) -> Result<Self, InputError> {
         let f: FanFile = serde_json::from_str(text).map_err(|e| InputError::Parse {
             path: path.to_path_buf(),
             line: Some(e.line() as u64),
@@ -212,6 +217,7 @@ impl FanCurve {
                 })?,
             };
         let mut curve = FanCurve::new(&f.name, &f.points, rho).map_err(|e| InputError::Model {
+            line: None,
             path: path.to_path_buf(),
             field: "points".into(),
             message: e.to_string(),

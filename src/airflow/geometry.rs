@@ -185,6 +185,7 @@ pub struct DiscreteContainer {
 
 fn model_err(path: &Path, field: &str, message: impl Into<String>) -> InputError {
     InputError::Model {
+        line: None,
         path: path.to_path_buf(),
         field: field.to_string(),
         message: message.into(),
@@ -240,7 +241,8 @@ impl Container {
             line: Some(e.line() as u64),
             message: e.to_string(),
         })?;
-        c.validate(path)?;
+        c.validate(path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))?;
         Ok(c)
     }
 

@@ -16,6 +16,7 @@ use crate::error::InputError;
 /// An error in a structured file's field.
 pub fn field_err(path: &Path, field: impl Into<String>, message: impl Into<String>) -> InputError {
     InputError::Model {
+        line: None,
         path: path.to_path_buf(),
         field: field.into(),
         message: message.into(),
@@ -57,4 +58,207 @@ pub fn parse_json<T: serde::de::DeserializeOwned>(
         line: Some(e.line() as u64),
         message: e.to_string(),
     })
+}
+
+/// Give a field error from a JSON file the line of its field: for [`InputError::Model`] about `path` without a
+/// line, the line of the deepest part of its dotted field path (`dryers[1].capacity_kg`, `heater.strategy`) found
+/// in `text`. Every JSON reader passes its post-parse errors through this.
+pub fn with_json_line(err: InputError, path: &Path, text: &str) -> InputError {
+    match err {
+        InputError::Model {
+            path: p,
+            line: None,
+            field,
+            message,
+        } if p == path => {
+            let line = json_field_line(text, &field);
+            InputError::Model {
+                path: p,
+                line,
+                field,
+                message,
+            }
+        }
+        other => other,
+    }
+}
+
+#[derive(Debug, PartialEq)]
+enum Seg {
+    Key(String),
+    Index(usize),
+}
+
+fn segments(field: &str) -> Vec<Seg> {
+    let mut out = Vec::new();
+    for part in field.split('.').filter(|p| !p.is_empty()) {
+        let mut rest = part;
+        if let Some(i) = rest.find('[') {
+            if i > 0 {
+                out.push(Seg::Key(rest[..i].to_string()));
+            }
+            rest = &rest[i..];
+            while let Some(r) = rest.strip_prefix('[') {
+                let Some((n, tail)) = r.split_once(']') else {
+                    break;
+                };
+                match n.parse() {
+                    Ok(n) => out.push(Seg::Index(n)),
+                    Err(_) => return out,
+                }
+                rest = tail;
+            }
+        } else {
+            out.push(Seg::Key(rest.to_string()));
+        }
+    }
+    out
+}
+
+/// The 1-based line of the deepest part of a dotted field path found in valid JSON text (`None` when not even
+/// its first part is there).
+pub fn json_field_line(text: &str, field: &str) -> Option<u64> {
+    let target = segments(field);
+    let mut w = Walker {
+        b: text.as_bytes(),
+        i: 0,
+        line: 1,
+        best: (0, None),
+    };
+    w.value(&target, 0);
+    w.best.1
+}
+
+/// A walk over JSON text that follows one path and notes the line of each part it reaches.
+struct Walker<'a> {
+    b: &'a [u8],
+    i: usize,
+    line: u64,
+    best: (usize, Option<u64>),
+}
+
+impl Walker<'_> {
+    fn ws(&mut self) {
+        while let Some(&c) = self.b.get(self.i) {
+            match c {
+                b'\n' => self.line += 1,
+                b' ' | b'\t' | b'\r' => {}
+                _ => return,
+            }
+            self.i += 1;
+        }
+    }
+
+    fn reached(&mut self, depth: usize) {
+        if depth > self.best.0 {
+            self.best = (depth, Some(self.line));
+        }
+    }
+
+    fn string(&mut self) -> String {
+        let start = self.i + 1;
+        self.i += 1;
+        while let Some(&c) = self.b.get(self.i) {
+            self.i += 1;
+            match c {
+                b'\\' => self.i += 1,
+                b'"' => break,
+                _ => {}
+            }
+        }
+        let raw = &self.b[start..self.i.saturating_sub(1).max(start)];
+        String::from_utf8_lossy(raw).into_owned()
+    }
+
+    /// Walk one value; `depth` parts of `target` lead here (`on` says whether this value is on the path).
+    fn value(&mut self, target: &[Seg], depth: usize) {
+        self.ws();
+        match self.b.get(self.i) {
+            Some(b'{') => {
+                self.i += 1;
+                loop {
+                    self.ws();
+                    match self.b.get(self.i) {
+                        Some(b'"') => {
+                            let key = self.string();
+                            let on = matches!(target.get(depth), Some(Seg::Key(k)) if *k == key);
+                            if on {
+                                self.reached(depth + 1);
+                            }
+                            self.ws();
+                            self.i += 1; // ':'
+                            self.child(target, depth, on);
+                        }
+                        Some(b',') => self.i += 1,
+                        Some(b'}') | None => {
+                            self.i += 1;
+                            return;
+                        }
+                        Some(_) => self.i += 1,
+                    }
+                }
+            }
+            Some(b'[') => {
+                self.i += 1;
+                let mut n = 0;
+                loop {
+                    self.ws();
+                    match self.b.get(self.i) {
+                        Some(b',') => self.i += 1,
+                        Some(b']') | None => {
+                            self.i += 1;
+                            return;
+                        }
+                        Some(_) => {
+                            let on = matches!(target.get(depth), Some(Seg::Index(k)) if *k == n);
+                            if on {
+                                self.reached(depth + 1);
+                            }
+                            self.child(target, depth, on);
+                            n += 1;
+                        }
+                    }
+                }
+            }
+            Some(b'"') => {
+                self.string();
+            }
+            Some(_) => {
+                while let Some(&c) = self.b.get(self.i) {
+                    if matches!(c, b',' | b'}' | b']' | b' ' | b'\n' | b'\t' | b'\r') {
+                        break;
+                    }
+                    self.i += 1;
+                }
+            }
+            None => {}
+        }
+    }
+
+    /// Walk a member's value: on the path it goes one part deeper, off it no part can match.
+    fn child(&mut self, target: &[Seg], depth: usize, on: bool) {
+        if on {
+            self.value(target, depth + 1);
+        } else {
+            self.value(&[], 0);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn finds_the_line_of_a_dotted_field() {
+        let text = "{\n  \"name\": \"x\",\n  \"dryers\": [\n    {\"id\": \"a\", \"capacity_kg\": 1},\n    {\n      \"id\": \"b\",\n      \"capacity_kg\": -4\n    }\n  ],\n  \"heater\": {\"strategy\": \"rise=8\"}\n}\n";
+        assert_eq!(json_field_line(text, "dryers[1].capacity_kg"), Some(7));
+        assert_eq!(json_field_line(text, "dryers[0].capacity_kg"), Some(4));
+        assert_eq!(json_field_line(text, "heater.strategy"), Some(10));
+        // The deepest part found: dryers[1] starts on line 5.
+        assert_eq!(json_field_line(text, "dryers[1].fan"), Some(5));
+        assert_eq!(json_field_line(text, "absent"), None);
+        // A key of the same name elsewhere is not taken for it.
+        assert_eq!(json_field_line(text, "id"), None);
+    }
 }

@@ -8,7 +8,7 @@ use std::sync::Arc;
 use chrono::DateTime;
 use serde::Deserialize;
 
-use super::{check_field, field_err, parse_json};
+use super::{check_field, field_err, parse_json, with_json_line};
 use crate::airflow::fan::{FanCurve, FlowSpec};
 use crate::airflow::geometry::{Container, Grid};
 use crate::crop::Crop;
@@ -226,8 +226,9 @@ impl Scenario {
         force: bool,
     ) -> Result<(Self, Option<SafetyWarning>), InputError> {
         let path = resolve("scenarios", name_or_path, "--scenario")?;
-        let file: ScenarioFile = parse_json(&path, &read_text(&path)?)?;
-        Self::from_file(path, file, force)
+        let text = read_text(&path)?;
+        let file: ScenarioFile = parse_json(&path, &text)?;
+        Self::from_file(path.clone(), file, force).map_err(|e| with_json_line(e, &path, &text))
     }
 
     /// Check and resolve a parsed scenario.

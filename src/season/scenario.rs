@@ -159,7 +159,8 @@ impl BuyingPoint {
                 message: e.to_string(),
             })
         })?;
-        bp.validate(path)?;
+        bp.validate(path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))?;
         Ok(bp)
     }
 

@@ -95,7 +95,8 @@ impl ClimateStats {
             line: Some(e.line() as u64),
             message: e.to_string(),
         })?;
-        s.validate(path)?;
+        s.validate(path)
+            .map_err(|e| crate::input::with_json_line(e, path, text))?;
         Ok(s)
     }
 
@@ -107,6 +108,7 @@ impl ClimateStats {
     /// Check every field's range, naming it (`months[2].rh_mean_pct`).
     pub fn validate(&self, path: &Path) -> Result<(), InputError> {
         let err = |field: String, message: String| InputError::Model {
+            line: None,
             path: path.to_path_buf(),
             field,
             message,

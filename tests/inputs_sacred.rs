@@ -1,0 +1,198 @@
+//! Inputs are sacred: every command with an output refuses, with one line and exit 2, an output that is, holds or
+//! lies inside a file it reads — named directly, through a symbolic link or through `..` — and every input is
+//! byte-identical afterwards.
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Copies of the files the commands read, in `dir/in`.
+fn inputs(dir: &Path) -> PathBuf {
+    let d = dir.join("in");
+    std::fs::create_dir_all(d.join("sub")).unwrap();
+    let copy = |from: &str, to: &str| std::fs::copy(root().join(from), d.join(to)).unwrap();
+    copy(
+        "weather-samples/cypress-neck-2026/season_000.csv",
+        "weather.csv",
+    );
+    copy("models/buying-points/bramble-fork.json", "bp.json");
+    copy("models/containers/trailer-6m.json", "container.json");
+    copy("models/fans/vane-3kw.json", "fan.json");
+    copy("weather-samples/cypress-neck-stats.json", "stats.json");
+    let scenario = std::fs::read_to_string(root().join("models/scenarios/demo-load.json"))
+        .unwrap()
+        .replace(
+            "../../weather-samples/cypress-neck-2026/season_000.csv",
+            "weather.csv",
+        );
+    std::fs::write(d.join("scenario.json"), scenario).unwrap();
+    std::os::unix::fs::symlink(&d, dir.join("link")).unwrap();
+    d
+}
+
+fn bytes(dir: &Path) -> BTreeMap<PathBuf, Vec<u8>> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.is_file())
+        .map(|p| (p.clone(), std::fs::read(&p).unwrap()))
+        .collect()
+}
+
+/// Each command, given the input folder.
+fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
+    let p = |n: &str| d.join(n).to_string_lossy().into_owned();
+    let s = |v: &[&str]| v.iter().map(|x| x.to_string()).collect::<Vec<_>>();
+    let with = |mut a: Vec<String>, b: &[String]| {
+        a.extend_from_slice(b);
+        a
+    };
+    vec![
+        (
+            "dry",
+            with(s(&["dry", "--scenario"]), &[p("scenario.json")]),
+        ),
+        (
+            "compare",
+            with(
+                s(&["compare", "--strategies", "none;rise=5", "--scenario"]),
+                &[p("scenario.json")],
+            ),
+        ),
+        (
+            "starts",
+            with(
+                s(&["starts", "--count", "2", "--scenario"]),
+                &[p("scenario.json")],
+            ),
+        ),
+        (
+            "airflow",
+            vec![
+                "airflow".into(),
+                "--container".into(),
+                p("container.json"),
+                "--fan".into(),
+                p("fan.json"),
+                "--nx".into(),
+                "8".into(),
+                "--ny".into(),
+                "4".into(),
+                "--nz".into(),
+                "6".into(),
+            ],
+        ),
+        (
+            "season run",
+            with(
+                s(&["season", "run", "--generate", "--loads", "5", "--weather"]),
+                &[p("weather.csv"), "--scenario".into(), p("bp.json")],
+            ),
+        ),
+        (
+            "season sweep",
+            with(
+                s(&[
+                    "season",
+                    "sweep",
+                    "--seasons",
+                    "1",
+                    "--loads",
+                    "5",
+                    "--dryers",
+                    "3",
+                    "--weather-stats",
+                ]),
+                &[p("stats.json"), "--scenario".into(), p("bp.json")],
+            ),
+        ),
+        (
+            "weather synth",
+            with(
+                s(&[
+                    "weather",
+                    "synth",
+                    "--start",
+                    "2026-09-01",
+                    "--days",
+                    "3",
+                    "--stats",
+                ]),
+                &[p("stats.json")],
+            ),
+        ),
+    ]
+}
+
+fn refused(args: &[String], out: &Path, what: &str) {
+    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .args(args)
+        .arg("--out")
+        .arg(out)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{what}: {err}");
+    assert_eq!(err.lines().count(), 1, "{what}: one line: {err}");
+    assert!(
+        err.starts_with("dryfront: error: refusing"),
+        "{what}: {err}"
+    );
+}
+
+#[test]
+fn no_command_writes_over_what_it_reads() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = inputs(dir.path());
+    let before = bytes(&d);
+    for (name, args) in commands(&d) {
+        for out in [
+            d.clone(),
+            dir.path().join("link"),
+            d.join("sub/.."),
+            dir.path().join("link/sub/.."),
+        ] {
+            refused(&args, &out, &format!("{name} --out {}", out.display()));
+        }
+        // The input file itself as the output folder.
+        let read = args.iter().find(|a| a.ends_with(".json")).unwrap();
+        refused(&args, Path::new(read), &format!("{name} --out {read}"));
+        assert_eq!(bytes(&d), before, "{name}: inputs unchanged");
+    }
+    // `weather summary --out FILE` writes files, not a folder: the weather file, directly and by link and `..`.
+    let summary = |out: PathBuf| {
+        let args = vec![
+            "weather".to_string(),
+            "summary".into(),
+            d.join("weather.csv").to_string_lossy().into_owned(),
+        ];
+        refused(
+            &args,
+            &out,
+            &format!("weather summary --out {}", out.display()),
+        );
+    };
+    summary(d.join("weather.csv"));
+    summary(dir.path().join("link/weather.csv"));
+    summary(d.join("sub/../weather.csv"));
+    // Its warnings list sits beside it: `weather.warnings.txt` from `--out weather.txt` must not hit an input.
+    std::fs::copy(d.join("weather.csv"), d.join("weather.warnings.txt")).unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .args(["weather", "summary"])
+        .arg(d.join("weather.warnings.txt"))
+        .arg("--out")
+        .arg(d.join("weather.txt"))
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    std::fs::remove_file(d.join("weather.warnings.txt")).unwrap();
+    assert_eq!(bytes(&d), before, "inputs unchanged");
+}
