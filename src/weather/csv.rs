@@ -195,17 +195,8 @@ pub fn parse_csv(path: &Path, text: &str, opts: &ReadOptions) -> Result<WeatherS
             break;
         }
         let line = record.position().map_or(0, |p| p.line()) + skipped_lines;
-        if record.len() == 1 && record[0].trim().is_empty() {
+        if !series::row_shape(path, line, &record)? {
             continue; // blank line
-        }
-        if record.iter().any(|f| f.contains(['\n', '\r'])) {
-            return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
-        }
-        if record.len() == 1 && record[0].contains(';') {
-            return Err(perr(
-                Some(line),
-                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
-            ));
         }
         if record.len() != headers.len() {
             return Err(perr(

@@ -786,6 +786,26 @@ pub(crate) fn humidity_from(
 
 pub(crate) use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
 
+/// The checks every comma-separated weather reader makes on a data row before reading its fields: `Ok(false)` for
+/// a blank row (skipped); an error for a field holding a line end (an unclosed quote) or a row separated by ';'.
+pub(crate) fn row_shape(path: &Path, line: u64, record: &csv::StringRecord) -> Result<bool, InputError> {
+    let perr = |message: String| InputError::Parse {
+        path: path.to_path_buf(),
+        line: Some(line),
+        message,
+    };
+    if record.len() == 1 && record[0].trim().is_empty() {
+        return Ok(false);
+    }
+    if record.iter().any(|f| f.contains(['\n', '\r'])) {
+        return Err(perr(UNCLOSED_QUOTE.into()));
+    }
+    if record.len() == 1 && record[0].contains(';') {
+        return Err(perr(format!("row is separated by ';': {SEMICOLON_HINT}")));
+    }
+    Ok(true)
+}
+
 /// A dry-bulb median above this, °C, is taken for °F under a °C label: no weather station's monthly mean reaches
 /// 40 °C (from memory), so a whole record's median of 45 °C is not weather in °C, while 45–60 °F is ordinary.
 pub const MEDIAN_C_MAX: f64 = 45.0;

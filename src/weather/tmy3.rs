@@ -126,17 +126,8 @@ pub fn parse_tmy3(
     let mut warnings = Vec::new();
     while read(&mut rdr, &mut rec)? {
         let line = rec.position().map_or(0, |p| p.line());
-        if rec.len() == 1 && rec[0].trim().is_empty() {
+        if !series::row_shape(path, line, &rec)? {
             continue;
-        }
-        if rec.iter().any(|f| f.contains(['\n', '\r'])) {
-            return Err(perr(Some(line), series::UNCLOSED_QUOTE.into()));
-        }
-        if rec.len() == 1 && rec[0].contains(';') {
-            return Err(perr(
-                Some(line),
-                format!("row is separated by ';': {}", series::SEMICOLON_HINT),
-            ));
         }
         if rec.len() != header.len() {
             return Err(perr(
