@@ -18,7 +18,8 @@ fn main() -> ExitCode {
     }
 }
 
-/// Help and version go out as clap writes them; an option error is one line with a pointer to `--help`, exit 2.
+/// Help and version go out as clap writes them; an option error is one line with a pointer to `--help` (before
+/// the parser's message, so the message ends the line as every other error does), exit 2.
 fn option_error(err: clap::Error) -> ExitCode {
     match err.kind() {
         ErrorKind::DisplayHelp
@@ -28,7 +29,7 @@ fn option_error(err: clap::Error) -> ExitCode {
             let text = err.render().to_string();
             let first = text.lines().next().unwrap_or("bad command line");
             let first = first.strip_prefix("error: ").unwrap_or(first);
-            eprintln!("dryfront: error: {first} (see --help)");
+            eprintln!("dryfront: error: command line (see --help): {first}");
             ExitCode::from(2)
         }
     }

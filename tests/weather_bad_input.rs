@@ -235,7 +235,11 @@ fn the_binary_refuses_to_overwrite_its_input() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&out.stderr).contains("it is the input file"));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("refusing to write") && err.contains("it is the input file"),
+        "{err}"
+    );
     assert_eq!(std::fs::read(&p).unwrap(), before);
 }
 
