@@ -788,7 +788,11 @@ pub(crate) use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
 
 /// The checks every comma-separated weather reader makes on a data row before reading its fields: `Ok(false)` for
 /// a blank row (skipped); an error for a field holding a line end (an unclosed quote) or a row separated by ';'.
-pub(crate) fn row_shape(path: &Path, line: u64, record: &csv::StringRecord) -> Result<bool, InputError> {
+pub(crate) fn row_shape(
+    path: &Path,
+    line: u64,
+    record: &csv::StringRecord,
+) -> Result<bool, InputError> {
     let perr = |message: String| InputError::Parse {
         path: path.to_path_buf(),
         line: Some(line),
