@@ -227,6 +227,13 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     if let Some(dir) = &args.out {
         check_target(dir, &inputs, args.replace)?;
     }
+    let cells = (args.nx * args.ny * args.nz) as f64;
+    crate::input::limits::check_cells(
+        "--nx/--ny/--nz",
+        cells,
+        crate::input::limits::AIRFLOW_BYTES_PER_CELL,
+        1.0,
+    )?;
     let air = air_path(&args)?;
     let bed = BedMoisture::new(&crop, args.bed_kernel_moisture_pct, air.ambient.t_c)?;
     law.packing_factor *= bed.d272_wet_factor;

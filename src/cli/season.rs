@@ -427,6 +427,11 @@ pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
             if a.loads == 0 {
                 bail!("--loads: 0 must be at least 1");
             }
+            crate::input::limits::check_memory(
+                "--loads",
+                a.loads as f64 * crate::input::limits::SEASON_BYTES_PER_LOAD,
+                &format!("{} loads × 1 KiB", a.loads),
+            )?;
             (
                 generate(&default_params(&bp, a.loads, &a.rain_days)?, a.seed)?,
                 true,
@@ -518,6 +523,13 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     if a.loads == 0 {
         bail!("--loads: 0 must be at least 1");
     }
+    // Every (case, season) keeps its season's loads and figures while the sweep runs.
+    let runs = (counts.len() * policies.len() * heaters.len() * a.seasons) as f64;
+    crate::input::limits::check_memory(
+        "--dryers/--policies/--heaters/--seasons/--loads",
+        runs * a.loads as f64 * crate::input::limits::SEASON_BYTES_PER_LOAD,
+        &format!("{runs:.0} season runs × {} loads × 1 KiB", a.loads),
+    )?;
     let params = default_params(&bp, a.loads, &a.rain_days)?;
     let choice = a.drier;
     let end = bp.season.end();

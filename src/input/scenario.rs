@@ -320,6 +320,9 @@ impl Scenario {
         for (f, v) in [("grid.nx", g.nx), ("grid.ny", g.ny), ("grid.nz", g.nz)] {
             check_field(p, f, v as f64, 1.0, 512.0, "")?;
         }
+        let cells = (g.nx * g.ny * g.nz) as f64;
+        super::limits::check_cells("grid", cells, super::limits::RUN_BYTES_PER_CELL, 1.0)
+            .map_err(|e| field_err(p, "grid", e.to_string()))?;
         for (f, v) in [
             ("prices.fuel_per_unit", file.prices.fuel_per_unit),
             (
