@@ -254,9 +254,14 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         specs.len(),
         sc.spec.name
     );
+    let progress = super::progress::Progress::new("compare", loads.len());
     let results: Vec<LoadResult> = loads
         .par_iter()
-        .map(|l| run_load(l, &mut ()))
+        .map(|l| {
+            let r = run_load(l, &mut ());
+            progress.tick();
+            r
+        })
         .collect::<Result<_, _>>()?;
     let rows: Vec<CompareRow> = specs
         .iter()
@@ -314,9 +319,14 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
         loads.len(),
         sc.spec.name
     );
+    let progress = super::progress::Progress::new("starts", loads.len());
     let results: Vec<LoadResult> = loads
         .par_iter()
-        .map(|l| run_load(l, &mut ()))
+        .map(|l| {
+            let r = run_load(l, &mut ());
+            progress.tick();
+            r
+        })
         .collect::<Result<_, _>>()?;
     println!(
         "{} — the same load started at different times ({})",

@@ -4,6 +4,7 @@ use clap::{Parser, Subcommand};
 pub mod airflow;
 pub mod demo;
 pub mod dry;
+pub mod progress;
 pub mod props;
 pub mod season;
 pub mod weather;

@@ -4,7 +4,6 @@
 //! wait limit.
 
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicUsize, Ordering};
 
 use anyhow::{bail, Context};
 
@@ -568,17 +567,8 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         policies: policies.clone(),
         heaters: heaters.clone(),
     };
-    let last_pct = AtomicUsize::new(0);
-    let progress = |done: usize, total: usize| {
-        // Every 5 %, so a log file gets twenty lines, not thousands.
-        let pct = done * 100 / total.max(1) / 5 * 5;
-        if last_pct.fetch_max(pct, Ordering::Relaxed) < pct {
-            eprint!("\rseason sweep: {pct:3} % ({done}/{total} runs)");
-            if done == total {
-                eprintln!();
-            }
-        }
-    };
+    let bar = super::progress::Progress::new("season sweep", 0);
+    let progress = |done: usize, total: usize| bar.show(done, total);
     let res = sweep(
         &bp,
         &grid,
