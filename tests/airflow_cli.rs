@@ -219,3 +219,31 @@ fn a_bad_fan_position_names_the_file_line_and_field() {
     assert_eq!(err.trim_end().lines().count(), 1, "{err}");
     assert!(!dir.path().join("out").exists());
 }
+
+#[test]
+fn an_airflow_far_below_practice_is_named_not_passed_over() {
+    // A flow that brings 0.05 m³/min per m³ of peanuts (the trade's usual is about 10, DOMAIN.md §7.4, common
+    // practice) is flagged on screen; the bundled fan on the same trailer is not.
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "airflow",
+            "--container",
+            "trailer-6m",
+            "--nx",
+            "8",
+            "--ny",
+            "4",
+            "--nz",
+            "6",
+        ];
+        args.extend_from_slice(extra);
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_dryfront"))
+            .args(&args)
+            .output()
+            .unwrap();
+        assert!(o.status.success());
+        String::from_utf8_lossy(&o.stdout).into_owned()
+    };
+    assert!(run(&["--flow-m3-min", "1"]).contains("warning: only 0.05 m³/min of air per m³"));
+    assert!(!run(&["--fan", "vane-3kw"]).contains("warning"));
+}

@@ -73,6 +73,9 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
         "specific airflow {:.1} m³/min per m³ of peanuts; mean dry-air flux {:.3} kg/(s·m²)",
         sm.specific_airflow_m3_per_min_per_m3, sm.mean_mass_flux_kg_per_m2_s
     );
+    if let Some(w) = sm.low_airflow_warning() {
+        let _ = writeln!(o, "{w}");
+    }
     let _ = writeln!(
         o,
         "solved: {} outer iterations, {} CG iterations, last relative change {:.1e}",

@@ -59,6 +59,9 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
         a.column_flow_cv * 100.0,
         a.min_over_mean
     );
+    if let Some(w) = a.low_airflow_warning() {
+        let _ = writeln!(s, "  {w}");
+    }
     let reason = match o.stop_reason {
         StopReason::RuleMet => format!("stop rule {} met", o.stop_rule),
         StopReason::MaxHours => "time limit reached first".into(),
