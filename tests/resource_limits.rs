@@ -1,6 +1,7 @@
 //! Sizes the tool cannot hold are refused before anything is allocated: each over-large request gets one line with
 //! its memory estimate and the limit, exit code 2, within a second (they used to end in an allocation abort with a
-//! backtrace). Peak memory is not measured here (no portable way without a new dependency); the time bound is.
+//! backtrace). The largest peak resident memory of the refused processes is read back from the kernel
+//! (`getrusage(RUSAGE_CHILDREN)`, Linux reports kilobytes) and must stay under 64 MiB.
 use std::process::Command;
 use std::time::{Duration, Instant};
 
@@ -60,6 +61,15 @@ fn a_huge_scenario_grid_is_refused_naming_the_file_and_field() {
     );
 }
 
+/// Largest peak resident memory of any child this test process has waited for, bytes.
+fn children_peak_bytes() -> u64 {
+    let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
+    // SAFETY: getrusage writes into the struct it is given and nothing else.
+    let rc = unsafe { libc::getrusage(libc::RUSAGE_CHILDREN, &mut usage) };
+    assert_eq!(rc, 0);
+    usage.ru_maxrss as u64 * 1024
+}
+
 #[test]
 fn a_billion_loads_and_a_huge_sweep_are_refused() {
     let bp = "models/buying-points/bramble-fork.json";
@@ -93,4 +103,11 @@ fn a_billion_loads_and_a_huge_sweep_are_refused() {
         "--out",
         out,
     ]);
+    // Every child of this test binary is one of these refusals (the other tests here refuse too).
+    let peak = children_peak_bytes();
+    eprintln!(
+        "largest peak memory of a refused request: {:.1} MiB",
+        peak as f64 / 1048576.0
+    );
+    assert!(peak < 64 * 1024 * 1024, "{peak} B");
 }
