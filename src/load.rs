@@ -294,8 +294,8 @@ pub fn run_load(spec: &LoadSpec, observer: &mut dyn RunObserver) -> Result<LoadR
     // The start's airflow solve also gives the bed's geometry (terrain-following layers, column depths); the run's
     // first request for the same air and moisture reuses it instead of solving again.
     let heater = spec.heater.heater();
-    let ambient0 = ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?;
-    let plenum0 = start_plenum_estimate(&heater, &ambient0);
+    let plenum0 =
+        start_plenum_estimate(&heater, &ambient.at(0.0).ok_or(RunError::NoWeatherAtStart)?);
     FlowProvider::flow(&mut flow, &first.air, &plenum0, pod_db)?;
     let geometry_sol = flow.first.take().expect("a successful solve is kept");
     let bed = BedState::new(

@@ -23,7 +23,9 @@ pub use super::record::SeriesRow;
 use super::record::{record, PathAir};
 use super::stop::{Levels, StopTracker};
 pub use super::stop::{StopRule, Tally};
-use super::zones::{column_mass_below, shrink_kg, zone_masses, Thresholds, ZoneMasses};
+use super::zones::{
+    column_mass_below, dry_kg_below, shrink_kg, zone_masses, Thresholds, ZoneMasses,
+};
 use crate::airflow::solve::AirflowError;
 use crate::props::psychro::{self, AirState};
 use crate::units::wb_from_db;
@@ -442,7 +444,8 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let thresholds = Thresholds::of(&settings);
         let levels = Levels {
             mean_kernel_wb: initial_kernel_wb,
-            above_target_fraction: above_fraction(&bed, thresholds.target_db),
+            above_target_fraction: 1.0
+                - dry_kg_below(&bed, thresholds.target_db) / bed.dry_matter_kg(),
         };
         let tally = Tally {
             shrink_kg: shrink_kg(material, &bed, thresholds.target_db),
@@ -946,19 +949,6 @@ pub fn start_plenum_estimate(heater: &Heater, first: &AmbientSample) -> AirState
     unlimited
         .plenum_air(first.air, first.air, first.local_hour, 1.0)
         .plenum
-}
-
-/// Share of the dry matter above `target_db` (profile method of `zones`).
-fn above_fraction(bed: &BedState, target_db: f64) -> f64 {
-    let total = bed.dry_matter_kg_per_m2.sum();
-    let below: f64 = bed
-        .kernel_db
-        .lanes(ndarray::Axis(2))
-        .into_iter()
-        .zip(bed.dry_matter_kg_per_m2.lanes(ndarray::Axis(2)))
-        .map(|(k, d)| column_mass_below(k, d, target_db))
-        .sum();
-    (total - below) / total
 }
 
 fn mean_exhaust(results: &[ColumnResult], p_pa: f64) -> AirState {

@@ -106,26 +106,27 @@ pub fn zone_masses<M: LayerMaterial + ?Sized>(
     bed: &BedState,
     th: &Thresholds,
 ) -> ZoneMasses {
-    let area = bed.column_area_m2;
-    let mut z = ZoneMasses {
-        dry_matter_kg: bed.dry_matter_kg(),
-        over_dried_dry_kg: 0.0,
-        still_wet_dry_kg: 0.0,
-        above_target_dry_kg: 0.0,
+    let total = bed.dry_matter_kg();
+    ZoneMasses {
+        dry_matter_kg: total,
+        over_dried_dry_kg: dry_kg_below(bed, th.over_db),
+        still_wet_dry_kg: total - dry_kg_below(bed, th.under_db),
+        above_target_dry_kg: total - dry_kg_below(bed, th.target_db),
         shrink_kg: shrink_kg(material, bed, th.target_db),
-    };
-    for (k, d) in bed
+    }
+}
+
+/// Dry matter of the whole bed whose kernel moisture lies below `threshold_db`, kg (profile of [`column_mass_below`]
+/// in every column).
+pub fn dry_kg_below(bed: &BedState, threshold_db: f64) -> f64 {
+    let per_m2: f64 = bed
         .kernel_db
         .lanes(ndarray::Axis(2))
         .into_iter()
         .zip(bed.dry_matter_kg_per_m2.lanes(ndarray::Axis(2)))
-    {
-        let total = d.sum();
-        z.over_dried_dry_kg += column_mass_below(k, d, th.over_db) * area;
-        z.still_wet_dry_kg += (total - column_mass_below(k, d, th.under_db)) * area;
-        z.above_target_dry_kg += (total - column_mass_below(k, d, th.target_db)) * area;
-    }
-    z
+        .map(|(k, d)| column_mass_below(k, d, threshold_db))
+        .sum();
+    per_m2 * bed.column_area_m2
 }
 
 /// Over-dry shrink, kg: for every cell whose kernels are below target, the weight it would have with its kernels at
