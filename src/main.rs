@@ -5,6 +5,7 @@ use clap::error::ErrorKind;
 use clap::Parser;
 
 fn main() -> ExitCode {
+    quiet_on_broken_pipe();
     let args = match dryfront::cli::Args::try_parse() {
         Ok(args) => args,
         Err(err) => return option_error(err),
@@ -33,4 +34,19 @@ fn option_error(err: clap::Error) -> ExitCode {
             ExitCode::from(2)
         }
     }
+}
+
+/// A reader that stops reading our standard output (`dryfront weather summary FILE --daily | head -1`) ends the
+/// program quietly with success, for every command: Rust's printing macros panic on the broken pipe, and this hook
+/// turns that one panic into exit 0 (whatever was not yet printed or written is dropped; an `--out` set is still
+/// written whole or not at all). Every other panic goes to the default hook.
+fn quiet_on_broken_pipe() {
+    let default_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        let message = info.payload_as_str().unwrap_or("");
+        if message.starts_with("failed printing to stdout") && message.contains("Broken pipe") {
+            std::process::exit(0);
+        }
+        default_hook(info);
+    }));
 }
