@@ -43,7 +43,12 @@ fn option_error(err: clap::Error) -> ExitCode {
 fn quiet_on_broken_pipe() {
     let default_hook = std::panic::take_hook();
     std::panic::set_hook(Box::new(move |info| {
-        let message = info.payload_as_str().unwrap_or("");
+        let payload = info.payload();
+        let message = payload
+            .downcast_ref::<String>()
+            .map(String::as_str)
+            .or_else(|| payload.downcast_ref::<&str>().copied())
+            .unwrap_or("");
         if message.starts_with("failed printing to stdout") && message.contains("Broken pipe") {
             std::process::exit(0);
         }
