@@ -7,6 +7,7 @@
 #![warn(missing_docs)]
 #![deny(clippy::float_cmp)]
 
+pub mod advice;
 pub mod airflow;
 pub mod cli;
 pub mod crop;

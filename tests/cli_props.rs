@@ -67,7 +67,7 @@ fn air_state_matches_ashrae_reference_row() {
         "props", "air", "--temp", "77", "--rh", "60", "--units", "us",
     ]);
     assert!((value(&us, "wet bulb") - (19.47 * 1.8 + 32.0)).abs() < 0.05);
-    assert!(us.contains("°F") && us.contains("Btu/lb"));
+    assert!(us.contains("°F") && us.contains("BTU/lb"));
 }
 
 #[test]

@@ -188,6 +188,60 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
     assert_eq!(table.lines().count(), 7 * 2 * 16 + 1);
 }
 
+/// A rate-rule sweep of Wrenfield (3 wagons in the file; the count is swept) over `dryers`, 120 loads a season.
+fn sweep_stdout(dir: &Path, dryers: &str) -> String {
+    let o = bin()
+        .args([
+            "season",
+            "sweep",
+            "--scenario",
+            &scenario(),
+            "--dryers",
+            dryers,
+        ])
+        .args(["--drier", "rate-rule", "--policies", "fcfs"])
+        .args(["--seasons", "3", "--loads", "120", "--seed", "3", "--out"])
+        .arg(dir.join(dryers.replace('.', "_")))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    String::from_utf8(o.stdout).unwrap()
+}
+
+#[test]
+fn sweep_answers_on_screen_and_says_which_way_to_widen() {
+    let dir = tempfile::tempdir().unwrap();
+    // One table row per case, with P10/P50/P90 triples.
+    let wide = sweep_stdout(dir.path(), "1..12");
+    let rows = wide
+        .lines()
+        .filter(|l| l.split_whitespace().nth(1) == Some("fcfs"))
+        .count();
+    assert_eq!(rows, 12, "{wide}");
+    let n: usize = wide
+        .lines()
+        .find_map(|l| {
+            l.split_once(": ")?
+                .1
+                .split(" dryers hold")
+                .next()?
+                .parse()
+                .ok()
+        })
+        .unwrap_or_else(|| panic!("no smallest count in {wide}"));
+    assert!(n > 1 && n <= 12, "{wide}");
+    // Below that count none holds: the figures at the largest count swept and "upward".
+    let low = sweep_stdout(dir.path(), &format!("1..{}", n - 1));
+    assert!(
+        low.contains("no dryer count swept holds") && low.contains("widen the range upward"),
+        "{low}"
+    );
+    assert!(low.contains(&format!("at {} dryers", n - 1)), "{low}");
+    // From that count up it holds at the smallest count swept: "downward", unless the smallest is 1.
+    let high = sweep_stdout(dir.path(), &format!("{n}..{}", n + 1));
+    assert!(high.contains("widen the range downward"), "{high}");
+}
+
 #[test]
 fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
     let dir = tempfile::tempdir().unwrap();

@@ -168,23 +168,6 @@ pub struct AirflowSummary {
     pub plenum_air_density_kg_per_m3: f64,
 }
 
-/// Specific airflow below which a solve's result is flagged, m³/min per m³ of peanuts: a fifth of the trade's usual
-/// 10 (DOMAIN.md §7.4, common practice); less means a fan that cannot push air through the load, not a dryer.
-pub const LOW_SPECIFIC_AIRFLOW: f64 = 2.0;
-
-impl AirflowSummary {
-    /// A one-line warning when the air reaching the bed is far below the trade's usual 10 m³/min per m³.
-    pub fn low_airflow_warning(&self) -> Option<String> {
-        let q = self.specific_airflow_m3_per_min_per_m3;
-        (q < LOW_SPECIFIC_AIRFLOW).then(|| {
-            format!(
-                "warning: only {q:.2} m³/min of air per m³ of peanuts reaches the bed (the trade's usual is about 10): \
-                 check the fan file and the fill"
-            )
-        })
-    }
-}
-
 /// Everything one airflow solve gives. 2-D arrays are [nx, ny] with i = 0 at the **front** wall (x = 0) and
 /// j = 0 at y = 0, whichever end the inlet is in; 3-D arrays add k = 0 at the floor.
 #[derive(Debug, Clone, Serialize)]

@@ -58,13 +58,16 @@ pub struct AirflowOptions {
     /// `position`: ambient air ahead of the burner, the default, or heated air after it), meets the load's.
     #[arg(
         long,
-        conflicts_with = "flow_m3_min",
-        required_unless_present = "flow_m3_min"
+        conflicts_with_all = ["flow_m3_min", "flow_cfm"],
+        required_unless_present_any = ["flow_m3_min", "flow_cfm"]
     )]
     pub fan: Option<String>,
     /// A fixed total flow into the plenum instead of a fan, m³/min at the plenum air.
-    #[arg(long)]
+    #[arg(long, conflicts_with = "flow_cfm")]
     pub flow_m3_min: Option<f64>,
+    /// The same fixed flow in cubic feet per minute (cfm).
+    #[arg(long)]
+    pub flow_cfm: Option<f64>,
     /// Crop name (in MODELS/crops) or path; its `resistance` section gives Shedd a, b, packing and ratio.
     #[arg(long, default_value = "peanut-inshell")]
     pub crop: String,
@@ -125,7 +128,7 @@ pub struct AirflowOptions {
     /// Folder holding containers/, fans/ and crops/.
     #[arg(long)]
     pub models: Option<PathBuf>,
-    /// Units for the printed summary.
+    /// Units for the printed summary (options whose name carries a unit always take that unit).
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
 }
@@ -203,7 +206,10 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     } else if args.depth_m.is_some() {
         anyhow::bail!("--depth-m needs --fill level|crowned|sloped");
     }
-    let (flow, fan_path) = match (&args.fan, args.flow_m3_min) {
+    let flow_m3_min = args.flow_m3_min.or(args
+        .flow_cfm
+        .map(|q| UnitSystem::Us.flow_to_si_m3_per_min(q)));
+    let (flow, fan_path) = match (&args.fan, flow_m3_min) {
         (Some(name), _) => {
             let p = resolve(models, "fans", name, "--fan")?;
             (
@@ -212,7 +218,12 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
             )
         }
         (None, Some(q)) => {
-            let q = check_range("--flow-m3-min", q, 0.1, 1e5, "m³/min")?;
+            let name = if args.flow_cfm.is_some() {
+                "--flow-cfm"
+            } else {
+                "--flow-m3-min"
+            };
+            let q = check_range(name, q, 0.1, 1e5, "m³/min")?;
             (
                 FlowSpec::Fixed {
                     total_m3_per_s: q / 60.0,
@@ -398,13 +409,13 @@ impl Used {
         };
         let _ = writeln!(
             o,
-            "ambient air {}, {:.1} % RH, {:.3} kg/m³; plenum air {} ({heated}), {:.1} % RH, {:.3} kg/m³",
+            "ambient air {}, {:.1} % RH, {}; plenum air {} ({heated}), {:.1} % RH, {}",
             u.temp(a.temperature_c),
             a.relative_humidity_pct,
-            a.density_kg_per_m3,
+            u.density(a.density_kg_per_m3),
             u.temp(p.temperature_c),
             p.relative_humidity_pct,
-            p.density_kg_per_m3
+            u.density(p.density_kg_per_m3)
         );
         let who = match self.air.fan_position {
             Some(pos) => format!(
@@ -422,8 +433,8 @@ impl Used {
         let _ = match (b.kernel_moisture_pct_wb, b.bed_erh_pct) {
             (Some(k), Some(erh)) => writeln!(
                 o,
-                "bed kernel moisture {k:.1} % w.b. (pods in equilibrium with {erh:.1} % RH at {:.0} °C): D272 wet factor {:.2}",
-                BED_ERH_REFERENCE_C, b.d272_wet_factor
+                "bed kernel moisture {k:.1} % w.b. (pods in equilibrium with {erh:.1} % RH at {}): D272 wet factor {:.2}",
+                u.temp(BED_ERH_REFERENCE_C), b.d272_wet_factor
             ),
             _ => writeln!(
                 o,

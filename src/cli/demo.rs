@@ -21,6 +21,9 @@ pub struct DemoArgs {
     /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
     #[arg(long)]
     pub replace: bool,
+    /// Units for everything printed and for the summaries written (`us`: °F, cfm, in. of water, lb, gal).
+    #[arg(long, value_enum, default_value_t = crate::units::UnitSystem::Si)]
+    pub units: crate::units::UnitSystem,
 }
 
 /// Invented hourly air states at the Bramble Fork buying point on a September harvest day (demo data only).
@@ -43,12 +46,12 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
         start_offset_h: 0.0,
         initial_pct: None,
         force: false,
-        units: crate::units::UnitSystem::Si,
+        units: args.units,
         out: None,
         replace: false,
     };
     let bp = crate::models::resolve("buying-points", "bramble-fork", "demo buying point")?;
-    let season_args = super::season::RunArgs::demo(bp, args.out.join("season"));
+    let season_args = super::season::RunArgs::demo(bp, args.out.join("season"), args.units);
     let mut set = OutputSet::new();
     let mut inputs = Vec::new();
     // Refuse a bad folder before an hour of work: every file the demo reads is known once its models resolve.
@@ -75,7 +78,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<()> {
     println!("\n== 4. Property table");
     let crop = Crop::load_named("peanut-inshell")?;
     inputs.push(crop.path.clone());
-    let (table, csv) = property_table(&crop_rows(&crop));
+    let (table, csv) = property_table(&crop_rows(&crop), args.units);
     print!("{table}");
     set.add("properties.csv", csv);
     set.commit(&args.out, &inputs, args.replace)?;

@@ -37,7 +37,8 @@ pub struct LoadOptions {
     /// `hours=H` (a fixed time on air).
     #[arg(long)]
     pub stop: Option<StopRule>,
-    /// Units for the printed summary.
+    /// Units for everything printed and for summary.txt (`us`: °F, °F differences, cfm, in. of water, lb, gal);
+    /// heater set-points on the command line are read in the same units. CSV and JSON files stay SI.
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
     /// Folder for the output files (created if missing; an earlier set there is replaced whole); nothing is
@@ -56,9 +57,9 @@ pub struct DryArgs {
     #[command(flatten)]
     pub load: LoadOptions,
     /// Heater strategy, overriding the scenario's: `none`, `rise=8`, `plenum=35`, `rh=55,max=35`, each optionally
-    /// with a burner window `@20-6` (local hours).
+    /// with a burner window `@20-6` (local hours); set-points in °C and K, or °F with `--units us`.
     #[arg(long)]
-    pub strategy: Option<StrategySpec>,
+    pub strategy: Option<String>,
 }
 
 /// Arguments of `dryfront compare`.
@@ -67,7 +68,7 @@ pub struct CompareArgs {
     /// Scenario and outputs.
     #[command(flatten)]
     pub load: LoadOptions,
-    /// Strategies to compare, separated by `;`.
+    /// Strategies to compare, separated by `;` (set-points in °F with `--units us`).
     #[arg(
         long,
         default_value = "none;rise=5;rise=8;plenum=35;rh=55,max=35;rise=8@18-9"
@@ -185,7 +186,8 @@ pub fn run_dry(args: DryArgs) -> anyhow::Result<()> {
 /// Run `dry` and print its summary; its files as a set, and the scenario (whose inputs the set must not replace).
 pub fn dry(args: &DryArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     let (mut sc, mut warning) = setup(&args.load)?;
-    if let Some(spec) = args.strategy {
+    if let Some(text) = &args.strategy {
+        let spec = StrategySpec::parse_in(text, args.load.units).context("--strategy")?;
         let h = sc.spec.heater;
         let (heater, w) = checked_heater(&sc.spec.crop, spec, h.burner_w, h.fuel, args.load.force)
             .context("--strategy")?;
@@ -194,7 +196,7 @@ pub fn dry(args: &DryArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     }
     check_out(&args.load, &sc)?;
     warn(&warning);
-    let label = sc.spec.heater.spec.to_string();
+    let label = sc.spec.heater.spec.text_in(args.load.units);
     let mut progress = Progress {
         enabled: std::io::stderr().is_terminal(),
         next_h: 0.0,
@@ -208,7 +210,7 @@ pub fn dry(args: &DryArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         "{}",
         summary_text(&sc.spec, &label, &result, args.load.units)
     );
-    let set = load_outputs(&sc.spec, &label, &result);
+    let set = load_outputs(&sc.spec, &label, &result, args.load.units);
     Ok((sc, set))
 }
 
@@ -233,7 +235,7 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     let specs: Vec<StrategySpec> = args
         .strategies
         .split(';')
-        .map(|s| s.parse::<StrategySpec>().context("--strategies"))
+        .map(|s| StrategySpec::parse_in(s, args.load.units).context("--strategies"))
         .collect::<Result<_, _>>()?;
     let h = sc.spec.heater;
     let loads = specs
@@ -267,11 +269,16 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         .iter()
         .zip(&results)
         .map(|(s, r)| CompareRow {
-            label: s.to_string(),
+            label: s.text_in(args.load.units),
             result: r,
         })
         .collect();
-    let table = compare_table(&rows, &sc.spec.prices.currency, h.fuel.unit);
+    let table = compare_table(
+        &rows,
+        &sc.spec.prices.currency,
+        h.fuel.unit,
+        args.load.units,
+    );
     println!(
         "{} — same load, weather and fan; heater strategies side by side (run to: {})",
         sc.spec.name, sc.spec.run.stop
@@ -281,7 +288,10 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
     set.add("compare.txt", format!("{table}\n{CAUTIONS}\n"));
     for (spec, r) in specs.iter().zip(&results) {
         let sub = spec.to_string().replace([',', '=', '@'], "_");
-        set.add_set(sub, load_outputs(&sc.spec, &spec.to_string(), r));
+        set.add_set(
+            sub,
+            load_outputs(&sc.spec, &spec.text_in(args.load.units), r, args.load.units),
+        );
     }
     Ok((sc, set))
 }
@@ -328,25 +338,38 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
             r
         })
         .collect::<Result<_, _>>()?;
+    let u = args.load.units;
+    let fuel_unit = results
+        .first()
+        .map(|r| u.fuel_per_mass_unit(&r.outcome.fuel_unit))
+        .unwrap_or_default();
     println!(
         "{} — the same load started at different times ({})",
-        sc.spec.name, sc.spec.heater.spec
+        sc.spec.name,
+        sc.spec.heater.spec.text_in(u)
     );
     println!(
-        "{:<24} {:>10} {:>12} {:>18} {:>12} {:>9} {:>11}",
-        "start", "h to mean", "h to whole", "ready at", "fuel (L/t)", "fan kWh", "over-dried"
+        "{:<24} {:>10} {:>12} {:>18} {:>14} {:>9} {:>11}",
+        "start",
+        "h to mean",
+        "h to whole",
+        "ready at",
+        format!("fuel ({fuel_unit})"),
+        "fan kWh",
+        "over-dried"
     );
     for (l, r) in loads.iter().zip(&results) {
         let o = &r.outcome;
         let ready = o.ready();
-        let per_t = ready.fuel_used / (o.initial_mass_kg / 1000.0);
+        let per_t =
+            u.fuel_per_mass_value(ready.fuel_used / (o.initial_mass_kg / 1000.0), &o.fuel_unit);
         let ready_at = r
             .clock
             .stop_rule
             .map(|t| t.format("%m-%d %H:%M").to_string())
             .unwrap_or_else(|| "not reached".into());
         println!(
-            "{:<24} {:>10} {:>12} {:>18} {:>12.1} {:>9.1} {:>10.1}%",
+            "{:<24} {:>10} {:>12} {:>18} {:>14.2} {:>9.1} {:>10.1}%",
             l.start.format("%Y-%m-%d %H:%M %:z"),
             hours_cell(o.hours_to_mean_target),
             hours_cell(o.hours_to_fraction_target),

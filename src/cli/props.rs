@@ -118,8 +118,11 @@ pub enum PropsCommand {
         #[arg(long)]
         rise: f64,
         /// Fan airflow at ambient conditions, m³/min (adds heater kW and propane use).
-        #[arg(long)]
+        #[arg(long, conflicts_with = "airflow_cfm")]
         airflow_m3_min: Option<f64>,
+        /// The same fan airflow in cubic feet per minute (cfm).
+        #[arg(long)]
+        airflow_cfm: Option<f64>,
         /// Barometric pressure.
         #[command(flatten)]
         pressure: PressureArgs,
@@ -203,10 +206,18 @@ fn range_note(out: &mut String, what: &str, range: Option<DataRange>, t_c: f64, 
     }
 }
 
+/// A humidity ratio: the same number in both systems, with its unit.
+fn humidity_ratio(units: UnitSystem, w: f64) -> String {
+    match units {
+        UnitSystem::Si => format!("{w:.6} kg/kg dry air"),
+        UnitSystem::Us => format!("{w:.6} lb/lb dry air"),
+    }
+}
+
 fn enthalpy(units: UnitSystem, h_j_per_kg: f64) -> String {
     match units {
         UnitSystem::Si => format!("{:.2} kJ/kg dry air", h_j_per_kg / 1000.0),
-        UnitSystem::Us => format!("{:.2} Btu/lb dry air", h_j_per_kg / J_PER_KG_PER_BTU_PER_LB),
+        UnitSystem::Us => format!("{:.2} BTU/lb dry air", h_j_per_kg / J_PER_KG_PER_BTU_PER_LB),
     }
 }
 
@@ -242,16 +253,8 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
             let air = AirState::from_rh(t_c, rh, p_pa);
             line(&mut out, "dry bulb", u.temp(t_c));
             line(&mut out, "relative humidity", pct(rh));
-            line(
-                &mut out,
-                "barometric pressure",
-                format!("{:.3} kPa", p_pa / 1000.0),
-            );
-            line(
-                &mut out,
-                "humidity ratio",
-                format!("{:.6} kg/kg dry air", air.w),
-            );
+            line(&mut out, "barometric pressure", u.barometric(p_pa));
+            line(&mut out, "humidity ratio", humidity_ratio(u, air.w));
             line(&mut out, "enthalpy", enthalpy(u, air.enthalpy_j_per_kg()));
             line(&mut out, "wet bulb", u.temp(air.wet_bulb_c()));
             line(&mut out, "dew point", u.temp(air.dew_point_c()));
@@ -331,6 +334,7 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
             rh,
             rise,
             airflow_m3_min,
+            airflow_cfm,
             pressure,
             common,
         } => {
@@ -360,7 +364,7 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
             line(
                 &mut out,
                 "humidity ratio (unchanged)",
-                format!("{:.6} kg/kg dry air", ambient.w),
+                humidity_ratio(u, ambient.w),
             );
             line(&mut out, "heat added", enthalpy(u, q_j_per_kg));
             emc_lines(&mut out, &crop, heated.t_c, heated.rh());
@@ -370,17 +374,18 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
                     u.temp(crop.safety.max_plenum_temp_c)
                 ));
             }
-            if let Some(q) = airflow_m3_min {
-                let q = check_range("--airflow-m3-min", *q, 0.0, 1.0e5, "m³/min")?;
+            let flow =
+                airflow_m3_min
+                    .map(|q| ("--airflow-m3-min", q))
+                    .or(airflow_cfm
+                        .map(|q| ("--airflow-cfm", UnitSystem::Us.flow_to_si_m3_per_min(q))));
+            if let Some((name, q)) = flow {
+                let q = check_range(name, q, 0.0, 1.0e5, "m³/min")?;
                 let m_da_kg_per_s = q / 60.0 / ambient.specific_volume_m3_per_kg();
                 let power_w = m_da_kg_per_s * q_j_per_kg;
                 let fuel_kg_per_h = power_w / PROPANE_LHV_J_PER_KG * 3600.0;
                 line(&mut out, "airflow", u.flow(q / 60.0));
-                line(
-                    &mut out,
-                    "dry-air mass flow",
-                    format!("{m_da_kg_per_s:.3} kg/s"),
-                );
+                line(&mut out, "dry-air mass flow", u.mass_flow(m_da_kg_per_s));
                 match u {
                     UnitSystem::Si => line(
                         &mut out,
@@ -390,15 +395,19 @@ pub fn render(cmd: &PropsCommand) -> anyhow::Result<String> {
                     UnitSystem::Us => line(
                         &mut out,
                         "heater power",
-                        format!("{:.0} Btu/h", power_w * 3600.0 / J_PER_BTU),
+                        format!("{:.0} BTU/h", power_w * 3600.0 / J_PER_BTU),
                     ),
                 }
+                let lhv = match u {
+                    UnitSystem::Si => "LHV 46 MJ/kg",
+                    UnitSystem::Us => "LHV 19800 BTU/lb",
+                };
                 line(
                     &mut out,
-                    "propane (LHV 46 MJ/kg, 100 % eff.)",
+                    &format!("propane ({lhv}, 100 % eff.)"),
                     format!(
-                        "{:.2} kg/h = {}/h",
-                        fuel_kg_per_h,
+                        "{}/h = {}/h",
+                        u.mass(fuel_kg_per_h),
                         u.volume_l(fuel_kg_per_h / PROPANE_KG_PER_L)
                     ),
                 );

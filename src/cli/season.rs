@@ -15,14 +15,17 @@ use crate::input::season::{
 };
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::report::output::{check_target, OutputSet};
-use crate::report::season::{arrivals_csv, daily_csv, kpis_csv, schedule_csv, sweep_csv};
+use crate::report::season::{
+    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, sweep_answer, sweep_csv,
+};
 use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
 use crate::season::kpi::{daily, kpis};
 use crate::season::scenario::BuyingPoint;
 use crate::season::sim::simulate;
-use crate::season::sweep::{season_seed, smallest_holding, sweep, SeasonInputs, SweepGrid};
+use crate::season::sweep::{season_seed, sweep, SeasonInputs, SweepGrid};
+use crate::units::UnitSystem;
 use crate::weather::series::{ReadOptions, WeatherSeries};
 use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
 
@@ -133,11 +136,14 @@ pub struct RunArgs {
     /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
     #[arg(long)]
     pub replace: bool,
+    /// Units for everything printed (`us`: short tons, lb, gal, °F set-points in --heaters); files stay SI.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
 }
 
 impl RunArgs {
     /// The demo's season: 120 generated loads (seed 2026) at `scenario`, deep-bed drier, wait-limit policy.
-    pub fn demo(scenario: PathBuf, out: PathBuf) -> Self {
+    pub fn demo(scenario: PathBuf, out: PathBuf, units: UnitSystem) -> Self {
         RunArgs {
             scenario,
             arrivals: None,
@@ -159,6 +165,7 @@ impl RunArgs {
             force: false,
             out,
             replace: false,
+            units,
         }
     }
 }
@@ -212,6 +219,9 @@ pub struct SweepArgs {
     /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
     #[arg(long)]
     pub replace: bool,
+    /// Units for everything printed (`us`: short tons, lb, gal, °F set-points in --heaters); files stay SI.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
 }
 
 fn parse_policy(s: &str) -> Result<DispatchPolicy, String> {
@@ -243,11 +253,11 @@ fn parse_counts(s: &str) -> anyhow::Result<Vec<usize>> {
 }
 
 /// `--heaters`: `;`-separated strategies in the heater language, or `scenario` (`None`) for each dryer's own.
-fn parse_heaters(s: &str) -> anyhow::Result<Vec<Option<StrategySpec>>> {
+fn parse_heaters(s: &str, units: UnitSystem) -> anyhow::Result<Vec<Option<StrategySpec>>> {
     s.split(';')
         .map(|h| match h.trim() {
             "scenario" => Ok(None),
-            h => Ok(Some(h.parse::<StrategySpec>().context("--heaters")?)),
+            h => Ok(Some(StrategySpec::parse_in(h, units).context("--heaters")?)),
         })
         .collect()
 }
@@ -285,11 +295,11 @@ fn check_dryer_heaters(
 }
 
 /// Each dryer's heater as written in the heater language.
-fn heaters_line(bp: &BuyingPoint) -> String {
+fn heaters_line(bp: &BuyingPoint, u: UnitSystem) -> String {
     let each: Vec<String> = bp
         .dryers
         .iter()
-        .map(|d| format!("{} {}", d.id, d.heater))
+        .map(|d| format!("{} {}", d.id, d.heater.text_in(u)))
         .collect();
     format!("heaters: {}", each.join("; "))
 }
@@ -331,7 +341,7 @@ fn make_drier<'a>(
 fn drier_note(choice: DrierChoice) -> &'static str {
     match choice {
         DrierChoice::RateRule => {
-            "drier: rate-rule (a rule of thumb: 0.5 points/h, propane per kg water; not a deep-bed simulation)"
+            "drier: rate-rule (a rule of thumb: 0.5 points/h, propane in proportion to the water removed; not a deep-bed simulation)"
         }
         DrierChoice::DeepBed => {
             "drier: deep-bed model through the single-load path on the season grid (airflow solved at each load's start)"
@@ -487,8 +497,9 @@ pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
         }
     );
     println!("{}", drier_note(a.drier));
-    println!("{}", heaters_line(&bp));
-    print!("{}", k.summary(cur));
+    println!("{}", heaters_line(&bp, a.units));
+    print!("{}", k.summary(cur, a.units));
+    print!("{}", air_note(&run, a.units));
     println!(
         "wait limit {:.1} h; outputs in {}",
         bp.rules.max_wait_h,
@@ -505,7 +516,7 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         .split(',')
         .map(|s| parse_policy(s).map_err(|e| anyhow::anyhow!("--policies: {e}")))
         .collect::<anyhow::Result<_>>()?;
-    let heaters = parse_heaters(&a.heaters)?;
+    let heaters = parse_heaters(&a.heaters, a.units)?;
     let crop = Crop::load_named(&a.models.crop)?;
     let mut inputs = vec![a.scenario.clone(), crop.path.clone()];
     let limits = SafetyLimits::from(&crop.safety);
@@ -589,25 +600,16 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         a.seed
     );
     println!("{}", drier_note(a.drier));
-    for h in &heaters {
-        let hl = h
-            .map(|h| h.to_string())
-            .unwrap_or_else(|| "scenario".into());
-        for &p in &policies {
-            match smallest_holding(&res, p, *h) {
-                Some(n) => println!(
-                    "heater {hl}, policy {}: {n} dryers hold the {:.0} h wait limit in 90 % of seasons",
-                    p.name(),
-                    bp.rules.max_wait_h
-                ),
-                None => println!(
-                    "heater {hl}, policy {}: no dryer count swept holds the {:.0} h wait limit in 90 % of seasons",
-                    p.name(),
-                    bp.rules.max_wait_h
-                ),
-            }
-        }
-    }
+    print!(
+        "{}",
+        sweep_answer(
+            &res,
+            &grid,
+            bp.rules.max_wait_h,
+            &bp.prices.currency,
+            a.units
+        )
+    );
     println!(
         "P10/P50/P90 of every figure per case in {}",
         a.out.join("sweep.csv").display()

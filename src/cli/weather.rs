@@ -4,6 +4,7 @@
 //! oil content 0.48 d.b., DOMAIN.md §2.3) until the crop models are wired in.
 use std::path::{Path, PathBuf};
 
+use crate::units::UnitSystem;
 use anyhow::Context;
 use chrono::{Datelike, Duration, FixedOffset, NaiveDate, TimeZone};
 
@@ -80,6 +81,9 @@ pub struct SummaryArgs {
     /// Print one line per day.
     #[arg(long)]
     pub daily: bool,
+    /// Units for everything printed (`us`: °F, °F differences, in. Hg, in.); written files stay SI.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
 }
 
 /// `weather synth` arguments.
@@ -113,6 +117,9 @@ pub struct SynthArgs {
     /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
     #[arg(long)]
     pub replace: bool,
+    /// Units for everything printed (`us`: °F, °F differences, in. Hg, in.); written files stay SI.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
 }
 
 /// Run a weather command.
@@ -209,6 +216,7 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     let iso = crop.moisture.kernel().sorption.desorption;
     let emc = move |t_c: f64, rh: f64| iso.emc_db(t_c, rh);
     let s = summarize(&series, &a.rh_below, Some(&emc));
+    let u = a.units;
     let fc = series.fill_counts();
     println!("file: {}", a.file.display());
     if !series.site().name.is_empty() {
@@ -228,13 +236,15 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
     );
     if series.pressure_assumed() {
         println!(
-            "pressure: not in the file; standard atmosphere at the site elevation used ({:.1} kPa)",
-            series.p_pa()[0] / 1000.0
+            "pressure: not in the file; standard atmosphere at the site elevation used ({})",
+            u.barometric(series.p_pa()[0])
         );
     }
     println!(
-        "mean dry bulb: {:.1} °C; mean RH: {:.1} %; mean daily range: {:.1} K",
-        s.t_mean_c, s.rh_mean_pct, s.diurnal_range_k
+        "mean dry bulb: {}; mean RH: {:.1} %; mean daily range: {}",
+        u.temp(s.t_mean_c),
+        s.rh_mean_pct,
+        u.temp_delta(s.diurnal_range_k)
     );
     for (th, h) in &s.hours_rh_below {
         println!(
@@ -256,30 +266,38 @@ fn run_summary(a: SummaryArgs) -> anyhow::Result<()> {
         s.daily.iter().map(f).sum::<f64>() / s.daily.len() as f64
     };
     println!(
-        "daily means over {} days: T min {:.1} °C, mean {:.1} °C, max {:.1} °C; RH min {:.1} %, mean {:.1} %, \
-         max {:.1} %",
+        "daily means over {} days: T min {}, mean {}, max {}; RH min {:.1} %, mean {:.1} %, max {:.1} %",
         s.daily.len(),
-        day_means(|d| d.t_min_c),
-        day_means(|d| d.t_mean_c),
-        day_means(|d| d.t_max_c),
+        u.temp(day_means(|d| d.t_min_c)),
+        u.temp(day_means(|d| d.t_mean_c)),
+        u.temp(day_means(|d| d.t_max_c)),
         day_means(|d| d.rh_min_pct),
         day_means(|d| d.rh_mean_pct),
         day_means(|d| d.rh_max_pct)
     );
     if a.daily {
-        println!("date,hours,t_min_c,t_mean_c,t_max_c,rh_min_pct,rh_mean_pct,rh_max_pct,rain_mm");
+        let (t, rain) = match u {
+            UnitSystem::Si => ("c", "mm"),
+            UnitSystem::Us => ("f", "in"),
+        };
+        println!(
+            "date,hours,t_min_{t},t_mean_{t},t_max_{t},rh_min_pct,rh_mean_pct,rh_max_pct,rain_{rain}"
+        );
         for d in &s.daily {
             println!(
                 "{},{},{:.1},{:.1},{:.1},{:.1},{:.1},{:.1},{}",
                 d.date,
                 d.hours,
-                d.t_min_c,
-                d.t_mean_c,
-                d.t_max_c,
+                u.temp_value(d.t_min_c),
+                u.temp_value(d.t_mean_c),
+                u.temp_value(d.t_max_c),
                 d.rh_min_pct,
                 d.rh_mean_pct,
                 d.rh_max_pct,
-                d.rain_mm.map_or(String::new(), |r| format!("{r:.1}"))
+                d.rain_mm.map_or(String::new(), |r| match u {
+                    UnitSystem::Si => format!("{r:.1}"),
+                    UnitSystem::Us => format!("{:.2}", r / crate::units::MM_PER_IN),
+                })
             );
         }
     }
@@ -357,16 +375,16 @@ fn run_synth(a: SynthArgs) -> anyhow::Result<()> {
         set.add(&name, series_csv(s, &[note]));
         let sum = summarize(s, &[60.0], None);
         lines.push(format!(
-            "wrote {} ({} h; mean {:.1} °C, mean RH {:.1} %, mean daily range {:.1} K, {})",
+            "wrote {} ({} h; mean {}, mean RH {:.1} %, mean daily range {}, {})",
             a.out.join(&name).display(),
             s.len(),
-            sum.t_mean_c,
+            a.units.temp(sum.t_mean_c),
             sum.rh_mean_pct,
-            sum.diurnal_range_k,
+            a.units.temp_delta(sum.diurnal_range_k),
             s.rain_mm()
                 .map_or("no rain amounts".to_string(), |r| format!(
-                    "rain {:.0} mm",
-                    r.iter().sum::<f64>()
+                    "rain {}",
+                    a.units.rain(r.iter().sum::<f64>())
                 ))
         ));
     }

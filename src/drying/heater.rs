@@ -20,6 +20,7 @@
 //! closed form so that the plenum, combustion water included, reaches the asked temperature exactly.
 
 use crate::props::psychro::{self, AirState};
+use crate::units::{c_to_f, f_to_c, UnitSystem};
 
 /// The grammar, as shown in error messages and help texts.
 pub const STRATEGY_GRAMMAR: &str =
@@ -146,15 +147,67 @@ fn spec_err(text: &str, problem: HeaterSpecProblem) -> HeaterSpecError {
     }
 }
 
-/// A finite number in `[lo, hi]` (or `(lo, hi]` when `open_lo`), named `field` in errors.
+/// How a set-point is written in the user's units: its conversion to SI, its unit and its range in words.
+#[derive(Clone, Copy)]
+struct Written {
+    to_si: fn(f64) -> f64,
+    unit: &'static str,
+    range: &'static str,
+}
+
+fn same(v: f64) -> f64 {
+    v
+}
+fn f_delta_to_k(v: f64) -> f64 {
+    UnitSystem::Us.temp_delta_to_si(v)
+}
+
+/// (temperature, temperature difference, percent) as written in `units`.
+fn written(units: UnitSystem) -> (Written, Written, Written) {
+    let pct = Written {
+        to_si: same,
+        unit: "%",
+        range: "5 to 95 %",
+    };
+    match units {
+        UnitSystem::Si => (
+            Written {
+                to_si: same,
+                unit: "°C",
+                range: "5 to 70 °C",
+            },
+            Written {
+                to_si: same,
+                unit: "K",
+                range: "above 0 K and at most 30 K",
+            },
+            pct,
+        ),
+        UnitSystem::Us => (
+            Written {
+                to_si: f_to_c,
+                unit: "°F",
+                range: "41 to 158 °F",
+            },
+            Written {
+                to_si: f_delta_to_k,
+                unit: "°F",
+                range: "above 0 °F and at most 54 °F",
+            },
+            pct,
+        ),
+    }
+}
+
+/// A finite number, written in `w`'s unit, whose SI value lies in `[lo, hi]` (or `(lo, hi]` when `open_lo`), named
+/// `field` in errors; returned in SI.
 fn bounded(
     value: &str,
     field: &'static str,
     (lo, hi, open_lo): (f64, f64, bool),
-    unit: &'static str,
-    range: &'static str,
+    w: Written,
 ) -> Result<f64, HeaterSpecProblem> {
-    let v = value
+    let given = value
         .trim()
         .parse::<f64>()
         .ok()
@@ -163,20 +216,24 @@ fn bounded(
             field,
             value: value.trim().to_string(),
         })?;
-    let above_lo = if open_lo { v > lo } else { v >= lo };
-    if above_lo && v <= hi {
-        Ok(v)
+    let v = (w.to_si)(given);
+    // Round-off of the unit conversion (41 °F is 5 °C to 1e-15) must not refuse a bound written exactly.
+    let eps = 1e-9 * hi.abs().max(1.0);
+    let above_lo = if open_lo { v > lo } else { v >= lo - eps };
+    if above_lo && v <= hi + eps {
+        Ok(v.clamp(lo, hi))
     } else {
         Err(HeaterSpecProblem::OutOfRange {
             field,
-            value: v,
-            unit,
-            range,
+            value: given,
+            unit: w.unit,
+            range: w.range,
         })
     }
 }
 
-fn parse_rule(rule: &str) -> Result<HeaterStrategy, HeaterSpecProblem> {
+fn parse_rule(rule: &str, units: UnitSystem) -> Result<HeaterStrategy, HeaterSpecProblem> {
+    let (temp, delta, pct) = written(units);
     let mut parts = rule.split(',');
     let head = parts.next().unwrap_or("");
     let (key, value) = match head.split_once('=') {
@@ -187,20 +244,14 @@ fn parse_rule(rule: &str) -> Result<HeaterStrategy, HeaterSpecProblem> {
     let strategy = match (key, value) {
         ("none", None) => HeaterStrategy::None,
         ("rise", Some(v)) => HeaterStrategy::FixedRise {
-            rise_k: bounded(
-                v,
-                "rise",
-                (0.0, RISE_MAX_K, true),
-                "K",
-                "above 0 K and at most 30 K",
-            )?,
+            rise_k: bounded(v, "rise", (0.0, RISE_MAX_K, true), delta)?,
         },
         ("plenum", Some(v)) => HeaterStrategy::FixedPlenum {
-            plenum_c: bounded(v, "plenum", plenum, "°C", "5 to 70 °C")?,
+            plenum_c: bounded(v, "plenum", plenum, temp)?,
         },
         ("rh", Some(v)) => {
             let rh = (RH_MIN_PCT, RH_MAX_PCT, false);
-            let target_rh_pct = bounded(v, "rh", rh, "%", "5 to 95 %")?;
+            let target_rh_pct = bounded(v, "rh", rh, pct)?;
             let cap = parts.next().ok_or(HeaterSpecProblem::MissingCap)?;
             let max = match cap.split_once('=') {
                 Some((k, v)) if k.trim() == "max" => v,
@@ -208,7 +259,7 @@ fn parse_rule(rule: &str) -> Result<HeaterStrategy, HeaterSpecProblem> {
             };
             HeaterStrategy::HumidityLimited {
                 target_rh_pct,
-                max_c: bounded(max, "max", plenum, "°C", "5 to 70 °C")?,
+                max_c: bounded(max, "max", plenum, temp)?,
             }
         }
         _ => return Err(HeaterSpecProblem::Unknown),
@@ -237,7 +288,16 @@ fn parse_window(window: &str) -> Result<(u32, u32), HeaterSpecProblem> {
 
 impl std::str::FromStr for StrategySpec {
     type Err = HeaterSpecError;
+    /// A strategy written in SI set-points (°C, K): files and the default command line.
     fn from_str(raw: &str) -> Result<Self, HeaterSpecError> {
+        StrategySpec::parse_in(raw, UnitSystem::Si)
+    }
+}
+
+impl StrategySpec {
+    /// A strategy written with set-points in `units` (°F and °F differences under `--units us`; humidity in % in
+    /// both), held in SI. The one parser: `FromStr` is this with SI.
+    pub fn parse_in(raw: &str, units: UnitSystem) -> Result<Self, HeaterSpecError> {
         let text = raw.trim();
         let err = |problem| spec_err(text, problem);
         if text.is_empty() {
@@ -247,9 +307,36 @@ impl std::str::FromStr for StrategySpec {
             Some((r, w)) => (r, Some(w.trim())),
             None => (text, None),
         };
-        let strategy = parse_rule(rule).map_err(err)?;
+        let strategy = parse_rule(rule, units).map_err(err)?;
         let window_h = window.map(parse_window).transpose().map_err(err)?;
         Ok(StrategySpec { strategy, window_h })
+    }
+}
+
+impl StrategySpec {
+    /// The strategy written in `units` (set-points to 0.1 °F in US units, as SI's own digits otherwise): what a
+    /// person reads; files keep the SI form of `Display`.
+    pub fn text_in(&self, units: UnitSystem) -> String {
+        if units == UnitSystem::Si {
+            return self.to_string();
+        }
+        let num = |v: f64| {
+            let t = format!("{v:.1}");
+            t.strip_suffix(".0").map(str::to_string).unwrap_or(t)
+        };
+        let mut s = match self.strategy {
+            HeaterStrategy::None => "none".to_string(),
+            HeaterStrategy::FixedRise { rise_k } => format!("rise={}", num(rise_k * 1.8)),
+            HeaterStrategy::FixedPlenum { plenum_c } => format!("plenum={}", num(c_to_f(plenum_c))),
+            HeaterStrategy::HumidityLimited {
+                target_rh_pct,
+                max_c,
+            } => format!("rh={target_rh_pct},max={}", num(c_to_f(max_c))),
+        };
+        if let Some((a, b)) = self.window_h {
+            s.push_str(&format!("@{a}-{b}"));
+        }
+        s
     }
 }
 
@@ -543,6 +630,37 @@ impl Heater {
 mod tests {
     use super::*;
     use approx::assert_relative_eq;
+
+    #[test]
+    fn us_set_points_are_read_in_fahrenheit() {
+        let us = |t: &str| StrategySpec::parse_in(t, UnitSystem::Us);
+        // 95 °F = 35 °C; a 14.4 °F rise = 8 K; RH stays in %.
+        let p = us("plenum=95@20-6").unwrap();
+        match p.strategy {
+            HeaterStrategy::FixedPlenum { plenum_c } => {
+                assert_relative_eq!(plenum_c, 35.0, max_relative = 1e-12)
+            }
+            s => panic!("{s:?}"),
+        }
+        assert_eq!(p.window_h, Some((20, 6)));
+        match us("rise=14.4").unwrap().strategy {
+            HeaterStrategy::FixedRise { rise_k } => {
+                assert_relative_eq!(rise_k, 8.0, max_relative = 1e-12)
+            }
+            s => panic!("{s:?}"),
+        }
+        assert_eq!(us("rh=55,max=95").unwrap(), "rh=55,max=35".parse().unwrap());
+        // The range is checked in SI and reported as written: 41–158 °F is 5–70 °C, exactly at the ends.
+        assert!(us("plenum=41").is_ok() && us("plenum=158").is_ok());
+        let e = us("plenum=200").unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "heater strategy \"plenum=200\": plenum: 200 °F is out of range (41 to 158 °F)"
+        );
+        // Written back in US units for people, in SI for files.
+        assert_eq!(p.text_in(UnitSystem::Us), "plenum=95@20-6");
+        assert_eq!(p.to_string(), "plenum=35@20-6");
+    }
 
     fn heater(strategy: HeaterStrategy) -> Heater {
         Heater {

@@ -28,9 +28,9 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
     };
     let _ = writeln!(
         o,
-        "{}: {:.1} m³ of peanuts, mean depth {}, grid {}×{} columns × {} layers",
+        "{}: {} of peanuts, mean depth {}, grid {}×{} columns × {} layers",
         c.name,
-        sm.bed_volume_m3,
+        u.bulk_volume(sm.bed_volume_m3),
         u.length(sm.bed_volume_m3 / c.floor_area_m2()),
         g.nx,
         g.ny,
@@ -38,11 +38,11 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
     );
     let _ = writeln!(
         o,
-        "{source} ({:.3} kg/m³); into the plenum {} at the plenum air ({:.3} kg/m³), {:.3} kg/s of dry air",
-        sm.fan_air_density_kg_per_m3,
+        "{source} ({}); into the plenum {} at the plenum air ({}), {} of dry air",
+        u.density(sm.fan_air_density_kg_per_m3),
         u.flow(op.plenum_flow_m3_per_s),
-        sm.plenum_air_density_kg_per_m3,
-        op.dry_air_kg_per_s
+        u.density(sm.plenum_air_density_kg_per_m3),
+        u.mass_flow(op.dry_air_kg_per_s)
     );
     let _ = writeln!(
         o,
@@ -52,29 +52,31 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
     );
     let _ = writeln!(
         o,
-        "fan static pressure {}; inlet jet {:.1} m/s; plenum {} to {} (mean {})",
+        "fan static pressure {}; inlet jet {}; plenum {} to {} (mean {})",
         u.pressure(op.fan_static_pressure_pa),
-        op.inlet_velocity_m_per_s,
+        u.velocity(op.inlet_velocity_m_per_s),
         u.pressure(fold(s, f64::INFINITY, f64::min)),
         u.pressure(fold(s, f64::NEG_INFINITY, f64::max)),
         u.pressure(sm.mean_plenum_pressure_pa)
     );
     let _ = writeln!(
         o,
-        "air leaving the top: mean {:.3} m/s (lowest column {:.3}, highest {:.3}), CV {:.1} %, lowest/mean {:.2}",
-        sm.mean_column_velocity_m_per_s,
-        sm.min_column_velocity_m_per_s,
-        sm.max_column_velocity_m_per_s,
+        "air leaving the top: mean {} (lowest column {}, highest {}), CV {:.1} %, lowest/mean {:.2}",
+        u.velocity(sm.mean_column_velocity_m_per_s),
+        u.velocity(sm.min_column_velocity_m_per_s),
+        u.velocity(sm.max_column_velocity_m_per_s),
         100.0 * sm.column_flow_cv,
         sm.min_over_mean
     );
     let _ = writeln!(
         o,
-        "specific airflow {:.1} m³/min per m³ of peanuts; mean dry-air flux {:.3} kg/(s·m²)",
-        sm.specific_airflow_m3_per_min_per_m3, sm.mean_mass_flux_kg_per_m2_s
+        "specific airflow {} of peanuts; mean dry-air flux {}",
+        u.specific_airflow(sm.specific_airflow_m3_per_min_per_m3),
+        u.mass_flux(sm.mean_mass_flux_kg_per_m2_s)
     );
-    if let Some(w) = sm.low_airflow_warning() {
-        let _ = writeln!(o, "{w}");
+    let fill = sm.bed_volume_m3 / (c.floor_area_m2() * c.wall_height_m);
+    for a in crate::advice::airflow_advice(sm.specific_airflow_m3_per_min_per_m3, fill) {
+        let _ = writeln!(o, "{}", a.text(u));
     }
     let _ = writeln!(
         o,

@@ -8,9 +8,10 @@ use ndarray::Array2;
 
 use super::output::OutputSet;
 use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
+use crate::advice::{advise, load_figures};
 use crate::drying::run::{Outcome, RunSettings, StopReason, Tally};
 use crate::load::{Cost, LoadResult, LoadSpec};
-use crate::units::UnitSystem;
+use crate::units::{money, UnitSystem};
 
 /// The cautions printed with every drying report.
 pub const CAUTIONS: &str = "Cautions: a simulation is no substitute for a calibrated moisture meter — sample the load before \
@@ -18,14 +19,6 @@ grading. Propane burners and hot plenums can start fires and direct-fired burner
 follow NFPA 58 and local codes, the dryer and burner manuals and licensed practice, keep the plenum clear of hulls and \
 trash, never run a dryer unattended against its manual. Over-heated peanuts split and lose flavour; wet peanuts held \
 warm risk mold and aflatoxin.";
-
-fn fuel_text(units: UnitSystem, amount: f64, unit: &str) -> String {
-    if unit == "L" {
-        units.volume_l(amount)
-    } else {
-        format!("{amount:.1} {unit}")
-    }
-}
 
 /// What the figures mean, written beside them in the JSON outcome.
 pub const MEANING: &str = "Crossing times (at_mean_target, at_fraction_target, at_stop_rule) are interpolated inside the \
@@ -52,16 +45,13 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
     );
     let _ = writeln!(
         s,
-        "  airflow: {} through the bed ({:.1} m³/min per m³ of peanuts), plenum {} mean, column flow CV {:.1} %, lowest/mean {:.2}",
+        "  airflow: {} through the bed ({} of peanuts), plenum {} mean, column flow CV {:.1} %, lowest/mean {:.2}",
         units.flow(a.bed_flow_m3_per_s),
-        a.specific_airflow_m3_per_min_per_m3,
+        units.specific_airflow(a.specific_airflow_m3_per_min_per_m3),
         units.pressure(a.mean_plenum_pressure_pa),
         a.column_flow_cv * 100.0,
         a.min_over_mean
     );
-    if let Some(w) = a.low_airflow_warning() {
-        let _ = writeln!(s, "  {w}");
-    }
     let reason = match o.stop_reason {
         StopReason::RuleMet => format!("stop rule {} met", o.stop_rule),
         StopReason::MaxHours => "time limit reached first".into(),
@@ -79,14 +69,13 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
         let _ = match t {
             Some(t) => writeln!(
                 s,
-                "  {what}: {:.1} h, at {}; by then {} {} ({:.1} {}/t), fan {:.1} kWh, shrink {}",
+                "  {what}: {:.1} h, at {}; by then {} {} ({}), fan {}, shrink {}",
                 t.hours,
                 crate::load::clock_at(r.clock.start, t.hours).format("%a %Y-%m-%d %H:%M"),
-                fuel_text(units, t.fuel_used, &o.fuel_unit),
+                units.fuel(t.fuel_used, &o.fuel_unit),
                 r.heater.fuel.name,
-                t.fuel_used / (o.initial_mass_kg / 1000.0),
-                o.fuel_unit,
-                t.fan_kwh,
+                units.fuel_per_mass(t.fuel_used / (o.initial_mass_kg / 1000.0), &o.fuel_unit),
+                units.energy_kwh(t.fan_kwh),
                 units.mass(t.shrink_kg)
             ),
             None => writeln!(s, "  {what}: not reached"),
@@ -113,25 +102,24 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
     );
     let _ = writeln!(
         s,
-        "  zones at the end (by dry mass, moisture linear between layer centres): {:.1} % over-dried (< {:.1} %), {:.1} % still wet (> {:.1} %); over-dry shrink (weight lost below target) {} worth {cur} {:.0}",
+        "  zones at the end (by dry mass, moisture linear between layer centres): {:.1} % over-dried (< {:.1} %), {:.1} % still wet (> {:.1} %); over-dry shrink (weight lost below target) {} worth {}",
         o.over_dried_fraction * 100.0,
         spec.run.over_dry_kernel_wb * 100.0,
         o.under_dried_fraction * 100.0,
         (spec.run.target_kernel_wb + spec.run.under_dry_tolerance_wb) * 100.0,
         units.mass(o.shrink_kg),
-        r.cost.shrink
+        money(cur, r.cost.shrink)
     );
     let _ = writeln!(
         s,
-        "  energy to the end of the run: {} {} ({:.1} {}/t), fan {:.1} kWh, {:.0} kJ per kg water; cost to the stop rule {cur} {:.0} fuel + {cur} {:.0} electricity",
-        fuel_text(units, o.fuel_used, &o.fuel_unit),
+        "  energy to the end of the run: {} {} ({}), fan {}, {} of water removed; cost to the stop rule {} fuel + {} electricity",
+        units.fuel(o.fuel_used, &o.fuel_unit),
         r.heater.fuel.name,
-        o.fuel_per_tonne,
-        o.fuel_unit,
-        o.fan_kwh,
-        o.energy_kj_per_kg_water,
-        r.cost.fuel,
-        r.cost.electricity
+        units.fuel_per_mass(o.fuel_per_tonne, &o.fuel_unit),
+        units.energy_kwh(o.fan_kwh),
+        units.specific_energy(o.energy_kj_per_kg_water),
+        money(cur, r.cost.fuel),
+        money(cur, r.cost.electricity)
     );
     let _ = writeln!(
         s,
@@ -141,6 +129,9 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
         spec.run.safe_rate_pct_per_h,
         units.temp(o.max_peanut_c)
     );
+    for a in advise(&load_figures(spec, r)) {
+        let _ = writeln!(s, "  {}", a.text(units));
+    }
     s
 }
 
@@ -157,8 +148,11 @@ pub fn outcome_json(spec: &LoadSpec, label: &str, r: &LoadResult) -> String {
         cost: &'a Cost,
         currency: &'a str,
         airflow: &'a crate::airflow::solve::AirflowSummary,
+        advice_figures: crate::advice::Figures,
+        advice: Vec<crate::advice::Advice>,
         cautions: &'a str,
     }
+    let figures = load_figures(spec, r);
     let doc = Doc {
         scenario: &spec.name,
         strategy: label.to_string(),
@@ -169,6 +163,8 @@ pub fn outcome_json(spec: &LoadSpec, label: &str, r: &LoadResult) -> String {
         cost: &r.cost,
         currency: &spec.prices.currency,
         airflow: &r.airflow.summary,
+        advice_figures: figures,
+        advice: advise(&figures),
         cautions: CAUTIONS,
     };
     let mut text = serde_json::to_string_pretty(&doc).expect("outcome serialises");
@@ -368,7 +364,14 @@ pub struct CompareRow<'a> {
 type Column = (&'static str, Box<dyn Fn(&LoadResult) -> f64>);
 
 /// A side-by-side table; `*` marks the best value in each column (lowest, except none for labels).
-pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -> String {
+pub fn compare_table(
+    rows: &[CompareRow<'_>],
+    currency: &str,
+    fuel_unit: &str,
+    u: UnitSystem,
+) -> String {
+    let fuel_unit = fuel_unit.to_string();
+    let fu = fuel_unit.clone();
     let cols: Vec<Column> = vec![
         (
             "h to mean target",
@@ -380,25 +383,32 @@ pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -
         ),
         (
             "fuel per tonne",
-            Box::new(|r: &LoadResult| ready(r).fuel_used / (r.outcome.initial_mass_kg / 1000.0)),
+            Box::new(move |r: &LoadResult| {
+                u.fuel_per_mass_value(
+                    ready(r).fuel_used / (r.outcome.initial_mass_kg / 1000.0),
+                    &fu,
+                )
+            }),
         ),
         ("fan (kWh)", Box::new(|r: &LoadResult| ready(r).fan_kwh)),
         ("energy cost", Box::new(|r: &LoadResult| r.cost.energy)),
         (
-            "over-dried (kg d.m.)",
-            Box::new(|r: &LoadResult| r.outcome.zones.over_dried_dry_kg),
+            "over-dried (d.m.)",
+            Box::new(move |r: &LoadResult| u.mass_value(r.outcome.zones.over_dried_dry_kg)),
         ),
         ("shrink value", Box::new(|r: &LoadResult| r.cost.shrink)),
         (
-            "max peanut (°C)",
-            Box::new(|r: &LoadResult| r.outcome.max_peanut_c),
+            "max peanut",
+            Box::new(move |r: &LoadResult| u.temp_value(r.outcome.max_peanut_c)),
         ),
     ];
     let mut s = String::new();
     let _ = write!(s, "{:<22}", "strategy");
     for (name, _) in &cols {
         let name = match *name {
-            "fuel per tonne" => format!("fuel ({fuel_unit}/t)"),
+            "fuel per tonne" => format!("fuel ({})", u.fuel_per_mass_unit(&fuel_unit)),
+            "over-dried (d.m.)" => format!("over-dried ({} d.m.)", u.mass_unit()),
+            "max peanut" => format!("max peanut ({})", u.temp_unit()),
             "energy cost" => format!("energy ({currency})"),
             "shrink value" => format!("shrink ({currency})"),
             n => n.to_string(),
@@ -428,21 +438,18 @@ pub fn compare_table(rows: &[CompareRow<'_>], currency: &str, fuel_unit: &str) -
         }
         s.push('\n');
     }
-    s.push_str("* = best (lowest) in its column; fuel, fan and costs to the stop rule; over-dried in kg of dry matter\n");
+    s.push_str("* = best (lowest) in its column; fuel, fan and costs to the stop rule; over-dried in dry matter\n");
     s
 }
 
 /// The full set of files for one load: summary, outcome, series and pictures.
-pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult) -> OutputSet {
+pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSystem) -> OutputSet {
     let target = spec.run.target_kernel_wb * 100.0;
     let title = format!("{}: {label}", spec.name);
     let mut set = OutputSet::new();
     set.add(
         "summary.txt",
-        format!(
-            "{}\n{CAUTIONS}\n",
-            summary_text(spec, label, r, UnitSystem::Si)
-        ),
+        format!("{}\n{CAUTIONS}\n", summary_text(spec, label, r, units)),
     );
     set.add("outcome.json", outcome_json(spec, label, r));
     set.add("series.csv", series_csv(&r.outcome));
@@ -462,8 +469,12 @@ pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult) -> OutputSet {
 
 /// `starts.csv`: one row per start time.
 pub fn starts_csv(loads: &[LoadSpec], results: &[LoadResult]) -> String {
-    let mut csv = String::from(
-        "start,hours_to_mean_target_h,hours_to_fraction_target_h,ready_at,fuel_per_tonne_to_ready,fan_kwh_to_ready,over_dried_pct,final_kernel_pct_wb\n",
+    let fuel_unit = results
+        .first()
+        .map(|r| r.outcome.fuel_unit.replace('³', "3"))
+        .unwrap_or_else(|| "L".into());
+    let mut csv = format!(
+        "start,hours_to_mean_target_h,hours_to_fraction_target_h,ready_at,fuel_to_ready_{fuel_unit}_per_t,fan_to_ready_kwh,over_dried_pct,final_kernel_pct_wb\n",
     );
     let opt = |h: Option<f64>| h.map(|x| format!("{x:.3}")).unwrap_or_default();
     for (l, r) in loads.iter().zip(results) {

@@ -1,7 +1,7 @@
 //! The demo's property table: a crop at a day's worth of air states, ambient and heated, as a printed table and as
 //! `properties.csv`.
 use crate::props::psychro::AirState;
-use crate::units::wb_from_db;
+use crate::units::{wb_from_db, UnitSystem, J_PER_BTU, KG_PER_LB};
 
 /// One row of the property table.
 pub struct PropertyRow {
@@ -20,20 +20,18 @@ pub struct PropertyRow {
 }
 
 /// The printed table and the CSV bytes.
-pub fn property_table(rows: &[PropertyRow]) -> (String, Vec<u8>) {
+pub fn property_table(rows: &[PropertyRow], u: UnitSystem) -> (String, Vec<u8>) {
+    let t_head = format!("T {}", u.temp_unit());
+    let p_head = format!("plenum {}", u.temp_unit());
+    let h_head = match u {
+        UnitSystem::Si => "kJ/kg da",
+        UnitSystem::Us => "BTU/lb da",
+    };
     let mut text =
         String::from("Bramble Fork buying point (invented demo data): peanut-inshell properties\n");
     text.push_str(&format!(
         "{:<20} {:>8} {:>7} {:>9} {:>8} {:>11} {:>11} {:>11} {:>10}\n",
-        "air state",
-        "T °C",
-        "RH %",
-        "plenum °C",
-        "RH %",
-        "kernel %wb",
-        "hull %wb",
-        "pod %wb",
-        "kJ/kg da"
+        "air state", t_head, "RH %", p_head, "RH %", "kernel %wb", "hull %wb", "pod %wb", h_head
     ));
     let mut csv = String::from(
         "air_state,ambient_t_c,ambient_rh_pct,plenum_t_c,plenum_rh_pct,humidity_ratio_kg_per_kg,\
@@ -53,17 +51,21 @@ pub fn property_table(rows: &[PropertyRow]) -> (String, Vec<u8>) {
             format!("{:.2}", 100.0 * wb_from_db(r.pod_emc_db)),
             format!("{heat_kj:.2}"),
         ];
+        let heat_text = match u {
+            UnitSystem::Si => cells[9].clone(),
+            UnitSystem::Us => format!("{:.2}", heat_kj * 1000.0 * KG_PER_LB / J_PER_BTU),
+        };
         text.push_str(&format!(
             "{:<20} {:>8} {:>7} {:>9} {:>8} {:>11} {:>11} {:>11} {:>10}\n",
             cells[0],
-            cells[1],
+            format!("{:.2}", u.temp_value(r.ambient.t_c)),
             cells[2],
-            cells[3],
+            format!("{:.2}", u.temp_value(r.heated.t_c)),
             cells[4],
             cells[6],
             cells[7],
             cells[8],
-            cells[9]
+            heat_text
         ));
         csv.push_str(&cells.join(","));
         csv.push('\n');

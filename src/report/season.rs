@@ -1,33 +1,18 @@
 //! A season's files as the yard manager reads them: the schedule, the daily table, the key figures, a sweep's
 //! percentiles and the arrivals drawn by the generator, each as CSV text with the unit in every column name.
 
+use crate::drying::heater::StrategySpec;
 use crate::season::arrivals::Load;
 use crate::season::kpi::{DayRow, Kpis, KPI_FIELDS};
 use crate::season::scenario::BuyingPoint;
 use crate::season::sim::{hours_between, SeasonRun};
-use crate::season::sweep::CaseResult;
-
-fn money_col(currency: &str) -> String {
-    let c: String = currency
-        .chars()
-        .map(|c| {
-            if c.is_alphanumeric() || c == '$' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    if c.is_empty() {
-        "money".into()
-    } else {
-        c
-    }
-}
+use crate::season::sweep::{smallest_holding, CaseResult, SweepGrid};
+use crate::units::UnitSystem;
+use std::fmt::Write as _;
 
 /// The schedule as CSV: one row per load, started or not (`status` = dried, not-dry or never-started).
 pub fn schedule_csv(run: &SeasonRun, bp: &BuyingPoint) -> String {
-    let m = money_col(&bp.prices.currency);
+    let m = crate::units::currency_column(&bp.prices.currency);
     let mut s = format!(
         "load_id,dryer_id,status,arrival,start,finish,wait_h,drying_h,net_mass_kg,moisture_in_pct_wb,\
          moisture_out_pct_wb,propane_l,fan_kwh,over_dried_kg,shrink_kg,shrink_value_{m}\n"
@@ -143,6 +128,150 @@ pub fn arrivals_csv(loads: &[Load]) -> String {
             l.moisture_pct,
             l.notes.replace([',', '\n'], " ")
         ));
+    }
+    s
+}
+
+/// Index of a key figure in [`KPI_FIELDS`].
+fn field(name: &str) -> usize {
+    KPI_FIELDS
+        .iter()
+        .position(|(n, _)| *n == name)
+        .expect("a key figure named in KPI_FIELDS")
+}
+
+/// The sweep's answer on screen: a table of the key figures per dryer count × policy × heater (P10/P50/P90 across
+/// seasons), then for each heater and policy the smallest count that holds the wait limit in 90 % of seasons; when
+/// none does, the figures at the largest count and which way to widen `--dryers`.
+pub fn sweep_answer(
+    results: &[CaseResult],
+    grid: &SweepGrid,
+    max_wait_h: f64,
+    currency: &str,
+    u: UnitSystem,
+) -> String {
+    let (over, wait, occ, fuel, cost) = (
+        field("loads_over_wait_limit"),
+        field("p95_wait"),
+        field("dryer_utilisation"),
+        field("propane_per_tonne"),
+        field("total_cost"),
+    );
+    let heater_text = |h: &Option<StrategySpec>| h.map_or("scenario".into(), |h| h.text_in(u));
+    let trio = |r: &CaseResult, f: usize, digits: usize| {
+        format!(
+            "{:.d$}/{:.d$}/{:.d$}",
+            r.p10[f],
+            r.p50[f],
+            r.p90[f],
+            d = digits
+        )
+    };
+    let fuel_trio = |r: &CaseResult| {
+        let v = |x: f64| u.fuel_per_mass_value(x, "L");
+        format!(
+            "{:.1}/{:.1}/{:.1}",
+            v(r.p10[fuel]),
+            v(r.p50[fuel]),
+            v(r.p90[fuel])
+        )
+    };
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "key figures per case, P10/P50/P90 across seasons (over limit: loads waiting more than {max_wait_h:.0} h)"
+    );
+    let _ = writeln!(
+        s,
+        "{:>6} {:<11} {:<16} {:>14} {:>18} {:>14} {:>18} {:>22}",
+        "dryers",
+        "policy",
+        "heater",
+        "over limit",
+        "95th pct wait (h)",
+        "occupied (%)",
+        format!("propane ({})", u.fuel_per_mass_unit("L")),
+        format!("total cost ({currency})"),
+    );
+    for r in results {
+        let _ = writeln!(
+            s,
+            "{:>6} {:<11} {:<16} {:>14} {:>18} {:>14} {:>18} {:>22}",
+            r.case.dryers,
+            r.case.policy.name(),
+            heater_text(&r.case.heater),
+            trio(r, over, 0),
+            trio(r, wait, 1),
+            trio(r, occ, 0),
+            fuel_trio(r),
+            trio(r, cost, 0),
+        );
+    }
+    let lo = grid.dryer_counts.iter().copied().min().unwrap_or(0);
+    let hi = grid.dryer_counts.iter().copied().max().unwrap_or(0);
+    for h in &grid.heaters {
+        for &p in &grid.policies {
+            let head = format!("heater {}, policy {}", heater_text(h), p.name());
+            match smallest_holding(results, p, *h) {
+                Some(n) if n == lo && lo > 1 => {
+                    let _ = writeln!(
+                        s,
+                        "{head}: {n} dryers hold the {max_wait_h:.0} h wait limit in 90 % of seasons — the smallest \
+                         count swept, so fewer may do: widen the range downward (e.g. --dryers {}..{n})",
+                        (lo / 2).max(1)
+                    );
+                }
+                Some(n) => {
+                    let _ = writeln!(
+                        s,
+                        "{head}: {n} dryers hold the {max_wait_h:.0} h wait limit in 90 % of seasons"
+                    );
+                }
+                None => {
+                    let at = results
+                        .iter()
+                        .find(|r| r.case.dryers == hi && r.case.policy == p && r.case.heater == *h);
+                    let figures = at.map_or(String::new(), |r| {
+                        format!(
+                            "; at {hi} dryers {:.0} loads over the limit (P90) and a 95th-percentile wait of {:.1} h (P90)",
+                            r.p90[over], r.p90[wait]
+                        )
+                    });
+                    let _ = writeln!(
+                        s,
+                        "{head}: no dryer count swept holds the {max_wait_h:.0} h wait limit in 90 % of seasons{figures}: \
+                         widen the range upward (e.g. --dryers {hi}..{})",
+                        hi * 2
+                    );
+                }
+            }
+        }
+    }
+    s
+}
+
+/// What explains a season's fuel per tonne: the air each load got per m³ of peanuts (median and range over the
+/// loads put on air), with the advice when the median is far from the trade's usual. Empty for a drier that solves
+/// no airflow.
+pub fn air_note(run: &SeasonRun, u: UnitSystem) -> String {
+    let mut q: Vec<f64> = run
+        .schedule
+        .iter()
+        .filter_map(|r| r.result.air_per_m3)
+        .collect();
+    if q.is_empty() {
+        return String::new();
+    }
+    q.sort_by(f64::total_cmp);
+    let mut s = format!(
+        "air per volume of peanuts over the {} loads put on air: median {}, from {} to {}\n",
+        q.len(),
+        u.specific_airflow(q[q.len() / 2]),
+        u.specific_airflow(q[0]),
+        u.specific_airflow(q[q.len() - 1])
+    );
+    for a in crate::advice::airflow_advice(q[q.len() / 2], 1.0) {
+        let _ = writeln!(s, "{}", a.text(u));
     }
     s
 }

@@ -294,7 +294,9 @@ impl ArrivalParams {
             hour_bounds: (7.0, 23.0),
             mass_mean_kg: 4200.0,
             mass_sd_kg: 800.0,
-            mass_bounds_kg: (1500.0, 5400.0),
+            // At most what a 4.3 m wagon holds at its usual depth (4.6 t, 1.41 m in 1.6 m walls; about 4 t is the
+            // usual load, DOMAIN.md §12), so a generated load fits the bundled buying points' wagons.
+            mass_bounds_kg: (1500.0, 4600.0),
             moisture_mean_pct: 20.0,
             moisture_sd_pct: 4.0,
             moisture_bounds_pct: (12.0, 35.0),

@@ -24,9 +24,9 @@ use crate::drying::bed::InitialMoisture;
 use crate::drying::flow::FanEfficiency;
 use crate::drying::heater::{Fuel, HeaterStrategy};
 use crate::drying::material::CropMaterial;
-use crate::drying::run::{Outcome, RunError, RunSettings, StopReason};
+use crate::drying::run::{RunError, RunSettings, StopReason};
 use crate::load::{
-    checked_heater, run_load, AirflowUpdates, FillSpec, LoadError, LoadSpec, Prices,
+    checked_heater, run_load, AirflowUpdates, FillSpec, LoadError, LoadResult, LoadSpec, Prices,
 };
 use crate::weather::series::WeatherSeries;
 
@@ -47,6 +47,9 @@ pub struct DryingResult {
     pub shrink_kg: f64,
     /// Whether the load reached target.
     pub finished: bool,
+    /// Air through the bed per volume of peanuts at the load's start, m³/min per m³ (`None` for a drier that solves
+    /// no airflow): what explains a season's fuel per tonne (advice::USUAL_AIRFLOW_M3_MIN_PER_M3).
+    pub air_per_m3: Option<f64>,
 }
 
 /// Dries one load on one dryer from a start time. Must depend on nothing else (so results are reproducible and
@@ -115,6 +118,7 @@ impl LoadDrier for FixedTimeDrier {
             over_dried_kg: 0.0,
             shrink_kg: 0.0,
             finished: true,
+            air_per_m3: None,
         })
     }
 }
@@ -185,6 +189,7 @@ impl LoadDrier for RateRuleDrier {
             over_dried_kg: 0.0,
             shrink_kg: 0.0,
             finished: true,
+            air_per_m3: None,
         })
     }
 }
@@ -268,7 +273,8 @@ pub struct DeepBedDrier {
 }
 
 /// A season's figures of a dried load.
-pub fn drying_result(out: &Outcome) -> DryingResult {
+pub fn drying_result(r: &LoadResult) -> DryingResult {
+    let out = &r.outcome;
     let ready = out.ready();
     DryingResult {
         hours: ready.hours,
@@ -278,6 +284,7 @@ pub fn drying_result(out: &Outcome) -> DryingResult {
         over_dried_kg: out.over_dried_fraction * out.final_mass_kg,
         shrink_kg: ready.shrink_kg,
         finished: out.stop_reason == StopReason::RuleMet,
+        air_per_m3: Some(r.airflow.summary.specific_airflow_m3_per_min_per_m3),
     }
 }
 
@@ -290,7 +297,7 @@ impl LoadDrier for DeepBedDrier {
     ) -> Result<DryingResult, SeasonError> {
         let spec = self.template.spec_for(load, dryer, start)?;
         match run_load(&spec, &mut ()) {
-            Ok(r) => Ok(drying_result(&r.outcome)),
+            Ok(r) => Ok(drying_result(&r)),
             // Already at or below target: nothing to dry; it still takes its slot for the turnaround.
             Err(LoadError::Run(RunError::TargetNotBelowInitial { .. })) => Ok(DryingResult {
                 hours: 0.0,
@@ -300,6 +307,7 @@ impl LoadDrier for DeepBedDrier {
                 over_dried_kg: 0.0,
                 shrink_kg: 0.0,
                 finished: true,
+                air_per_m3: None,
             }),
             Err(e) => Err(SeasonError::Drying {
                 load: load.id.clone(),

@@ -4,6 +4,7 @@
 //! Percentiles use linear interpolation between order statistics (Hyndman & Fan 1996 definition 7, the default of
 //! R's `quantile` and NumPy's `percentile`).
 
+use crate::units::{money, UnitSystem};
 use chrono::{DateTime, Duration, FixedOffset};
 
 use super::scenario::BuyingPoint;
@@ -102,14 +103,14 @@ impl Kpis {
         ]
     }
 
-    /// A few lines for a person, units on every number.
-    pub fn summary(&self, currency: &str) -> String {
+    /// A few lines for a person, units on every number, money written one way ([`crate::units::money`]).
+    pub fn summary(&self, currency: &str, u: UnitSystem) -> String {
         format!(
             "loads: {} arrived, {} dried, {} unfinished\n\
              wait: mean {:.1} h, 95th percentile {:.1} h, longest {:.1} h; {} loads over the limit\n\
-             dryers: {:.0} % occupied, {:.2} t per dryer per day ({:.0} t put on air)\n\
-             propane {:.0} L ({:.1} L/t), fans {:.0} kWh, shrink {:.0} kg ({currency}{:.0})\n\
-             total cost {currency}{:.0}\n",
+             dryers: {:.0} % occupied, {} per dryer per day ({} put on air)\n\
+             propane {} ({}), fans {}, shrink {} ({})\n\
+             total cost {}\n",
             self.loads_arrived,
             self.loads_dried,
             self.loads_unfinished,
@@ -118,14 +119,14 @@ impl Kpis {
             self.max_wait_h,
             self.loads_over_wait_limit,
             self.utilisation_pct,
-            self.tonnes_per_dryer_day,
-            self.tonnes_dried,
-            self.propane_l,
-            self.propane_l_per_tonne,
-            self.fan_kwh,
-            self.shrink_kg,
-            self.shrink_value,
-            self.total_cost,
+            u.tonnes(self.tonnes_per_dryer_day * 1000.0),
+            u.tonnes(self.tonnes_dried * 1000.0),
+            u.volume_l(self.propane_l),
+            u.fuel_per_mass(self.propane_l_per_tonne, "L"),
+            u.energy_kwh(self.fan_kwh),
+            u.mass(self.shrink_kg),
+            money(currency, self.shrink_value),
+            money(currency, self.total_cost),
         )
     }
 }

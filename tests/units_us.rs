@@ -1,0 +1,354 @@
+//! `--units us` on every command: no SI unit is printed (nor written into `summary.txt`), and every figure printed
+//! with a unit converts back to the SI run's figure within printing precision. Heater set-points on the command line
+//! are read in °F under `--units us`, so the same run is asked for in each system's own words.
+//!
+//! Each command runs twice, `--units si` and `--units us`; the numbers of both outputs are paired in order (the two
+//! outputs must have the same shape), and a pair whose units are a known SI/US pair is converted with the factors of
+//! `dryfront::units` (NIST SP 811) and compared within half a unit in the last printed digit of each side.
+use std::process::Command;
+
+use dryfront::units::{
+    FT3_PER_BUSHEL, J_PER_BTU, KG_PER_LB, KG_PER_SHORT_TON, L_PER_GAL, M3_PER_FT3, MM_PER_IN,
+    M_PER_FT, PA_PER_IN_HG, PA_PER_IN_WATER,
+};
+
+fn run(args: &[&str], _dir: &std::path::Path) -> String {
+    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert!(
+        o.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// Tokens that name an SI unit; none may appear in a US output.
+fn si_unit(token: &str) -> bool {
+    const SI: &[&str] = &[
+        "°C", "K", "m", "m³", "m³/min", "m/s", "kg", "kg/s", "kg/m³", "kJ/kg", "L", "L/t", "Pa",
+        "kPa", "mm", "kW", "t", "MJ/kg", "kg/kg", "kJ/kg da",
+    ];
+    SI.contains(&token)
+        || token.starts_with("kg/")
+        || token.starts_with("m³")
+        || token.contains("°C")
+}
+
+fn tokens(text: &str) -> Vec<&str> {
+    text.split(|c: char| c.is_whitespace() || "(),;:=*".contains(c))
+        .map(|t| t.trim_end_matches(['.', '%']))
+        .filter(|t| !t.is_empty())
+        .collect()
+}
+
+/// (value, decimals printed, the token after it) for every number in the text, in order.
+fn numbers(text: &str) -> Vec<(f64, i32, String)> {
+    let t = tokens(text);
+    let mut out = Vec::new();
+    for (i, tok) in t.iter().enumerate() {
+        let tok = tok.trim_end_matches('%');
+        if let Ok(v) = tok.parse::<f64>() {
+            if tok.chars().any(|c| c.is_ascii_digit()) && !tok.contains('e') {
+                let d = tok.split_once('.').map_or(0, |(_, f)| f.len() as i32);
+                out.push((v, d, t.get(i + 1).unwrap_or(&"").to_string()));
+            }
+        }
+    }
+    out
+}
+
+/// SI value → US value for a pair of unit tokens (SI token, US token); `None` when the pair is not a conversion.
+fn convert(si: &str, us: &str, v: f64) -> Option<(f64, f64)> {
+    // (converted value, derivative: how much an SI rounding error moves it)
+    let lin = |k: f64| Some((v * k, k));
+    match (si, us) {
+        ("°C", "°F") => Some((v * 1.8 + 32.0, 1.8)),
+        ("K", "°F") => lin(1.8),
+        ("Pa", "in") => lin(1.0 / PA_PER_IN_WATER),
+        ("kPa", "in") => lin(1000.0 / PA_PER_IN_HG),
+        ("m³/min", "cfm") => lin(1.0 / M3_PER_FT3),
+        ("m³/min", "cfm/bu") => lin(FT3_PER_BUSHEL),
+        ("kg", "lb") => lin(1.0 / KG_PER_LB),
+        ("L", "gal") => lin(1.0 / L_PER_GAL),
+        ("L/t", "gal/ton") => lin(KG_PER_SHORT_TON / 1000.0 / L_PER_GAL),
+        ("t", "ton") => lin(1000.0 / KG_PER_SHORT_TON),
+        ("m", "ft") => lin(1.0 / M_PER_FT),
+        ("m/s", "ft/min") => lin(60.0 / M_PER_FT),
+        ("kg/s", "lb/min") => lin(60.0 / KG_PER_LB),
+        ("kg/m³", "lb/ft³") => lin(M3_PER_FT3 / KG_PER_LB),
+        ("m³", "ft³") => lin(1.0 / M3_PER_FT3),
+        ("kJ/kg", "BTU/lb") => lin(1000.0 * KG_PER_LB / J_PER_BTU),
+        ("mm", "in") => lin(1.0 / MM_PER_IN),
+        _ => None,
+    }
+}
+
+/// Check one command's SI and US outputs; returns how many figures were converted and checked.
+fn check_pair(what: &str, si: &str, us: &str) -> usize {
+    for line in us.lines() {
+        let bad: Vec<&str> = tokens(line).into_iter().filter(|t| si_unit(t)).collect();
+        assert!(
+            bad.is_empty(),
+            "{what}: SI unit {bad:?} under --units us in: {line}"
+        );
+    }
+    let (a, b) = (numbers(si), numbers(us));
+    assert_eq!(
+        a.len(),
+        b.len(),
+        "{what}: outputs differ in shape\n{si}\n---\n{us}"
+    );
+    let mut checked = 0;
+    for ((vs, ds, us_si), (vu, du, unit_us)) in a.iter().zip(&b) {
+        if let Some((want, k)) = convert(us_si, unit_us, *vs) {
+            // Half a unit in the last printed digit of each side, the SI side's carried through the conversion.
+            let tol = 0.5 * 10f64.powi(-du) + k.abs() * 0.5 * 10f64.powi(-ds) + 1e-9;
+            assert!(
+                (want - vu).abs() <= tol,
+                "{what}: {vs} {us_si} is {want} {unit_us}, printed {vu} (tolerance {tol})"
+            );
+            checked += 1;
+        }
+    }
+    checked
+}
+
+fn both(what: &str, si_args: &[&str], us_args: &[&str]) -> usize {
+    let dir = tempfile::tempdir().unwrap();
+    let si = run(&[si_args, &["--units", "si"]].concat(), dir.path());
+    let us = run(&[us_args, &["--units", "us"]].concat(), dir.path());
+    let n = check_pair(what, &si, &us);
+    eprintln!("{what}: {n} figures converted and checked");
+    n
+}
+
+const SMALL: &[&str] = &["--scenario", "demo-load", "--stop", "hours=6"];
+
+#[test]
+fn dry_in_us_units_and_its_summary_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("si"), dir.path().join("us"));
+    let si = run(
+        &[
+            &["dry"],
+            SMALL,
+            &[
+                "--strategy",
+                "plenum=33",
+                "--units",
+                "si",
+                "--out",
+                a.to_str().unwrap(),
+            ],
+        ]
+        .concat(),
+        dir.path(),
+    );
+    let us = run(
+        &[
+            &["dry"],
+            SMALL,
+            &[
+                "--strategy",
+                "plenum=91.4",
+                "--units",
+                "us",
+                "--out",
+                b.to_str().unwrap(),
+            ],
+        ]
+        .concat(),
+        dir.path(),
+    );
+    // The heater set-point in °F asks for the same run (91.4 °F = 33 °C), so the figures convert one to one.
+    let n = check_pair(
+        "dry",
+        &si.replace(a.to_str().unwrap(), "X"),
+        &us.replace(b.to_str().unwrap(), "X"),
+    );
+    assert!(n >= 10, "only {n} figures checked");
+    let read = |p: &std::path::Path| std::fs::read_to_string(p.join("summary.txt")).unwrap();
+    assert!(check_pair("summary.txt", &read(&a), &read(&b)) >= 10);
+}
+
+#[test]
+fn compare_and_starts_in_us_units() {
+    // The compare table's units sit in its headings; the check here is that none is SI and the shape is the same.
+    both(
+        "compare",
+        &[&["compare"], SMALL, &["--strategies", "none;rise=8"]].concat(),
+        &[&["compare"], SMALL, &["--strategies", "none;rise=14.4"]].concat(),
+    );
+    both(
+        "starts",
+        &[&["starts"], SMALL, &["--count", "2"]].concat(),
+        &[&["starts"], SMALL, &["--count", "2"]].concat(),
+    );
+}
+
+#[test]
+fn airflow_and_props_in_us_units() {
+    let airflow = [
+        "airflow",
+        "--container",
+        "trailer-6m",
+        "--fan",
+        "vane-3kw",
+        "--nx",
+        "8",
+        "--ny",
+        "4",
+        "--nz",
+        "6",
+        "--rise-k",
+        "8",
+    ];
+    assert!(both("airflow", &airflow, &airflow) >= 12);
+    // Temperatures given to props are °F under --units us: 86 °F = 30 °C, a 14.4 °F rise = 8 K.
+    both(
+        "props emc",
+        &["props", "emc", "--temp", "30", "--rh", "60"],
+        &["props", "emc", "--temp", "86", "--rh", "60"],
+    );
+    both(
+        "props air",
+        &["props", "air", "--temp", "30", "--rh", "60"],
+        &["props", "air", "--temp", "86", "--rh", "60"],
+    );
+    let heat = |t: &'static str, r: &'static str, flow: &'static [&'static str]| {
+        [
+            &["props", "heat", "--temp", t, "--rh", "70", "--rise", r][..],
+            flow,
+        ]
+        .concat()
+    };
+    both(
+        "props heat",
+        &heat("25", "8", &["--airflow-m3-min", "283.16846592"]),
+        &heat("77", "14.4", &["--airflow-cfm", "10000"]),
+    );
+    both(
+        "props pressure",
+        &[
+            "props",
+            "pressure",
+            "--depth-m",
+            "1.2192",
+            "--airflow-m-s",
+            "0.1016",
+        ],
+        &[
+            "props",
+            "pressure",
+            "--depth-ft",
+            "4",
+            "--airflow-cfm-ft2",
+            "20",
+        ],
+    );
+}
+
+#[test]
+fn weather_and_season_in_us_units() {
+    let file = "weather-samples/723170TYA.CSV";
+    let summary = [
+        "weather",
+        "summary",
+        file,
+        "--from",
+        "2026-09-01",
+        "--days",
+        "10",
+        "--daily",
+    ];
+    assert!(both("weather summary", &summary, &summary) >= 3);
+    let dir = tempfile::tempdir().unwrap();
+    let out = |n: &str| dir.path().join(n).to_str().unwrap().to_string();
+    let (s1, s2, r1, r2) = (out("s1"), out("s2"), out("r1"), out("r2"));
+    let synth = |o: &str, u: &str| {
+        let args = [
+            "weather",
+            "synth",
+            "--stats",
+            "weather-samples/cypress-neck-stats.json",
+            "--start",
+            "2026-09-01",
+            "--days",
+            "5",
+            "--out",
+            o,
+            "--units",
+            u,
+        ];
+        run(&args, dir.path()).replace(o, "X")
+    };
+    assert!(check_pair("weather synth", &synth(&s1, "si"), &synth(&s2, "us")) >= 2);
+    let season = |o: &str, u: &str| {
+        let args = [
+            "season",
+            "run",
+            "--scenario",
+            "models/buying-points/bramble-fork.json",
+            "--generate",
+            "--loads",
+            "12",
+            "--drier",
+            "rate-rule",
+            "--out",
+            o,
+            "--units",
+            u,
+        ];
+        run(&args, dir.path()).replace(o, "X")
+    };
+    assert!(check_pair("season run", &season(&r1, "si"), &season(&r2, "us")) >= 4);
+    let sweep = |o: &str, h: &str, u: &str| -> String {
+        run(
+            &[
+                "season",
+                "sweep",
+                "--scenario",
+                "models/buying-points/bramble-fork.json",
+                "--dryers",
+                "3..4",
+                "--seasons",
+                "2",
+                "--loads",
+                "12",
+                "--drier",
+                "rate-rule",
+                "--heaters",
+                h,
+                "--out",
+                o,
+                "--units",
+                u,
+            ],
+            dir.path(),
+        )
+        .replace(o, "X")
+    };
+    let (w1, w2) = (out("w1"), out("w2"));
+    check_pair(
+        "season sweep",
+        &sweep(&w1, "scenario;rise=8", "si"),
+        &sweep(&w2, "scenario;rise=14.4", "us"),
+    );
+}
+
+#[test]
+fn the_checker_catches_an_si_unit_and_a_wrong_conversion() {
+    // The checks above could fail: an SI unit left in, or a figure converted wrongly, is caught.
+    let caught = |si: &'static str, us: &'static str| {
+        std::panic::catch_unwind(|| check_pair("t", si, us)).is_err()
+    };
+    assert!(caught("air 30.0 °C", "air 86.0 °C"));
+    assert!(caught("air 30.0 °C", "air 87.0 °F"));
+    assert!(caught("flow 10.0 m³/min", "flow 10.0 m³/min"));
+    assert!(!caught("air 30.0 °C, 12.0 h", "air 86.0 °F, 12.0 h"));
+    assert_eq!(check_pair("t", "rise 8.00 K", "rise 14.40 °F"), 1);
+}
