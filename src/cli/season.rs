@@ -15,7 +15,9 @@ use crate::input::season::{
 };
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::report::output::{check_target, OutputSet};
-use crate::report::season::{arrivals_csv, daily_csv, kpis_csv, schedule_csv, sweep_csv};
+use crate::report::season::{
+    arrivals_csv, daily_csv, kpis_csv, schedule_csv, season_page, sweep_csv, sweep_page,
+};
 use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
@@ -486,14 +488,28 @@ pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
             "from file".to_string()
         }
     );
-    println!("{}", drier_note(a.drier));
-    println!("{}", heaters_line(&bp));
-    print!("{}", k.summary(cur));
+    let printed = format!(
+        "{}\n{}\n{}",
+        drier_note(a.drier),
+        heaters_line(&bp),
+        k.summary(cur)
+    );
+    print!("{printed}");
     println!(
         "wait limit {:.1} h; outputs in {}",
         bp.rules.max_wait_h,
         a.out.display()
     );
+    let page = season_page(
+        &title,
+        &run,
+        &k,
+        cur,
+        &set,
+        printed,
+        super::inputs_as_run(&inputs)?,
+    );
+    set.add("report.html", page.render());
     Ok((set, inputs))
 }
 
@@ -579,6 +595,15 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
     )?;
     let mut set = OutputSet::new();
     set.add("sweep.csv", sweep_csv(&res, &bp.prices.currency));
+    let page = sweep_page(
+        &bp.name,
+        &res,
+        a.seasons,
+        bp.rules.max_wait_h,
+        String::new(),
+        super::inputs_as_run(&inputs)?,
+    );
+    set.add("report.html", page.render());
     set.commit(&a.out, &inputs, a.replace)?;
     println!(
         "{}: {} cases × {} seasons of {} loads (seed {})",
