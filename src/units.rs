@@ -372,6 +372,53 @@ pub fn currency_column(code: &str) -> String {
     }
 }
 
+/// Values for pictures and tables: the number in the chosen system and its unit, apart, so a chart can scale an
+/// axis and label it once.
+impl UnitSystem {
+    /// A length as a number in this system.
+    pub fn length_value(self, m: f64) -> f64 {
+        match self {
+            UnitSystem::Si => m,
+            UnitSystem::Us => m / M_PER_FT,
+        }
+    }
+    /// The length unit.
+    pub fn length_unit(self) -> &'static str {
+        match self {
+            UnitSystem::Si => "m",
+            UnitSystem::Us => "ft",
+        }
+    }
+    /// An air speed as a number in this system (m/s, or ft/min).
+    pub fn speed_value(self, m_per_s: f64) -> f64 {
+        match self {
+            UnitSystem::Si => m_per_s,
+            UnitSystem::Us => m_per_s * 60.0 / M_PER_FT,
+        }
+    }
+    /// The air speed unit.
+    pub fn speed_unit(self) -> &'static str {
+        match self {
+            UnitSystem::Si => "m/s",
+            UnitSystem::Us => "ft/min",
+        }
+    }
+    /// A pressure as a number in this system (Pa, or in. of water).
+    pub fn pressure_value(self, p_pa: f64) -> f64 {
+        match self {
+            UnitSystem::Si => p_pa,
+            UnitSystem::Us => p_pa / PA_PER_IN_WATER,
+        }
+    }
+    /// The pressure unit.
+    pub fn pressure_unit(self) -> &'static str {
+        match self {
+            UnitSystem::Si => "Pa",
+            UnitSystem::Us => "in. water",
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -214,6 +214,7 @@ fn binary_writes_all_outputs_for_a_good_run() {
         "top_airflow.svg",
         "plenum_pressure.svg",
         "plenum_profile.svg",
+        "report.html",
     ] {
         assert!(dir.path().join("out").join(f).is_file(), "{f} missing");
     }

@@ -87,6 +87,7 @@ fn dry_writes_every_output_whole() {
             "final_moisture_side.svg",
             "final_moisture_top.svg",
             "outcome.json",
+            "report.html",
             "series.csv",
             "summary.txt"
         ]

@@ -268,6 +268,12 @@ fn demo_writes_property_table_whole() {
     }
     assert!(out_dir.join("load/final_moisture_top.svg").is_file());
     assert!(out_dir.join("season/gantt.svg").is_file());
+    for sub in ["load", "compare", "season"] {
+        assert!(
+            out_dir.join(sub).join("report.html").is_file(),
+            "{sub}/report.html"
+        );
+    }
     let beside: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
     assert_eq!(beside.len(), 1, "no temporary folder beside the output");
 }

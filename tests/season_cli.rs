@@ -46,6 +46,7 @@ fn run_with_generated_arrivals_writes_every_output() {
         "gantt.svg",
         "queue.svg",
         "arrivals.csv",
+        "report.html",
     ] {
         assert!(out.join(f).is_file(), "{f} missing");
     }

@@ -25,7 +25,7 @@ use crate::airflow::{
 };
 use crate::error::{check_range, InputError};
 use crate::props::psychro::{pressure_at_elevation_pa, AirState};
-use crate::report::airflow::{airflow_outputs, human_summary, AirflowRun};
+use crate::report::airflow::{airflow_outputs, airflow_page, human_summary, AirflowRun};
 use crate::report::output::{check_target, OutputSet};
 use crate::units::UnitSystem;
 
@@ -263,8 +263,8 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     };
     let sol = solve(&container, &flow, &law, &air, &settings)?;
     let used = Used::new(&air, &flow, bed);
-    print!("{}", used.human(args.units));
-    print!("{}", human_summary(&container, &flow, &sol, args.units));
+    let printed = used.human(args.units) + &human_summary(&container, &flow, &sol, args.units);
+    print!("{printed}");
     if let Some(dir) = &args.out {
         let run = AirflowRun {
             law: &law,
@@ -272,9 +272,18 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
             air: serde_json::to_value(used.air)?,
             bed: serde_json::to_value(used.bed)?,
         };
-        let set: OutputSet = airflow_outputs(&container, &flow, &run, &sol);
+        let mut set: OutputSet = airflow_outputs(&container, &flow, &run, &sol, args.units);
+        let page = airflow_page(
+            &container,
+            &sol,
+            args.units,
+            &set,
+            printed,
+            super::inputs_as_run(&inputs)?,
+        );
+        set.add("report.html", page.render());
         set.commit(dir, &inputs, args.replace)?;
-        println!("wrote columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
+        println!("wrote report.html, columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
     }
     Ok(())
 }

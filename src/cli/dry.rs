@@ -12,7 +12,8 @@ use crate::drying::run::{RunObserver, StepReport, StopRule};
 use crate::input::scenario::Scenario;
 use crate::load::{checked_heater, run_load, LoadResult, LoadSpec};
 use crate::report::load::{
-    compare_table, load_outputs, starts_csv, summary_text, CompareRow, CAUTIONS,
+    compare_page, compare_table, load_outputs, load_page, starts_csv, starts_page, strategy_folder,
+    summary_text, CompareRow, MapScales, CAUTIONS,
 };
 use crate::report::output::{check_target, OutputSet};
 use crate::units::UnitSystem;
@@ -210,7 +211,17 @@ pub fn dry(args: &DryArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         "{}",
         summary_text(&sc.spec, &label, &result, args.load.units)
     );
-    let set = load_outputs(&sc.spec, &label, &result, args.load.units);
+    let units = args.load.units;
+    let mut set = load_outputs(&sc.spec, &label, &result, units, &MapScales::default());
+    let page = load_page(
+        &sc.spec,
+        &label,
+        &result,
+        units,
+        &set,
+        super::inputs_as_run(&sc.inputs)?,
+    );
+    set.add("report.html", page.render());
     Ok((sc, set))
 }
 
@@ -219,7 +230,7 @@ pub fn run_compare(args: CompareArgs) -> anyhow::Result<()> {
     let (sc, set) = compare(&args)?;
     commit(&args.load, &sc, &set, |dir| {
         format!(
-            "  wrote compare.txt and one folder per strategy to {}",
+            "  wrote report.html, compare.txt and one folder per strategy to {}",
             dir.display()
         )
     })?;
@@ -270,6 +281,7 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         .zip(&results)
         .map(|(s, r)| CompareRow {
             label: s.text_in(args.load.units),
+            folder: strategy_folder(&s.to_string()),
             result: r,
         })
         .collect();
@@ -279,20 +291,30 @@ pub fn compare(args: &CompareArgs) -> anyhow::Result<(Scenario, OutputSet)> {
         h.fuel.unit,
         args.load.units,
     );
-    println!(
+    let heading = format!(
         "{} — same load, weather and fan; heater strategies side by side (run to: {})",
         sc.spec.name, sc.spec.run.stop
     );
+    println!("{heading}");
     print!("{table}");
     let mut set = OutputSet::new();
     set.add("compare.txt", format!("{table}\n{CAUTIONS}\n"));
-    for (spec, r) in specs.iter().zip(&results) {
-        let sub = spec.to_string().replace([',', '=', '@'], "_");
+    let scales = MapScales::across(&results);
+    for row in &rows {
         set.add_set(
-            sub,
-            load_outputs(&sc.spec, &spec.text_in(args.load.units), r, args.load.units),
+            row.folder.clone(),
+            load_outputs(&sc.spec, &row.label, row.result, args.load.units, &scales),
         );
     }
+    let page = compare_page(
+        &sc.spec,
+        &rows,
+        args.load.units,
+        &set,
+        format!("{heading}\n{table}"),
+        super::inputs_as_run(&sc.inputs)?,
+    );
+    set.add("report.html", page.render());
     Ok((sc, set))
 }
 
@@ -397,8 +419,19 @@ pub fn run_starts(args: StartsArgs) -> anyhow::Result<()> {
     }
     let mut set = OutputSet::new();
     set.add("starts.csv", starts_csv(&loads, &results));
+    if args.load.out.is_some() {
+        let page = starts_page(
+            &sc.spec,
+            &loads,
+            &results,
+            args.load.units,
+            String::new(),
+            super::inputs_as_run(&sc.inputs)?,
+        );
+        set.add("report.html", page.render());
+    }
     commit(&args.load, &sc, &set, |dir| {
-        format!("  wrote starts.csv to {}", dir.display())
+        format!("  wrote starts.csv and report.html to {}", dir.display())
     })?;
     println!("{CAUTIONS}");
     Ok(())

@@ -53,6 +53,22 @@ pub enum Command {
     Season(season::SeasonCommand),
 }
 
+/// The inputs of a run as its report lists them (name, size, SHA-256), each file read once through the one
+/// reader, repeated paths listed once.
+pub(crate) fn inputs_as_run(
+    paths: &[std::path::PathBuf],
+) -> anyhow::Result<Vec<crate::report::html::InputRecord>> {
+    let mut seen = std::collections::BTreeSet::new();
+    paths
+        .iter()
+        .filter(|p| seen.insert(p.as_path()))
+        .map(|p| {
+            let bytes = crate::input::read::read_bytes(p)?;
+            Ok(crate::report::html::InputRecord::of(p, &bytes))
+        })
+        .collect()
+}
+
 /// Run one parsed command line.
 pub fn run(args: Args) -> anyhow::Result<()> {
     match args.command {

@@ -16,7 +16,8 @@ use crate::input::season::{
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::report::output::{check_target, OutputSet};
 use crate::report::season::{
-    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, sweep_answer, sweep_csv,
+    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, season_page, sweep_answer,
+    sweep_csv, sweep_page,
 };
 use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
@@ -496,15 +497,29 @@ pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
             "from file".to_string()
         }
     );
-    println!("{}", drier_note(a.drier));
-    println!("{}", heaters_line(&bp, a.units));
-    print!("{}", k.summary(cur, a.units));
-    print!("{}", air_note(&run, a.units));
+    let printed = format!(
+        "{}\n{}\n{}{}",
+        drier_note(a.drier),
+        heaters_line(&bp, a.units),
+        k.summary(cur, a.units),
+        air_note(&run, a.units)
+    );
+    print!("{printed}");
     println!(
         "wait limit {:.1} h; outputs in {}",
         bp.rules.max_wait_h,
         a.out.display()
     );
+    let page = season_page(
+        (&title, cur),
+        &run,
+        &k,
+        a.units,
+        &set,
+        printed,
+        super::inputs_as_run(&inputs)?,
+    );
+    set.add("report.html", page.render());
     Ok((set, inputs))
 }
 
@@ -588,28 +603,35 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         &predictor(&bp),
         &progress,
     )?;
-    let mut set = OutputSet::new();
-    set.add("sweep.csv", sweep_csv(&res, &bp.prices.currency));
-    set.commit(&a.out, &inputs, a.replace)?;
-    println!(
-        "{}: {} cases × {} seasons of {} loads (seed {})",
+    let head = format!(
+        "{}: {} cases × {} seasons of {} loads (seed {})\n{}\n",
         bp.name,
         res.len(),
         a.seasons,
         a.loads,
-        a.seed
+        a.seed,
+        drier_note(a.drier)
     );
-    println!("{}", drier_note(a.drier));
-    print!(
-        "{}",
-        sweep_answer(
-            &res,
-            &grid,
-            bp.rules.max_wait_h,
-            &bp.prices.currency,
-            a.units
-        )
+    let answer = sweep_answer(
+        &res,
+        &grid,
+        bp.rules.max_wait_h,
+        &bp.prices.currency,
+        a.units,
     );
+    let mut set = OutputSet::new();
+    set.add("sweep.csv", sweep_csv(&res, &bp.prices.currency));
+    let page = sweep_page(
+        &bp.name,
+        &res,
+        a.seasons,
+        bp.rules.max_wait_h,
+        format!("{head}{answer}"),
+        super::inputs_as_run(&inputs)?,
+    );
+    set.add("report.html", page.render());
+    set.commit(&a.out, &inputs, a.replace)?;
+    print!("{head}{answer}");
     println!(
         "P10/P50/P90 of every figure per case in {}",
         a.out.join("sweep.csv").display()

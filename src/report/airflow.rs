@@ -2,6 +2,7 @@
 //! top-surface airflow and the plenum pressure.
 use std::fmt::Write as _;
 
+use super::html::{Block, InputRecord, KeyFigure, Page};
 use super::output::OutputSet;
 use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
 use crate::airflow::{AirflowSolution, BedLaw, Container, FlowSpec, SolverSettings};
@@ -74,8 +75,7 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
         u.specific_airflow(sm.specific_airflow_m3_per_min_per_m3),
         u.mass_flux(sm.mean_mass_flux_kg_per_m2_s)
     );
-    let fill = sm.bed_volume_m3 / (c.floor_area_m2() * c.wall_height_m);
-    for a in crate::advice::airflow_advice(sm.specific_airflow_m3_per_min_per_m3, fill) {
+    for a in airflow_advice(c, s) {
         let _ = writeln!(o, "{}", a.text(u));
     }
     let _ = writeln!(
@@ -84,6 +84,13 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
         s.converged.iters, s.converged.linear_iters, s.converged.residual
     );
     o
+}
+
+/// The good-practice advice on a solved container: its air per m³ of peanuts and how full it is.
+fn airflow_advice(c: &Container, s: &AirflowSolution) -> Vec<crate::advice::Advice> {
+    let sm = &s.summary;
+    let fill = sm.bed_volume_m3 / (c.floor_area_m2() * c.wall_height_m);
+    crate::advice::airflow_advice(sm.specific_airflow_m3_per_min_per_m3, fill)
 }
 
 fn fold(s: &AirflowSolution, init: f64, f: fn(f64, f64) -> f64) -> f64 {
@@ -108,6 +115,7 @@ pub fn airflow_outputs(
     flow: &FlowSpec,
     run: &AirflowRun<'_>,
     s: &AirflowSolution,
+    u: UnitSystem,
 ) -> OutputSet {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record([
@@ -153,62 +161,72 @@ pub fn airflow_outputs(
         "converged": s.converged,
     });
     let json = serde_json::to_string_pretty(&summary).expect(MEMORY) + "\n";
+    let overlays = crate::report::load::top_overlays(c);
+    let note =
+        "seen from above: air rises through the perforated floor, out of the page".to_string();
+    let speed = s.top_velocity_m_per_s.mapv(|v| u.speed_value(v));
+    let mean_speed = finite_mean(speed.iter().copied());
     let top = heat_map(&HeatMap {
-        values: s.top_velocity_m_per_s.view(),
+        values: speed.view(),
         x_extent_m: c.length_m,
         y_extent_m: c.width_m,
+        units: u,
         title: format!("{}: air leaving the top surface", c.name),
         x_label: "distance from front wall".into(),
         y_label: "across".into(),
         quantity: "superficial velocity".into(),
-        unit: "m/s".into(),
+        unit: u.speed_unit().into(),
         range: None,
+        min_span: 0.5 * mean_speed,
         marks: None,
+        overlays: overlays.clone(),
+        notes: vec![note.clone()],
     });
+    let plenum_p = s.plenum_pressure_pa.mapv(|v| u.pressure_value(v));
+    let mean_p = finite_mean(plenum_p.iter().copied());
     let plenum = heat_map(&HeatMap {
-        values: s.plenum_pressure_pa.view(),
+        values: plenum_p.view(),
         x_extent_m: c.length_m,
         y_extent_m: c.width_m,
+        units: u,
         title: format!("{}: plenum static pressure", c.name),
         x_label: "distance from front wall".into(),
         y_label: "across".into(),
         quantity: "static pressure".into(),
-        unit: "Pa".into(),
+        unit: u.pressure_unit().into(),
         range: None,
+        min_span: 0.1 * mean_p.abs(),
         marks: None,
+        overlays,
+        notes: vec!["the plenum under the floor, seen from above".into()],
     });
-    let rows: Vec<(f64, f64)> = (0..s.grid.nx)
-        .map(|i| {
-            (
-                (i as f64 + 0.5) * s.dx_m,
-                s.plenum_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
-            )
-        })
-        .collect();
-    let bottoms: Vec<(f64, f64)> = (0..s.grid.nx)
-        .map(|i| {
-            (
-                (i as f64 + 0.5) * s.dx_m,
-                s.bottom_pressure_pa.row(i).mean().unwrap_or(f64::NAN),
-            )
-        })
-        .collect();
+    let along = |a: &ndarray::Array2<f64>| -> Vec<(f64, f64)> {
+        (0..s.grid.nx)
+            .map(|i| {
+                (
+                    u.length_value((i as f64 + 0.5) * s.dx_m),
+                    u.pressure_value(a.row(i).mean().unwrap_or(f64::NAN)),
+                )
+            })
+            .collect()
+    };
     let profile = line_chart(&LineChart {
         title: format!("{}: pressure along the length", c.name),
         x_label: "distance from front wall".into(),
-        x_unit: "m".into(),
+        x_unit: u.length_unit().into(),
         y_label: "static pressure".into(),
-        y_unit: "Pa".into(),
+        y_unit: u.pressure_unit().into(),
         series: vec![
             Series {
                 name: "plenum".into(),
-                points: rows,
+                points: along(&s.plenum_pressure_pa),
             },
             Series {
                 name: "bed bottom (above floor)".into(),
-                points: bottoms,
+                points: along(&s.bottom_pressure_pa),
             },
         ],
+        ..LineChart::default()
     });
     let mut set = OutputSet::new();
     set.add("columns.csv", csv_bytes);
@@ -217,4 +235,69 @@ pub fn airflow_outputs(
     set.add("plenum_pressure.svg", plenum);
     set.add("plenum_profile.svg", profile);
     set
+}
+
+fn finite_mean(v: impl Iterator<Item = f64>) -> f64 {
+    let (sum, n) = v
+        .filter(|x| x.is_finite())
+        .fold((0.0, 0usize), |(s, n), x| (s + x, n + 1));
+    if n == 0 {
+        0.0
+    } else {
+        sum / n as f64
+    }
+}
+
+/// The HTML report of an airflow solve, showing the pictures of its file set; `printed` is the terminal summary.
+pub fn airflow_page(
+    c: &Container,
+    s: &AirflowSolution,
+    u: UnitSystem,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let sm = &s.summary;
+    let pic = |name: &str, caption: &str| Block::Picture {
+        svg: set.text(name).to_string(),
+        caption: format!("{caption} (also written as {name})"),
+        zoom: false,
+    };
+    Page {
+        title: format!("{} — airflow", c.name),
+        lead: format!(
+            "Steady airflow through {} ({:.1} m³ of peanuts), grid {}×{}×{}.",
+            c.name, sm.bed_volume_m3, s.grid.nx, s.grid.ny, s.grid.nz
+        ),
+        answer: vec![
+            KeyFigure::new(
+                "through the bed",
+                u.flow(sm.bed_flow_m3_per_s),
+                format!(
+                    "{:.1} m³/min per m³ of peanuts",
+                    sm.specific_airflow_m3_per_min_per_m3
+                ),
+            ),
+            KeyFigure::new(
+                "fan static pressure",
+                u.pressure(s.operating_point.fan_static_pressure_pa),
+                format!("plenum mean {}", u.pressure(sm.mean_plenum_pressure_pa)),
+            ),
+            KeyFigure::new(
+                "evenness",
+                format!("CV {:.1} %", 100.0 * sm.column_flow_cv),
+                format!("lowest column / mean {:.2}", sm.min_over_mean),
+            ),
+        ],
+        notes: airflow_advice(c, s).iter().map(|a| a.text(u)).collect(),
+        body: vec![
+            Block::Heading("Pictures".into()),
+            pic("top_airflow.svg", "Air leaving the top surface"),
+            pic("plenum_pressure.svg", "Static pressure in the plenum"),
+            pic("plenum_profile.svg", "Pressure along the length"),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: crate::report::load::CAUTIONS.into(),
+    }
 }

@@ -6,10 +6,15 @@ use std::fmt::Write as _;
 
 use ndarray::Array2;
 
+use chrono::{DateTime, FixedOffset};
+
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
 use super::output::OutputSet;
-use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
+use super::svg::{
+    finite_range, heat_map, line_chart, HeatMap, Limit, LineChart, Overlay, Series, ZoneMarks,
+};
 use crate::advice::{advise, load_figures};
-use crate::drying::run::{Outcome, RunSettings, StopReason, Tally};
+use crate::drying::run::{Outcome, RunSettings, SeriesRow, StopReason, Tally};
 use crate::load::{Cost, LoadResult, LoadSpec};
 use crate::units::{money, UnitSystem};
 
@@ -216,13 +221,59 @@ heat_kw,fan_kw,max_peanut_c\n",
     s
 }
 
-/// Drying curves: mean, top, bottom, wettest and driest kernel moisture, mean pod and top hull moisture.
-pub fn drying_curves_svg(title: &str, o: &Outcome, target_pct: f64) -> String {
-    let line = |name: &str, f: &dyn Fn(&crate::drying::run::SeriesRow) -> f64| Series {
+/// The least colour span of a moisture map, %-points w.b.: a spread smaller than this is drawn as a small change.
+pub const MOISTURE_MIN_SPAN_PCT: f64 = 4.0;
+/// The least colour span of an air-speed map, as a share of its mean speed.
+pub const SPEED_MIN_SPAN_SHARE: f64 = 0.5;
+
+/// One colour scale for every map of the same kind, so pictures that are compared are read on one scale; `None`
+/// lets each picture take its own data range.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct MapScales {
+    /// Final moisture seen from above, % w.b.
+    pub top: Option<(f64, f64)>,
+    /// Final moisture in the side section, % w.b.
+    pub side: Option<(f64, f64)>,
+    /// Air leaving the top, m/s.
+    pub air: Option<(f64, f64)>,
+}
+
+impl MapScales {
+    /// The scales that hold every run's maps.
+    pub fn across<'a>(runs: impl IntoIterator<Item = &'a LoadResult> + Clone) -> Self {
+        let span = |f: &dyn Fn(&LoadResult) -> (f64, f64)| {
+            let (lo, hi) = runs
+                .clone()
+                .into_iter()
+                .map(f)
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |a, b| {
+                    (a.0.min(b.0), a.1.max(b.1))
+                });
+            (lo.is_finite() && hi.is_finite()).then_some((lo, hi))
+        };
+        MapScales {
+            top: span(&|r| finite_range(r.zones.top_kernel_pct.iter().copied())),
+            side: span(&|r| finite_range(r.zones.side_kernel_pct.iter().copied())),
+            air: span(&|r| finite_range(r.airflow.top_velocity_m_per_s.iter().copied())),
+        }
+    }
+}
+
+fn moisture_line(o: &Outcome, name: &str, f: fn(&SeriesRow) -> f64) -> Series {
+    Series {
         name: name.to_string(),
         points: o.series.iter().map(|r| (r.hours, f(r))).collect(),
-    };
-    let end = o.series.last().map(|r| r.hours).unwrap_or(1.0);
+    }
+}
+
+/// Drying curves: mean, top, bottom, wettest and driest kernel moisture, mean pod and top hull moisture, the
+/// target as a line, clock dates and nights under the hours on air.
+pub fn drying_curves_svg(
+    title: &str,
+    o: &Outcome,
+    target_pct: f64,
+    start: DateTime<FixedOffset>,
+) -> String {
     line_chart(&LineChart {
         title: title.to_string(),
         x_label: "time on air".into(),
@@ -230,39 +281,57 @@ pub fn drying_curves_svg(title: &str, o: &Outcome, target_pct: f64) -> String {
         y_label: "moisture".into(),
         y_unit: "% w.b.".into(),
         series: vec![
-            line("mean kernel", &|r| r.mean_kernel_pct),
-            line("top-layer kernel", &|r| r.top_kernel_pct),
-            line("bottom-layer kernel", &|r| r.bottom_kernel_pct),
-            line("wettest cell kernel", &|r| r.wettest_kernel_pct),
-            line("driest cell kernel", &|r| r.driest_kernel_pct),
-            line("mean pod", &|r| r.mean_pod_pct),
-            line("top-layer hull", &|r| r.top_hull_pct),
-            Series {
-                name: format!("target {target_pct:.1} %"),
-                points: vec![(0.0, target_pct), (end, target_pct)],
-            },
+            moisture_line(o, "mean kernel", |r| r.mean_kernel_pct),
+            moisture_line(o, "top-layer kernel", |r| r.top_kernel_pct),
+            moisture_line(o, "bottom-layer kernel", |r| r.bottom_kernel_pct),
+            moisture_line(o, "wettest cell kernel", |r| r.wettest_kernel_pct),
+            moisture_line(o, "driest cell kernel", |r| r.driest_kernel_pct),
+            moisture_line(o, "mean pod", |r| r.mean_pod_pct),
+            moisture_line(o, "top-layer hull", |r| r.top_hull_pct),
         ],
+        limits: vec![Limit {
+            name: format!("target {target_pct:.1} % w.b."),
+            value: target_pct,
+        }],
+        clock: Some(start),
     })
 }
 
-/// Air temperatures through the run: ambient, plenum, exhaust.
-pub fn air_svg(title: &str, o: &Outcome) -> String {
-    let line = |name: &str, f: &dyn Fn(&crate::drying::run::SeriesRow) -> f64| Series {
+/// Air temperatures through the run: plenum, ambient, exhaust and the hottest peanuts, with the crop's plenum cap
+/// as a line.
+pub fn air_svg(
+    title: &str,
+    o: &Outcome,
+    cap_c: f64,
+    start: DateTime<FixedOffset>,
+    units: UnitSystem,
+) -> String {
+    let line = |name: &str, f: fn(&SeriesRow) -> f64| Series {
         name: name.to_string(),
-        points: o.series.iter().map(|r| (r.hours, f(r))).collect(),
+        points: o
+            .series
+            .iter()
+            .map(|r| (r.hours, units.temp_value(f(r))))
+            .collect(),
     };
+    let cap = units.temp_value(cap_c);
     line_chart(&LineChart {
         title: title.to_string(),
         x_label: "time on air".into(),
         x_unit: "h".into(),
         y_label: "air temperature".into(),
-        y_unit: "°C".into(),
+        y_unit: units.temp_unit().into(),
         series: vec![
-            line("ambient", &|r| r.ambient_c),
-            line("plenum", &|r| r.plenum_c),
-            line("exhaust (flow-weighted)", &|r| r.exhaust_c),
-            line("hottest peanuts", &|r| r.max_peanut_c),
+            line("plenum", |r| r.plenum_c),
+            line("ambient", |r| r.ambient_c),
+            line("exhaust (flow-weighted)", |r| r.exhaust_c),
+            line("hottest peanuts", |r| r.max_peanut_c),
         ],
+        limits: vec![Limit {
+            name: format!("crop's plenum cap {cap:.0} {}", units.temp_unit()),
+            value: cap,
+        }],
+        clock: Some(start),
     })
 }
 
@@ -276,74 +345,145 @@ fn zone_code(over: f64, under: f64) -> i8 {
     }
 }
 
+/// The inlet and permeability blocks of a container, for its top-view maps.
+pub fn top_overlays(c: &crate::airflow::Container) -> Vec<Overlay> {
+    let centre = 0.5 * c.width_m + c.inlet.offset_m;
+    let mut v = vec![Overlay::Inlet {
+        at_x_max: c.inlet.wall == crate::airflow::geometry::InletWall::Rear,
+        y0_m: centre - 0.5 * c.inlet.width_m,
+        y1_m: centre + 0.5 * c.inlet.width_m,
+    }];
+    v.extend(c.permeability.blocks.iter().map(|b| Overlay::Block {
+        x0_m: b.x0_m,
+        x1_m: b.x1_m,
+        y0_m: b.y0_m,
+        y1_m: b.y1_m,
+        multiplier: b.multiplier,
+    }));
+    v
+}
+
+const TOP_VIEW_NOTE: &str =
+    "seen from above: air rises through the perforated floor, out of the page";
+
+fn zone_texts(s: &RunSettings) -> (String, String) {
+    (
+        format!(
+            "below {:.1} % w.b. (over-dried)",
+            s.over_dry_kernel_wb * 100.0
+        ),
+        format!(
+            "above {:.1} % w.b. (still wet)",
+            (s.target_kernel_wb + s.under_dry_tolerance_wb) * 100.0
+        ),
+    )
+}
+
 /// Final kernel moisture seen from above (per-column mean), marking columns mostly over-dried or still wet.
-pub fn final_top_svg(spec: &LoadSpec, r: &LoadResult, s: &RunSettings) -> String {
+pub fn final_top_svg(
+    spec: &LoadSpec,
+    r: &LoadResult,
+    units: UnitSystem,
+    range: Option<(f64, f64)>,
+) -> String {
     let z = &r.zones;
     let marks: Array2<i8> = ndarray::Zip::from(&z.top_over_fraction)
         .and(&z.top_under_fraction)
         .map_collect(|&o, &u| zone_code(o, u));
+    let (dry, wet) = zone_texts(&spec.run);
     heat_map(&HeatMap {
         values: z.top_kernel_pct.view(),
         x_extent_m: spec.container.length_m,
         y_extent_m: spec.container.width_m,
-        title: format!("{}: final kernel moisture, column means (top view)", spec.name),
-        x_label: "length from inlet wall".into(),
+        units,
+        title: format!(
+            "{}: final kernel moisture, column means (top view)",
+            spec.name
+        ),
+        x_label: "length from front wall".into(),
         y_label: "width".into(),
         quantity: "kernel moisture".into(),
         unit: "% w.b.".into(),
-        range: None,
-        marks: Some((
-            marks.view(),
-            format!(
-                "D: over half the column below {:.1} % (over-dried); W: over half above {:.1} % (still wet)",
-                s.over_dry_kernel_wb * 100.0,
-                (s.target_kernel_wb + s.under_dry_tolerance_wb) * 100.0
-            ),
-        )),
+        range,
+        min_span: MOISTURE_MIN_SPAN_PCT,
+        marks: Some(ZoneMarks {
+            marks: marks.view(),
+            dry: format!("over half the column {dry}"),
+            wet: format!("over half the column {wet}"),
+        }),
+        overlays: top_overlays(&spec.container),
+        notes: vec![TOP_VIEW_NOTE.into()],
     })
 }
 
 /// Final kernel moisture in a side section along the length (width-averaged), layers bottom to top.
-pub fn final_side_svg(spec: &LoadSpec, r: &LoadResult, s: &RunSettings) -> String {
+pub fn final_side_svg(
+    spec: &LoadSpec,
+    r: &LoadResult,
+    units: UnitSystem,
+    range: Option<(f64, f64)>,
+) -> String {
     let z = &r.zones;
     let depth = r.bed.depth_m.iter().cloned().fold(0.0, f64::max);
+    let (dry, wet) = zone_texts(&spec.run);
     heat_map(&HeatMap {
         values: z.side_kernel_pct.view(),
         x_extent_m: spec.container.length_m,
         y_extent_m: depth,
+        units,
         title: format!(
             "{}: final kernel moisture, side section (width mean)",
             spec.name
         ),
-        x_label: "length from inlet wall".into(),
+        x_label: "length from front wall".into(),
         y_label: "height in bed".into(),
         quantity: "kernel moisture".into(),
         unit: "% w.b.".into(),
-        range: None,
-        marks: Some((
-            z.side_zone.view(),
-            format!(
-                "D: below {:.1} % (over-dried); W: above {:.1} % (still wet)",
-                s.over_dry_kernel_wb * 100.0,
-                (s.target_kernel_wb + s.under_dry_tolerance_wb) * 100.0
-            ),
-        )),
+        range,
+        min_span: MOISTURE_MIN_SPAN_PCT,
+        marks: Some(ZoneMarks {
+            marks: z.side_zone.view(),
+            dry,
+            wet,
+        }),
+        overlays: vec![],
+        notes: vec![format!(
+            "side section: air enters at the floor (bottom edge) and leaves at the top; the plenum inlet is in the {} wall",
+            match spec.container.inlet.wall {
+                crate::airflow::geometry::InletWall::Front => "front (left)",
+                crate::airflow::geometry::InletWall::Rear => "rear (right)",
+            }
+        )],
     })
 }
 
 /// Air leaving the top surface, per column: where the air goes explains where the zones form.
-pub fn airflow_top_svg(spec: &LoadSpec, r: &LoadResult) -> String {
+pub fn airflow_top_svg(
+    spec: &LoadSpec,
+    r: &LoadResult,
+    units: UnitSystem,
+    range: Option<(f64, f64)>,
+) -> String {
+    let v = r
+        .airflow
+        .top_velocity_m_per_s
+        .mapv(|x| units.speed_value(x));
+    let mean = v.iter().copied().filter(|x| x.is_finite()).sum::<f64>() / v.len().max(1) as f64;
     heat_map(&HeatMap {
-        values: r.airflow.top_velocity_m_per_s.view(),
+        values: v.view(),
         x_extent_m: spec.container.length_m,
         y_extent_m: spec.container.width_m,
+        units,
         title: format!("{}: air leaving the top surface at the start", spec.name),
-        x_label: "length from inlet wall".into(),
+        x_label: "length from front wall".into(),
         y_label: "width".into(),
         quantity: "superficial velocity".into(),
-        unit: "m/s".into(),
-        range: None,
+        unit: units.speed_unit().into(),
+        range: range.map(|(a, b)| (units.speed_value(a), units.speed_value(b))),
+        min_span: SPEED_MIN_SPAN_SHARE * mean,
         marks: None,
+        overlays: top_overlays(&spec.container),
+        notes: vec![TOP_VIEW_NOTE.into()],
     })
 }
 
@@ -354,8 +494,10 @@ fn ready(r: &LoadResult) -> Tally {
 
 /// One row of a comparison.
 pub struct CompareRow<'a> {
-    /// Strategy label.
+    /// Strategy label, in the units of the report.
     pub label: String,
+    /// The folder of this strategy's files: the strategy in SI, so a set's names do not change with `--units`.
+    pub folder: String,
     /// The run.
     pub result: &'a LoadResult,
 }
@@ -442,10 +584,18 @@ pub fn compare_table(
     s
 }
 
-/// The full set of files for one load: summary, outcome, series and pictures.
-pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSystem) -> OutputSet {
+/// The full set of files for one load: summary, outcome, series and pictures (maps on `scales`).
+pub fn load_outputs(
+    spec: &LoadSpec,
+    label: &str,
+    r: &LoadResult,
+    units: UnitSystem,
+    scales: &MapScales,
+) -> OutputSet {
     let target = spec.run.target_kernel_wb * 100.0;
     let title = format!("{}: {label}", spec.name);
+    let start = r.clock.start;
+    let cap = spec.crop.safety.max_plenum_temp_c;
     let mut set = OutputSet::new();
     set.add(
         "summary.txt",
@@ -455,15 +605,24 @@ pub fn load_outputs(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
     set.add("series.csv", series_csv(&r.outcome));
     set.add(
         "drying_curves.svg",
-        drying_curves_svg(&title, &r.outcome, target),
+        drying_curves_svg(&title, &r.outcome, target, start),
     );
-    set.add("air_temperatures.svg", air_svg(&title, &r.outcome));
-    set.add("final_moisture_top.svg", final_top_svg(spec, r, &spec.run));
+    set.add(
+        "air_temperatures.svg",
+        air_svg(&title, &r.outcome, cap, start, units),
+    );
+    set.add(
+        "final_moisture_top.svg",
+        final_top_svg(spec, r, units, scales.top),
+    );
     set.add(
         "final_moisture_side.svg",
-        final_side_svg(spec, r, &spec.run),
+        final_side_svg(spec, r, units, scales.side),
     );
-    set.add("airflow_top.svg", airflow_top_svg(spec, r));
+    set.add(
+        "airflow_top.svg",
+        airflow_top_svg(spec, r, units, scales.air),
+    );
     set
 }
 
@@ -497,4 +656,473 @@ pub fn starts_csv(loads: &[LoadSpec], results: &[LoadResult]) -> String {
         ));
     }
     csv
+}
+
+/// "31.5 h, Tue 2026-09-15 03:30" for a crossing, or "not reached".
+fn when(r: &LoadResult, t: Option<Tally>) -> (String, String) {
+    match t {
+        Some(t) => (
+            format!("{:.1} h", t.hours),
+            crate::load::clock_at(r.clock.start, t.hours)
+                .format("%a %Y-%m-%d %H:%M")
+                .to_string(),
+        ),
+        None => (
+            "not reached".into(),
+            format!("within {:.1} h on air", r.outcome.hours),
+        ),
+    }
+}
+
+/// The answer of one load: time and clock time to done, fuel, zones, cost.
+fn load_answer(spec: &LoadSpec, r: &LoadResult, units: UnitSystem) -> Vec<KeyFigure> {
+    let o = &r.outcome;
+    let t = ready(r);
+    let (ready_h, ready_at) = when(r, o.at_stop_rule);
+    let (mean_h, mean_at) = when(r, o.at_mean_target);
+    let cur = &spec.prices.currency;
+    vec![
+        KeyFigure::new(
+            format!("done (stop rule {})", o.stop_rule),
+            ready_h,
+            ready_at,
+        ),
+        KeyFigure::new(
+            format!(
+                "mean kernel at {:.1} % w.b.",
+                spec.run.target_kernel_wb * 100.0
+            ),
+            mean_h,
+            mean_at,
+        ),
+        KeyFigure::new(
+            format!("{} to done", r.heater.fuel.name),
+            units.fuel(t.fuel_used, &o.fuel_unit),
+            format!(
+                "{:.1} {}/t; fan {:.1} kWh",
+                t.fuel_used / (o.initial_mass_kg / 1000.0),
+                o.fuel_unit,
+                t.fan_kwh
+            ),
+        ),
+        KeyFigure::new(
+            "zones at the end",
+            format!(
+                "{:.1} % over-dried, {:.1} % still wet",
+                o.over_dried_fraction * 100.0,
+                o.under_dried_fraction * 100.0
+            ),
+            format!("by dry mass; final kernel {:.2} % w.b.", o.final_kernel_pct),
+        ),
+        KeyFigure::new(
+            "energy cost to done",
+            format!("{cur} {:.0}", r.cost.energy),
+            format!("shrink worth {cur} {:.0}", r.cost.shrink),
+        ),
+    ]
+}
+
+/// Notes under the answer: a stop rule not met, the good-practice advice.
+fn load_notes(spec: &LoadSpec, r: &LoadResult, units: UnitSystem) -> Vec<String> {
+    let mut n = Vec::new();
+    match r.outcome.stop_reason {
+        StopReason::RuleMet => {}
+        StopReason::MaxHours => n.push("The time limit came before the stop rule was met.".into()),
+        StopReason::WeatherEnded => {
+            n.push("The weather record ended before the stop rule was met.".into())
+        }
+    }
+    n.extend(advise(&load_figures(spec, r)).iter().map(|a| a.text(units)));
+    n
+}
+
+/// The crossings as a table.
+fn crossings_table(spec: &LoadSpec, r: &LoadResult, units: UnitSystem) -> Table {
+    let o = &r.outcome;
+    let target = spec.run.target_kernel_wb * 100.0;
+    let rows = [
+        (
+            format!("mean kernel at {target:.1} % w.b."),
+            o.at_mean_target,
+        ),
+        (
+            format!(
+                "{:.0} % of the load at or below {target:.1} % w.b.",
+                o.fraction_rule * 100.0
+            ),
+            o.at_fraction_target,
+        ),
+        (format!("stop rule {}", o.stop_rule), o.at_stop_rule),
+    ];
+    Table {
+        caption: "When the load crossed each line, and the accounts then".into(),
+        head: [
+            "moment",
+            "time on air",
+            "clock time",
+            "fuel",
+            "fan",
+            "shrink",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: rows
+            .into_iter()
+            .map(|(what, t)| {
+                let (h, at) = when(r, t);
+                let mut row = vec![what, h, at];
+                row.extend(match t {
+                    Some(t) => [
+                        units.fuel(t.fuel_used, &o.fuel_unit),
+                        format!("{:.1} kWh", t.fan_kwh),
+                        units.mass(t.shrink_kg),
+                    ],
+                    None => [String::new(), String::new(), String::new()],
+                });
+                row
+            })
+            .collect(),
+    }
+}
+
+fn picture(set: &OutputSet, name: &str, caption: &str) -> Block {
+    Block::Picture {
+        svg: set.text(name).to_string(),
+        caption: format!("{caption} (also written as {name})"),
+        zoom: false,
+    }
+}
+
+/// The HTML report of one load, showing the pictures of its file set.
+pub fn load_page(
+    spec: &LoadSpec,
+    label: &str,
+    r: &LoadResult,
+    units: UnitSystem,
+    set: &OutputSet,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    Page {
+        title: format!("{} — {label}", spec.name),
+        lead: format!(
+            "One load of {} ({} wet at {:.1} % kernel moisture w.b.) on {}, air on {}, heater {label}.",
+            spec.crop.name,
+            units.mass(r.outcome.initial_mass_kg),
+            r.outcome.initial_kernel_pct,
+            spec.container.name,
+            r.clock.start.format("%a %Y-%m-%d %H:%M %:z")
+        ),
+        answer: load_answer(spec, r, units),
+        notes: load_notes(spec, r, units),
+        body: vec![
+            Block::Heading("Pictures".into()),
+            picture(set, "drying_curves.svg", "Kernel, pod and hull moisture through the run"),
+            picture(set, "air_temperatures.svg", "Air temperatures through the run"),
+            picture(set, "final_moisture_top.svg", "Final kernel moisture seen from above"),
+            picture(set, "final_moisture_side.svg", "Final kernel moisture in a side section"),
+            picture(set, "airflow_top.svg", "Air leaving the top surface at the start"),
+            Block::Heading("Figures".into()),
+            Block::Table(crossings_table(spec, r, units)),
+            Block::Para(MEANING.into()),
+        ],
+        summary: Some(summary_text(spec, label, r, units)),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+/// The folder name of a compared strategy's files.
+pub fn strategy_folder(label: &str) -> String {
+    label.replace([',', '=', '@'], "_")
+}
+
+/// The mean kernel moisture of every compared run on one chart, one colour each, target as a line.
+pub fn compare_curves_svg(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
+    let target = spec.run.target_kernel_wb * 100.0;
+    line_chart(&LineChart {
+        title: format!("{}: mean kernel moisture by heater strategy", spec.name),
+        x_label: "time on air".into(),
+        x_unit: "h".into(),
+        y_label: "mean kernel moisture".into(),
+        y_unit: "% w.b.".into(),
+        series: rows
+            .iter()
+            .map(|r| Series {
+                name: r.label.clone(),
+                points: r
+                    .result
+                    .outcome
+                    .series
+                    .iter()
+                    .map(|x| (x.hours, x.mean_kernel_pct))
+                    .collect(),
+            })
+            .collect(),
+        limits: vec![Limit {
+            name: format!("target {target:.1} % w.b."),
+            value: target,
+        }],
+        clock: rows.first().map(|r| r.result.clock.start),
+    })
+}
+
+fn compare_html_table(rows: &[CompareRow<'_>], currency: &str, units: UnitSystem) -> Table {
+    Table {
+        caption: "Strategies side by side (fuel, fan and costs to the stop rule)".into(),
+        head: [
+            "strategy",
+            "done after",
+            "done at",
+            "fuel to done",
+            "fuel per tonne",
+            "energy cost",
+            "over-dried",
+            "still wet",
+            "hottest peanuts",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: rows
+            .iter()
+            .map(|row| {
+                let r = row.result;
+                let o = &r.outcome;
+                let t = ready(r);
+                let (h, at) = when(r, o.at_stop_rule);
+                vec![
+                    row.label.clone(),
+                    h,
+                    at,
+                    units.fuel(t.fuel_used, &o.fuel_unit),
+                    format!(
+                        "{:.1} {}/t",
+                        t.fuel_used / (o.initial_mass_kg / 1000.0),
+                        o.fuel_unit
+                    ),
+                    format!("{currency} {:.0}", r.cost.energy),
+                    format!("{:.1} %", o.over_dried_fraction * 100.0),
+                    format!("{:.1} %", o.under_dried_fraction * 100.0),
+                    units.temp(o.max_peanut_c),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// The best row by `key` (lowest; runs that never met the stop rule count as infinite).
+fn best_by<'a>(
+    rows: &'a [CompareRow<'a>],
+    key: impl Fn(&LoadResult) -> f64,
+) -> Option<&'a CompareRow<'a>> {
+    rows.iter()
+        .filter(|r| key(r.result).is_finite())
+        .min_by(|a, b| key(a.result).total_cmp(&key(b.result)))
+}
+
+/// The HTML report of a comparison: the answer (fastest, least fuel, fewest over-dried), every strategy's curve on
+/// one chart, their top-view maps on one colour scale, the table. `set` is the comparison's own file set.
+pub fn compare_page(
+    spec: &LoadSpec,
+    rows: &[CompareRow<'_>],
+    units: UnitSystem,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let done_h = |r: &LoadResult| r.outcome.at_stop_rule.map_or(f64::INFINITY, |t| t.hours);
+    let fuel_t = |r: &LoadResult| {
+        r.outcome.at_stop_rule.map_or(f64::INFINITY, |t| {
+            t.fuel_used / (r.outcome.initial_mass_kg / 1000.0)
+        })
+    };
+    let mut answer = Vec::new();
+    if let Some(b) = best_by(rows, done_h) {
+        let (h, at) = when(b.result, b.result.outcome.at_stop_rule);
+        answer.push(KeyFigure::new(
+            "done soonest",
+            format!("{}: {h}", b.label),
+            at,
+        ));
+    }
+    if let Some(b) = best_by(rows, fuel_t) {
+        let o = &b.result.outcome;
+        answer.push(KeyFigure::new(
+            "least fuel per tonne to done",
+            format!("{}: {:.1} {}/t", b.label, fuel_t(b.result), o.fuel_unit),
+            "",
+        ));
+    }
+    if let Some(b) = best_by(rows, |r| r.outcome.over_dried_fraction) {
+        answer.push(KeyFigure::new(
+            "fewest over-dried",
+            format!(
+                "{}: {:.1} %",
+                b.label,
+                b.result.outcome.over_dried_fraction * 100.0
+            ),
+            "of the load by dry mass",
+        ));
+    }
+    let notes = if answer.len() < 3 {
+        vec!["At least one strategy did not meet the stop rule within the run.".to_string()]
+    } else {
+        vec![]
+    };
+    let mut body = vec![
+        Block::Heading("Pictures".into()),
+        Block::Picture {
+            svg: compare_curves_svg(spec, rows),
+            caption: "Mean kernel moisture of every strategy (same load, weather and fan)".into(),
+            zoom: false,
+        },
+        Block::Heading(
+            "Final moisture seen from above, one colour scale for all strategies".into(),
+        ),
+    ];
+    for r in rows {
+        let name = format!("{}/final_moisture_top.svg", r.folder);
+        body.push(picture(set, &name, &r.label));
+    }
+    body.push(Block::Heading("Figures".into()));
+    body.push(Block::Table(compare_html_table(
+        rows,
+        &spec.prices.currency,
+        units,
+    )));
+    Page {
+        title: format!("{} — heater strategies compared", spec.name),
+        lead: format!(
+            "The same load, weather and fan under {} heater strategies, each run to its stop rule ({}).",
+            rows.len(),
+            spec.run.stop
+        ),
+        answer,
+        notes,
+        body,
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+/// Hours from the first start to done, by start time: a point per start on a clock axis with nights shaded.
+pub fn starts_svg(spec: &LoadSpec, loads: &[LoadSpec], results: &[LoadResult]) -> String {
+    let t0 = loads.first().map_or(spec.start, |l| l.start);
+    let pts = |f: &dyn Fn(&LoadResult) -> Option<f64>| -> Vec<(f64, f64)> {
+        loads
+            .iter()
+            .zip(results)
+            .map(|(l, r)| {
+                (
+                    crate::season::sim::hours_between(t0, l.start),
+                    f(r).unwrap_or(f64::NAN),
+                )
+            })
+            .collect()
+    };
+    line_chart(&LineChart {
+        title: format!("{}: hours on air by start time", spec.name),
+        x_label: "start, hours after the first start".into(),
+        x_unit: "h".into(),
+        y_label: "hours on air".into(),
+        y_unit: "h".into(),
+        series: vec![
+            Series {
+                name: format!("to done (stop rule {})", spec.run.stop),
+                points: pts(&|r| r.outcome.at_stop_rule.map(|t| t.hours)),
+            },
+            Series {
+                name: "to mean kernel at target".into(),
+                points: pts(&|r| r.outcome.hours_to_mean_target),
+            },
+        ],
+        limits: vec![],
+        clock: Some(t0),
+    })
+}
+
+/// The HTML report of `starts`: the spread of hours to done, a chart by start time and the table.
+pub fn starts_page(
+    spec: &LoadSpec,
+    loads: &[LoadSpec],
+    results: &[LoadResult],
+    units: UnitSystem,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let mut done: Vec<f64> = results
+        .iter()
+        .filter_map(|r| r.outcome.at_stop_rule.map(|t| t.hours))
+        .collect();
+    done.sort_by(f64::total_cmp);
+    let mut answer = vec![KeyFigure::new(
+        "met the stop rule",
+        format!("{} of {} starts", done.len(), results.len()),
+        format!("stop rule {}", spec.run.stop),
+    )];
+    if !done.is_empty() {
+        answer.push(KeyFigure::new(
+            "hours to done",
+            format!("{:.1} h median", done[done.len() / 2]),
+            format!(
+                "{:.1} h shortest, {:.1} h longest",
+                done[0],
+                done[done.len() - 1]
+            ),
+        ));
+    }
+    let rows = loads
+        .iter()
+        .zip(results)
+        .map(|(l, r)| {
+            let o = &r.outcome;
+            let t = o.ready();
+            let (h, at) = when(r, o.at_stop_rule);
+            vec![
+                l.start.format("%a %Y-%m-%d %H:%M").to_string(),
+                h,
+                at,
+                units.fuel(t.fuel_used, &o.fuel_unit),
+                format!("{:.1} kWh", t.fan_kwh),
+                format!("{:.1} %", o.over_dried_fraction * 100.0),
+            ]
+        })
+        .collect();
+    Page {
+        title: format!("{} — start times", spec.name),
+        lead: format!(
+            "The same load started at {} times through the weather record, heater {}.",
+            loads.len(),
+            spec.heater.spec
+        ),
+        answer,
+        notes: vec![],
+        body: vec![
+            Block::Heading("Pictures".into()),
+            Block::Picture {
+                svg: starts_svg(spec, loads, results),
+                caption: "Hours on air by start time; a gap is a start that did not get there"
+                    .into(),
+                zoom: false,
+            },
+            Block::Heading("Figures".into()),
+            Block::Table(Table {
+                caption: "One row per start (fuel and fan to done)".into(),
+                head: [
+                    "air on",
+                    "done after",
+                    "done at",
+                    "fuel",
+                    "fan",
+                    "over-dried",
+                ]
+                .map(String::from)
+                .to_vec(),
+                rows,
+            }),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
 }

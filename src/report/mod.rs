@@ -2,6 +2,7 @@
 
 pub mod airflow;
 pub mod gantt;
+pub mod html;
 pub mod load;
 pub mod output;
 pub mod props;

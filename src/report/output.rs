@@ -123,6 +123,19 @@ impl OutputSet {
         }
     }
 
+    /// The bytes of the file named `name`, if the set holds it.
+    pub fn get(&self, name: impl AsRef<Path>) -> Option<&[u8]> {
+        self.files.get(name.as_ref()).map(Vec::as_slice)
+    }
+
+    /// The file named `name` as text (empty if the set lacks it or it is not UTF-8): for a report that shows
+    /// the set's own pictures.
+    pub fn text(&self, name: impl AsRef<Path>) -> &str {
+        self.get(name)
+            .and_then(|b| std::str::from_utf8(b).ok())
+            .unwrap_or("")
+    }
+
     /// The relative names, in order.
     pub fn names(&self) -> impl Iterator<Item = &Path> {
         self.files.keys().map(PathBuf::as_path)

@@ -1,6 +1,7 @@
 //! A season's files as the yard manager reads them: the schedule, the daily table, the key figures, a sweep's
 //! percentiles and the arrivals drawn by the generator, each as CSV text with the unit in every column name.
 
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
 use crate::drying::heater::StrategySpec;
 use crate::season::arrivals::Load;
 use crate::season::kpi::{DayRow, Kpis, KPI_FIELDS};
@@ -274,4 +275,205 @@ pub fn air_note(run: &SeasonRun, u: UnitSystem) -> String {
         let _ = writeln!(s, "{}", a.text(u));
     }
     s
+}
+
+/// The key figures of a season as the answer of its report.
+fn season_answer(
+    k: &crate::season::kpi::Kpis,
+    run: &SeasonRun,
+    currency: &str,
+    u: UnitSystem,
+) -> Vec<KeyFigure> {
+    vec![
+        KeyFigure::new(
+            "loads dried",
+            format!("{} of {}", k.loads_dried, k.loads_arrived),
+            format!("{} not taken to target", k.loads_unfinished),
+        ),
+        KeyFigure::new(
+            "waits",
+            format!("{:.1} h longest", k.max_wait_h),
+            format!(
+                "mean {:.1} h; {} loads over the {:.0} h limit",
+                k.mean_wait_h, k.loads_over_wait_limit, run.max_wait_h
+            ),
+        ),
+        KeyFigure::new(
+            "propane",
+            u.fuel_per_mass(k.propane_l_per_tonne, "L"),
+            format!(
+                "{} for {} put on air",
+                u.volume_l(k.propane_l),
+                u.tonnes(1000.0 * k.tonnes_dried)
+            ),
+        ),
+        KeyFigure::new(
+            "dryers",
+            format!("{:.0} % occupied", k.utilisation_pct),
+            format!(
+                "{} per dryer per day",
+                u.tonnes(1000.0 * k.tonnes_per_dryer_day)
+            ),
+        ),
+        KeyFigure::new(
+            "total cost",
+            crate::units::money(currency, k.total_cost),
+            format!(
+                "propane, electricity and shrink worth {}",
+                crate::units::money(currency, k.shrink_value)
+            ),
+        ),
+    ]
+}
+
+/// The HTML report of a season run: the answer, the dryer chart (zoomable) and queue chart of its file set, the
+/// key figures and the busiest days.
+pub fn season_page(
+    (title, currency): (&str, &str),
+    run: &SeasonRun,
+    k: &crate::season::kpi::Kpis,
+    u: UnitSystem,
+    set: &super::output::OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let pic = |name: &str, caption: &str, zoom: bool| Block::Picture {
+        svg: set.text(name).to_string(),
+        caption: format!("{caption} (also written as {name})"),
+        zoom,
+    };
+    let mut notes = Vec::new();
+    if k.loads_over_wait_limit > 0 {
+        notes.push(format!(
+            "{} loads waited longer than the {:.0} h limit.",
+            k.loads_over_wait_limit, run.max_wait_h
+        ));
+    }
+    Page {
+        title: format!("{title} — season"),
+        lead: format!(
+            "{} loads from {} to {} on {} dryers.",
+            run.arrivals,
+            run.start.format("%Y-%m-%d"),
+            run.end.format("%Y-%m-%d"),
+            run.dryer_ids.len()
+        ),
+        answer: season_answer(k, run, currency, u),
+        notes,
+        body: vec![
+            Block::Heading("Pictures".into()),
+            pic(
+                "gantt.svg",
+                "Every dryer's loads through the season; point at a bar for the load (zoom to read the labels)",
+                true,
+            ),
+            pic("queue.svg", "Loads waiting, dryers occupied, and each load's wait", true),
+            Block::Heading("Figures".into()),
+            Block::Table(Table {
+                caption: "Key figures of the season".into(),
+                head: vec!["figure".into(), "value".into(), "unit".into()],
+                rows: KPI_FIELDS
+                    .iter()
+                    .zip(k.values())
+                    .map(|((name, unit), v)| {
+                        let unit = if *unit == "currency" { currency } else { unit };
+                        vec![name.replace('_', " "), format!("{v:.1}"), unit.to_string()]
+                    })
+                    .collect(),
+            }),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: super::load::CAUTIONS.into(),
+    }
+}
+
+/// The HTML report of a sweep: the smallest dryer count holding the wait limit per policy and heater, and the
+/// P10/P50/P90 of the key figures per case.
+pub fn sweep_page(
+    name: &str,
+    results: &[CaseResult],
+    seasons: usize,
+    max_wait_h: f64,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    use crate::season::sweep::smallest_holding;
+    let mut combos: Vec<_> = Vec::new();
+    for r in results {
+        let c = (r.case.policy, r.case.heater);
+        if !combos.contains(&c) {
+            combos.push(c);
+        }
+    }
+    let heater = |h: &Option<crate::drying::heater::StrategySpec>| {
+        h.map_or("the scenario's".to_string(), |h| h.to_string())
+    };
+    let answer = combos
+        .iter()
+        .map(|(p, h)| {
+            let v = match smallest_holding(results, *p, *h) {
+                Some(n) => format!("{n} dryers"),
+                None => "none swept".into(),
+            };
+            KeyFigure::new(
+                format!("policy {}, heater {}", p.name(), heater(h)),
+                v,
+                format!(
+                    "fewest dryers holding the {max_wait_h:.0} h wait limit in 90 % of seasons"
+                ),
+            )
+        })
+        .collect();
+    let pick = [
+        "max_wait",
+        "loads_over_wait_limit",
+        "dryer_utilisation",
+        "propane_per_tonne",
+        "total_cost",
+    ];
+    let idx: Vec<usize> = pick
+        .iter()
+        .filter_map(|p| KPI_FIELDS.iter().position(|(n, _)| n == p))
+        .collect();
+    let mut head = vec!["dryers".to_string(), "policy".into(), "heater".into()];
+    head.extend(idx.iter().map(|&i| {
+        format!(
+            "{} ({}) P10 / P50 / P90",
+            KPI_FIELDS[i].0.replace('_', " "),
+            KPI_FIELDS[i].1
+        )
+    }));
+    let rows = results
+        .iter()
+        .map(|r| {
+            let mut row = vec![
+                r.case.dryers.to_string(),
+                r.case.policy.name().to_string(),
+                heater(&r.case.heater),
+            ];
+            row.extend(
+                idx.iter()
+                    .map(|&i| format!("{:.1} / {:.1} / {:.1}", r.p10[i], r.p50[i], r.p90[i])),
+            );
+            row
+        })
+        .collect();
+    Page {
+        title: format!("{name} — dryer counts swept"),
+        lead: format!("{} cases, each over {seasons} seasons.", results.len()),
+        answer,
+        notes: vec![],
+        body: vec![
+            Block::Heading("Figures".into()),
+            Block::Table(Table {
+                caption: "Key figures per case across seasons (all figures in sweep.csv)".into(),
+                head,
+                rows,
+            }),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: super::load::CAUTIONS.into(),
+    }
 }

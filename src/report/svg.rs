@@ -1,5 +1,8 @@
-//! Self-contained SVG charts: a heat map of a grid of values over a footprint in metres (with axes, a colour scale
-//! bar carrying the unit, and a title) and a simple line chart (x–y series with axes, units and a legend).
+//! Self-contained SVG charts: a heat map of a grid of values over a footprint (axes in metres or feet, a colour
+//! scale bar carrying the unit and its least span, zone marks, the inlet and permeability blocks drawn on it) and a
+//! line chart (x–y series with axes, units, limit lines, clock dates and night shading on time axes, and a legend
+//! sized to its longest entry). Every mark and colour in a legend is in the picture, and no colour means two
+//! things in one picture.
 //! Pure string building, no I/O; the caller writes the text (through `report::output::OutputSet`).
 //!
 //! The colour ramp is our own: five control colours from deep indigo through teal and green to pale yellow,
@@ -17,11 +20,6 @@ const RAMP: [(f64, [f64; 3]); 5] = [
     (0.50, [27.0, 140.0, 139.0]),
     (0.75, [112.0, 191.0, 88.0]),
     (1.00, [246.0, 232.0, 95.0]),
-];
-
-/// Series colours for line charts (distinct hues; the first three read in greyscale too).
-const SERIES: [&str; 6] = [
-    "#2d4e8e", "#d0632a", "#1b8c8b", "#8a3b9c", "#6f9f2c", "#b0306a",
 ];
 
 /// Colour of value t ∈ [0, 1] on the ramp, as `#rrggbb` (t is clamped).
@@ -92,6 +90,81 @@ fn fmt_tick(v: f64) -> String {
     }
 }
 
+/// Width of `s` in pixels at font size `px`, estimated generously (0.62 em a character) so that layouts leave
+/// room for the widest sans-serif faces; the browser test measures the real boxes.
+pub fn text_w(s: &str, px: f64) -> f64 {
+    s.chars().count() as f64 * px * 0.62
+}
+
+/// Colour of limit lines (caps, targets, wait limits): black, told apart by their dash pattern.
+pub const LIMIT_COLOUR: &str = "#000000";
+/// Dash patterns of limit lines, in order.
+const LIMIT_DASH: [&str; 3] = ["8 4", "2 3", "12 3 2 3"];
+/// Fill of night bands on time axes.
+pub const NIGHT_FILL: &str = "#e3e7f1";
+/// Night on clock-time axes: from this local hour …
+pub const NIGHT_FROM_H: f64 = 19.0;
+/// … to this local hour the next morning.
+pub const NIGHT_TO_H: f64 = 7.0;
+
+/// A colour range stretched to at least `min_span` about its middle, so a small spread is not painted across the
+/// whole ramp; a degenerate or non-finite range becomes `min_span` wide (or 1 when `min_span` is 0).
+pub fn colour_range(lo: f64, hi: f64, min_span: f64) -> (f64, f64) {
+    let (lo, hi) = if lo.is_finite() && hi.is_finite() {
+        (lo, hi)
+    } else {
+        (0.0, 0.0)
+    };
+    let span = min_span.max(if hi > lo { 0.0 } else { 1.0 });
+    if hi - lo >= span {
+        return (lo, hi);
+    }
+    let mid = 0.5 * (lo + hi);
+    (mid - 0.5 * span, mid + 0.5 * span)
+}
+
+/// Cell marks on a heat map: −1 draws "D", +1 draws "W"; the texts say what each means and appear in the legend
+/// only when the picture holds that mark.
+#[derive(Debug, Clone)]
+pub struct ZoneMarks<'a> {
+    /// Marks, the shape of the values.
+    pub marks: ArrayView2<'a, i8>,
+    /// What "D" means.
+    pub dry: String,
+    /// What "W" means.
+    pub wet: String,
+}
+
+/// Something drawn over a heat map, in metres from the map's origin.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Overlay {
+    /// The plenum inlet: a bar on the left (x = 0) or right edge between `y0_m` and `y1_m`.
+    Inlet {
+        /// On the right edge (x = extent) instead of the left.
+        at_x_max: bool,
+        /// Lower end, m.
+        y0_m: f64,
+        /// Upper end, m.
+        y1_m: f64,
+    },
+    /// A block of the bed with its own permeability: a dashed outline labelled with its multiplier.
+    Block {
+        /// Left, m.
+        x0_m: f64,
+        /// Right, m.
+        x1_m: f64,
+        /// Bottom, m.
+        y0_m: f64,
+        /// Top, m.
+        y1_m: f64,
+        /// Permeability multiplier.
+        multiplier: f64,
+    },
+}
+
+/// Colour of the inlet bar (not on the ramp).
+const INLET_COLOUR: &str = "#c0262d";
+
 /// A heat map request.
 #[derive(Debug, Clone)]
 pub struct HeatMap<'a> {
@@ -101,48 +174,71 @@ pub struct HeatMap<'a> {
     pub x_extent_m: f64,
     /// Vertical extent, m.
     pub y_extent_m: f64,
+    /// Units of the axes (metres or feet).
+    pub units: crate::units::UnitSystem,
     /// Title.
     pub title: String,
-    /// Horizontal axis label (without unit; "m" is added).
+    /// Horizontal axis label (without unit; the length unit is added).
     pub x_label: String,
-    /// Vertical axis label (without unit; "m" is added).
+    /// Vertical axis label (without unit).
     pub y_label: String,
     /// Quantity name on the colour bar.
     pub quantity: String,
-    /// Unit on the colour bar.
+    /// Unit on the colour bar (the values are already in it).
     pub unit: String,
-    /// Fixed colour range; `None` = data min to max.
+    /// Fixed colour range (one scale across pictures that are compared); `None` = data min to max.
     pub range: Option<(f64, f64)>,
-    /// Optional cell marks, same shape as `values`: −1 draws "D" (over-dried), +1 draws "W" (still wet), with a
-    /// legend under the colour bar naming what they mean.
-    pub marks: Option<(ArrayView2<'a, i8>, String)>,
+    /// The least span of the colour scale, in the values' unit (stated under the picture).
+    pub min_span: f64,
+    /// Optional over-dried / still-wet marks.
+    pub marks: Option<ZoneMarks<'a>>,
+    /// Inlet and permeability blocks.
+    pub overlays: Vec<Overlay>,
+    /// Notes under the picture (air direction, what the view shows).
+    pub notes: Vec<String>,
+}
+
+/// The (lo, hi) colour range a heat map uses: its fixed range or the data's, stretched to its minimum span.
+pub fn heat_range(m: &HeatMap<'_>) -> (f64, f64) {
+    let (lo, hi) = m
+        .range
+        .unwrap_or_else(|| finite_range(m.values.iter().copied()));
+    colour_range(lo, hi, m.min_span)
+}
+
+/// Lowest and highest finite value (∞, −∞ when none).
+pub fn finite_range(v: impl Iterator<Item = f64>) -> (f64, f64) {
+    v.filter(|x| x.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+            (a.min(x), b.max(x))
+        })
 }
 
 /// Render a heat map as an SVG document.
 pub fn heat_map(m: &HeatMap<'_>) -> String {
     let (nx, ny) = m.values.dim();
-    let finite: Vec<f64> = m.values.iter().copied().filter(|v| v.is_finite()).collect();
-    let (mut lo, mut hi) = m.range.unwrap_or_else(|| {
-        (
-            finite.iter().copied().fold(f64::INFINITY, f64::min),
-            finite.iter().copied().fold(f64::NEG_INFINITY, f64::max),
-        )
-    });
-    if !(lo.is_finite() && hi.is_finite()) {
-        lo = 0.0;
-        hi = 1.0;
-    }
-    if hi <= lo {
-        let pad = if lo == 0.0 { 1.0 } else { 0.01 * lo.abs() };
-        lo -= pad;
-        hi += pad;
-    }
+    let (lo, hi) = heat_range(m);
+    let lu = m.units.length_unit();
+    let (xe, ye) = (
+        m.units.length_value(m.x_extent_m),
+        m.units.length_value(m.y_extent_m),
+    );
+    let legend = heat_legend(m, lo, hi);
     let plot_w = 640.0;
     let plot_h = (plot_w * m.y_extent_m / m.x_extent_m).clamp(200.0, 640.0);
     let (left, top) = (70.0, 50.0);
     let bar_x = left + plot_w + 30.0;
-    let total_w = bar_x + 190.0;
-    let total_h = top + plot_h + if m.marks.is_some() { 80.0 } else { 60.0 };
+    let bar_label = format!("{} ({})", m.quantity, m.unit);
+    let legend_top = top + plot_h + 58.0;
+    let total_h = legend_top + 16.0 * legend.len() as f64 + 6.0;
+    let total_w = [
+        bar_x + 90.0,
+        bar_x + text_w(&bar_label, 12.0) + 10.0,
+        left + text_w(&m.title, 16.0) + 10.0,
+    ]
+    .into_iter()
+    .chain(legend.iter().map(|l| left + text_w(l, 11.0) + 10.0))
+    .fold(0.0, f64::max);
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -173,9 +269,9 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
         );
     }
     let _ = writeln!(s, "</g>");
-    if let Some((marks, legend)) = &m.marks {
+    if let Some(z) = &m.marks {
         let size = (0.8 * cw.min(ch)).clamp(7.0, 14.0);
-        for ((i, j), &mk) in marks.indexed_iter() {
+        for ((i, j), &mk) in z.marks.indexed_iter() {
             let label = match mk {
                 -1 => "D",
                 1 => "W",
@@ -188,19 +284,24 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
                 r#"<text x="{x:.2}" y="{y:.2}" font-size="{size:.1}" text-anchor="middle" fill="black" stroke="white" stroke-width="0.6" paint-order="stroke">{label}</text>"#
             );
         }
-        let _ = writeln!(
-            s,
-            r#"<text x="{left}" y="{:.2}" font-size="11">{}</text>"#,
-            top + plot_h + 64.0,
-            esc(legend)
-        );
+    }
+    let frame = Frame {
+        left,
+        top,
+        w: plot_w,
+        h: plot_h,
+        sx: plot_w / m.x_extent_m,
+        sy: plot_h / m.y_extent_m,
+    };
+    for o in &m.overlays {
+        overlay_svg(&mut s, &frame, o);
     }
     let _ = writeln!(
         s,
         r#"<rect x="{left}" y="{top}" width="{plot_w}" height="{plot_h:.2}" fill="none" stroke="black"/>"#
     );
-    for t in nice_ticks(0.0, m.x_extent_m, 8) {
-        let x = left + t / m.x_extent_m * plot_w;
+    for t in nice_ticks(0.0, xe, 8) {
+        let x = left + t / xe * plot_w;
         let y = top + plot_h;
         let _ = writeln!(
             s,
@@ -210,8 +311,8 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
             fmt_tick(t)
         );
     }
-    for t in nice_ticks(0.0, m.y_extent_m, 4) {
-        let y = top + plot_h - t / m.y_extent_m * plot_h;
+    for t in nice_ticks(0.0, ye, 4) {
+        let y = top + plot_h - t / ye * plot_h;
         let _ = writeln!(
             s,
             r#"<line x1="{:.2}" y1="{y:.2}" x2="{left}" y2="{y:.2}" stroke="black"/><text x="{:.2}" y="{:.2}" text-anchor="end">{}</text>"#,
@@ -223,18 +324,135 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
     }
     let _ = writeln!(
         s,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">{} (m)</text>"#,
+        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">{} ({lu})</text>"#,
         left + plot_w / 2.0,
-        top + plot_h + 40.0,
+        top + plot_h + 38.0,
         esc(&m.x_label)
     );
     let _ = writeln!(
         s,
-        r#"<text transform="translate(20 {:.2}) rotate(-90)" text-anchor="middle">{} (m)</text>"#,
+        r#"<text transform="translate(20 {:.2}) rotate(-90)" text-anchor="middle">{} ({lu})</text>"#,
         top + plot_h / 2.0,
         esc(&m.y_label)
     );
-    // colour bar
+    colour_bar(&mut s, bar_x, top, plot_h, lo, hi);
+    let _ = writeln!(
+        s,
+        r#"<text x="{bar_x:.2}" y="{:.2}">{}</text>"#,
+        top - 10.0,
+        esc(&bar_label)
+    );
+    for (k, l) in legend.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            r#"<text x="{left}" y="{:.2}" font-size="11">{}</text>"#,
+            legend_top + 16.0 * k as f64,
+            esc(l)
+        );
+    }
+    s.push_str("</svg>\n");
+    s
+}
+
+/// The lines under a heat map: the colour scale and its least span, the marks present, the overlays, the notes.
+fn heat_legend(m: &HeatMap<'_>, lo: f64, hi: f64) -> Vec<String> {
+    let mut l = vec![format!(
+        "colour scale {} to {} {}{}; at least {} {} wide, so a small spread shows as a small change",
+        fmt_tick(lo),
+        fmt_tick(hi),
+        m.unit,
+        if m.range.is_some() {
+            " (the same scale as the pictures it is compared with)"
+        } else {
+            ""
+        },
+        fmt_tick(m.min_span),
+        m.unit
+    )];
+    if let Some(z) = &m.marks {
+        if z.marks.iter().any(|&k| k == -1) {
+            l.push(format!("D: {}", z.dry));
+        }
+        if z.marks.iter().any(|&k| k == 1) {
+            l.push(format!("W: {}", z.wet));
+        }
+    }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::Inlet { .. }))
+    {
+        l.push("red bar on the edge: the plenum inlet, where the fan's air comes in".into());
+    }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::Block { .. }))
+    {
+        l.push("dashed outline: a block of the bed with its own permeability (× the bed's)".into());
+    }
+    l.extend(m.notes.iter().cloned());
+    l
+}
+
+/// Where a heat map's plot sits, and pixels per metre.
+struct Frame {
+    left: f64,
+    top: f64,
+    w: f64,
+    h: f64,
+    sx: f64,
+    sy: f64,
+}
+
+fn overlay_svg(s: &mut String, f: &Frame, o: &Overlay) {
+    match *o {
+        Overlay::Inlet {
+            at_x_max,
+            y0_m,
+            y1_m,
+        } => {
+            let x = if at_x_max {
+                f.left + f.w - 3.0
+            } else {
+                f.left + 3.0
+            };
+            let ya = (f.top + f.h - y0_m * f.sy).clamp(f.top, f.top + f.h);
+            let yb = (f.top + f.h - y1_m * f.sy).clamp(f.top, f.top + f.h);
+            let _ = writeln!(
+                s,
+                r#"<line x1="{x:.2}" y1="{ya:.2}" x2="{x:.2}" y2="{yb:.2}" stroke="{INLET_COLOUR}" stroke-width="6"/>"#
+            );
+        }
+        Overlay::Block {
+            x0_m,
+            x1_m,
+            y0_m,
+            y1_m,
+            multiplier,
+        } => {
+            let (xa, xb) = (f.left + x0_m * f.sx, f.left + x1_m * f.sx);
+            let (ya, yb) = (f.top + f.h - y1_m * f.sy, f.top + f.h - y0_m * f.sy);
+            let _ = writeln!(
+                s,
+                r#"<rect x="{xa:.2}" y="{ya:.2}" width="{:.2}" height="{:.2}" fill="none" stroke="white" stroke-width="3"/><rect x="{xa:.2}" y="{ya:.2}" width="{:.2}" height="{:.2}" fill="none" stroke="black" stroke-width="1.5" stroke-dasharray="6 3"/>"#,
+                xb - xa,
+                yb - ya,
+                xb - xa,
+                yb - ya
+            );
+            let label = format!("×{}", fmt_tick(multiplier));
+            if text_w(&label, 11.0) + 6.0 < xb - xa && yb - ya > 16.0 {
+                let _ = writeln!(
+                    s,
+                    r#"<text x="{:.2}" y="{:.2}" font-size="11" stroke="white" stroke-width="2.5" paint-order="stroke">{label}</text>"#,
+                    xa + 4.0,
+                    ya + 13.0
+                );
+            }
+        }
+    }
+}
+
+fn colour_bar(s: &mut String, bar_x: f64, top: f64, plot_h: f64, lo: f64, hi: f64) {
     let steps = 64;
     let bh = plot_h / steps as f64;
     for k in 0..steps {
@@ -263,15 +481,6 @@ pub fn heat_map(m: &HeatMap<'_>) -> String {
             fmt_tick(t)
         );
     }
-    let _ = writeln!(
-        s,
-        r#"<text x="{bar_x:.2}" y="{:.2}">{} ({})</text>"#,
-        top - 10.0,
-        esc(&m.quantity),
-        esc(&m.unit)
-    );
-    s.push_str("</svg>\n");
-    s
 }
 
 /// One line of a chart.
@@ -283,8 +492,17 @@ pub struct Series {
     pub points: Vec<(f64, f64)>,
 }
 
+/// A horizontal limit line (a cap, a target), black and dashed, named in the legend.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Limit {
+    /// Legend label, with the value.
+    pub name: String,
+    /// The value, in the chart's y unit.
+    pub value: f64,
+}
+
 /// A line chart request.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, Default)]
 pub struct LineChart {
     /// Title.
     pub title: String,
@@ -296,27 +514,38 @@ pub struct LineChart {
     pub y_label: String,
     /// Vertical axis unit.
     pub y_unit: String,
-    /// The lines.
+    /// The lines. The first is the chart's main line: drawn last (on top) and wider.
     pub series: Vec<Series>,
+    /// Limit lines.
+    pub limits: Vec<Limit>,
+    /// When x is hours since an instant: that instant, for a second row of clock dates and night shading.
+    pub clock: Option<chrono::DateTime<chrono::FixedOffset>>,
 }
 
-/// Render a line chart as an SVG document.
-pub fn line_chart(c: &LineChart) -> String {
-    let pts = || {
-        c.series
-            .iter()
-            .flat_map(|s| s.points.iter())
-            .filter(|(x, y)| x.is_finite() && y.is_finite())
+/// Series colours (eight distinct hues, none of them black, the limit lines' colour).
+const PALETTE: [&str; 8] = [
+    "#1f4e9c", "#d95f02", "#1b9e77", "#7570b3", "#a6761d", "#e7298a", "#66a61e", "#17becf",
+];
+
+/// The colour and dash of series `n`: colours first; past eight, the colours again dashed.
+pub fn series_style(n: usize) -> (&'static str, &'static str) {
+    let dash = match (n / PALETTE.len()) % 3 {
+        0 => "",
+        1 => r#" stroke-dasharray="7 4""#,
+        _ => r#" stroke-dasharray="2 3""#,
     };
-    let fold =
-        |f: fn(&(f64, f64)) -> f64, init: f64, op: fn(f64, f64) -> f64| pts().map(f).fold(init, op);
-    let (mut x0, mut x1) = (
-        fold(|p| p.0, f64::INFINITY, f64::min),
-        fold(|p| p.0, f64::NEG_INFINITY, f64::max),
-    );
-    let (mut y0, mut y1) = (
-        fold(|p| p.1, f64::INFINITY, f64::min),
-        fold(|p| p.1, f64::NEG_INFINITY, f64::max),
+    (PALETTE[n % PALETTE.len()], dash)
+}
+
+/// The x and y ranges of a chart: data (and limits) with 4 % room above and below, so no line runs on the frame.
+fn chart_ranges(c: &LineChart) -> ((f64, f64), (f64, f64)) {
+    let pts = || c.series.iter().flat_map(|s| s.points.iter());
+    let (mut x0, mut x1) = finite_range(pts().filter(|p| p.1.is_finite()).map(|p| p.0));
+    let (mut y0, mut y1) = finite_range(
+        pts()
+            .filter(|p| p.0.is_finite())
+            .map(|p| p.1)
+            .chain(c.limits.iter().map(|l| l.value)),
     );
     if !(x0.is_finite() && x1.is_finite()) {
         (x0, x1) = (0.0, 1.0);
@@ -332,10 +561,67 @@ pub fn line_chart(c: &LineChart) -> String {
         y0 -= pad;
         y1 += pad;
     }
-    let (left, top, w, h) = (80.0, 50.0, 600.0, 360.0);
+    let pad = 0.04 * (y1 - y0);
+    ((x0, x1), (y0 - pad, y1 + pad))
+}
+
+/// The legend entries: (label, colour, dash, kind) with kind 0 line, 1 limit, 2 night band.
+fn chart_legend(c: &LineChart, drawn: &[usize]) -> Vec<(String, String, String, u8)> {
+    let mut l: Vec<(String, String, String, u8)> = drawn
+        .iter()
+        .map(|&n| {
+            let (col, dash) = series_style(n);
+            (c.series[n].name.clone(), col.into(), dash.into(), 0)
+        })
+        .collect();
+    for (k, lim) in c.limits.iter().enumerate() {
+        let dash = format!(
+            r#" stroke-dasharray="{}""#,
+            LIMIT_DASH[k % LIMIT_DASH.len()]
+        );
+        l.push((lim.name.clone(), LIMIT_COLOUR.into(), dash, 1));
+    }
+    if c.clock.is_some() {
+        l.push((
+            format!(
+                "night ({:02.0}:00 to {:02.0}:00 clock time)",
+                NIGHT_FROM_H, NIGHT_TO_H
+            ),
+            NIGHT_FILL.into(),
+            String::new(),
+            2,
+        ));
+    }
+    l
+}
+
+/// Render a line chart as an SVG document.
+pub fn line_chart(c: &LineChart) -> String {
+    let ((x0, x1), (y0, y1)) = chart_ranges(c);
+    // Series without a single finite point are left out, of the picture and of the legend.
+    let drawn: Vec<usize> = (0..c.series.len())
+        .filter(|&n| {
+            c.series[n]
+                .points
+                .iter()
+                .any(|p| p.0.is_finite() && p.1.is_finite())
+        })
+        .collect();
+    let legend = chart_legend(c, &drawn);
+    let (left, top, w, h): (f64, f64, f64, f64) = (80.0, 50.0, 600.0, 360.0);
     let legend_x = left + w + 20.0;
-    let total_w = legend_x + 170.0;
-    let total_h = top + h + 60.0;
+    let axis_label_y = top + h + if c.clock.is_some() { 58.0 } else { 40.0 };
+    let x_title = format!("{} ({})", c.x_label, c.x_unit);
+    let total_w = legend
+        .iter()
+        .map(|e| legend_x + 32.0 + text_w(&e.0, 12.0))
+        .chain([
+            left + text_w(&c.title, 16.0) + 10.0,
+            left + w / 2.0 + text_w(&x_title, 12.0) / 2.0 + 10.0,
+            left + w + 20.0,
+        ])
+        .fold(0.0, f64::max);
+    let total_h = (axis_label_y + 16.0).max(top + 20.0 + 18.0 * legend.len() as f64);
     let px = |x: f64| left + (x - x0) / (x1 - x0) * w;
     let py = |y: f64| top + h - (y - y0) / (y1 - y0) * h;
     let mut s = String::new();
@@ -348,25 +634,34 @@ pub fn line_chart(c: &LineChart) -> String {
         r#"<rect width="100%" height="100%" fill="white"/><text x="{left}" y="28" font-size="16">{}</text>"#,
         esc(&c.title)
     );
-    let _ = writeln!(
-        s,
-        r#"<rect x="{left}" y="{top}" width="{w}" height="{h}" fill="none" stroke="black"/>"#
-    );
+    if let Some(t0) = c.clock {
+        for (a, b) in night_bands(t0, x0, x1) {
+            let _ = writeln!(
+                s,
+                r#"<rect x="{:.2}" y="{top}" width="{:.2}" height="{h}" fill="{NIGHT_FILL}"/>"#,
+                px(a),
+                px(b) - px(a)
+            );
+        }
+    }
     for t in nice_ticks(x0, x1, 8) {
         let x = px(t);
         let _ = writeln!(
             s,
-            r##"<line x1="{x:.2}" y1="{top}" x2="{x:.2}" y2="{:.2}" stroke="#dddddd"/><text x="{x:.2}" y="{:.2}" text-anchor="middle">{}</text>"##,
+            r##"<line x1="{x:.2}" y1="{top}" x2="{x:.2}" y2="{:.2}" stroke="#d4d4d4"/><text x="{x:.2}" y="{:.2}" text-anchor="middle">{}</text>"##,
             top + h,
-            top + h + 18.0,
+            top + h + 16.0,
             fmt_tick(t)
         );
+    }
+    if let Some(t0) = c.clock {
+        clock_row(&mut s, t0, x0, x1, &px, top + h + 34.0);
     }
     for t in nice_ticks(y0, y1, 6) {
         let y = py(t);
         let _ = writeln!(
             s,
-            r##"<line x1="{left}" y1="{y:.2}" x2="{:.2}" y2="{y:.2}" stroke="#dddddd"/><text x="{:.2}" y="{:.2}" text-anchor="end">{}</text>"##,
+            r##"<line x1="{left}" y1="{y:.2}" x2="{:.2}" y2="{y:.2}" stroke="#d4d4d4"/><text x="{:.2}" y="{:.2}" text-anchor="end">{}</text>"##,
             left + w,
             left - 6.0,
             y + 4.0,
@@ -375,11 +670,9 @@ pub fn line_chart(c: &LineChart) -> String {
     }
     let _ = writeln!(
         s,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">{} ({})</text>"#,
+        r#"<text x="{:.2}" y="{axis_label_y:.2}" text-anchor="middle">{}</text>"#,
         left + w / 2.0,
-        top + h + 40.0,
-        esc(&c.x_label),
-        esc(&c.x_unit)
+        esc(&x_title)
     );
     let _ = writeln!(
         s,
@@ -388,47 +681,127 @@ pub fn line_chart(c: &LineChart) -> String {
         esc(&c.y_label),
         esc(&c.y_unit)
     );
-    for (n, ser) in c.series.iter().enumerate() {
-        let colour = SERIES[n % SERIES.len()];
-        // After the colours run out the lines repeat them dashed, so every series stays distinguishable.
-        let dash = match (n / SERIES.len()) % 3 {
-            0 => "",
-            1 => r#" stroke-dasharray="7 4""#,
-            _ => r#" stroke-dasharray="2 3""#,
-        };
-        let mut d = String::new();
-        let mut pen_down = false;
-        for &(x, y) in &ser.points {
-            if x.is_finite() && y.is_finite() {
-                let _ = write!(
-                    d,
-                    "{}{:.2},{:.2} ",
-                    if pen_down { "L" } else { "M" },
-                    px(x),
-                    py(y)
-                );
-                pen_down = true;
-            } else {
-                pen_down = false;
-            }
-        }
+    for (k, lim) in c.limits.iter().enumerate() {
+        let y = py(lim.value);
         let _ = writeln!(
             s,
-            r#"<path d="{}" fill="none" stroke="{colour}" stroke-width="2"{dash}/>"#,
-            d.trim_end()
+            r#"<line x1="{left}" y1="{y:.2}" x2="{:.2}" y2="{y:.2}" stroke="{LIMIT_COLOUR}" stroke-width="1.5" stroke-dasharray="{}"/>"#,
+            left + w,
+            LIMIT_DASH[k % LIMIT_DASH.len()]
         );
-        let ly = top + 10.0 + 18.0 * n as f64;
+    }
+    // The main line last, so it lies on top.
+    for &n in drawn.iter().rev() {
+        let (colour, dash) = series_style(n);
+        let width = if n == 0 { 3.0 } else { 1.8 };
+        let d = path_d(&c.series[n].points, &px, &py);
         let _ = writeln!(
             s,
-            r#"<line x1="{legend_x}" y1="{ly}" x2="{:.0}" y2="{ly}" stroke="{colour}" stroke-width="2"{dash}/><text x="{:.0}" y="{:.0}">{}</text>"#,
-            legend_x + 24.0,
+            r#"<path d="{d}" fill="none" stroke="{colour}" stroke-width="{width}" stroke-linejoin="round"{dash}/>"#
+        );
+    }
+    let _ = writeln!(
+        s,
+        r#"<rect x="{left}" y="{top}" width="{w}" height="{h}" fill="none" stroke="black"/>"#
+    );
+    for (k, (name, colour, dash, kind)) in legend.iter().enumerate() {
+        let ly = top + 10.0 + 18.0 * k as f64;
+        let mark = match kind {
+            2 => format!(
+                r#"<rect x="{legend_x}" y="{:.0}" width="24" height="12" fill="{colour}"/>"#,
+                ly - 6.0
+            ),
+            _ => format!(
+                r#"<line x1="{legend_x}" y1="{ly}" x2="{:.0}" y2="{ly}" stroke="{colour}" stroke-width="{}"{dash}/>"#,
+                legend_x + 24.0,
+                if *kind == 0 && k == 0 { 3.0 } else { 2.0 }
+            ),
+        };
+        let _ = writeln!(
+            s,
+            r#"{mark}<text x="{:.0}" y="{:.0}">{}</text>"#,
             legend_x + 30.0,
             ly + 4.0,
-            esc(&ser.name)
+            esc(name)
         );
     }
     s.push_str("</svg>\n");
     s
+}
+
+fn path_d(points: &[(f64, f64)], px: &dyn Fn(f64) -> f64, py: &dyn Fn(f64) -> f64) -> String {
+    let mut d = String::new();
+    let mut pen_down = false;
+    for &(x, y) in points {
+        if x.is_finite() && y.is_finite() {
+            let _ = write!(
+                d,
+                "{}{:.2},{:.2} ",
+                if pen_down { "L" } else { "M" },
+                px(x),
+                py(y)
+            );
+            pen_down = true;
+        } else {
+            pen_down = false;
+        }
+    }
+    d.trim_end().to_string()
+}
+
+/// Hours since `t0` of local clock hour `hour` on the day `day` days after `t0`'s date.
+fn hours_to_clock(t0: chrono::DateTime<chrono::FixedOffset>, day: i64, hour: f64) -> f64 {
+    use chrono::Timelike;
+    let now_h = t0.hour() as f64 + t0.minute() as f64 / 60.0 + t0.second() as f64 / 3600.0;
+    day as f64 * 24.0 + hour - now_h
+}
+
+/// Night intervals (hours since `t0`) that meet [x0, x1], clipped to it.
+pub fn night_bands(t0: chrono::DateTime<chrono::FixedOffset>, x0: f64, x1: f64) -> Vec<(f64, f64)> {
+    let mut v = Vec::new();
+    let first = (x0 / 24.0).floor() as i64 - 1;
+    let last = (x1 / 24.0).ceil() as i64 + 1;
+    for day in first..=last {
+        let a = hours_to_clock(t0, day, NIGHT_FROM_H);
+        let b = hours_to_clock(t0, day + 1, NIGHT_TO_H);
+        let (a, b) = (a.max(x0), b.min(x1));
+        if b > a {
+            v.push((a, b));
+        }
+    }
+    v
+}
+
+/// Clock dates under the hour ticks: a tick and the date at each local midnight, thinned to fit.
+fn clock_row(
+    s: &mut String,
+    t0: chrono::DateTime<chrono::FixedOffset>,
+    x0: f64,
+    x1: f64,
+    px: &dyn Fn(f64) -> f64,
+    y: f64,
+) {
+    let label_w = text_w("Wed 30 Sep", 11.0) + 8.0;
+    let days = ((x1 - x0) / 24.0).ceil().max(1.0);
+    let day_px = (px(x0 + 24.0) - px(x0)).max(1.0);
+    let step = (label_w / day_px).ceil().max(1.0) as i64;
+    let first = (x0 / 24.0).floor() as i64;
+    let mut day = first;
+    while (day - first) as f64 <= days + 1.0 {
+        let h = hours_to_clock(t0, day, 0.0);
+        if h >= x0 && h <= x1 && (day - first) % step == 0 {
+            let x = px(h);
+            let date = t0.date_naive() + chrono::Duration::days(day);
+            let _ = writeln!(
+                s,
+                r#"<line x1="{x:.2}" y1="{:.2}" x2="{x:.2}" y2="{:.2}" stroke="black"/><text x="{x:.2}" y="{y:.2}" font-size="11" text-anchor="middle">{}</text>"#,
+                y - 14.0,
+                y - 9.0,
+                date.format("%a %d %b")
+            );
+        }
+        day += 1;
+    }
 }
 
 #[cfg(test)]
@@ -474,8 +847,12 @@ mod tests {
             y_label: "width".into(),
             quantity: "velocity".into(),
             unit: "m/s".into(),
+            units: crate::units::UnitSystem::Si,
             range: None,
+            min_span: 0.0,
             marks: None,
+            overlays: vec![],
+            notes: vec![],
         });
         assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
         assert_eq!(svg.matches("<title>").count(), 12);
@@ -502,17 +879,60 @@ mod tests {
                     points: vec![(0.0, 3.0), (3.0, 0.0)],
                 },
             ],
+            ..LineChart::default()
         });
         assert_eq!(svg.matches("<path").count(), 2);
         // the NaN breaks series a into two pieces
+        // The main line (a) is drawn last, on top.
         let first = svg
             .split("<path d=\"")
-            .nth(1)
+            .nth(2)
             .unwrap()
             .split('"')
             .next()
             .unwrap();
         assert_eq!(first.matches('M').count(), 2, "{first}");
         assert!(svg.contains("pressure (Pa)") && svg.contains(">b</text>"));
+    }
+
+    #[test]
+    fn small_spreads_get_the_least_span() {
+        assert_eq!(colour_range(10.0, 10.8, 4.0), (8.4, 12.4));
+        assert_eq!(colour_range(8.0, 14.0, 4.0), (8.0, 14.0));
+        assert_eq!(colour_range(5.0, 5.0, 0.0), (4.5, 5.5));
+    }
+
+    #[test]
+    fn night_bands_follow_the_clock() {
+        let t0 = chrono::DateTime::parse_from_rfc3339("2026-09-15T14:00:00-04:00").unwrap();
+        // 19:00 is 5 h after the start, 07:00 the next day 17 h after.
+        assert_eq!(night_bands(t0, 0.0, 30.0), vec![(5.0, 17.0), (29.0, 30.0)]);
+    }
+
+    #[test]
+    fn legend_names_only_what_is_drawn_and_limits_widen_the_range() {
+        let svg = line_chart(&LineChart {
+            series: vec![
+                Series {
+                    name: "drawn".into(),
+                    points: vec![(0.0, 1.0), (1.0, 2.0)],
+                },
+                Series {
+                    name: "empty".into(),
+                    points: vec![(0.0, f64::NAN)],
+                },
+            ],
+            limits: vec![Limit {
+                name: "cap 35".into(),
+                value: 35.0,
+            }],
+            ..LineChart::default()
+        });
+        assert!(svg.contains(">drawn</text>") && !svg.contains("empty"));
+        // The y axis reaches the limit: ticks run past 30 though the data stop at 2.
+        assert!(
+            svg.contains(">cap 35</text>") && svg.contains(">30</text>"),
+            "{svg}"
+        );
     }
 }
