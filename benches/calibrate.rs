@@ -57,8 +57,12 @@ fn two_rates_three_loads(c: &mut Criterion) {
     let consts = [Constant::HullRate, Constant::KernelRate];
     let once = calibrate(&crop, &recs, &consts, &FitSettings::default()).unwrap();
     eprintln!(
-        "fit: {:?} after {} iterations, {} runs of the three loads, converged {}",
-        once.fit.values, once.fit.iterations, once.fit.evaluations, once.fit.converged
+        "fit: {:?} ± {:?} after {} iterations, {} runs of the three loads, converged {}",
+        once.fit.values,
+        once.fit.half_width,
+        once.fit.iterations,
+        once.fit.evaluations,
+        once.fit.converged
     );
     let mut g = c.benchmark_group("calibrate");
     g.sample_size(10);
