@@ -115,30 +115,43 @@ pub fn residuals_csv(cal: &Calibration, records: &[LoadRecord]) -> String {
     s
 }
 
-/// Measured and modelled moisture against hours on air: measured as points by record, modelled after the fit.
+/// Points of one chart line: (hours, moisture %).
+type Points = Vec<(f64, f64)>;
+
+/// Measured and modelled moisture against hours on air, one group of lines per record, place and measure (so a
+/// line never joins a grab sample to a composite): measured, modelled before and after the fit.
 pub fn plot_svg(cal: &Calibration, records: &[LoadRecord]) -> String {
     let mut series = Vec::new();
     let mut n = 0;
     for r in records {
-        let mut measured = Vec::new();
-        let mut before = Vec::new();
-        let mut fitted = Vec::new();
+        // Groups in order of first appearance.
+        let mut groups: Vec<(String, [Points; 3])> = Vec::new();
         for s in &r.samples {
-            measured.push((s.hours, s.moisture_wb_pct));
-            before.push((s.hours, cal.model_before[n]));
-            fitted.push((s.hours, cal.fit.model[n]));
+            let key = format!("{} {}", place_text(s.place), measure_text(s.measure));
+            let g = match groups.iter().position(|(k, _)| *k == key) {
+                Some(i) => i,
+                None => {
+                    groups.push((key, [Vec::new(), Vec::new(), Vec::new()]));
+                    groups.len() - 1
+                }
+            };
+            let pts = &mut groups[g].1;
+            pts[0].push((s.hours, s.moisture_wb_pct));
+            pts[1].push((s.hours, cal.model_before[n]));
+            pts[2].push((s.hours, cal.fit.model[n]));
             n += 1;
         }
-        for (label, mut pts) in [
-            ("measured", measured),
-            ("model before", before),
-            ("model fitted", fitted),
-        ] {
-            pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-            series.push(Series {
-                name: format!("{}: {label}", r.name),
-                points: pts,
-            });
+        for (key, pts) in groups {
+            for (label, mut p) in ["measured", "model before", "model fitted"]
+                .into_iter()
+                .zip(pts)
+            {
+                p.sort_by(|a, b| a.0.total_cmp(&b.0));
+                series.push(Series {
+                    name: format!("{}, {key}: {label}", r.spec.name),
+                    points: p,
+                });
+            }
         }
     }
     line_chart(&LineChart {
