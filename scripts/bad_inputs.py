@@ -485,6 +485,39 @@ variants("climate-stats", STATS, stats, COMMON_JSON + [
     ("start_month_missing.json", set_path(["months"], stats["months"][1:])),
 ])
 
+
+# ---------------------------------------------------------------- moisture samples (calibrate)
+SAMPLES = "calibrate --load demo-load {file}"
+SMP_HEAD = "time,location,x_m,y_m,depth_m,measure,moisture_wb_pct,method\n"
+
+
+def smp_row(time="2026-09-18T21:00:00-05:00", location="point", x="1.0", y="1.2", depth="0.2", measure="kernel",
+            moisture="18.4", method="oven"):
+    return ",".join([time, location, x, y, depth, measure, moisture, method]) + "\n"
+
+
+def wsmp(name, text):
+    add("samples", name, text, SAMPLES)
+
+
+GOOD_SMP = smp_row() + smp_row(time="2026-09-19T03:00:00-05:00", location="composite", x="", y="", depth="",
+                                moisture="16.9", method="meter")
+wsmp("empty.csv", "")
+wsmp("header_only.csv", SMP_HEAD)
+wsmp("before_start.csv", SMP_HEAD + smp_row(time="2026-09-18T14:00:00-05:00") + GOOD_SMP)
+wsmp("moisture_140.csv", SMP_HEAD + GOOD_SMP + smp_row(moisture="140"))
+wsmp("moisture_text.csv", SMP_HEAD + GOOD_SMP + smp_row(moisture="wet"))
+wsmp("no_offset.csv", SMP_HEAD + smp_row(time="2026-09-18T21:00:00") + GOOD_SMP)
+wsmp("x_outside.csv", SMP_HEAD + GOOD_SMP + smp_row(x="9.0"))
+wsmp("depth_negative.csv", SMP_HEAD + GOOD_SMP + smp_row(depth="-0.1"))
+wsmp("composite_with_place.csv", SMP_HEAD + smp_row(location="composite") + GOOD_SMP)
+wsmp("location_unknown.csv", SMP_HEAD + smp_row(location="corner") + GOOD_SMP)
+wsmp("measure_unknown.csv", SMP_HEAD + smp_row(measure="hull") + GOOD_SMP)
+wsmp("method_unknown.csv", SMP_HEAD + smp_row(method="guess") + GOOD_SMP)
+wsmp("column_missing.csv", SMP_HEAD.replace(",method", "") + "2026-09-18T21:00:00-05:00,point,1,1,0.2,kernel,18\n")
+wsmp("short_row.csv", SMP_HEAD + GOOD_SMP + "2026-09-19T05:00:00-05:00,point,1.0\n")
+wsmp("semicolons.csv", SMP_HEAD.replace(",", ";") + GOOD_SMP.replace(",", ";"))
+
 # ---------------------------------------------------------------- unreadable paths (not files in the corpus)
 SPECIAL = [
     ("/dev/zero", WEATHER),

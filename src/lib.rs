@@ -9,6 +9,7 @@
 
 pub mod advice;
 pub mod airflow;
+pub mod calibrate;
 pub mod cli;
 pub mod crop;
 pub mod drying;

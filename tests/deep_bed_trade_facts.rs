@@ -1,31 +1,65 @@
-//! Facts of the trade, on fixed ambient air (25 °C, 70 % RH) since all of them depend on the weather: at about
-//! 10 m³/min of air per m³ of peanuts and a plenum around 33 °C (+8 K), a 1.25 m load from 20 % kernel moisture
-//! reaches 10 % in roughly a day (window 12–36 h); the average removal rate stays around 0.3–0.6 percentage points
-//! per hour; propane use is on the order of 20–35 L per tonne. All three are common practice with no published
-//! source (DOMAIN.md §7.2, §7.4). Propane is fixed by airflow × rise × hours, so the windows overlap only in part;
-//! the peanut rate constants were calibrated inside their documented ranges (models/crops/peanut-inshell.json),
-//! never tuned here. The measured values are printed for the record.
-mod deep_bed_support;
-use deep_bed_support as common;
+//! The published wagon result, checked on start dates the bundled peanut rates were NOT fitted to.
+//!
+//! "Performance of Semi-Trailer Peanut Drying Units" (2009 abstract, proceedings of the American Peanut Research
+//! and Education Society; DOMAIN.md §12): standard 4.3 × 2.4 m wagons, about 1.3 m of peanuts, fans sized for about
+//! 10 m³/min per m³, dry to 10 % in less than 24 h using about 26.5 L of propane per ton. Here: the bundled TMY3
+//! year placed in 2026, the wagon filled level 1.3 m deep at 10 m³/min per m³, 20 → 10 % kernel moisture, burner
+//! holding the crop's 35 °C plenum cap, air on at 3 pm on nine dates 6 days apart from 8 September to 26 October
+//! (`examples/calibrate_wagon.rs` fitted the rates on the dates 3 days before each of these). Checked as medians
+//! over those dates: hours under 24 and propane 20–33 L per tonne (the window around 26.5 L/ton, which is
+//! 26.5–29.2 L/t for a metric or a short ton). The spread is printed for the record.
+use std::path::Path;
+use std::sync::Arc;
+
+use chrono::{FixedOffset, TimeZone};
+use dryfront::calibrate::wagon::{median, WagonCase};
+use dryfront::crop::Crop;
+use dryfront::input::scenario::read_container;
+use dryfront::weather::series::ReadOptions;
+
+fn case() -> WagonCase {
+    let opts = ReadOptions {
+        year: Some(2026),
+        ..ReadOptions::default()
+    };
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
+    let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("bundled TMY3");
+    let (container, _) = read_container("wagon-4m", "container").expect("bundled wagon");
+    WagonCase::published(container, Arc::new(weather))
+}
 
 #[test]
-fn wagon_on_fixed_air_lands_in_the_trade_windows() {
-    let (out, _) = common::Case::default().run();
-    // "Reaches 10 %" is the mean at target: hours, rate and propane to that moment (the run itself goes on until
-    // 95 % of the load is there too).
-    let at = out.at_mean_target.expect("reaches target");
-    let hours = at.hours;
-    let rate = (out.initial_kernel_pct - 10.0) / hours;
-    let per_tonne = at.fuel_used / (out.initial_mass_kg / 1000.0);
+fn wagon_on_harvest_weather_meets_the_published_result_on_unfitted_dates() {
+    let case = case();
+    let crop = Arc::new(Crop::load_named("peanut-inshell").expect("bundled peanut"));
+    let tz = FixedOffset::west_opt(5 * 3600).unwrap();
+    let starts: Vec<_> = (0..9)
+        .map(|i| tz.with_ymd_and_hms(2026, 9, 8, 15, 0, 0).unwrap() + chrono::Duration::days(6 * i))
+        .collect();
+    let r = case
+        .run_all(&crop, &starts, "plenum=35".parse().unwrap())
+        .expect("runs");
+    let hours: Vec<f64> = r.iter().map(|x| x.hours).collect();
+    let lpt: Vec<f64> = r.iter().map(|x| x.litres_per_tonne).collect();
+    let span = |v: &[f64]| {
+        (
+            v.iter().cloned().fold(f64::INFINITY, f64::min),
+            v.iter().cloned().fold(f64::NEG_INFINITY, f64::max),
+        )
+    };
+    for (s, x) in starts.iter().zip(&r) {
+        eprintln!("{s}: {:.1} h, {:.1} L/t", x.hours, x.litres_per_tonne);
+    }
+    let (mh, ml) = (median(&hours), median(&lpt));
     eprintln!(
-        "hours to 10 %: {hours:.2} h; mean rate {rate:.3} %-points/h; propane {per_tonne:.2} L/t; plenum +8 K on 25 °C"
+        "median {mh:.1} h (spread {:?}), {ml:.1} L/t (spread {:?})",
+        span(&hours),
+        span(&lpt)
     );
-    assert!((12.0..=36.0).contains(&hours), "{hours} h");
-    assert!((0.3..=0.6).contains(&rate), "{rate} %-points/h");
-    assert!((20.0..=35.0).contains(&per_tonne), "{per_tonne} L/t");
-    // Every run stays under the adiabatic-saturation bound over the run (DOMAIN.md §6.3).
-    let b = out.balances;
     assert!(
-        out.water_removed_kg <= b.adiabatic_capacity_kg + (-b.sensible_storage_j).max(0.0) / 2.3e6
+        hours.iter().all(|h| h.is_finite()),
+        "every date reaches 10 %"
     );
+    assert!(mh < 24.0, "median {mh} h");
+    assert!((20.0..=33.0).contains(&ml), "median {ml} L/t");
 }

@@ -29,6 +29,13 @@ fn inputs(dir: &Path) -> PathBuf {
             "weather.csv",
         );
     std::fs::write(d.join("scenario.json"), scenario).unwrap();
+    std::fs::write(
+        d.join("samples.csv"),
+        "time,location,x_m,y_m,depth_m,measure,moisture_wb_pct,method\n\
+         2026-09-18T21:00:00-05:00,composite,,,,kernel,19.5,meter\n\
+         2026-09-19T03:00:00-05:00,composite,,,,kernel,18.0,meter\n",
+    )
+    .unwrap();
     std::os::unix::fs::symlink(&d, dir.join("link")).unwrap();
     d
 }
@@ -108,6 +115,15 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
                 ]),
                 &[p("stats.json"), "--scenario".into(), p("bp.json")],
             ),
+        ),
+        (
+            "calibrate",
+            vec![
+                "calibrate".into(),
+                "--load".into(),
+                p("scenario.json"),
+                p("samples.csv"),
+            ],
         ),
         (
             "weather synth",

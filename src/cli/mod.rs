@@ -2,6 +2,7 @@
 use clap::{Parser, Subcommand};
 
 pub mod airflow;
+pub mod calibrate;
 pub mod demo;
 pub mod dry;
 pub mod progress;
@@ -48,6 +49,8 @@ pub enum Command {
     Starts(dry::StartsArgs),
     /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
     Airflow(airflow::AirflowArgs),
+    /// Fit a crop's drying constants to moisture samples of real loads and write the calibrated crop file.
+    Calibrate(calibrate::CalibrateArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
     #[command(subcommand)]
     Season(season::SeasonCommand),
@@ -79,6 +82,7 @@ pub fn run(args: Args) -> anyhow::Result<()> {
         Command::Dry(a) => dry::run_dry(a),
         Command::Compare(a) => dry::run_compare(a),
         Command::Starts(a) => dry::run_starts(a),
+        Command::Calibrate(a) => calibrate::run(a),
         Command::Season(c) => season::run(c),
     }
 }

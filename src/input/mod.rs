@@ -5,6 +5,7 @@
 
 pub mod limits;
 pub mod read;
+pub mod samples;
 pub mod scenario;
 pub mod season;
 
@@ -21,6 +22,38 @@ pub fn field_err(path: &Path, field: impl Into<String>, message: impl Into<Strin
         path: path.to_path_buf(),
         field: field.into(),
         message: message.into(),
+    }
+}
+
+/// An error in a line-oriented file's field: file, line, field, the text found and what was expected.
+pub fn line_err(path: &Path, line: u64, field: &str, value: &str, expected: &str) -> InputError {
+    InputError::Field {
+        path: path.to_path_buf(),
+        line,
+        field: field.to_string(),
+        value: value.to_string(),
+        expected: expected.to_string(),
+    }
+}
+
+/// Parse a number from a line-oriented file's field and check it is finite and within `[lo, hi]`.
+pub fn check_line_number(
+    path: &Path,
+    line: u64,
+    field: &str,
+    text: &str,
+    (lo, hi): (f64, f64),
+    unit: &str,
+) -> Result<f64, InputError> {
+    match text.parse::<f64>() {
+        Ok(v) if v.is_finite() && v >= lo && v <= hi => Ok(v),
+        _ => Err(line_err(
+            path,
+            line,
+            field,
+            text,
+            &format!("must be a number between {lo} and {hi} {unit}"),
+        )),
     }
 }
 

@@ -1,0 +1,223 @@
+//! What `dryfront calibrate` writes: the fit table, the residuals (CSV), measured against modelled moisture (SVG),
+//! and the new crop file with the fitted constants marked "calibrated".
+
+use std::fmt::Write as _;
+
+use serde_json::Value;
+
+use super::svg::{line_chart, LineChart, Series};
+use crate::calibrate::rates::{Calibration, LoadRecord};
+use crate::calibrate::samples::{Measure, Place};
+
+fn place_text(p: Place) -> String {
+    match p {
+        Place::Composite => "composite".into(),
+        Place::Point { x_m, y_m, depth_m } => {
+            format!("x {x_m:.2} m, y {y_m:.2} m, {depth_m:.2} m deep")
+        }
+    }
+}
+
+fn measure_text(m: Measure) -> &'static str {
+    match m {
+        Measure::Kernel => "kernel",
+        Measure::Pod => "pod",
+    }
+}
+
+/// The printed fit: each constant before and after with its interval, then the residual summary.
+pub fn fit_table(cal: &Calibration, confidence: f64) -> String {
+    let f = &cal.fit;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "{:<20} {:>12} {:>12} {:>22} {:>10}  unit",
+        "constant",
+        "before",
+        "fitted",
+        format!("{:.0} % interval", confidence * 100.0),
+        "range"
+    );
+    for (n, c) in cal.constants.iter().enumerate() {
+        let (lo, hi) = c.bounds();
+        let hw = f.half_width[n];
+        let interval = if hw.is_finite() {
+            format!("{:.4} – {:.4}", f.values[n] - hw, f.values[n] + hw)
+        } else {
+            "not determined".into()
+        };
+        let _ = writeln!(
+            s,
+            "{:<20} {:>12.4} {:>12.4} {:>22} {:>10}  {}{}",
+            c.name(),
+            cal.before[n],
+            f.values[n],
+            interval,
+            format!("{lo}–{hi}"),
+            c.unit(),
+            if f.at_bound[n] {
+                "  (at its bound)"
+            } else {
+                ""
+            }
+        );
+    }
+    let rms = |m: &[f64]| {
+        let n = m.len() as f64;
+        (m.iter()
+            .zip(&cal.measured)
+            .map(|(a, b)| (a - b) * (a - b))
+            .sum::<f64>()
+            / n)
+            .sqrt()
+    };
+    let _ = writeln!(
+        s,
+        "samples {}; rms residual {:.2} %-points w.b. before, {:.2} after; weighted sum of squares {:.3} → {:.3}; {} iterations, {} model runs of every load{}",
+        cal.measured.len(),
+        rms(&cal.model_before),
+        rms(&f.model),
+        f.s_start,
+        f.s_final,
+        f.iterations,
+        f.evaluations,
+        if f.converged { "" } else { " (iteration limit: not converged)" }
+    );
+    s
+}
+
+/// Residuals, one row per sample.
+pub fn residuals_csv(cal: &Calibration, records: &[LoadRecord]) -> String {
+    let mut s = String::from(
+        "record,line,hours,place,measure,method,measured_wb_pct,model_before_wb_pct,model_fitted_wb_pct,residual_pct_points\n",
+    );
+    let mut n = 0;
+    for r in records {
+        for smp in &r.samples {
+            let fitted = cal.fit.model[n];
+            let _ = writeln!(
+                s,
+                "{},{},{:.3},{},{},{},{:.2},{:.3},{:.3},{:.3}",
+                r.name,
+                smp.line,
+                smp.hours,
+                place_text(smp.place),
+                measure_text(smp.measure),
+                smp.method.name(),
+                smp.moisture_wb_pct,
+                cal.model_before[n],
+                fitted,
+                fitted - smp.moisture_wb_pct
+            );
+            n += 1;
+        }
+    }
+    s
+}
+
+/// Points of one chart line: (hours, moisture %).
+type Points = Vec<(f64, f64)>;
+
+/// Measured and modelled moisture against hours on air, one group of lines per record, place and measure (so a
+/// line never joins a grab sample to a composite): measured, modelled before and after the fit.
+pub fn plot_svg(cal: &Calibration, records: &[LoadRecord]) -> String {
+    let mut series = Vec::new();
+    let mut n = 0;
+    for r in records {
+        // Groups in order of first appearance.
+        let mut groups: Vec<(String, [Points; 3])> = Vec::new();
+        for s in &r.samples {
+            let key = format!("{} {}", place_text(s.place), measure_text(s.measure));
+            let g = match groups.iter().position(|(k, _)| *k == key) {
+                Some(i) => i,
+                None => {
+                    groups.push((key, [Vec::new(), Vec::new(), Vec::new()]));
+                    groups.len() - 1
+                }
+            };
+            let pts = &mut groups[g].1;
+            pts[0].push((s.hours, s.moisture_wb_pct));
+            pts[1].push((s.hours, cal.model_before[n]));
+            pts[2].push((s.hours, cal.fit.model[n]));
+            n += 1;
+        }
+        for (key, pts) in groups {
+            for (label, mut p) in ["measured", "model before", "model fitted"]
+                .into_iter()
+                .zip(pts)
+            {
+                p.sort_by(|a, b| a.0.total_cmp(&b.0));
+                series.push(Series {
+                    name: format!("{}, {key}: {label}", r.spec.name),
+                    points: p,
+                });
+            }
+        }
+    }
+    line_chart(&LineChart {
+        title: "Measured and modelled moisture at the sampled places".into(),
+        x_label: "time on air".into(),
+        x_unit: "h".into(),
+        y_label: "moisture (w.b.)".into(),
+        y_unit: "%".into(),
+        series,
+        limits: vec![],
+        clock: None,
+    })
+}
+
+/// The crop file text with the fitted constants replaced: value, status "calibrated" and `source`. Other fields are
+/// kept; keys come out in sorted order (the loader reads any order).
+pub fn calibrated_crop_json(
+    original: &str,
+    cal: &Calibration,
+    source: &str,
+) -> Result<String, serde_json::Error> {
+    let mut root: Value = serde_json::from_str(original)?;
+    for (n, c) in cal.constants.iter().enumerate() {
+        for field in c.fields() {
+            let mut v = &mut root;
+            for part in field.split('.') {
+                v = &mut v[part];
+            }
+            if let Value::Object(o) = v {
+                o.insert("value".into(), Value::from(cal.fit.values[n]));
+                o.insert("status".into(), Value::from("calibrated"));
+                o.insert("source".into(), Value::from(source));
+            }
+        }
+    }
+    let mut s = serde_json::to_string_pretty(&root)?;
+    s.push('\n');
+    Ok(s)
+}
+
+/// The printed residuals: one line per sample.
+pub fn residual_table(cal: &Calibration, records: &[LoadRecord]) -> String {
+    let mut s = format!(
+        "{:<6} {:>8} {:<34} {:<7} {:>9} {:>9} {:>9} {:>9}\n",
+        "line", "hours", "place", "measure", "measured", "before", "fitted", "residual"
+    );
+    let mut n = 0;
+    for r in records {
+        let _ = writeln!(s, "{}", r.name);
+        for smp in &r.samples {
+            let fitted = cal.fit.model[n];
+            let _ = writeln!(
+                s,
+                "{:<6} {:>6.1} h {:<34} {:<7} {:>7.2} % {:>7.2} % {:>7.2} % {:>+9.2}",
+                smp.line,
+                smp.hours,
+                place_text(smp.place),
+                measure_text(smp.measure),
+                smp.moisture_wb_pct,
+                cal.model_before[n],
+                fitted,
+                fitted - smp.moisture_wb_pct
+            );
+            n += 1;
+        }
+    }
+    s.push_str("(moisture % wet basis; residual = fitted − measured, %-points)\n");
+    s
+}

@@ -1,0 +1,75 @@
+//! `dryfront calibrate` as a user runs it (the README's example): it fits, prints intervals and residuals, and
+//! writes a crop file that loads, with the fitted constants marked "calibrated"; a bad `--fit` name is one line,
+//! exit 2.
+use std::process::Command;
+
+use dryfront::crop::{Crop, Status};
+
+fn root() -> std::path::PathBuf {
+    std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+#[test]
+fn readme_example_writes_a_calibrated_crop() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("calibrated");
+    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .current_dir(root())
+        .args([
+            "calibrate",
+            "--load",
+            "examples/calibration/bf-load-23.json",
+            "examples/calibration/bf-load-23-samples.csv",
+            "--fit",
+            "hull-rate,kernel-rate",
+            "--out",
+        ])
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(stdout.contains("95 % interval"), "{stdout}");
+    assert!(stdout.contains("rms residual"), "{stdout}");
+    let crop = Crop::load_named(out.join("peanut-inshell-calibrated.json").to_str().unwrap())
+        .expect("the written crop file loads");
+    for field in [
+        "compartments.hull.thin_layer.k_ref_per_h",
+        "compartments.kernel.thin_layer.k_ref_per_h",
+    ] {
+        let c = &crop.constants[field];
+        assert_eq!(c.status, Status::Calibrated, "{field}");
+        assert!(c.source.contains("bf-load-23-samples.csv"), "{}", c.source);
+    }
+    // Constants not fitted keep their status.
+    let ea = &crop.constants["compartments.hull.thin_layer.activation_energy_j_per_mol"];
+    assert_ne!(ea.status, Status::Calibrated);
+    let csv = std::fs::read_to_string(out.join("residuals.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 1 + 13, "{csv}");
+    assert!(std::fs::read_to_string(out.join("measured-vs-model.svg"))
+        .unwrap()
+        .starts_with("<svg"));
+}
+
+#[test]
+fn unknown_constant_is_refused_in_one_line() {
+    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .current_dir(root())
+        .args([
+            "calibrate",
+            "--load",
+            "examples/calibration/bf-load-23.json",
+            "examples/calibration/bf-load-23-samples.csv",
+            "--fit",
+            "oil-content",
+        ])
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2));
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(
+        err.contains("--fit") && err.contains("oil-content"),
+        "{err}"
+    );
+}
