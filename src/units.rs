@@ -137,6 +137,14 @@ impl UnitSystem {
             UnitSystem::Us => format!("{:.2} gal", l / L_PER_GAL),
         }
     }
+    /// A specific airflow (air volume per minute per volume of crop) with its unit. Both systems' units are a
+    /// volume per minute per volume, so the number is the same: m³/min per m³ = cfm per ft³.
+    pub fn specific_airflow(self, per_min: f64) -> String {
+        match self {
+            UnitSystem::Si => format!("{per_min:.2} m³/min per m³"),
+            UnitSystem::Us => format!("{per_min:.2} cfm/ft³"),
+        }
+    }
     /// A length with its unit.
     pub fn length(self, m: f64) -> String {
         match self {

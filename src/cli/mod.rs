@@ -2,6 +2,7 @@
 use clap::{Parser, Subcommand};
 
 pub mod airflow;
+pub mod airflow_fit;
 pub mod demo;
 pub mod dry;
 pub mod progress;
@@ -46,7 +47,8 @@ pub enum Command {
     Compare(dry::CompareArgs),
     /// Run one load from several start times through the weather record.
     Starts(dry::StartsArgs),
-    /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
+    /// Solve the airflow through a loaded container (plenum, floor, bed and fan together); `airflow fit` fits its
+    /// permeability map to a top-surface airflow survey.
     Airflow(airflow::AirflowArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
     #[command(subcommand)]
