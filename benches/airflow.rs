@@ -5,9 +5,11 @@
 use std::path::PathBuf;
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use dryfront::airflow::fit::{fit_survey, FitSettings};
 use dryfront::airflow::{
     solve, AirPath, BedLaw, Container, FanCurve, FlowSpec, Grid, ResistanceLaw, SolverSettings,
 };
+use dryfront::input::survey::read_survey;
 use dryfront::props::psychro::AirState;
 use dryfront::props::resistance::Shedd;
 
@@ -71,7 +73,43 @@ fn bench(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench);
+/// `airflow fit` of the demo survey (`survey-samples/trailer-6m-bramble-fork.csv`: 40 blocks on the 6.4 m
+/// trailer) at the default 32 × 12 × 16 grid, fan `vane-3kw`, the default fit settings and 10 % reading sd.
+/// Target: under 10 s median.
+fn bench_fit(c: &mut Criterion) {
+    let (container, fan) = load();
+    let flow = FlowSpec::Fan(fan);
+    let law = BedLaw {
+        law: ResistanceLaw::Shedd(Shedd {
+            a: 3.80e3,
+            b: 111.0,
+        }),
+        packing_factor: 1.5,
+        horizontal_ratio: 1.0,
+    };
+    let air = AirPath::same(AirState::from_rh(25.0, 0.7, 101_325.0));
+    let settings = SolverSettings::default();
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("survey-samples/trailer-6m-bramble-fork.csv");
+    let survey = read_survey(&path).unwrap();
+    let blocks = survey.blocks_for(&container, settings.grid, 0.10).unwrap();
+    let fs = FitSettings::default();
+    let run = || fit_survey(&container, &blocks, &flow, &law, &air, &settings, &fs).unwrap();
+    let f = run();
+    eprintln!(
+        "fit of {} blocks: {} iterations, {} airflow solves, misfit {:.2}",
+        blocks.len(),
+        f.iterations,
+        f.solves,
+        f.misfit
+    );
+    let mut g = c.benchmark_group("airflow fit");
+    g.sample_size(10);
+    g.bench_function("trailer-6m 40 blocks 32x12x16", |b| b.iter(run));
+    g.finish();
+}
+
+criterion_group!(benches, bench, bench_fit);
 criterion_main!(benches);
 
 // Measured 2026-12-02 on the shared 2-core development machine (load average ≈ 1), command

@@ -184,7 +184,7 @@ pub struct SurveyFit {
     pub history: Vec<FitIteration>,
     /// Final objective Φ.
     pub objective: f64,
-    /// Final data misfit Σ r² (≈ number of blocks when the stated noise is right and the map can match).
+    /// Final data misfit Σ r² (near 0 when there is one multiplier per reading: the map can match every reading).
     pub misfit: f64,
     /// The settings used.
     pub settings: FitSettings,

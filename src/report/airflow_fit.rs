@@ -90,10 +90,10 @@ pub fn fit_human(r: &FitReport<'_>, u: UnitSystem) -> String {
     );
     let _ = writeln!(
         o,
-        "misfit Σ((model − measured)/sd)² = {:.2} over {} readings (about {} if the stated reading sd is right); \
-         with the prior's term {:.2}",
+        "misfit Σ((model − measured)/sd)² = {:.2} over {} readings, {:.2} with the prior's term (one multiplier per \
+         reading can match every reading, so a small misfit says nothing about the noise: the intervals come from \
+         the stated reading sd)",
         f.misfit,
-        f.blocks.len(),
         f.blocks.len(),
         f.objective
     );
