@@ -3,7 +3,7 @@
 //! map; the fit does not depend on the thread count; the README's command fits the demo survey.
 //!
 //! Measured on the 40-block layout (8 × 5, 0.2 m strips along the side walls) at the default grid: noise-free,
-//! largest ln error 3.6e-9 in 5 iterations; with 5 % noise, sd of ln m 0.085–0.105 for every block, the narrow
+//! largest ln error 3.6e-9 in 4 iterations; with 5 % noise, sd of ln m 0.085–0.105 for every block, the narrow
 //! strips included (their own reading fixes them as well as the big blocks'), errors up to 1.7 sd.
 mod common;
 
@@ -163,7 +163,7 @@ fn noise_free_twin_is_fitted_back() {
     let f = fit(&c, &blocks, &flow, DEFAULT_GRID, &fs);
     report(&f, &t);
     assert!(f.converged);
-    // Measured 3.6e-9 (5 iterations): the bound leaves room for the solve's 1e-8 relative tolerance, which sets
+    // Measured 3.6e-9 (4 iterations): the bound leaves room for the solve's 1e-8 relative tolerance, which sets
     // how closely the model's readings can be matched.
     for (b, t) in f.blocks.iter().zip(&t) {
         let err = (b.multiplier / t).ln().abs();

@@ -28,8 +28,9 @@
 //! Iteration: at θ, J = ∂r/∂θ by differences; H = JᵀJ + I/s_p², g = Jᵀr + θ/s_p². Blocks at a bound whose gradient
 //! pushes outward are held; the free ones take the Levenberg–Marquardt step (H + μ·diag H)δ = −g, projected onto
 //! the bounds; a step that does not lower Φ is refused and μ raised ×4, an accepted one lowers μ ÷3. The fit stops
-//! when an accepted step moves no ln m by more than `step_tolerance_ln`, and the covariance C = H⁻¹ is then taken
-//! from a Jacobian computed afresh at the final point.
+//! when an accepted step moves no ln m by more than `step_tolerance_ln` (or no step lowers Φ), and the covariance
+//! C = H⁻¹ is taken from that last iteration's Jacobian, computed at most `step_tolerance_ln` from the final point
+//! (a fresh one there would cost n more solves to change the standard deviations by about that much).
 //!
 //! Confidence per block: sd(ln m_b) = √C_bb, the 95 % interval m·exp(±1.96·sd) (clipped to the bounds), and the
 //! data share 1 − C_bb/s_p²: 1 when the survey alone fixes the block, 0 when only the prior does.
@@ -174,7 +175,7 @@ pub struct FitIteration {
 pub struct SurveyFit {
     /// Per block, in survey order.
     pub blocks: Vec<BlockFit>,
-    /// Iterations (Jacobians) used, the last one at the final point for the covariance.
+    /// Iterations (Jacobians) used; the last one gives the covariance.
     pub iterations: u32,
     /// Airflow solves used.
     pub solves: u32,
@@ -367,7 +368,7 @@ pub fn fit_survey(
     let mut solves = 1u32;
     let mut mu = 1e-3;
     let mut history = Vec::new();
-    let mut converged = false;
+    let mut converged;
     let mut jac;
     let mut iter = 0;
     loop {
@@ -375,16 +376,6 @@ pub fn fit_survey(
         jac = model.jacobian(&theta, &r, fit.fd_step_ln)?;
         solves += n as u32;
         let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
-        if converged || iter > fit.max_iters {
-            history.push(FitIteration {
-                iter,
-                objective: phi,
-                misfit,
-                damping: mu,
-                max_step_ln: 0.0,
-            });
-            break;
-        }
         let step = lm_step(&model, &jac, &theta, &r, phi, &mut mu, fit, (lo, hi), iter)?;
         solves += step.solves;
         history.push(FitIteration {
@@ -401,12 +392,11 @@ pub fn fit_survey(
                 sol = s;
                 r = rr;
             }
-            // No step lowers Φ even at the largest damping: the point is a minimum to the solve's precision,
-            // and the Jacobian just computed is already at it.
-            None => {
-                converged = true;
-                break;
-            }
+            // No step lowers Φ even at the largest damping: the point is a minimum to the solve's precision.
+            None => converged = true,
+        }
+        if converged || iter >= fit.max_iters {
+            break;
         }
     }
     let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
