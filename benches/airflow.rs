@@ -118,3 +118,9 @@ criterion_main!(benches);
 //   144×54×64 (497 664 cells): median 1.84 s (3.7 µs/cell), 19 outer / 44 CG iterations — target 5 s met.
 // With the earlier line-Jacobi preconditioner, same machine and day: 405 ms, 21 outer / 353 CG, and 4.42 s,
 // 24 outer / 808 CG (criterion point estimates).
+//
+// airflow fit (bench_fit), measured 2026-12-03 on the same machine with six other builds running, command
+// `cargo bench --bench airflow -- "airflow fit" --warm-up-time 1 --measurement-time 4`, 10 samples:
+//   40 blocks, 32×12×16: median 14.4 s (11.7–16.8 s) at load average ≈ 11, 4 iterations / 165 airflow solves —
+//   the 10 s target is not met as measured under that load. The command alone, timed by /usr/bin/time in the same
+//   session: 7.6 s wall / 6.5 s CPU on 1 thread.

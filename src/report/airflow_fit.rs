@@ -97,6 +97,13 @@ pub fn fit_human(r: &FitReport<'_>, u: UnitSystem) -> String {
         f.blocks.len(),
         f.objective
     );
+    if f.misfit > 2.0 * f.blocks.len() as f64 {
+        let _ = writeln!(
+            o,
+            "warning: the misfit is over twice the number of readings, so no map within the bounds matches the \
+             survey: check the fan or flow (the readings' total against it), the fill and the reading sd"
+        );
+    }
     let meas = r.specific(|b| b.measured_m_per_s);
     let model = r.specific(|b| b.modelled_m_per_s);
     let _ = writeln!(
