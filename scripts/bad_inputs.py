@@ -353,6 +353,62 @@ warr("unclosed_quote_in_header.csv", 'load_id,"arrival,net_mass_kg\nC001,2026-09
 warr("tab_separated.csv", (ARR_HEAD + arr_row(1)).replace(",", "\t"))
 warr("unterminated_quote.csv", arr(arr_row(1) + '"C002,2026-09-18T14:00:00-04:00,4200,20,\n' + arr_row(3)))
 
+# ---------------------------------------------------------------- airflow survey CSV (airflow fit)
+SURVEY = "airflow fit --survey {file} --container trailer-6m --fan vane-3kw --nx 8 --ny 4 --nz 6"
+SURVEY_HEAD = "block,x0_m,x1_m,y0_m,y1_m,funnel_mouth_m2,reading_m3_per_min\n"
+
+
+def survey_rows(edit=None, drop=None):
+    xs = [0.0, 1.6, 3.2, 4.8, 6.4]
+    ys = [0.0, 1.2, 2.4]
+    rows = []
+    for a in range(4):
+        for b in range(2):
+            r = [f"{'ABCD'[a]}{b + 1}", f"{xs[a]}", f"{xs[a + 1]}", f"{ys[b]}", f"{ys[b + 1]}", "0.25", "2.0"]
+            if edit:
+                edit(len(rows), r)
+            rows.append(r)
+    if drop is not None:
+        del rows[drop]
+    return "".join(",".join(r) + "\n" for r in rows)
+
+
+def survey_cell(row, col, value):
+    def e(k, r):
+        if k == row:
+            r[col] = value
+    return SURVEY_HEAD + survey_rows(e)
+
+
+def wsurvey(name, text):
+    add("survey", name, text, SURVEY)
+
+
+wsurvey("empty.csv", "")
+wsurvey("header_only.csv", SURVEY_HEAD)
+wsurvey("missing_block.csv", SURVEY_HEAD + survey_rows(drop=5))
+wsurvey("negative_reading.csv", survey_cell(3, 6, "-0.4"))
+wsurvey("reading_text.csv", survey_cell(3, 6, "calm"))
+wsurvey("mouth_zero.csv", survey_cell(2, 5, "0"))
+wsurvey("mouth_larger_than_block.csv", survey_cell(2, 5, "2.5"))
+wsurvey("beyond_container.csv", survey_cell(7, 2, "7.0"))
+wsurvey("wider_than_container.csv", survey_cell(7, 4, "3.0"))
+wsurvey("overlap.csv", survey_cell(2, 1, "1.2"))
+wsurvey("x1_before_x0.csv", survey_cell(4, 2, "3.0"))
+wsurvey("duplicate_block.csv", survey_cell(6, 0, "A1"))
+wsurvey("empty_block_name.csv", survey_cell(6, 0, ""))
+wsurvey("missing_reading_column.csv",
+        "".join(",".join(l.split(",")[:6]) + "\n" for l in (SURVEY_HEAD + survey_rows()).splitlines()))
+wsurvey("semicolon.csv", (SURVEY_HEAD + survey_rows()).replace(",", ";"))
+wsurvey("tab_separated.csv", (SURVEY_HEAD + survey_rows()).replace(",", "\t"))
+wsurvey("extra_field.csv", SURVEY_HEAD + survey_rows().replace("D2,4.8,6.4,1.2,2.4,0.25,2.0", "D2,4.8,6.4,1.2,2.4,0.25,2.0,gusty"))
+wsurvey("block_smaller_than_grid.csv",
+        SURVEY_HEAD + survey_rows(lambda k, r: r.__setitem__(3, "0.1") if k in (0, 2, 4, 6) else None)
+        + "".join(f"S{a},{x0},{x1},0.0,0.1,0.05,0.5\n"
+                  for a, (x0, x1) in enumerate([(0.0, 1.6), (1.6, 3.2), (3.2, 4.8), (4.8, 6.4)])))
+wsurvey("not_utf8.csv", (SURVEY_HEAD + survey_rows()).encode().replace(b"C1", b"C\xff"))
+
+
 # ---------------------------------------------------------------- JSON model files
 def load(path):
     with open(os.path.join(ROOT, path)) as f:

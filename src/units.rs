@@ -65,8 +65,6 @@ pub const M_PER_FT: f64 = 0.3048;
 pub const J_PER_BTU: f64 = 1_055.055_852_62;
 /// Kilograms per short ton (2000 lb; exact).
 pub const KG_PER_SHORT_TON: f64 = 907.184_74;
-/// Cubic feet per US bushel (2150.42 in³; exact).
-pub const FT3_PER_BUSHEL: f64 = 2150.42 / 1728.0;
 /// Pascal per inch of mercury (0 °C), NIST SP 811.
 pub const PA_PER_IN_HG: f64 = 3386.389;
 /// Metres per second per mile per hour (exact).
@@ -154,6 +152,15 @@ impl UnitSystem {
             UnitSystem::Us => format!("{:.2} gal", l / L_PER_GAL),
         }
     }
+    /// A specific airflow (air volume per minute per volume of crop) with its unit. Both systems' units are a
+    /// volume per minute per volume, so the number is the same: m³/min per m³ = cfm per ft³, the unit the peanut
+    /// trade quotes fans in (common practice; grain's cfm per bushel is not used for peanut wagons).
+    pub fn specific_airflow(self, per_min: f64) -> String {
+        match self {
+            UnitSystem::Si => format!("{per_min:.2} m³/min per m³"),
+            UnitSystem::Us => format!("{per_min:.2} cfm/ft³"),
+        }
+    }
     /// A length with its unit.
     pub fn length(self, m: f64) -> String {
         match self {
@@ -204,13 +211,6 @@ impl UnitSystem {
         match self {
             UnitSystem::Si => format!("{m3:.1} m³"),
             UnitSystem::Us => format!("{:.0} ft³", m3 / M3_PER_FT3),
-        }
-    }
-    /// Air per volume of peanuts (m³/min per m³) with its unit; cfm per bushel in US units.
-    pub fn specific_airflow(self, m3_per_min_per_m3: f64) -> String {
-        match self {
-            UnitSystem::Si => format!("{m3_per_min_per_m3:.1} m³/min per m³"),
-            UnitSystem::Us => format!("{:.1} cfm/bu", m3_per_min_per_m3 * FT3_PER_BUSHEL),
         }
     }
     /// Energy per mass (per kg of water removed) with its unit.
@@ -435,18 +435,13 @@ mod tests {
     fn nist_sp811_factors() {
         // NIST SP 811 appendix B.8 (rounded values as printed there).
         assert_relative_eq!(J_PER_BTU, 1.055_056e3, max_relative = 1e-6);
-        assert_relative_eq!(
-            FT3_PER_BUSHEL * M3_PER_FT3,
-            3.523_907e-2,
-            max_relative = 1e-6
-        );
         assert_relative_eq!(KG_PER_SHORT_TON, 9.071_847e2, max_relative = 1e-7);
         // 1 BTU_IT/lb = 2.326 kJ/kg exactly (SP 811 B.8, "British thermal unit_IT per pound").
         assert_relative_eq!(J_PER_BTU / KG_PER_LB, 2326.0, max_relative = 1e-12);
         // 1 ft/min = 5.08e-3 m/s exactly.
         assert_eq!(UnitSystem::Us.velocity(5.08e-3 * 100.0), "100.0 ft/min");
         // 10 m³/min per m³ is 12.4 cfm per bushel (1 bu = 1.2445 ft³).
-        assert_eq!(UnitSystem::Us.specific_airflow(10.0), "12.4 cfm/bu");
+        assert_eq!(UnitSystem::Us.specific_airflow(10.0), "10.00 cfm/ft³");
         // 1 L/t = 0.2397 gal/ton (907.18 kg per ton, 3.7854 L per gal).
         assert_eq!(UnitSystem::Us.fuel_per_mass(100.0, "L"), "23.97 gal/ton");
         assert_eq!(UnitSystem::Us.specific_energy(2326.0), "1000 BTU/lb");

@@ -22,6 +22,7 @@ fn inputs(dir: &Path) -> PathBuf {
     copy("models/containers/trailer-6m.json", "container.json");
     copy("models/fans/vane-3kw.json", "fan.json");
     copy("weather-samples/cypress-neck-stats.json", "stats.json");
+    copy("survey-samples/trailer-6m-bramble-fork.csv", "survey.csv");
     let scenario = std::fs::read_to_string(root().join("models/scenarios/demo-load.json"))
         .unwrap()
         .replace(
@@ -90,6 +91,19 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
                 "4".into(),
                 "--nz".into(),
                 "6".into(),
+            ],
+        ),
+        (
+            "airflow fit",
+            vec![
+                "airflow".into(),
+                "fit".into(),
+                "--survey".into(),
+                p("survey.csv"),
+                "--container".into(),
+                p("container.json"),
+                "--fan".into(),
+                p("fan.json"),
             ],
         ),
         (
@@ -178,6 +192,13 @@ fn no_command_writes_over_what_it_reads() {
         refused(&args, Path::new(read), &format!("{name} --out {read}"));
         assert_eq!(bytes(&d), before, "{name}: inputs unchanged");
     }
+    // `airflow fit` reads a CSV besides its JSON files: the survey itself as the output folder.
+    let (_, fit) = commands(&d)
+        .into_iter()
+        .find(|(n, _)| *n == "airflow fit")
+        .unwrap();
+    refused(&fit, &d.join("survey.csv"), "airflow fit --out survey.csv");
+    assert_eq!(bytes(&d), before, "airflow fit: inputs unchanged");
     // `weather summary --out FILE` writes files, not a folder: the weather file, directly and by link and `..`.
     let summary = |out: PathBuf| {
         let args = vec![

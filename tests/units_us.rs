@@ -8,8 +8,8 @@
 use std::process::Command;
 
 use dryfront::units::{
-    FT3_PER_BUSHEL, J_PER_BTU, KG_PER_LB, KG_PER_SHORT_TON, L_PER_GAL, M3_PER_FT3, MM_PER_IN,
-    M_PER_FT, PA_PER_IN_HG, PA_PER_IN_WATER,
+    J_PER_BTU, KG_PER_LB, KG_PER_SHORT_TON, L_PER_GAL, M3_PER_FT3, MM_PER_IN, M_PER_FT,
+    PA_PER_IN_HG, PA_PER_IN_WATER,
 };
 
 fn run(args: &[&str], _dir: &std::path::Path) -> String {
@@ -71,7 +71,7 @@ fn convert(si: &str, us: &str, v: f64) -> Option<(f64, f64)> {
         ("Pa", "in") => lin(1.0 / PA_PER_IN_WATER),
         ("kPa", "in") => lin(1000.0 / PA_PER_IN_HG),
         ("m³/min", "cfm") => lin(1.0 / M3_PER_FT3),
-        ("m³/min", "cfm/bu") => lin(FT3_PER_BUSHEL),
+        ("m³/min", "cfm/ft³") => lin(1.0),
         ("kg", "lb") => lin(1.0 / KG_PER_LB),
         ("L", "gal") => lin(1.0 / L_PER_GAL),
         ("L/t", "gal/ton") => lin(KG_PER_SHORT_TON / 1000.0 / L_PER_GAL),

@@ -1,12 +1,14 @@
 //! Airflow through a drying trailer: plenum, floor, bed and fan solved together, giving the airflow through every
 //! column of a load. `geometry` describes the container, `bed` the 3-D porous-flow discretisation and its linear
 //! solver, `plenum` the dividing-flow manifold under the floor, `fan` the fan curve and leakage, `path` the ambient
-//! and plenum air each part is solved at, and `solve` the coupled iteration and its `AirflowSolution`.
+//! and plenum air each part is solved at, `solve` the coupled iteration and its `AirflowSolution`, and `fit` the
+//! permeability map fitted to a top-surface airflow survey.
 //!
 //! References: Shedd (1953) / ASAE D272 for the bed law; DOMAIN.md §1.4 (floor), §1.6 (solver), §8.1 (fans).
 
 pub mod bed;
 pub mod fan;
+pub mod fit;
 pub mod geometry;
 mod mg;
 pub mod path;

@@ -20,7 +20,7 @@ use std::path::{Path, PathBuf};
 use anyhow::Context;
 
 use crate::airflow::{
-    solve, AirPath, Container, FanCurve, FanPosition, Fill, FlowSpec, Grid, PlenumModel,
+    solve, AirPath, BedLaw, Container, FanCurve, FanPosition, Fill, FlowSpec, Grid, PlenumModel,
     SolverSettings,
 };
 use crate::error::{check_range, InputError};
@@ -40,20 +40,33 @@ pub enum FillShape {
     Sloped,
 }
 
-/// Arguments of `dryfront airflow` (boxed, so the subcommand enum stays small).
+/// Arguments of `dryfront airflow` (boxed, so the subcommand enum stays small): the options of one solve, or
+/// `fit` and its own.
 #[derive(Debug, clap::Args)]
+#[command(args_conflicts_with_subcommands = true, subcommand_negates_reqs = true)]
 pub struct AirflowArgs {
+    /// `fit` (without it: solve the airflow once).
+    #[command(subcommand)]
+    pub command: Option<AirflowCommand>,
     /// The options.
     #[command(flatten)]
     pub opts: Box<AirflowOptions>,
+}
+
+/// The subcommands of `dryfront airflow`.
+#[derive(Debug, clap::Subcommand)]
+pub enum AirflowCommand {
+    /// Fit a permeability multiplier to each block of a top-surface airflow survey (regularised least squares
+    /// within bounds) and write the container with the fitted map, residuals, maps and confidence figures.
+    Fit(super::airflow_fit::FitArgs),
 }
 
 /// The options of `dryfront airflow`.
 #[derive(Debug, clap::Args)]
 pub struct AirflowOptions {
     /// Container name (in MODELS/containers) or path to its JSON file.
-    #[arg(long)]
-    pub container: String,
+    #[arg(long, required = true)]
+    pub container: Option<String>,
     /// Fan name (in MODELS/fans) or path: the flow is where its curve, at the air the fan draws (its file's
     /// `position`: ambient air ahead of the burner, the default, or heated air after it), meets the load's.
     #[arg(
@@ -165,11 +178,46 @@ fn mean_depth(c: &Container) -> f64 {
     }
 }
 
-/// Run the airflow solve.
-pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
-    let args = *args.opts;
+/// Everything one solve needs, loaded and checked from the options.
+pub(crate) struct Loaded {
+    /// The container (fill overridden from the options when asked).
+    pub container: Container,
+    /// The bed's law, packing and wet factor included.
+    pub law: BedLaw,
+    /// Fan or fixed flow.
+    pub flow: FlowSpec,
+    /// Every file read (container, crop, fan): outputs may not touch them.
+    pub inputs: Vec<PathBuf>,
+    /// Ambient and plenum air.
+    pub air: AirPath,
+    /// Solver settings from the options.
+    pub settings: SolverSettings,
+    used: Used,
+}
+
+impl Loaded {
+    /// The air states and bed moisture, printed.
+    pub fn human(&self, u: UnitSystem) -> String {
+        self.used.human(u)
+    }
+
+    /// What the solve ran with, as written to the JSON records.
+    pub fn run_json(&self) -> anyhow::Result<(serde_json::Value, serde_json::Value)> {
+        Ok((
+            serde_json::to_value(self.used.air)?,
+            serde_json::to_value(self.used.bed)?,
+        ))
+    }
+}
+
+/// Read and check the container, crop and fan the options name, and the air, bed moisture and grid.
+pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
     let models = args.models.as_deref();
-    let container_path = resolve(models, "containers", &args.container, "--container")?;
+    let name = args
+        .container
+        .as_deref()
+        .context("--container is required")?;
+    let container_path = resolve(models, "containers", name, "--container")?;
     let mut container = Container::from_json_str(&read(&container_path)?, &container_path)?;
     let crop_path = resolve(models, "crops", &args.crop, "--crop")?;
     let crop = Crop::from_json_str(&read(&crop_path)?, &crop_path)?;
@@ -177,35 +225,7 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
     if let Some(p) = args.packing {
         law.packing_factor = check_range("--packing", p, 0.1, 10.0, "")?;
     }
-    if let Some(shape) = args.fill {
-        let mean = match args.depth_m {
-            Some(d) => check_range("--depth-m", d, 0.01, container.wall_height_m, "m")?,
-            None => mean_depth(&container),
-        };
-        container.fill = match shape {
-            FillShape::Level => Fill::Level { depth_m: mean },
-            FillShape::Crowned => {
-                let crown = check_range("--crown-m", args.crown_m, 0.0, 10.0, "m")?;
-                let edge = mean - 4.0 / 9.0 * crown;
-                Fill::Crowned {
-                    edge_depth_m: edge,
-                    peak_depth_m: edge + crown,
-                }
-            }
-            FillShape::Sloped => {
-                let slope = check_range("--slope-m", args.slope_m, -10.0, 10.0, "m")?;
-                Fill::Sloped {
-                    front_depth_m: mean - 0.5 * slope,
-                    rear_depth_m: mean + 0.5 * slope,
-                }
-            }
-        };
-        container
-            .validate(&container_path)
-            .context("the fill chosen on the command line does not fit this container")?;
-    } else if args.depth_m.is_some() {
-        anyhow::bail!("--depth-m needs --fill level|crowned|sloped");
-    }
+    override_fill(args, &mut container, &container_path)?;
     let flow_m3_min = args.flow_m3_min.or(args
         .flow_cfm
         .map(|q| UnitSystem::Us.flow_to_si_m3_per_min(q)));
@@ -245,7 +265,7 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
         crate::input::limits::AIRFLOW_BYTES_PER_CELL,
         1.0,
     )?;
-    let air = air_path(&args)?;
+    let air = air_path(args)?;
     let bed = BedMoisture::new(&crop, args.bed_kernel_moisture_pct, air.ambient.t_c)?;
     law.packing_factor *= bed.d272_wet_factor;
     let settings = SolverSettings {
@@ -261,28 +281,85 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
         },
         ..SolverSettings::default()
     };
-    let sol = solve(&container, &flow, &law, &air, &settings)?;
     let used = Used::new(&air, &flow, bed);
-    let printed = used.human(args.units) + &human_summary(&container, &flow, &sol, args.units);
+    Ok(Loaded {
+        container,
+        law,
+        flow,
+        inputs,
+        air,
+        settings,
+        used,
+    })
+}
+
+/// Replace the container's fill by the one the options ask for.
+fn override_fill(
+    args: &AirflowOptions,
+    container: &mut Container,
+    container_path: &Path,
+) -> anyhow::Result<()> {
+    if let Some(shape) = args.fill {
+        let mean = match args.depth_m {
+            Some(d) => check_range("--depth-m", d, 0.01, container.wall_height_m, "m")?,
+            None => mean_depth(container),
+        };
+        container.fill = match shape {
+            FillShape::Level => Fill::Level { depth_m: mean },
+            FillShape::Crowned => {
+                let crown = check_range("--crown-m", args.crown_m, 0.0, 10.0, "m")?;
+                let edge = mean - 4.0 / 9.0 * crown;
+                Fill::Crowned {
+                    edge_depth_m: edge,
+                    peak_depth_m: edge + crown,
+                }
+            }
+            FillShape::Sloped => {
+                let slope = check_range("--slope-m", args.slope_m, -10.0, 10.0, "m")?;
+                Fill::Sloped {
+                    front_depth_m: mean - 0.5 * slope,
+                    rear_depth_m: mean + 0.5 * slope,
+                }
+            }
+        };
+        container
+            .validate(container_path)
+            .context("the fill chosen on the command line does not fit this container")?;
+    } else if args.depth_m.is_some() {
+        anyhow::bail!("--depth-m needs --fill level|crowned|sloped");
+    }
+    Ok(())
+}
+
+/// Run the airflow solve, or `fit`.
+pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
+    if let Some(AirflowCommand::Fit(f)) = args.command {
+        return super::airflow_fit::run(f);
+    }
+    let args = *args.opts;
+    let l = load(&args)?;
+    let sol = solve(&l.container, &l.flow, &l.law, &l.air, &l.settings)?;
+    let printed = l.human(args.units) + &human_summary(&l.container, &l.flow, &sol, args.units);
     print!("{printed}");
     if let Some(dir) = &args.out {
+        let (air, bed) = l.run_json()?;
         let run = AirflowRun {
-            law: &law,
-            settings: &settings,
-            air: serde_json::to_value(used.air)?,
-            bed: serde_json::to_value(used.bed)?,
+            law: &l.law,
+            settings: &l.settings,
+            air,
+            bed,
         };
-        let mut set: OutputSet = airflow_outputs(&container, &flow, &run, &sol, args.units);
+        let mut set: OutputSet = airflow_outputs(&l.container, &l.flow, &run, &sol, args.units);
         let page = airflow_page(
-            &container,
+            &l.container,
             &sol,
             args.units,
             &set,
             printed,
-            super::inputs_as_run(&inputs)?,
+            super::inputs_as_run(&l.inputs)?,
         );
         set.add("report.html", page.render());
-        set.commit(dir, &inputs, args.replace)?;
+        set.commit(dir, &l.inputs, args.replace)?;
         println!("wrote report.html, columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
     }
     Ok(())

@@ -2,6 +2,7 @@
 use clap::{Parser, Subcommand};
 
 pub mod airflow;
+pub mod airflow_fit;
 pub mod calibrate;
 pub mod demo;
 pub mod dry;
@@ -47,7 +48,8 @@ pub enum Command {
     Compare(dry::CompareArgs),
     /// Run one load from several start times through the weather record.
     Starts(dry::StartsArgs),
-    /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
+    /// Solve the airflow through a loaded container (plenum, floor, bed and fan together); `airflow fit` fits its
+    /// permeability map to a top-surface airflow survey.
     Airflow(airflow::AirflowArgs),
     /// Fit a crop's drying constants to moisture samples of real loads and write the calibrated crop file.
     Calibrate(calibrate::CalibrateArgs),

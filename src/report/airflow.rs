@@ -87,7 +87,7 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
 }
 
 /// The good-practice advice on a solved container: its air per m³ of peanuts and how full it is.
-fn airflow_advice(c: &Container, s: &AirflowSolution) -> Vec<crate::advice::Advice> {
+pub fn airflow_advice(c: &Container, s: &AirflowSolution) -> Vec<crate::advice::Advice> {
     let sm = &s.summary;
     let fill = sm.bed_volume_m3 / (c.floor_area_m2() * c.wall_height_m);
     crate::advice::airflow_advice(sm.specific_airflow_m3_per_min_per_m3, fill)
