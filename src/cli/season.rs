@@ -641,10 +641,11 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
             set.add(&name, shard_json(&ShardFile::new(setup, shard, &runs)));
             set.commit(&a.out, &inputs, a.replace)?;
             println!(
-                "{}: shard {shard}: {} of the {} cases × {} seasons runs in {}; put the {} shards together with \
-                 `dryfront season merge`",
+                "{}: shard {shard}: {} of the sweep's {} runs ({} cases × {} seasons) in {}; put the {} shards together \
+                 with `dryfront season merge`",
                 bp.name,
                 runs.len(),
+                grid.cases().len() * a.seasons,
                 grid.cases().len(),
                 a.seasons,
                 a.out.join(&name).display(),
