@@ -4,6 +4,9 @@
 //! model, the demo season's weather, the airflow solved at each load's start, the season's coarse 4×2×10 grid).
 //! Loads per second = loads / median.
 //!
+//! The deep-bed seasons run inside one pool (as the command does), with the loads dried in order and with
+//! look-ahead (several at once), side by side.
+//!
 //! Run: `cargo bench --bench season -- --warm-up-time 1 --measurement-time 2`.
 
 #[path = "../tests/season_support/mod.rs"]
@@ -16,7 +19,7 @@ use dryfront::input::season::{read_buying_point, season_template, SeasonRunSetti
 use dryfront::season::arrivals::{generate, ArrivalParams};
 use dryfront::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use dryfront::season::drier::{DeepBedDrier, FixedTimeDrier};
-use dryfront::season::sim::simulate;
+use dryfront::season::sim::{simulate, simulate_with};
 use season_support::*;
 
 fn pred() -> MoistureRatePredictor {
@@ -82,6 +85,7 @@ fn deep_bed(c: &mut Criterion) {
     )
     .unwrap();
     let drier = DeepBedDrier { template };
+    let pool = rayon::ThreadPoolBuilder::new().build().unwrap();
     let mut g = c.benchmark_group("season deep-bed 4x2x10");
     g.sample_size(10);
     for loads in [150, 600] {
@@ -91,23 +95,32 @@ fn deep_bed(c: &mut Criterion) {
         p.mass_mean_kg = 3800.0;
         let ls = generate(&p, 1).unwrap();
         g.throughput(Throughput::Elements(loads as u64));
-        g.bench_with_input(
-            BenchmarkId::new("30 dryers", format!("{loads} loads")),
-            &ls,
-            |b, ls| {
-                b.iter(|| {
-                    simulate(
-                        &bp,
-                        ls,
-                        &drier,
-                        DispatchPolicy::WaitLimit,
-                        &pred(),
-                        bp.season.end(),
-                    )
-                    .unwrap()
-                })
-            },
-        );
+        // Inside one pool, as the command runs: loads dried one after another, and several at once (look-ahead).
+        for (name, ahead) in [
+            ("30 dryers, in order", false),
+            ("30 dryers, look-ahead", true),
+        ] {
+            g.bench_with_input(
+                BenchmarkId::new(name, format!("{loads} loads")),
+                &ls,
+                |b, ls| {
+                    b.iter(|| {
+                        pool.install(|| {
+                            simulate_with(
+                                &bp,
+                                ls,
+                                &drier,
+                                DispatchPolicy::WaitLimit,
+                                &pred(),
+                                bp.season.end(),
+                                ahead,
+                            )
+                            .unwrap()
+                        })
+                    })
+                },
+            );
+        }
     }
     g.finish();
 }

@@ -379,6 +379,7 @@ impl BedSystem {
         }
         self.matvec(x, ap);
         r.par_iter_mut()
+            .with_min_len(BLOCK)
             .zip(b.par_iter().zip(ap.par_iter()))
             .for_each(|(ri, (bi, ai))| *ri = bi - ai);
         let mut rnorm = dot(r, r).sqrt();
@@ -396,9 +397,11 @@ impl BedSystem {
             let pap = dot(p, ap);
             let alpha = rz / pap;
             x.par_iter_mut()
+                .with_min_len(BLOCK)
                 .zip(p.par_iter())
                 .for_each(|(xi, pi)| *xi += alpha * pi);
             r.par_iter_mut()
+                .with_min_len(BLOCK)
                 .zip(ap.par_iter())
                 .for_each(|(ri, ai)| *ri -= alpha * ai);
             rnorm = dot(r, r).sqrt();
@@ -413,6 +416,7 @@ impl BedSystem {
             let beta = rz_new / rz;
             rz = rz_new;
             p.par_iter_mut()
+                .with_min_len(BLOCK)
                 .zip(z.par_iter())
                 .for_each(|(pi, zi)| *pi = zi + beta * *pi);
         }

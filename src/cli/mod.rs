@@ -74,8 +74,17 @@ pub(crate) fn inputs_as_run(
         .collect()
 }
 
-/// Run one parsed command line.
+/// Run one parsed command line inside one worker pool, entered once: every parallel loop below then starts on a
+/// pool thread, so a loop too small to split runs where it is instead of being handed from the main thread to the
+/// pool and back (the pool's size follows `RAYON_NUM_THREADS`, else the core count).
 pub fn run(args: Args) -> anyhow::Result<()> {
+    let pool = rayon::ThreadPoolBuilder::new()
+        .build()
+        .map_err(|e| anyhow::anyhow!("could not start the worker threads: {e}"))?;
+    pool.install(|| run_command(args))
+}
+
+fn run_command(args: Args) -> anyhow::Result<()> {
     match args.command {
         Command::Demo(a) => demo::run(a),
         Command::Props(c) => props::run(c),

@@ -11,21 +11,24 @@ use crate::airflow::geometry::Grid;
 use crate::crop::Crop;
 use crate::drying::heater::{SafetyLimits, StrategySpec};
 use crate::input::season::{
-    read_arrivals_csv, read_buying_point, season_template, SeasonRunSettings,
+    read_arrivals_csv, read_buying_point, read_shard, season_template, SeasonRunSettings,
 };
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::report::output::{check_target, OutputSet};
 use crate::report::season::{
-    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, season_page, sweep_answer,
-    sweep_csv, sweep_page,
+    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, season_page, shard_json,
+    sweep_answer, sweep_csv, sweep_page,
 };
 use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
 use crate::season::kpi::{daily, kpis};
 use crate::season::scenario::BuyingPoint;
+use crate::season::shard::{digest, merge, ShardFile, SweepSetup};
 use crate::season::sim::simulate;
-use crate::season::sweep::{season_seed, sweep, SeasonInputs, SweepGrid};
+use crate::season::sweep::{
+    assemble, season_seed, sweep_shard, CaseResult, SeasonInputs, Shard, SweepGrid,
+};
 use crate::units::UnitSystem;
 use crate::weather::series::{ReadOptions, WeatherSeries};
 use crate::weather::synth::{generate_seasons, ClimateStats, SeasonPlan};
@@ -37,6 +40,25 @@ pub enum SeasonCommand {
     Run(RunArgs),
     /// Run many dryer counts, policies and heater strategies over many seeded seasons.
     Sweep(SweepArgs),
+    /// Put the shard files of a sweep run with `--shard K/N` back together into the sweep's own result.
+    Merge(MergeArgs),
+}
+
+/// Arguments of `dryfront season merge`.
+#[derive(Debug, clap::Args)]
+pub struct MergeArgs {
+    /// Every shard file of one sweep (`sweep-shard-K-of-N.json`), in any order.
+    #[arg(required = true)]
+    pub shards: Vec<PathBuf>,
+    /// Folder for the merged result (the sweep's `sweep.csv`, as a single-machine sweep writes it).
+    #[arg(long)]
+    pub out: PathBuf,
+    /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
+    #[arg(long)]
+    pub replace: bool,
+    /// Units for everything printed (`us`: short tons, lb, gal); files stay SI.
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
 }
 
 /// Which drier dries each load.
@@ -223,6 +245,10 @@ pub struct SweepArgs {
     /// Units for everything printed (`us`: short tons, lb, gal, °F set-points in --heaters); files stay SI.
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
+    /// Run only shard K of N of the sweep's (case, season) runs (1 ≤ K ≤ N) and write them as
+    /// `sweep-shard-K-of-N.json`; `season merge` puts the N shard files together into the sweep's result.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
 }
 
 fn parse_policy(s: &str) -> Result<DispatchPolicy, String> {
@@ -393,6 +419,7 @@ pub fn run(cmd: SeasonCommand) -> anyhow::Result<()> {
     match cmd {
         SeasonCommand::Run(a) => run_one(a),
         SeasonCommand::Sweep(a) => run_sweep(a),
+        SeasonCommand::Merge(a) => run_merge(a),
     }
 }
 
@@ -524,6 +551,7 @@ pub fn season_run(a: &RunArgs) -> anyhow::Result<(OutputSet, Vec<PathBuf>)> {
 }
 
 fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
+    let shard = a.shard.as_deref().map(Shard::parse).transpose()?;
     let bp = read_buying_point(&a.scenario)?;
     let counts = parse_counts(&a.dryers)?;
     let policies: Vec<DispatchPolicy> = a
@@ -593,48 +621,132 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         policies: policies.clone(),
         heaters: heaters.clone(),
     };
+    let setup = SweepSetup {
+        args: format!(
+            "dryers={} policies={} heaters={} force={} seasons={} seed={} loads={} rain_days={} drier={:?} \
+             weather_stats={} models={:?}",
+            a.dryers,
+            a.policies,
+            a.heaters,
+            a.force,
+            a.seasons,
+            a.seed,
+            a.loads,
+            a.rain_days,
+            a.drier,
+            a.weather_stats.is_some(),
+            a.models
+        ),
+        inputs_digest: inputs_digest(&inputs)?,
+        name: bp.name.clone(),
+        currency: bp.prices.currency.clone(),
+        max_wait_h: bp.rules.max_wait_h,
+        dryer_counts: grid.dryer_counts.clone(),
+        policies: policies.iter().map(|p| p.name().to_string()).collect(),
+        heaters: heaters.iter().map(heater_text).collect(),
+        seasons: a.seasons,
+        loads: a.loads,
+        seed: a.seed,
+        drier_note: drier_note(a.drier).into(),
+    };
     let bar = super::progress::Progress::new("season sweep", 0);
     let progress = |done: usize, total: usize| bar.show(done, total);
-    let res = sweep(
+    let runs = sweep_shard(
         &bp,
         &grid,
         a.seasons,
         &season_inputs,
         &predictor(&bp),
         &progress,
+        shard.unwrap_or(Shard::WHOLE),
     )?;
+    let mut set = OutputSet::new();
+    match shard {
+        Some(shard) => {
+            let name = format!("sweep-shard-{}-of-{}.json", shard.index + 1, shard.count);
+            set.add(&name, shard_json(&ShardFile::new(setup, shard, &runs)));
+            set.commit(&a.out, &inputs, a.replace)?;
+            println!(
+                "{}: shard {shard}: {} of the sweep's {} runs ({} cases × {} seasons) in {}; put the {} shards together \
+                 with `dryfront season merge`",
+                bp.name,
+                runs.len(),
+                grid.cases().len() * a.seasons,
+                grid.cases().len(),
+                a.seasons,
+                a.out.join(&name).display(),
+                shard.count
+            );
+        }
+        None => {
+            let res =
+                assemble(&grid, a.seasons, &runs).expect("the whole sweep holds every run once");
+            write_sweep(&setup, &grid, &res, (&inputs, &a.out, a.replace), a.units)?;
+        }
+    }
+    Ok(())
+}
+
+fn run_merge(a: MergeArgs) -> anyhow::Result<()> {
+    let mut files = Vec::with_capacity(a.shards.len());
+    for path in &a.shards {
+        let (file, _) = read_shard(path)?;
+        files.push((path.clone(), file));
+    }
+    let (setup, grid, res) = merge(&files)?;
+    write_sweep(&setup, &grid, &res, (&a.shards, &a.out, a.replace), a.units)
+}
+
+/// A heater of the sweep as its table names it.
+fn heater_text(h: &Option<StrategySpec>) -> String {
+    h.map(|h| h.to_string())
+        .unwrap_or_else(|| "scenario".into())
+}
+
+/// The check that shards read the same inputs: a digest of every input file's bytes.
+fn inputs_digest(inputs: &[PathBuf]) -> anyhow::Result<String> {
+    let bytes = inputs
+        .iter()
+        .map(|p| std::fs::read(p).with_context(|| format!("cannot read {}", p.display())))
+        .collect::<anyhow::Result<Vec<_>>>()?;
+    Ok(digest(bytes.iter().map(Vec::as_slice)))
+}
+
+/// A whole sweep's result, from one machine or merged shards: `sweep.csv` and `report.html` written over
+/// (`inputs`, `out`, `replace`), and the answer on screen.
+fn write_sweep(
+    setup: &SweepSetup,
+    grid: &SweepGrid,
+    res: &[CaseResult],
+    (inputs, out, replace): (&[PathBuf], &Path, bool),
+    units: UnitSystem,
+) -> anyhow::Result<()> {
     let head = format!(
         "{}: {} cases × {} seasons of {} loads (seed {})\n{}\n",
-        bp.name,
+        setup.name,
         res.len(),
-        a.seasons,
-        a.loads,
-        a.seed,
-        drier_note(a.drier)
+        setup.seasons,
+        setup.loads,
+        setup.seed,
+        setup.drier_note
     );
-    let answer = sweep_answer(
-        &res,
-        &grid,
-        bp.rules.max_wait_h,
-        &bp.prices.currency,
-        a.units,
-    );
+    let answer = sweep_answer(res, grid, setup.max_wait_h, &setup.currency, units);
     let mut set = OutputSet::new();
-    set.add("sweep.csv", sweep_csv(&res, &bp.prices.currency));
+    set.add("sweep.csv", sweep_csv(res, &setup.currency));
     let page = sweep_page(
-        &bp.name,
-        &res,
-        a.seasons,
-        bp.rules.max_wait_h,
+        &setup.name,
+        res,
+        setup.seasons,
+        setup.max_wait_h,
         format!("{head}{answer}"),
-        super::inputs_as_run(&inputs)?,
+        super::inputs_as_run(inputs)?,
     );
     set.add("report.html", page.render());
-    set.commit(&a.out, &inputs, a.replace)?;
+    set.commit(out, inputs, replace)?;
     print!("{head}{answer}");
     println!(
         "P10/P50/P90 of every figure per case in {}",
-        a.out.join("sweep.csv").display()
+        out.join("sweep.csv").display()
     );
     Ok(())
 }

@@ -130,3 +130,16 @@ pub fn season_template(
     };
     Ok((template, inputs))
 }
+
+/// Read a sweep shard file and check it on its own (the merge checks that shards belong together); errors name the
+/// file, the field and, where found, its line.
+pub fn read_shard(
+    path: &Path,
+) -> Result<(crate::season::shard::ShardFile, crate::season::sweep::Shard), InputError> {
+    let text = read_text(path)?;
+    let file: crate::season::shard::ShardFile = crate::input::parse_json(path, &text)?;
+    match file.check(path) {
+        Ok((shard, _)) => Ok((file, shard)),
+        Err(e) => Err(crate::input::with_json_line(e, path, &text)),
+    }
+}

@@ -6,6 +6,7 @@ use crate::drying::heater::StrategySpec;
 use crate::season::arrivals::Load;
 use crate::season::kpi::{DayRow, Kpis, KPI_FIELDS};
 use crate::season::scenario::BuyingPoint;
+use crate::season::shard::ShardFile;
 use crate::season::sim::{hours_between, SeasonRun};
 use crate::season::sweep::{smallest_holding, CaseResult, SweepGrid};
 use crate::units::UnitSystem;
@@ -115,6 +116,13 @@ pub fn sweep_csv(results: &[CaseResult], currency: &str) -> String {
     }
     let bytes = w.into_inner().expect("writing to memory cannot fail");
     String::from_utf8(bytes).expect("every cell is UTF-8")
+}
+
+/// A sweep shard's partial result as JSON (read back by `input::season::read_shard`).
+pub fn shard_json(file: &ShardFile) -> String {
+    let mut text = serde_json::to_string_pretty(file).expect("a shard file is plain data");
+    text.push('\n');
+    text
 }
 
 /// Write loads back as an arrivals CSV (the format [`crate::season::arrivals::parse_arrivals_csv`] reads).

@@ -81,6 +81,30 @@ pub const KPI_FIELDS: [(&str, &str); 16] = [
 ];
 
 impl Kpis {
+    /// The figures back from [`values`](Self::values) (as a sweep shard keeps them); `None` if a count is not a
+    /// whole non-negative number.
+    pub fn from_values(v: &[f64; 16]) -> Option<Self> {
+        let count = |x: f64| (x >= 0.0 && x.fract() == 0.0 && x < 1e15).then_some(x as usize);
+        Some(Kpis {
+            loads_arrived: count(v[0])?,
+            loads_dried: count(v[1])?,
+            loads_unfinished: count(v[2])?,
+            mean_wait_h: v[3],
+            p95_wait_h: v[4],
+            max_wait_h: v[5],
+            loads_over_wait_limit: count(v[6])?,
+            utilisation_pct: v[7],
+            tonnes_per_dryer_day: v[8],
+            tonnes_dried: v[9],
+            propane_l: v[10],
+            propane_l_per_tonne: v[11],
+            fan_kwh: v[12],
+            shrink_kg: v[13],
+            shrink_value: v[14],
+            total_cost: v[15],
+        })
+    }
+
     /// The figures in [`KPI_FIELDS`] order.
     pub fn values(&self) -> [f64; 16] {
         [

@@ -12,6 +12,7 @@ pub mod dispatch;
 pub mod drier;
 pub mod kpi;
 pub mod scenario;
+pub mod shard;
 pub mod sim;
 pub mod sweep;
 

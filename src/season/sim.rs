@@ -8,9 +8,10 @@
 //! Method: next-event time advance (a textbook discrete-event simulation; no external reference).
 
 use std::cmp::Reverse;
-use std::collections::BinaryHeap;
+use std::collections::{BinaryHeap, HashMap};
 
 use chrono::{DateTime, Duration, FixedOffset};
+use rayon::prelude::*;
 
 use super::arrivals::Load;
 use super::dispatch::{choose, DispatchPolicy, Predictor, Waiting};
@@ -122,6 +123,23 @@ pub fn simulate(
     predictor: &dyn Predictor,
     season_end: DateTime<FixedOffset>,
 ) -> Result<SeasonRun, SeasonError> {
+    simulate_with(
+        bp,
+        loads,
+        drier,
+        policy,
+        predictor,
+        season_end,
+        rayon::current_num_threads() > 1,
+    )
+}
+
+/// The season's inputs as [`simulate`] requires them.
+fn check_season(
+    bp: &BuyingPoint,
+    loads: &[Load],
+    season_end: DateTime<FixedOffset>,
+) -> Result<(), SeasonError> {
     if bp.dryers.is_empty() {
         return Err(InputError::argument("dryers", 0, "a season needs at least one dryer").into());
     }
@@ -155,119 +173,283 @@ pub fn simulate(
             .into());
         }
     }
-    let turnaround = duration_h(bp.turnaround_h);
-    let mut heap: BinaryHeap<Reverse<(DateTime<FixedOffset>, u64, Event)>> = BinaryHeap::new();
-    let mut seq = 0u64;
-    for (i, l) in loads.iter().enumerate() {
-        heap.push(Reverse((l.arrival, seq, Event::Arrival(i))));
-        seq += 1;
-    }
-    let n = bp.dryers.len();
-    let mut free = vec![true; n];
-    let mut queue: Vec<Waiting> = Vec::new();
-    let mut schedule = Vec::with_capacity(loads.len());
-    let mut log: Vec<QueueSample> = Vec::new();
-    let mut open_pending: Option<DateTime<FixedOffset>> = None;
-    let start = loads
-        .first()
-        .map(|l| l.arrival.min(bp.season.start))
-        .unwrap_or(bp.season.start);
+    Ok(())
+}
 
-    while let Some(Reverse((t, _, ev))) = heap.pop() {
-        let mut batch = vec![ev];
-        while let Some(Reverse((t2, _, ev2))) = heap.peek().copied() {
-            if t2 != t {
-                break;
-            }
-            heap.pop();
-            batch.push(ev2);
-        }
-        for ev in batch {
-            match ev {
-                Event::Arrival(i) => queue.push(Waiting {
-                    index: i,
-                    load: &loads[i],
-                }),
-                Event::Release(d) => free[d] = true,
-                Event::Open => {}
-            }
-        }
-        if open_pending == Some(t) {
-            open_pending = None;
-        }
-        if t < season_end && !queue.is_empty() && free.iter().any(|&f| f) {
-            if bp.is_open(t) {
-                for (d, dryer) in bp.dryers.iter().enumerate() {
-                    if !free[d] {
-                        continue;
+/// [`simulate`] with the loads dried one after another on this thread (`ahead == false`; for callers that already
+/// run many seasons in parallel) or several at once on the pool (`ahead == true`). The results are the same.
+pub fn simulate_with(
+    bp: &BuyingPoint,
+    loads: &[Load],
+    drier: &dyn LoadDrier,
+    policy: DispatchPolicy,
+    predictor: &dyn Predictor,
+    season_end: DateTime<FixedOffset>,
+    ahead: bool,
+) -> Result<SeasonRun, SeasonError> {
+    check_season(bp, loads, season_end)?;
+    let season = Season {
+        bp,
+        loads,
+        policy,
+        predictor,
+        season_end,
+    };
+    if !ahead {
+        let mut ask =
+            |i: usize, d: usize, t| drier.dry(&loads[i], &bp.dryers[d], t).map(Answer::Known);
+        return Ok(season
+            .pass(&mut ask)?
+            .expect("a pass that never stops completes"));
+    }
+    season.speculate(drier, 2 * rayon::current_num_threads())
+}
+
+/// What a pass of the event loop is told about one load's drying.
+enum Answer {
+    /// The drier's own result.
+    Known(DryingResult),
+    /// A guess of the hours, to look further ahead; a pass that used one is run again.
+    Guess(f64),
+    /// Stop the pass here.
+    Stop,
+}
+
+/// A load put on a dryer at an instant: the drier's whole input, since its result depends on nothing else.
+type Request = (usize, usize, DateTime<FixedOffset>);
+
+/// One season's fixed inputs, for the event passes.
+struct Season<'a> {
+    bp: &'a BuyingPoint,
+    loads: &'a [Load],
+    policy: DispatchPolicy,
+    predictor: &'a dyn Predictor,
+    season_end: DateTime<FixedOffset>,
+}
+
+impl Season<'_> {
+    /// The season with the loads dried in parallel. A load's drying needs only its load, dryer and start, and the
+    /// dispatch needs a result only when that dryer's release is due, so each pass runs the event loop ahead on
+    /// guessed hours for loads not yet dried, collects up to `depth` of them, dries them all at once, and starts
+    /// again from the beginning (the event logic is cheap next to one drying). A pass that used no guess is the
+    /// sequential season exactly: every result it used is the drier's own for the same load, dryer and start.
+    fn speculate(&self, drier: &dyn LoadDrier, depth: usize) -> Result<SeasonRun, SeasonError> {
+        // A failed drying is kept as `None` and asked again (so its error comes back) only once it is on the path.
+        let mut known: HashMap<Request, Option<DryingResult>> = HashMap::new();
+        let mut scale = Scale::default();
+        loop {
+            let mut wanted: Vec<Request> = Vec::new();
+            let mut ask = |i: usize, d: usize, t: DateTime<FixedOffset>| {
+                let sure = wanted.is_empty();
+                match known.get(&(i, d, t)) {
+                    Some(Some(r)) => return Ok(Answer::Known(*r)),
+                    Some(None) if sure => {
+                        return drier
+                            .dry(&self.loads[i], &self.bp.dryers[d], t)
+                            .map(Answer::Known)
                     }
-                    let Some(qi) = choose(policy, &queue, dryer, t, bp.rules.max_wait_h, predictor)
-                    else {
-                        continue;
-                    };
-                    let w = queue.remove(qi);
-                    let result = drier.dry(w.load, dryer, t)?;
-                    let finish = t + duration_h(result.hours);
-                    let released = finish + turnaround;
-                    free[d] = false;
-                    heap.push(Reverse((released, seq, Event::Release(d))));
-                    seq += 1;
-                    schedule.push(ScheduleRow {
-                        load_index: w.index,
-                        load_id: w.load.id.clone(),
-                        dryer_index: d,
-                        dryer_id: dryer.id.clone(),
-                        arrival: w.load.arrival,
-                        start: t,
-                        finish,
-                        released,
-                        wait_h: hours_between(w.load.arrival, t),
-                        mass_kg: w.load.mass_kg,
-                        moisture_in_pct: w.load.moisture_pct,
-                        result,
-                    });
-                    if queue.is_empty() {
-                        break;
-                    }
+                    _ => {}
                 }
-            } else if open_pending.is_none() {
-                let o = bp.next_open(t);
-                open_pending = Some(o);
-                heap.push(Reverse((o, seq, Event::Open)));
-                seq += 1;
+                if wanted.len() == depth {
+                    return Ok(Answer::Stop);
+                }
+                wanted.push((i, d, t));
+                let guess = self.predictor.predict_h(&self.loads[i], &self.bp.dryers[d]);
+                Ok(Answer::Guess(scale.apply(guess)))
+            };
+            let run = self.pass(&mut ask)?;
+            if wanted.is_empty() {
+                return Ok(run.expect("a pass without guesses never stops"));
             }
-        }
-        let sample = QueueSample {
-            time: t,
-            queue: queue.len(),
-            busy: free.iter().filter(|&&f| !f).count(),
-        };
-        match log.last() {
-            Some(s) if s.queue == sample.queue && s.busy == sample.busy => {}
-            _ => log.push(sample),
+            let results: Vec<Option<DryingResult>> = wanted
+                .par_iter()
+                .map(|&(i, d, t)| drier.dry(&self.loads[i], &self.bp.dryers[d], t).ok())
+                .collect();
+            for (&(i, d, t), r) in wanted.iter().zip(results) {
+                if let Some(r) = r {
+                    scale.add(
+                        r.hours,
+                        self.predictor.predict_h(&self.loads[i], &self.bp.dryers[d]),
+                    );
+                }
+                known.insert((i, d, t), r);
+            }
         }
     }
-    let mut never_started: Vec<Unstarted> = queue
-        .iter()
-        .map(|w| Unstarted {
-            load_index: w.index,
-            load_id: w.load.id.clone(),
-            arrival: w.load.arrival,
-            mass_kg: w.load.mass_kg,
-            moisture_pct: w.load.moisture_pct,
-        })
-        .collect();
-    never_started.sort_by_key(|u| u.load_index);
-    Ok(SeasonRun {
-        schedule,
-        never_started,
-        log,
-        start,
-        end: season_end,
-        dryer_ids: bp.dryers.iter().map(|d| d.id.clone()).collect(),
-        max_wait_h: bp.rules.max_wait_h,
-        arrivals: loads.len(),
-    })
+
+    /// One pass of the event loop; `ask(load, dryer, start)` answers each drying. `None` if `ask` stopped it.
+    fn pass(
+        &self,
+        ask: &mut dyn FnMut(usize, usize, DateTime<FixedOffset>) -> Result<Answer, SeasonError>,
+    ) -> Result<Option<SeasonRun>, SeasonError> {
+        let (bp, loads, season_end) = (self.bp, self.loads, self.season_end);
+        let turnaround = duration_h(bp.turnaround_h);
+        let mut heap: BinaryHeap<Reverse<(DateTime<FixedOffset>, u64, Event)>> = BinaryHeap::new();
+        let mut seq = 0u64;
+        for (i, l) in loads.iter().enumerate() {
+            heap.push(Reverse((l.arrival, seq, Event::Arrival(i))));
+            seq += 1;
+        }
+        let n = bp.dryers.len();
+        let mut free = vec![true; n];
+        let mut queue: Vec<Waiting> = Vec::new();
+        let mut schedule = Vec::with_capacity(loads.len());
+        let mut log: Vec<QueueSample> = Vec::new();
+        let mut open_pending: Option<DateTime<FixedOffset>> = None;
+        let start = loads
+            .first()
+            .map(|l| l.arrival.min(bp.season.start))
+            .unwrap_or(bp.season.start);
+
+        while let Some(Reverse((t, _, ev))) = heap.pop() {
+            let mut batch = vec![ev];
+            while let Some(Reverse((t2, _, ev2))) = heap.peek().copied() {
+                if t2 != t {
+                    break;
+                }
+                heap.pop();
+                batch.push(ev2);
+            }
+            for ev in batch {
+                match ev {
+                    Event::Arrival(i) => queue.push(Waiting {
+                        index: i,
+                        load: &loads[i],
+                    }),
+                    Event::Release(d) => free[d] = true,
+                    Event::Open => {}
+                }
+            }
+            if open_pending == Some(t) {
+                open_pending = None;
+            }
+            if t < season_end && !queue.is_empty() && free.iter().any(|&f| f) {
+                if bp.is_open(t) {
+                    for (d, dryer) in bp.dryers.iter().enumerate() {
+                        if !free[d] {
+                            continue;
+                        }
+                        let Some(qi) = choose(
+                            self.policy,
+                            &queue,
+                            dryer,
+                            t,
+                            bp.rules.max_wait_h,
+                            self.predictor,
+                        ) else {
+                            continue;
+                        };
+                        let w = queue.remove(qi);
+                        let result = match ask(w.index, d, t)? {
+                            Answer::Known(r) => r,
+                            Answer::Guess(hours) => DryingResult { hours, ..GUESSED },
+                            Answer::Stop => return Ok(None),
+                        };
+                        let finish = t + duration_h(result.hours);
+                        let released = finish + turnaround;
+                        free[d] = false;
+                        heap.push(Reverse((released, seq, Event::Release(d))));
+                        seq += 1;
+                        schedule.push(ScheduleRow {
+                            load_index: w.index,
+                            load_id: w.load.id.clone(),
+                            dryer_index: d,
+                            dryer_id: dryer.id.clone(),
+                            arrival: w.load.arrival,
+                            start: t,
+                            finish,
+                            released,
+                            wait_h: hours_between(w.load.arrival, t),
+                            mass_kg: w.load.mass_kg,
+                            moisture_in_pct: w.load.moisture_pct,
+                            result,
+                        });
+                        if queue.is_empty() {
+                            break;
+                        }
+                    }
+                } else if open_pending.is_none() {
+                    let o = bp.next_open(t);
+                    open_pending = Some(o);
+                    heap.push(Reverse((o, seq, Event::Open)));
+                    seq += 1;
+                }
+            }
+            let sample = QueueSample {
+                time: t,
+                queue: queue.len(),
+                busy: free.iter().filter(|&&f| !f).count(),
+            };
+            match log.last() {
+                Some(s) if s.queue == sample.queue && s.busy == sample.busy => {}
+                _ => log.push(sample),
+            }
+        }
+        let mut never_started: Vec<Unstarted> = queue
+            .iter()
+            .map(|w| Unstarted {
+                load_index: w.index,
+                load_id: w.load.id.clone(),
+                arrival: w.load.arrival,
+                mass_kg: w.load.mass_kg,
+                moisture_pct: w.load.moisture_pct,
+            })
+            .collect();
+        never_started.sort_by_key(|u| u.load_index);
+        Ok(Some(SeasonRun {
+            schedule,
+            never_started,
+            log,
+            start,
+            end: season_end,
+            dryer_ids: bp.dryers.iter().map(|d| d.id.clone()).collect(),
+            max_wait_h: bp.rules.max_wait_h,
+            arrivals: loads.len(),
+        }))
+    }
+}
+
+/// The figures of a guessed drying other than its hours (never reported: a pass that used a guess is run again).
+const GUESSED: DryingResult = DryingResult {
+    hours: 0.0,
+    fuel_l: 0.0,
+    kwh: 0.0,
+    moisture_out_pct: 0.0,
+    over_dried_kg: 0.0,
+    shrink_kg: 0.0,
+    finished: true,
+    air_per_m3: None,
+};
+
+/// The ratio of dried hours to predicted hours so far, to make the guesses closer (it changes only how far ahead
+/// a pass sees, never a result).
+#[derive(Default)]
+struct Scale {
+    dried_h: f64,
+    predicted_h: f64,
+}
+
+impl Scale {
+    fn add(&mut self, dried_h: f64, predicted_h: f64) {
+        if dried_h.is_finite() && predicted_h.is_finite() && predicted_h > 0.0 {
+            self.dried_h += dried_h;
+            self.predicted_h += predicted_h;
+        }
+    }
+
+    fn apply(&self, predicted_h: f64) -> f64 {
+        let ratio = if self.predicted_h > 0.0 {
+            self.dried_h / self.predicted_h
+        } else {
+            1.0
+        };
+        let h = predicted_h * ratio;
+        if h.is_finite() && h >= 0.0 {
+            h
+        } else {
+            0.0
+        }
+    }
 }
 
 impl SeasonRun {
