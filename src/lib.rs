@@ -18,5 +18,6 @@ pub mod models;
 pub mod props;
 pub mod report;
 pub mod season;
+pub mod status;
 pub mod units;
 pub mod weather;

@@ -7,6 +7,7 @@ pub mod dry;
 pub mod progress;
 pub mod props;
 pub mod season;
+pub mod status;
 pub mod weather;
 
 /// dryfront: curing farmer-stock peanuts in forced-air drying trailers, from property look-ups to whole seasons.
@@ -48,6 +49,9 @@ pub enum Command {
     Starts(dry::StartsArgs),
     /// Solve the airflow through a loaded container (plenum, floor, bed and fan together).
     Airflow(airflow::AirflowArgs),
+    /// A load on air now: replay from its on-air time, adjust to the moisture readings, forecast its finish (with
+    /// a weather ensemble) and compare heater choices for the remaining time.
+    Status(status::StatusArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
     #[command(subcommand)]
     Season(season::SeasonCommand),
@@ -64,5 +68,6 @@ pub fn run(args: Args) -> anyhow::Result<()> {
         Command::Compare(a) => dry::run_compare(a),
         Command::Starts(a) => dry::run_starts(a),
         Command::Season(c) => season::run(c),
+        Command::Status(a) => status::run(a),
     }
 }

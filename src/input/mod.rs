@@ -7,6 +7,7 @@ pub mod limits;
 pub mod read;
 pub mod scenario;
 pub mod season;
+pub mod status;
 
 pub use read::*;
 

@@ -19,7 +19,8 @@ follow NFPA 58 and local codes, the dryer and burner manuals and licensed practi
 trash, never run a dryer unattended against its manual. Over-heated peanuts split and lose flavour; wet peanuts held \
 warm risk mold and aflatoxin.";
 
-fn fuel_text(units: UnitSystem, amount: f64, unit: &str) -> String {
+/// A fuel amount with its unit (litres follow `units`).
+pub fn fuel_text(units: UnitSystem, amount: f64, unit: &str) -> String {
     if unit == "L" {
         units.volume_l(amount)
     } else {

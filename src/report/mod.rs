@@ -6,5 +6,6 @@ pub mod load;
 pub mod output;
 pub mod props;
 pub mod season;
+pub mod status;
 pub mod svg;
 pub mod weather;
