@@ -8,6 +8,7 @@
 #![deny(clippy::float_cmp)]
 
 pub mod airflow;
+pub mod board;
 pub mod cli;
 pub mod crop;
 pub mod drying;

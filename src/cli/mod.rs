@@ -2,6 +2,7 @@
 use clap::{Parser, Subcommand};
 
 pub mod airflow;
+pub mod board;
 pub mod demo;
 pub mod dry;
 pub mod progress;
@@ -52,6 +53,9 @@ pub enum Command {
     /// A load on air now: replay from its on-air time, adjust to the moisture readings, forecast its finish (with
     /// a weather ensemble) and compare heater choices for the remaining time.
     Status(status::StatusArgs),
+    /// The buying point's board now: loads on the dryers forecast from their readings, the yard dispatched over
+    /// the next hours (which load on which dryer when, finish ranges, waits, fuel) and a Gantt picture.
+    Board(board::BoardArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
     #[command(subcommand)]
     Season(season::SeasonCommand),
@@ -69,5 +73,6 @@ pub fn run(args: Args) -> anyhow::Result<()> {
         Command::Starts(a) => dry::run_starts(a),
         Command::Season(c) => season::run(c),
         Command::Status(a) => status::run(a),
+        Command::Board(a) => board::run(a),
     }
 }

@@ -3,6 +3,7 @@
 //! through; this module holds the one set of validation helpers every reader uses; `scenario` builds a [`crate::load::LoadSpec`] from a single-load
 //! scenario file; `season` loads what a buying point's dryers name.
 
+pub mod board;
 pub mod limits;
 pub mod read;
 pub mod scenario;

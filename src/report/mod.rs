@@ -1,6 +1,7 @@
 //! Reports: every file and table the program writes is built here, and `output` is the one writer.
 
 pub mod airflow;
+pub mod board;
 pub mod gantt;
 pub mod load;
 pub mod output;

@@ -112,6 +112,17 @@ pub fn duration_h(h: f64) -> Duration {
     Duration::milliseconds((h * 3.6e6).round() as i64)
 }
 
+/// A plan that starts part-way: nothing is put on air before `at`, loads that arrived earlier wait until then, and
+/// dryers still busy are free again at their time (the board of a buying point, `board`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlanStart {
+    /// Now: the first instant a load may go on air.
+    pub at: DateTime<FixedOffset>,
+    /// Per dryer (in the buying point's order): when it is free again (its load off air and the turnaround done),
+    /// or `None` if it is free now.
+    pub busy_until: Vec<Option<DateTime<FixedOffset>>>,
+}
+
 /// Simulate one season. `loads` must be sorted by arrival (readers and the generator return them so); every
 /// arrival must fall before `season_end` and every load must fit at least one dryer.
 pub fn simulate(
@@ -121,6 +132,19 @@ pub fn simulate(
     policy: DispatchPolicy,
     predictor: &dyn Predictor,
     season_end: DateTime<FixedOffset>,
+) -> Result<SeasonRun, SeasonError> {
+    simulate_from(bp, loads, drier, policy, predictor, season_end, None)
+}
+
+/// [`simulate`], optionally from a [`PlanStart`] (dryers busy, loads already waiting).
+pub fn simulate_from(
+    bp: &BuyingPoint,
+    loads: &[Load],
+    drier: &dyn LoadDrier,
+    policy: DispatchPolicy,
+    predictor: &dyn Predictor,
+    season_end: DateTime<FixedOffset>,
+    from: Option<&PlanStart>,
 ) -> Result<SeasonRun, SeasonError> {
     if bp.dryers.is_empty() {
         return Err(InputError::argument("dryers", 0, "a season needs at least one dryer").into());
@@ -158,20 +182,41 @@ pub fn simulate(
     let turnaround = duration_h(bp.turnaround_h);
     let mut heap: BinaryHeap<Reverse<(DateTime<FixedOffset>, u64, Event)>> = BinaryHeap::new();
     let mut seq = 0u64;
+    let not_before = |t: DateTime<FixedOffset>| from.map_or(t, |f| t.max(f.at));
     for (i, l) in loads.iter().enumerate() {
-        heap.push(Reverse((l.arrival, seq, Event::Arrival(i))));
+        heap.push(Reverse((not_before(l.arrival), seq, Event::Arrival(i))));
         seq += 1;
     }
     let n = bp.dryers.len();
     let mut free = vec![true; n];
+    if let Some(f) = from {
+        if f.busy_until.len() != n {
+            return Err(InputError::argument(
+                "busy dryers",
+                f.busy_until.len(),
+                &format!("must list each of the {n} dryers"),
+            )
+            .into());
+        }
+        for (d, until) in f.busy_until.iter().enumerate() {
+            if let Some(t) = until {
+                free[d] = false;
+                heap.push(Reverse((not_before(*t), seq, Event::Release(d))));
+                seq += 1;
+            }
+        }
+    }
     let mut queue: Vec<Waiting> = Vec::new();
     let mut schedule = Vec::with_capacity(loads.len());
     let mut log: Vec<QueueSample> = Vec::new();
     let mut open_pending: Option<DateTime<FixedOffset>> = None;
-    let start = loads
-        .first()
-        .map(|l| l.arrival.min(bp.season.start))
-        .unwrap_or(bp.season.start);
+    let start = match from {
+        Some(f) => f.at,
+        None => loads
+            .first()
+            .map(|l| l.arrival.min(bp.season.start))
+            .unwrap_or(bp.season.start),
+    };
 
     while let Some(Reverse((t, _, ev))) = heap.pop() {
         let mut batch = vec![ev];
