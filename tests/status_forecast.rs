@@ -108,10 +108,11 @@ fn a_load_restarted_from_its_own_readings_at_hour_14_finishes_with_the_uninterru
     );
     let (m1, f1) = (14.0 + f.mean_h.unwrap(), 14.0 + f.fraction_h.unwrap());
     eprintln!("uninterrupted: mean {m0:.3} h, 95 % {f0:.3} h; restarted at 14 h: mean {m1:.3} h, 95 % {f1:.3} h");
-    // The issue's bound: within 1 %. (The restart solves the airflow again at hour 14, where the uninterrupted
-    // run re-solves only when its thresholds are passed, so the two are not bit-identical.)
-    assert!((m1 - m0).abs() / m0 < 0.01, "{m1} vs {m0}");
-    assert!((f1 - f0).abs() / f0 < 0.01, "{f1} vs {f0}");
+    // The issue asks for 1 %; measured 0.01 % (2026-12-03). Bound 0.1 %: the restart solves the airflow again at
+    // hour 14, where the uninterrupted run re-solves only when its thresholds are passed, so the two are not
+    // bit-identical, and the crossing times are interpolated inside 0.1 h steps.
+    assert!((m1 - m0).abs() / m0 < 1e-3, "{m1} vs {m0}");
+    assert!((f1 - f0).abs() / f0 < 1e-3, "{f1} vs {f0}");
 }
 
 #[test]
