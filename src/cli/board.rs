@@ -15,7 +15,7 @@ use crate::weather::ensemble::Spread;
 #[derive(Debug, clap::Args)]
 pub struct BoardArgs {
     /// The board file (JSON: buying point, now, observed and forecast weather, loads on dryers with their
-    /// readings, loads in the yard; see README "The buying point's board").
+    /// readings, loads in the yard; see README "At the dryer, today").
     pub file: PathBuf,
     /// Hours to plan ahead from now.
     #[arg(long, default_value_t = 72.0)]

@@ -18,7 +18,7 @@ use crate::weather::ensemble::Spread;
 #[derive(Debug, clap::Args)]
 pub struct StatusArgs {
     /// The load's status file (JSON: scenario, scale ticket's net mass, on-air time and moisture, observed and
-    /// forecast weather, readings; see README "A load on air").
+    /// forecast weather, readings; see README "At the dryer, today").
     pub file: PathBuf,
     /// Weather members around the forecast for the P10/P50/P90 finish (0: none; an even number keeps the
     /// antithetic pairs whole).
