@@ -24,6 +24,7 @@ CONTAINER = "airflow --container {file} --flow-m3-min 100 --nx 8 --ny 4 --nz 6"
 FAN = "airflow --container trailer-6m --fan {file} --nx 8 --ny 4 --nz 6"
 SCENARIO = "dry --scenario {file}"
 BUYING_POINT = "season run --scenario {file} --generate --loads 5 --drier rate-rule --out {out}"
+STATUS = "status {file} --members 0"
 STATS = "weather synth --stats {file} --start 2026-09-01 --days 3 --out {out}"
 
 cases = []  # (relative file, bytes, command)
@@ -573,6 +574,25 @@ wsmp("method_unknown.csv", SMP_HEAD + smp_row(method="guess") + GOOD_SMP)
 wsmp("column_missing.csv", SMP_HEAD.replace(",method", "") + "2026-09-18T21:00:00-05:00,point,1,1,0.2,kernel,18\n")
 wsmp("short_row.csv", SMP_HEAD + GOOD_SMP + "2026-09-19T05:00:00-05:00,point,1.0\n")
 wsmp("semicolons.csv", SMP_HEAD.replace(",", ";") + GOOD_SMP.replace(",", ";"))
+status = load("examples/at-the-dryer/status-bf06.json")
+status["scenario"] = "demo-load"
+status["observed_weather"] = "../../../examples/at-the-dryer/observed.csv"
+status["forecast_weather"] = "../../../examples/at-the-dryer/forecast.csv"
+variants("status", STATUS, status, COMMON_JSON + [
+    ("unknown_field.json", set_path(["colour"], "red")),
+    ("reading_before_on_air.json", set_path(["readings", 0, "time"], "2026-09-18T14:00:00-05:00")),
+    ("reading_after_observations.json", set_path(["readings", 1, "time"], "2026-09-19T09:00:00-05:00")),
+    ("net_mass_above_container.json", set_path(["net_mass_kg"], 20000)),
+    ("moisture_140.json", set_path(["readings", 1, "moisture_pct"], 140)),
+    ("part_unknown.json", set_path(["readings", 0, "part"], "hull")),
+    ("no_readings.json", set_path(["readings"], [])),
+    ("on_air_words.json", set_path(["on_air"], "after lunch")),
+    ("forecast_gap.json", set_path(["forecast_weather"], "forecast-gap.csv")),
+])
+# The forecast of forecast_gap.json, starting four hours after the observations end; as a case of its own it is a
+# weather file given where the status file belongs.
+add("status", "forecast-gap.csv", "# utc_offset=-05:00\ntimestamp,temp_c,rh_pct,pressure_kpa,rain_mm\n"
+    + "".join(f"2026-09-19T{h:02}:00:00-05:00,22.0,80,101.1,0\n" for h in range(9, 20)), STATUS)
 
 # ---------------------------------------------------------------- unreadable paths (not files in the corpus)
 SPECIAL = [

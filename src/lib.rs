@@ -9,6 +9,7 @@
 
 pub mod advice;
 pub mod airflow;
+pub mod board;
 pub mod calibrate;
 pub mod cli;
 pub mod crop;
@@ -20,5 +21,6 @@ pub mod models;
 pub mod props;
 pub mod report;
 pub mod season;
+pub mod status;
 pub mod units;
 pub mod weather;

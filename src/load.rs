@@ -225,6 +225,7 @@ impl LoadSpec {
             InitialMoisture::Uniform(m) => *m,
             InitialMoisture::Layered { bottom_wb, top_wb } => 0.5 * (bottom_wb + top_wb),
             InitialMoisture::Cells(a) => a.mean().unwrap_or(f64::NAN),
+            InitialMoisture::Resumed(b) => b.mean_kernel_wb(&*self.material),
         }
     }
 

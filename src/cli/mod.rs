@@ -3,12 +3,14 @@ use clap::{Parser, Subcommand};
 
 pub mod airflow;
 pub mod airflow_fit;
+pub mod board;
 pub mod calibrate;
 pub mod demo;
 pub mod dry;
 pub mod progress;
 pub mod props;
 pub mod season;
+pub mod status;
 pub mod weather;
 
 /// dryfront: curing farmer-stock peanuts in forced-air drying trailers, from property look-ups to whole seasons.
@@ -53,6 +55,12 @@ pub enum Command {
     Airflow(airflow::AirflowArgs),
     /// Fit a crop's drying constants to moisture samples of real loads and write the calibrated crop file.
     Calibrate(calibrate::CalibrateArgs),
+    /// A load on air now: replay from its on-air time, adjust to the moisture readings, forecast its finish (with
+    /// a weather ensemble) and compare heater choices for the remaining time.
+    Status(status::StatusArgs),
+    /// The buying point's board now: loads on the dryers forecast from their readings, the yard dispatched over
+    /// the next hours (which load on which dryer when, finish ranges, waits, fuel) and a Gantt picture.
+    Board(board::BoardArgs),
     /// Plan a buying point's harvest: dryer scheduling over a season, sweeps over dryer counts and seasons.
     #[command(subcommand)]
     Season(season::SeasonCommand),
@@ -95,5 +103,7 @@ fn run_command(args: Args) -> anyhow::Result<()> {
         Command::Starts(a) => dry::run_starts(a),
         Command::Calibrate(a) => calibrate::run(a),
         Command::Season(c) => season::run(c),
+        Command::Status(a) => status::run(a),
+        Command::Board(a) => board::run(a),
     }
 }

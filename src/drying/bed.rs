@@ -42,6 +42,10 @@ pub enum InitialMoisture {
     },
     /// Kernel moisture (wet basis, decimal) given for every cell, `[nx, ny, nz]` (zones of a load that differ).
     Cells(ndarray::Array3<f64>),
+    /// A load already on air, resumed from its whole state (hull, kernel, curve start, temperature, dry matter):
+    /// the status of a load from the operator's readings (`status`). The bed must have the grid's shape and
+    /// the depths the container gives.
+    Resumed(std::sync::Arc<BedState>),
 }
 
 impl InitialMoisture {
@@ -49,6 +53,7 @@ impl InitialMoisture {
         match *self {
             InitialMoisture::Uniform(m) => m,
             InitialMoisture::Cells(ref a) => a[[i, j, k]],
+            InitialMoisture::Resumed(ref b) => wb_from_db(b.kernel_db[[i, j, k]]),
             InitialMoisture::Layered { bottom_wb, top_wb } => {
                 let f = if nz > 1 {
                     k as f64 / (nz - 1) as f64
@@ -97,6 +102,9 @@ impl BedState {
             "kg/m³",
         )?;
         check_range("initial peanut temperature", temp_c, -20.0, 60.0, "°C")?;
+        if let InitialMoisture::Resumed(b) = initial {
+            return Self::resumed(b, &depth_m, column_area_m2, nz);
+        }
         match initial {
             InitialMoisture::Cells(a) if a.dim() != (nx, ny, nz) => {
                 return Err(InputError::argument(
@@ -133,6 +141,32 @@ impl BedState {
             column_area_m2,
             depth_m,
         })
+    }
+
+    /// A resumed bed, checked against the grid and depths it is to run on.
+    fn resumed(
+        bed: &BedState,
+        depth_m: &Array2<f64>,
+        column_area_m2: f64,
+        nz: usize,
+    ) -> Result<Self, InputError> {
+        let (nx, ny) = depth_m.dim();
+        let same_depths = bed.depth_m.dim() == (nx, ny)
+            && (bed.depth_m.iter().zip(depth_m.iter())).all(|(a, b)| (a - b).abs() <= 1e-9 * b);
+        if bed.dim() != (nx, ny, nz)
+            || !same_depths
+            || (bed.column_area_m2 - column_area_m2).abs() > 1e-9 * column_area_m2
+        {
+            return Err(InputError::argument(
+                "resumed bed",
+                format!("{:?}", bed.dim()),
+                &format!(
+                    "must have the grid's shape {:?} and the container's depths",
+                    (nx, ny, nz)
+                ),
+            ));
+        }
+        Ok(bed.clone())
     }
 
     /// Grid shape `(nx, ny, nz)`.

@@ -3,11 +3,13 @@
 //! through; this module holds the one set of validation helpers every reader uses; `scenario` builds a [`crate::load::LoadSpec`] from a single-load
 //! scenario file; `season` loads what a buying point's dryers name; `survey` reads a top-surface airflow survey.
 
+pub mod board;
 pub mod limits;
 pub mod read;
 pub mod samples;
 pub mod scenario;
 pub mod season;
+pub mod status;
 pub mod survey;
 
 pub use read::*;

@@ -199,8 +199,8 @@ pub fn fuel_named(path: &Path, field: &str, name: &str) -> Result<Fuel, InputErr
     }
 }
 
-/// The weather file a scenario names: beside the scenario file, else as given, else in the source tree.
-fn weather_path(scenario: &Path, name: &str) -> PathBuf {
+/// A file a scenario (or status file) names: beside that file, else as given, else in the source tree.
+pub(crate) fn weather_path(scenario: &Path, name: &str) -> PathBuf {
     let rel = PathBuf::from(name);
     if rel.is_absolute() {
         return rel;

@@ -2,6 +2,7 @@
 
 pub mod airflow;
 pub mod airflow_fit;
+pub mod board;
 pub mod calibrate;
 pub mod gantt;
 pub mod html;
@@ -9,5 +10,6 @@ pub mod load;
 pub mod output;
 pub mod props;
 pub mod season;
+pub mod status;
 pub mod svg;
 pub mod weather;

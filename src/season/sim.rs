@@ -113,6 +113,17 @@ pub fn duration_h(h: f64) -> Duration {
     Duration::milliseconds((h * 3.6e6).round() as i64)
 }
 
+/// A plan that starts part-way: nothing is put on air before `at`, loads that arrived earlier wait until then, and
+/// dryers still busy are free again at their time (the board of a buying point, `board`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlanStart {
+    /// Now: the first instant a load may go on air.
+    pub at: DateTime<FixedOffset>,
+    /// Per dryer (in the buying point's order): when it is free again (its load off air and the turnaround done),
+    /// or `None` if it is free now.
+    pub busy_until: Vec<Option<DateTime<FixedOffset>>>,
+}
+
 /// Simulate one season. `loads` must be sorted by arrival (readers and the generator return them so); every
 /// arrival must fall before `season_end` and every load must fit at least one dryer.
 pub fn simulate(
@@ -123,15 +134,28 @@ pub fn simulate(
     predictor: &dyn Predictor,
     season_end: DateTime<FixedOffset>,
 ) -> Result<SeasonRun, SeasonError> {
-    simulate_with(
+    simulate_from(bp, loads, drier, policy, predictor, season_end, None)
+}
+
+/// [`simulate`], optionally from a [`PlanStart`] (dryers busy, loads already waiting).
+pub fn simulate_from(
+    bp: &BuyingPoint,
+    loads: &[Load],
+    drier: &dyn LoadDrier,
+    policy: DispatchPolicy,
+    predictor: &dyn Predictor,
+    season_end: DateTime<FixedOffset>,
+    from: Option<&PlanStart>,
+) -> Result<SeasonRun, SeasonError> {
+    let season = Season {
         bp,
         loads,
-        drier,
         policy,
         predictor,
         season_end,
-        rayon::current_num_threads() > 1,
-    )
+        from,
+    };
+    season.run(drier, rayon::current_num_threads() > 1)
 }
 
 /// The season's inputs as [`simulate`] requires them.
@@ -139,9 +163,20 @@ fn check_season(
     bp: &BuyingPoint,
     loads: &[Load],
     season_end: DateTime<FixedOffset>,
+    from: Option<&PlanStart>,
 ) -> Result<(), SeasonError> {
     if bp.dryers.is_empty() {
         return Err(InputError::argument("dryers", 0, "a season needs at least one dryer").into());
+    }
+    if let Some(f) = from {
+        if f.busy_until.len() != bp.dryers.len() {
+            return Err(InputError::argument(
+                "busy dryers",
+                f.busy_until.len(),
+                &format!("must list each of the {} dryers", bp.dryers.len()),
+            )
+            .into());
+        }
     }
     let largest = bp.dryers.iter().map(|d| d.capacity_kg).fold(0.0, f64::max);
     for (i, l) in loads.iter().enumerate() {
@@ -187,22 +222,15 @@ pub fn simulate_with(
     season_end: DateTime<FixedOffset>,
     ahead: bool,
 ) -> Result<SeasonRun, SeasonError> {
-    check_season(bp, loads, season_end)?;
     let season = Season {
         bp,
         loads,
         policy,
         predictor,
         season_end,
+        from: None,
     };
-    if !ahead {
-        let mut ask =
-            |i: usize, d: usize, t| drier.dry(&loads[i], &bp.dryers[d], t).map(Answer::Known);
-        return Ok(season
-            .pass(&mut ask)?
-            .expect("a pass that never stops completes"));
-    }
-    season.speculate(drier, 2 * rayon::current_num_threads())
+    season.run(drier, ahead)
 }
 
 /// What a pass of the event loop is told about one load's drying.
@@ -225,9 +253,26 @@ struct Season<'a> {
     policy: DispatchPolicy,
     predictor: &'a dyn Predictor,
     season_end: DateTime<FixedOffset>,
+    from: Option<&'a PlanStart>,
 }
 
 impl Season<'_> {
+    /// The season, its loads dried in order on this thread or (`ahead`) several at once on the pool.
+    fn run(&self, drier: &dyn LoadDrier, ahead: bool) -> Result<SeasonRun, SeasonError> {
+        check_season(self.bp, self.loads, self.season_end, self.from)?;
+        if !ahead {
+            let mut ask = |i: usize, d: usize, t| {
+                drier
+                    .dry(&self.loads[i], &self.bp.dryers[d], t)
+                    .map(Answer::Known)
+            };
+            return Ok(self
+                .pass(&mut ask)?
+                .expect("a pass that never stops completes"));
+        }
+        self.speculate(drier, 2 * rayon::current_num_threads())
+    }
+
     /// The season with the loads dried in parallel. A load's drying needs only its load, dryer and start, and the
     /// dispatch needs a result only when that dryer's release is due, so each pass runs the event loop ahead on
     /// guessed hours for loads not yet dried, collects up to `depth` of them, dries them all at once, and starts
@@ -286,20 +331,32 @@ impl Season<'_> {
         let turnaround = duration_h(bp.turnaround_h);
         let mut heap: BinaryHeap<Reverse<(DateTime<FixedOffset>, u64, Event)>> = BinaryHeap::new();
         let mut seq = 0u64;
+        let from = self.from;
+        let not_before = |t: DateTime<FixedOffset>| from.map_or(t, |f| t.max(f.at));
         for (i, l) in loads.iter().enumerate() {
-            heap.push(Reverse((l.arrival, seq, Event::Arrival(i))));
+            heap.push(Reverse((not_before(l.arrival), seq, Event::Arrival(i))));
             seq += 1;
         }
         let n = bp.dryers.len();
         let mut free = vec![true; n];
+        for (d, until) in from.iter().flat_map(|f| f.busy_until.iter().enumerate()) {
+            if let Some(t) = until {
+                free[d] = false;
+                heap.push(Reverse((not_before(*t), seq, Event::Release(d))));
+                seq += 1;
+            }
+        }
         let mut queue: Vec<Waiting> = Vec::new();
         let mut schedule = Vec::with_capacity(loads.len());
         let mut log: Vec<QueueSample> = Vec::new();
         let mut open_pending: Option<DateTime<FixedOffset>> = None;
-        let start = loads
-            .first()
-            .map(|l| l.arrival.min(bp.season.start))
-            .unwrap_or(bp.season.start);
+        let start = match from {
+            Some(f) => f.at,
+            None => loads
+                .first()
+                .map(|l| l.arrival.min(bp.season.start))
+                .unwrap_or(bp.season.start),
+        };
 
         while let Some(Reverse((t, _, ev))) = heap.pop() {
             let mut batch = vec![ev];

@@ -9,6 +9,7 @@
 use std::path::Path;
 
 pub mod csv;
+pub mod ensemble;
 pub mod epw;
 pub mod series;
 pub mod summary;
