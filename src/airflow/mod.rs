@@ -11,6 +11,7 @@ pub mod geometry;
 mod mg;
 pub mod path;
 pub mod plenum;
+pub mod plenum2d;
 pub mod solve;
 
 pub use bed::{BedLaw, ResistanceLaw};

