@@ -124,12 +124,17 @@ fn cavity_re100_matches_ghia() {
     check(64, 100.0, 0, 0.02);
 }
 
+/// 128² at Re 400: several minutes on the shared machine; run with `--ignored`.
 #[test]
+#[ignore]
 fn cavity_re400_matches_ghia() {
     check(128, 400.0, 1, 0.02);
 }
 
+/// 128² at Re 1000 takes about 12 minutes on the shared 2-core machine (2155 SIMPLEC iterations): run it with
+/// `cargo test --release --test plenum2d_core -- --ignored`. Measured: max deviation 0.0115 of the lid speed.
 #[test]
+#[ignore]
 fn cavity_re1000_matches_ghia() {
     check(128, 1000.0, 2, 0.02);
 }

@@ -12,6 +12,7 @@ mod mg;
 pub mod path;
 pub mod plenum;
 pub mod plenum2d;
+pub mod plenum_shape;
 pub mod solve;
 
 pub use bed::{BedLaw, ResistanceLaw};
