@@ -10,7 +10,8 @@
 //! Eddy viscosity (our closure, stated): `ν_e = ν + (κ/6)·h·u* + (c_m·h)²·|S|`, u* = √(c_f/2)·|u|, κ = 0.41:
 //! the first turbulent term is the depth mean of the parabolic eddy viscosity used in depth-averaged river models
 //! (Elder 1959, from memory), the second a Prandtl mixing length tied to the plenum height for the jet's shear
-//! layers (c_m = 0.1 by default, our choice within the 0.07–0.1 range of DOMAIN.md §13; from memory).
+//! layers (c_m = 0.1 by default, our choice within the 0.07–0.1 range of DOMAIN.md §13; from memory), bounded by
+//! κ times the distance to the nearest side wall.
 //!
 //! Numerics: a staggered (MAC) grid of finite volumes — pressure at cell centres, u on the x-faces, v on the
 //! y-faces — and SIMPLEC pressure coupling (Van Doormaal & Raithby 1984, Numer. Heat Transfer 7:147–163, a variant
@@ -349,7 +350,10 @@ fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
             let dudy = (cu(i, jh).0 - cu(i, jl).0) / ((jh - jl).max(1) as f64 * d.dy);
             let dvdx = (cu(ih, j).1 - cu(il, j).1) / ((ih - il).max(1) as f64 * d.dx);
             let shear = (2.0 * (dudx * dudx + dvdy * dvdy) + (dudy + dvdx).powi(2)).sqrt();
-            let lm = prm.mixing_length_ratio * h;
+            // the mixing length is also bounded by κ × the distance to the nearest side wall (Prandtl's wall law)
+            let xw = (i as f64 + 0.5).min((nx - i) as f64 - 0.5) * d.dx;
+            let yw = (j as f64 + 0.5).min((ny - j) as f64 - 0.5) * d.dy;
+            let lm = (prm.mixing_length_ratio * h).min(0.41 * xw.min(yw));
             nu[d.ic(i, j)] += prm.depth_eddy_coefficient * h * ustar + lm * lm * shear;
         }
     }
