@@ -124,7 +124,10 @@ fn cavity_re100_matches_ghia() {
     check(64, 100.0, 0, 0.02);
 }
 
-/// 128² at Re 400: several minutes on the shared machine; run with `--ignored`.
+/// 128² at Re 400: about ten minutes on the shared machine; run with `--ignored`. FAILS today: measured max
+/// deviation 0.149 of the lid speed (2109 SIMPLEC iterations). The Re 100 and Re 1000 cases pass, so the outlier is
+/// suspected to be one table entry (v at x = 0.9063, −0.23827, which breaks the smooth run of its neighbours) —
+/// not verified against the paper; the per-point errors have not been examined yet.
 #[test]
 #[ignore]
 fn cavity_re400_matches_ghia() {
