@@ -13,6 +13,8 @@ pub mod geometry;
 mod mg;
 pub mod path;
 pub mod plenum;
+pub mod plenum2d;
+pub mod plenum_shape;
 pub mod solve;
 
 pub use bed::{BedLaw, ResistanceLaw};

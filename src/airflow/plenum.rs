@@ -54,6 +54,8 @@ pub enum PlenumModel {
     Uniform,
     /// The 1-D dividing-flow manifold described in the module docs.
     Manifold(ManifoldParams),
+    /// The 2-D depth-averaged plenum flow (`airflow::plenum2d`, coupled through `airflow::plenum_shape`).
+    TwoD(super::plenum_shape::Plenum2dParams),
 }
 
 impl Default for PlenumModel {
@@ -89,7 +91,8 @@ pub struct PlenumProfile {
 /// March the manifold balance from the inlet wall.
 ///
 /// `outflow_m3_per_s[i]` is the air leaving row i (all columns across the width, plus its share of leakage);
-/// the inflow is their sum. Returns p − p_inlet at row centres. Uniform model: all zeros.
+/// the inflow is their sum. Returns p − p_inlet at row centres. Uniform model, and the 2-D model (which has no
+/// row profile; see `airflow::plenum_shape`): all zeros.
 pub fn profile(
     model: &PlenumModel,
     geom: &PlenumGeometry,
@@ -98,7 +101,7 @@ pub fn profile(
 ) -> PlenumProfile {
     let nx = outflow_m3_per_s.len();
     let params = match model {
-        PlenumModel::Uniform => {
+        PlenumModel::Uniform | PlenumModel::TwoD(_) => {
             return PlenumProfile {
                 rise_pa: vec![0.0; nx],
                 velocity_m_per_s: vec![0.0; nx],

@@ -24,7 +24,9 @@ use super::bed::{BedLaw, BedSystem, LinearStats};
 use super::fan::{leakage_m3_per_s, FanError, FlowSpec};
 use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
 use super::path::AirPath;
-use super::plenum::{profile, PlenumGeometry, PlenumModel};
+use super::plenum::PlenumModel;
+use super::plenum2d::FlowError;
+use super::plenum_shape::{build, Plenum};
 use crate::error::InputError;
 use crate::props::psychro::AirState;
 
@@ -61,6 +63,9 @@ pub enum AirflowError {
         /// Final relative residual.
         residual: f64,
     },
+    /// The plenum flow solve failed.
+    #[error(transparent)]
+    Plenum(#[from] FlowError),
     /// A result is not finite or not physical.
     #[error("airflow solve gave a non-physical {quantity} = {value}")]
     NonPhysical {
@@ -399,7 +404,7 @@ fn rel_change(p: &[f64], prev: &[f64]) -> f64 {
     }
 }
 
-/// As [`solve`], for a container already on its grid.
+/// As [`solve`], for a container already on its grid, with a fresh plenum of the kind `settings.plenum` names.
 pub fn solve_discrete(
     container: &Container,
     disc: &DiscreteContainer,
@@ -407,6 +412,21 @@ pub fn solve_discrete(
     law: &BedLaw,
     air: &AirPath,
     settings: &SolverSettings,
+) -> Result<AirflowSolution, AirflowError> {
+    let mut plenum = build(&settings.plenum, container, disc.grid);
+    solve_with_plenum(container, disc, flow, law, air, settings, plenum.as_mut())
+}
+
+/// As [`solve_discrete`] with a caller-held plenum, which keeps its state between solves (a warm start during a
+/// drying run); `settings.plenum` is not consulted.
+pub fn solve_with_plenum(
+    container: &Container,
+    disc: &DiscreteContainer,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    air: &AirPath,
+    settings: &SolverSettings,
+    plenum: &mut dyn Plenum,
 ) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
     // Plenum air: inlet transition, plenum, floor, leakage and bed. Fan air: the fan curve.
@@ -419,13 +439,6 @@ pub fn solve_discrete(
     }
     let a_in = container.inlet_area_m2();
     let inl = container.inlet;
-    let geom = PlenumGeometry {
-        length_m: container.length_m,
-        width_m: container.width_m,
-        height_m: container.plenum_height_m,
-        inlet_area_m2: a_in,
-        inlet_hydraulic_diameter_m: 2.0 * inl.width_m * inl.height_m / (inl.width_m + inl.height_m),
-    };
     let floor_area = container.floor_area_m2();
     let q_guess = match flow {
         FlowSpec::Fixed { total_m3_per_s } => *total_m3_per_s,
@@ -452,7 +465,7 @@ pub fn solve_discrete(
     );
     let n = sys.cells();
     let nc = nx * ny;
-    let manifold = !matches!(settings.plenum, PlenumModel::Uniform);
+    let manifold = !plenum.is_uniform();
     let leak_c = container.leakage_m3_per_s_per_sqrt_pa;
     let ones = vec![1.0; nc];
     let mut b = vec![0.0; n];
@@ -462,7 +475,7 @@ pub fn solve_discrete(
     let mut p_in_prev = 0.0;
     let mut p = vec![0.0; n];
     let mut prev = vec![0.0; n];
-    let mut delta_row = vec![0.0; nx];
+    let mut delta_col = vec![0.0; nc];
     let mut linear_total = 0;
     let mut last_change: f64 = 1.0;
     for it in 1..=settings.max_outer_iters {
@@ -480,7 +493,6 @@ pub fn solve_discrete(
             sys.rhs(&ones, &mut b);
             linear(&mut sys, &b, &mut phi1, settings_lin, &mut linear_total)?;
         }
-        let delta_col: Vec<f64> = (0..nc).map(|c| delta_row[c / ny]).collect();
         let g1: f64 = sys.bottom_flow_m3_per_s(&phi1, &ones).iter().sum();
         let gd: f64 = if manifold {
             // Solve once for the whole plenum field at the previous inlet pressure, warm-started from the last
@@ -496,7 +508,7 @@ pub fn solve_discrete(
         } else {
             0.0
         };
-        let dbar = delta_row.iter().sum::<f64>() / nx as f64;
+        let dbar = delta_col.iter().sum::<f64>() / nc as f64;
         let p_in_for = |q: f64| {
             root_increasing(
                 |pin| g1 * pin + gd + leakage_m3_per_s(leak_c, pin + dbar) - q,
@@ -598,11 +610,7 @@ pub fn solve_discrete(
         }
         prev.copy_from_slice(&p);
         if manifold {
-            let mut rows = vec![leak / nx as f64; nx];
-            for (c, q) in bottom.iter().enumerate() {
-                rows[c / ny] += q;
-            }
-            delta_row = profile(&settings.plenum, &geom, &rows, rho).rise_pa;
+            delta_col = plenum.shape_pa(&bottom, leak, rho)?;
         }
         sys.update_speeds(&p, &p_pl);
         sys.assemble();

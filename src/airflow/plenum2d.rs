@@ -1,0 +1,893 @@
+//! Steady, incompressible, depth-averaged 2-D flow in a shallow box: the flow core of the 2-D plenum.
+//!
+//! Equations (depth-averaged shallow flow on the floor plan, DOMAIN.md §13; kinematic pressure P = p/ρ):
+//!
+//! - continuity `∂(h·u)/∂x + ∂(h·v)/∂y = −w`, with w the outflow per unit plan area (floor and leakage), m/s;
+//! - momentum `∇·(h·u⊗u) = −h·∇P + ∇·(h·ν_e·∇u) − c_f·|u|·u − β·w·u`, where `c_f·|u|·u` is the friction of the
+//!   floor sheet and the plenum bottom (τ/ρ = ½·c_f·|u|·u on each) and β the fraction of the horizontal momentum
+//!   the outflow takes with it.
+//!
+//! Eddy viscosity (our closure, stated): `ν_e = ν + (κ/6)·h·u* + (c_m·h)²·|S|`, u* = √(c_f/2)·|u|, κ = 0.41:
+//! the first turbulent term is the depth mean of the parabolic eddy viscosity used in depth-averaged river models
+//! (Elder 1959, from memory), the second a Prandtl mixing length tied to the plenum height for the jet's shear
+//! layers (c_m = 0.1 by default, our choice within the 0.07–0.1 range of DOMAIN.md §13; from memory), bounded by
+//! κ times the distance to the nearest side wall.
+//!
+//! Numerics: a staggered (MAC) grid of finite volumes — pressure at cell centres, u on the x-faces, v on the
+//! y-faces — and SIMPLEC pressure coupling (Van Doormaal & Raithby 1984, Numer. Heat Transfer 7:147–163, a variant
+//! of SIMPLE, Patankar 1980, *Numerical Heat Transfer and Fluid Flow*). Convection: upwind implicit with a deferred
+//! correction to the van Leer limited scheme (van Leer 1974, J. Comput. Phys. 14:361–370), which is bounded (TVD)
+//! and second order away from extrema; `Scheme::Upwind` and `Scheme::Central` are there for checks. No-slip walls
+//! use a second-order one-sided wall gradient (exact for a parabola), also by deferred correction. Momentum is
+//! relaxed by symmetric Gauss–Seidel sweeps, the pressure correction solved by Jacobi-preconditioned conjugate
+//! gradients (the all-Neumann problem is consistent because inflow equals outflow, and its mean is removed).
+//!
+//! Boundaries: every boundary face carries a prescribed normal velocity (0 on walls; the inflow on inlet faces);
+//! interior faces may be blocked (baffles), and a run of blocked faces acts as a no-slip wall for the velocity
+//! parallel to it. A lid speed along the y = W wall is there for the cavity benchmark.
+//!
+//! The state (u, v, P) lives apart from the solver in [`FlowState`], so a re-solve starts from the last field.
+
+/// Convection scheme for the momentum equations.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Scheme {
+    /// First-order upwind (bounded, diffusive).
+    Upwind,
+    /// Van Leer limited (bounded, second order in smooth regions): the default.
+    VanLeer,
+    /// Central differences by deferred correction (unbounded at high cell Péclet numbers).
+    Central,
+}
+
+/// Physical and numerical parameters of a 2-D solve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FlowParams {
+    /// Molecular kinematic viscosity, m²/s.
+    pub nu_m2_per_s: f64,
+    /// Skin-friction coefficient c_f of each of the two horizontal surfaces (0 = frictionless).
+    pub friction_coefficient: f64,
+    /// Depth-mean eddy-viscosity coefficient (κ/6 ≈ 0.068; 0 = laminar).
+    pub depth_eddy_coefficient: f64,
+    /// Mixing length over local depth, c_m (0 = none).
+    pub mixing_length_ratio: f64,
+    /// Fraction β of horizontal momentum leaving with the outflow.
+    pub outflow_momentum_fraction: f64,
+    /// Convection scheme.
+    pub scheme: Scheme,
+    /// Momentum under-relaxation factor.
+    pub relax_velocity: f64,
+    /// Pressure under-relaxation factor.
+    pub relax_pressure: f64,
+    /// Stop when the largest velocity change per iteration and the largest cell mass imbalance, both relative to
+    /// the reference speed and flux, fall below this.
+    pub tolerance: f64,
+    /// Iterations allowed.
+    pub max_iters: u32,
+}
+
+impl FlowParams {
+    /// Laminar flow with kinematic viscosity `nu`: no friction, no eddy viscosity (the benchmark setting).
+    pub fn laminar(nu: f64) -> Self {
+        FlowParams {
+            nu_m2_per_s: nu,
+            friction_coefficient: 0.0,
+            depth_eddy_coefficient: 0.0,
+            mixing_length_ratio: 0.0,
+            outflow_momentum_fraction: 1.0,
+            scheme: Scheme::VanLeer,
+            relax_velocity: 0.8,
+            relax_pressure: 1.0,
+            tolerance: 1e-7,
+            max_iters: 20_000,
+        }
+    }
+}
+
+/// The domain: a rectangle of nx × ny cells with a depth per cell, boundary velocities and blocked faces.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FlowDomain {
+    /// Cells along x.
+    pub nx: usize,
+    /// Cells along y.
+    pub ny: usize,
+    /// Cell size along x, m.
+    pub dx: f64,
+    /// Cell size along y, m.
+    pub dy: f64,
+    /// Depth h per cell, m, index `j·nx + i`.
+    pub depth: Vec<f64>,
+    /// Prescribed u on x-faces (`j·(nx+1) + i`): boundary faces always, interior faces when blocked (`Some(0)`).
+    pub u_fixed: Vec<Option<f64>>,
+    /// Prescribed v on y-faces (`j·nx + i`, j in 0..=ny).
+    pub v_fixed: Vec<Option<f64>>,
+    /// Momentum-flux factor on each x-face with prescribed inflow: jet momentum = factor × flux × u (h / h_inlet
+    /// for a jet filling only part of the depth; 1 otherwise).
+    pub u_momentum_factor: Vec<f64>,
+    /// Momentum-flux factor on each y-face, as for x.
+    pub v_momentum_factor: Vec<f64>,
+    /// Speed of the y = ny·dy wall along x (the cavity lid), m/s.
+    pub lid_speed: f64,
+    /// Outflow from each cell, m³/s (≥ 0 leaves the plenum).
+    pub sink_m3_per_s: Vec<f64>,
+}
+
+impl FlowDomain {
+    /// A closed box of uniform depth with walls on every side and no sinks.
+    pub fn closed_box(nx: usize, ny: usize, dx: f64, dy: f64, depth: f64) -> Self {
+        let mut u_fixed = vec![None; (nx + 1) * ny];
+        for j in 0..ny {
+            u_fixed[j * (nx + 1)] = Some(0.0);
+            u_fixed[j * (nx + 1) + nx] = Some(0.0);
+        }
+        let mut v_fixed = vec![None; nx * (ny + 1)];
+        for i in 0..nx {
+            v_fixed[i] = Some(0.0);
+            v_fixed[ny * nx + i] = Some(0.0);
+        }
+        FlowDomain {
+            nx,
+            ny,
+            dx,
+            dy,
+            depth: vec![depth; nx * ny],
+            u_momentum_factor: vec![1.0; (nx + 1) * ny],
+            v_momentum_factor: vec![1.0; nx * (ny + 1)],
+            u_fixed,
+            v_fixed,
+            lid_speed: 0.0,
+            sink_m3_per_s: vec![0.0; nx * ny],
+        }
+    }
+
+    fn iu(&self, i: usize, j: usize) -> usize {
+        j * (self.nx + 1) + i
+    }
+    fn iv(&self, i: usize, j: usize) -> usize {
+        j * self.nx + i
+    }
+    fn ic(&self, i: usize, j: usize) -> usize {
+        j * self.nx + i
+    }
+    /// Depth on x-face (i, j).
+    fn hu(&self, i: usize, j: usize) -> f64 {
+        let a = if i > 0 {
+            self.depth[self.ic(i - 1, j)]
+        } else {
+            0.0
+        };
+        let b = if i < self.nx {
+            self.depth[self.ic(i, j)]
+        } else {
+            0.0
+        };
+        if i == 0 {
+            b
+        } else if i == self.nx {
+            a
+        } else {
+            0.5 * (a + b)
+        }
+    }
+    /// Depth on y-face (i, j).
+    fn hv(&self, i: usize, j: usize) -> f64 {
+        if j == 0 {
+            self.depth[self.ic(i, 0)]
+        } else if j == self.ny {
+            self.depth[self.ic(i, self.ny - 1)]
+        } else {
+            0.5 * (self.depth[self.ic(i, j - 1)] + self.depth[self.ic(i, j)])
+        }
+    }
+    /// Is the horizontal line y = y_j between x-centres of cells i−1 and i a wall (for the u-CV at (i, ·))?
+    fn wall_y(&self, i: usize, j: usize) -> bool {
+        j == 0
+            || j == self.ny
+            || (self.v_fixed[self.iv(i - 1, j)] == Some(0.0)
+                && self.v_fixed[self.iv(i, j)] == Some(0.0))
+    }
+    /// Is the vertical line x = x_i between y-centres of cells j−1 and j a wall (for the v-CV at (·, j))?
+    fn wall_x(&self, i: usize, j: usize) -> bool {
+        i == 0
+            || i == self.nx
+            || (self.u_fixed[self.iu(i, j - 1)] == Some(0.0)
+                && self.u_fixed[self.iu(i, j)] == Some(0.0))
+    }
+}
+
+/// The flow field: u on x-faces, v on y-faces (m/s), kinematic pressure P = p/ρ at cell centres (m²/s²).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct FlowState {
+    /// u, index `j·(nx+1) + i`.
+    pub u: Vec<f64>,
+    /// v, index `j·nx + i`.
+    pub v: Vec<f64>,
+    /// P, index `j·nx + i`.
+    pub p: Vec<f64>,
+}
+
+impl FlowState {
+    /// A state at rest sized for `d`, with the prescribed face velocities in place.
+    pub fn at_rest(d: &FlowDomain) -> Self {
+        let mut s = FlowState {
+            u: vec![0.0; (d.nx + 1) * d.ny],
+            v: vec![0.0; d.nx * (d.ny + 1)],
+            p: vec![0.0; d.nx * d.ny],
+        };
+        s.apply_fixed(d);
+        s
+    }
+    fn fits(&self, d: &FlowDomain) -> bool {
+        self.u.len() == (d.nx + 1) * d.ny
+            && self.v.len() == d.nx * (d.ny + 1)
+            && self.p.len() == d.nx * d.ny
+    }
+    fn apply_fixed(&mut self, d: &FlowDomain) {
+        for (u, f) in self.u.iter_mut().zip(&d.u_fixed) {
+            if let Some(x) = f {
+                *u = *x;
+            }
+        }
+        for (v, f) in self.v.iter_mut().zip(&d.v_fixed) {
+            if let Some(x) = f {
+                *v = *x;
+            }
+        }
+    }
+    /// Cell-centre velocity (u, v) of cell (i, j).
+    pub fn centre_velocity(&self, d: &FlowDomain, i: usize, j: usize) -> (f64, f64) {
+        (
+            0.5 * (self.u[d.iu(i, j)] + self.u[d.iu(i + 1, j)]),
+            0.5 * (self.v[d.iv(i, j)] + self.v[d.iv(i, j + 1)]),
+        )
+    }
+}
+
+/// Errors of a 2-D flow solve.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FlowError {
+    /// The domain is malformed (sizes, depths).
+    #[error("2-D flow domain: {0}")]
+    Domain(String),
+    /// The iteration did not converge.
+    #[error("2-D plenum flow did not converge: {iters} iterations, velocity change {velocity_change:.3e}, mass imbalance {mass_imbalance:.3e}")]
+    NotConverged {
+        /// Iterations done.
+        iters: u32,
+        /// Last relative velocity change.
+        velocity_change: f64,
+        /// Last relative mass imbalance.
+        mass_imbalance: f64,
+    },
+    /// The field became non-finite.
+    #[error("2-D plenum flow diverged after {0} iterations")]
+    Diverged(u32),
+}
+
+/// Convergence record of a 2-D solve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FlowStats {
+    /// SIMPLEC iterations.
+    pub iters: u32,
+    /// Conjugate-gradient iterations summed over the pressure corrections.
+    pub pressure_iters: u32,
+    /// Final relative velocity change.
+    pub velocity_change: f64,
+    /// Final relative mass imbalance.
+    pub mass_imbalance: f64,
+}
+
+/// Coefficients of one momentum component: a_P·φ_P = Σ a_nb·φ_nb + b, with d = face area / (a_P/α − Σa_nb).
+struct Coeffs {
+    ap: Vec<f64>,
+    ae: Vec<f64>,
+    aw: Vec<f64>,
+    an: Vec<f64>,
+    as_: Vec<f64>,
+    b: Vec<f64>,
+    d: Vec<f64>,
+}
+
+impl Coeffs {
+    fn new(n: usize) -> Self {
+        Coeffs {
+            ap: vec![0.0; n],
+            ae: vec![0.0; n],
+            aw: vec![0.0; n],
+            an: vec![0.0; n],
+            as_: vec![0.0; n],
+            b: vec![0.0; n],
+            d: vec![0.0; n],
+        }
+    }
+}
+
+/// Face value by the chosen scheme from the far-upwind (if any), upwind and downwind values.
+fn face_value(scheme: Scheme, uu: Option<f64>, u: f64, dn: f64) -> f64 {
+    match scheme {
+        Scheme::Upwind => u,
+        Scheme::Central => 0.5 * (u + dn),
+        Scheme::VanLeer => {
+            let Some(uu) = uu else { return u };
+            let den = dn - u;
+            if den.abs() < 1e-300 {
+                return u;
+            }
+            let r = (u - uu) / den;
+            let psi = (r + r.abs()) / (1.0 + r.abs());
+            u + 0.5 * psi * den
+        }
+    }
+}
+
+/// Deferred-correction source for a face: −F_out·(φ_HO − φ_UD), with F_out the flux leaving the CV through it
+/// and the stencil given in the direction of increasing index (`m2, m1 | p1, p2` around the face).
+fn dc(scheme: Scheme, f_out_pos: f64, m2: Option<f64>, m1: f64, p1: f64, p2: Option<f64>) -> f64 {
+    // f_out_pos: flux in the +direction across the face (positive from m1 to p1)
+    if f_out_pos >= 0.0 {
+        f_out_pos * (face_value(scheme, m2, m1, p1) - m1)
+    } else {
+        f_out_pos * (face_value(scheme, p2, p1, m1) - p1)
+    }
+}
+
+fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
+    let (nx, ny) = (d.nx, d.ny);
+    let mut nu = vec![prm.nu_m2_per_s; nx * ny];
+    if prm.depth_eddy_coefficient == 0.0 && prm.mixing_length_ratio == 0.0 {
+        return nu;
+    }
+    let cu = |i: usize, j: usize| s.centre_velocity(d, i, j);
+    for j in 0..ny {
+        for i in 0..nx {
+            let h = d.depth[d.ic(i, j)];
+            let (uc, vc) = cu(i, j);
+            let speed = (uc * uc + vc * vc).sqrt();
+            let ustar = (0.5 * prm.friction_coefficient).sqrt() * speed;
+            let dudx = (s.u[d.iu(i + 1, j)] - s.u[d.iu(i, j)]) / d.dx;
+            let dvdy = (s.v[d.iv(i, j + 1)] - s.v[d.iv(i, j)]) / d.dy;
+            let (jl, jh) = (j.saturating_sub(1), (j + 1).min(ny - 1));
+            let (il, ih) = (i.saturating_sub(1), (i + 1).min(nx - 1));
+            let dudy = (cu(i, jh).0 - cu(i, jl).0) / ((jh - jl).max(1) as f64 * d.dy);
+            let dvdx = (cu(ih, j).1 - cu(il, j).1) / ((ih - il).max(1) as f64 * d.dx);
+            let shear = (2.0 * (dudx * dudx + dvdy * dvdy) + (dudy + dvdx).powi(2)).sqrt();
+            // the mixing length is also bounded by κ × the distance to the nearest side wall (Prandtl's wall law)
+            let xw = (i as f64 + 0.5).min((nx - i) as f64 - 0.5) * d.dx;
+            let yw = (j as f64 + 0.5).min((ny - j) as f64 - 0.5) * d.dy;
+            let lm = (prm.mixing_length_ratio * h).min(0.41 * xw.min(yw));
+            nu[d.ic(i, j)] += prm.depth_eddy_coefficient * h * ustar + lm * lm * shear;
+        }
+    }
+    nu
+}
+
+/// Volumetric fluxes h·u·dy on x-faces and h·v·dx on y-faces.
+fn fluxes(d: &FlowDomain, s: &FlowState) -> (Vec<f64>, Vec<f64>) {
+    let mut qu = vec![0.0; s.u.len()];
+    let mut qv = vec![0.0; s.v.len()];
+    for j in 0..d.ny {
+        for i in 0..=d.nx {
+            let k = d.iu(i, j);
+            qu[k] = d.hu(i, j) * s.u[k] * d.dy;
+        }
+    }
+    for j in 0..=d.ny {
+        for i in 0..d.nx {
+            let k = d.iv(i, j);
+            qv[k] = d.hv(i, j) * s.v[k] * d.dx;
+        }
+    }
+    (qu, qv)
+}
+
+/// Assemble the u-momentum equations on interior, unblocked x-faces.
+fn assemble_u(
+    d: &FlowDomain,
+    s: &FlowState,
+    prm: &FlowParams,
+    nu: &[f64],
+    qu: &[f64],
+    qv: &[f64],
+    c: &mut Coeffs,
+) {
+    let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
+    let u = |i: usize, j: usize| s.u[d.iu(i, j)];
+    for j in 0..ny {
+        for i in 1..nx {
+            let k = d.iu(i, j);
+            if d.u_fixed[k].is_some() {
+                c.d[k] = 0.0;
+                continue;
+            }
+            let hf = d.hu(i, j);
+            let fe = 0.5 * (qu[d.iu(i, j)] + qu[d.iu(i + 1, j)]);
+            let fw = 0.5 * (qu[d.iu(i - 1, j)] + qu[d.iu(i, j)]);
+            let fnn = 0.5 * (qv[d.iv(i - 1, j + 1)] + qv[d.iv(i, j + 1)]);
+            let fs = 0.5 * (qv[d.iv(i - 1, j)] + qv[d.iv(i, j)]);
+            let sink = 0.5 * (d.sink_m3_per_s[d.ic(i - 1, j)] + d.sink_m3_per_s[d.ic(i, j)]);
+            let de = gam(i, j) * dy / dx;
+            let dw = gam(i - 1, j) * dy / dx;
+            let mut b = 0.0;
+            let mut ap_wall = 0.0;
+            // north / south: interior shear or a no-slip wall with a second-order one-sided gradient
+            let mut side = |up: bool| -> f64 {
+                let jf = if up { j + 1 } else { j };
+                if d.wall_y(i, jf) {
+                    let g = 0.5 * (gam(i - 1, j) + gam(i, j)) * dx / dy;
+                    let uw = if up && jf == ny { d.lid_speed } else { 0.0 };
+                    // τ·A = g·(9u₁ − u₂ − 8u_w)/3: implicit 8/3·g on u₁ − u_w, deferred g/3·(u₁ − u₂)
+                    let j2 = if up {
+                        j.checked_sub(1)
+                    } else {
+                        Some(j + 1).filter(|&x| x < ny)
+                    };
+                    ap_wall += 8.0 / 3.0 * g;
+                    b += 8.0 / 3.0 * g * uw;
+                    if let Some(j2) = j2 {
+                        b -= g / 3.0 * (u(i, j) - u(i, j2));
+                    }
+                    0.0
+                } else {
+                    let jo = if up { j + 1 } else { j - 1 };
+                    0.25 * (gam(i - 1, j) + gam(i, j) + gam(i - 1, jo) + gam(i, jo)) * dx / dy
+                }
+            };
+            let dn = side(true);
+            let ds = side(false);
+            let ae = de + (-fe).max(0.0);
+            let aw = dw + fw.max(0.0);
+            let an = dn + (-fnn).max(0.0);
+            let as_ = ds + fs.max(0.0);
+            let net = fe - fw + fnn - fs;
+            let vbar = 0.25
+                * (s.v[d.iv(i - 1, j)]
+                    + s.v[d.iv(i, j)]
+                    + s.v[d.iv(i - 1, j + 1)]
+                    + s.v[d.iv(i, j + 1)]);
+            let speed = (u(i, j).powi(2) + vbar * vbar).sqrt();
+            let fric = prm.friction_coefficient * speed * dx * dy;
+            let ap = ae
+                + aw
+                + an
+                + as_
+                + ap_wall
+                + (net + prm.outflow_momentum_fraction * sink).max(0.0)
+                + fric;
+            // deferred corrections to the chosen convection scheme
+            let g = |ii: isize, jj: isize| -> Option<f64> {
+                (ii >= 0 && ii <= nx as isize && jj >= 0 && jj < ny as isize)
+                    .then(|| u(ii as usize, jj as usize))
+            };
+            let (ii, jj) = (i as isize, j as isize);
+            b -= dc(
+                prm.scheme,
+                fe,
+                g(ii - 1, jj),
+                u(i, j),
+                u(i + 1, j),
+                g(ii + 2, jj),
+            );
+            b += dc(
+                prm.scheme,
+                fw,
+                g(ii - 2, jj),
+                u(i - 1, j),
+                u(i, j),
+                g(ii + 1, jj),
+            );
+            if !d.wall_y(i, j + 1) {
+                b -= dc(
+                    prm.scheme,
+                    fnn,
+                    g(ii, jj - 1),
+                    u(i, j),
+                    u(i, j + 1),
+                    g(ii, jj + 2),
+                );
+            }
+            if !d.wall_y(i, j) {
+                b += dc(
+                    prm.scheme,
+                    fs,
+                    g(ii, jj - 2),
+                    u(i, j - 1),
+                    u(i, j),
+                    g(ii, jj + 1),
+                );
+            }
+            // a jet filling part of the depth brings factor × its depth-mean momentum flux
+            if i == 1 {
+                b += fw.max(0.0) * (d.u_momentum_factor[d.iu(0, j)] - 1.0) * u(0, j);
+            }
+            if i == nx - 1 {
+                b += (-fe).max(0.0) * (d.u_momentum_factor[d.iu(nx, j)] - 1.0) * u(nx, j);
+            }
+            let pw = s.p[d.ic(i - 1, j)];
+            let pe = s.p[d.ic(i, j)];
+            b += hf * dy * (pw - pe);
+            let alpha = prm.relax_velocity;
+            c.ap[k] = ap / alpha;
+            c.b[k] = b + (1.0 - alpha) / alpha * ap * u(i, j);
+            c.ae[k] = ae;
+            c.aw[k] = aw;
+            c.an[k] = an;
+            c.as_[k] = as_;
+            c.d[k] = hf * dy / (ap / alpha - ae - aw - an - as_).max(1e-300);
+        }
+    }
+}
+
+/// Assemble the v-momentum equations on interior, unblocked y-faces.
+fn assemble_v(
+    d: &FlowDomain,
+    s: &FlowState,
+    prm: &FlowParams,
+    nu: &[f64],
+    qu: &[f64],
+    qv: &[f64],
+    c: &mut Coeffs,
+) {
+    let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
+    let v = |i: usize, j: usize| s.v[d.iv(i, j)];
+    for j in 1..ny {
+        for i in 0..nx {
+            let k = d.iv(i, j);
+            if d.v_fixed[k].is_some() {
+                c.d[k] = 0.0;
+                continue;
+            }
+            let hf = d.hv(i, j);
+            let fnn = 0.5 * (qv[d.iv(i, j)] + qv[d.iv(i, j + 1)]);
+            let fs = 0.5 * (qv[d.iv(i, j - 1)] + qv[d.iv(i, j)]);
+            let fe = 0.5 * (qu[d.iu(i + 1, j - 1)] + qu[d.iu(i + 1, j)]);
+            let fw = 0.5 * (qu[d.iu(i, j - 1)] + qu[d.iu(i, j)]);
+            let sink = 0.5 * (d.sink_m3_per_s[d.ic(i, j - 1)] + d.sink_m3_per_s[d.ic(i, j)]);
+            let dn = gam(i, j) * dx / dy;
+            let ds = gam(i, j - 1) * dx / dy;
+            let mut b = 0.0;
+            let mut ap_wall = 0.0;
+            let mut side = |up: bool| -> f64 {
+                let iface = if up { i + 1 } else { i };
+                if d.wall_x(iface, j) {
+                    let g = 0.5 * (gam(i, j - 1) + gam(i, j)) * dy / dx;
+                    let i2 = if up {
+                        i.checked_sub(1)
+                    } else {
+                        Some(i + 1).filter(|&x| x < nx)
+                    };
+                    ap_wall += 8.0 / 3.0 * g;
+                    if let Some(i2) = i2 {
+                        b -= g / 3.0 * (v(i, j) - v(i2, j));
+                    }
+                    0.0
+                } else {
+                    let io = if up { i + 1 } else { i - 1 };
+                    0.25 * (gam(i, j - 1) + gam(i, j) + gam(io, j - 1) + gam(io, j)) * dy / dx
+                }
+            };
+            let de = side(true);
+            let dw = side(false);
+            let ae = de + (-fe).max(0.0);
+            let aw = dw + fw.max(0.0);
+            let an = dn + (-fnn).max(0.0);
+            let as_ = ds + fs.max(0.0);
+            let net = fe - fw + fnn - fs;
+            let ubar = 0.25
+                * (s.u[d.iu(i, j - 1)]
+                    + s.u[d.iu(i + 1, j - 1)]
+                    + s.u[d.iu(i, j)]
+                    + s.u[d.iu(i + 1, j)]);
+            let speed = (v(i, j).powi(2) + ubar * ubar).sqrt();
+            let fric = prm.friction_coefficient * speed * dx * dy;
+            let ap = ae
+                + aw
+                + an
+                + as_
+                + ap_wall
+                + (net + prm.outflow_momentum_fraction * sink).max(0.0)
+                + fric;
+            let g = |ii: isize, jj: isize| -> Option<f64> {
+                (ii >= 0 && ii < nx as isize && jj >= 0 && jj <= ny as isize)
+                    .then(|| v(ii as usize, jj as usize))
+            };
+            let (ii, jj) = (i as isize, j as isize);
+            b -= dc(
+                prm.scheme,
+                fnn,
+                g(ii, jj - 1),
+                v(i, j),
+                v(i, j + 1),
+                g(ii, jj + 2),
+            );
+            b += dc(
+                prm.scheme,
+                fs,
+                g(ii, jj - 2),
+                v(i, j - 1),
+                v(i, j),
+                g(ii, jj + 1),
+            );
+            if !d.wall_x(i + 1, j) {
+                b -= dc(
+                    prm.scheme,
+                    fe,
+                    g(ii - 1, jj),
+                    v(i, j),
+                    v(i + 1, j),
+                    g(ii + 2, jj),
+                );
+            }
+            if !d.wall_x(i, j) {
+                b += dc(
+                    prm.scheme,
+                    fw,
+                    g(ii - 2, jj),
+                    v(i - 1, j),
+                    v(i, j),
+                    g(ii + 1, jj),
+                );
+            }
+            if j == 1 {
+                b += fs.max(0.0) * (d.v_momentum_factor[d.iv(i, 0)] - 1.0) * v(i, 0);
+            }
+            if j == ny - 1 {
+                b += (-fnn).max(0.0) * (d.v_momentum_factor[d.iv(i, ny)] - 1.0) * v(i, ny);
+            }
+            b += hf * dx * (s.p[d.ic(i, j - 1)] - s.p[d.ic(i, j)]);
+            let alpha = prm.relax_velocity;
+            c.ap[k] = ap / alpha;
+            c.b[k] = b + (1.0 - alpha) / alpha * ap * v(i, j);
+            c.ae[k] = ae;
+            c.aw[k] = aw;
+            c.an[k] = an;
+            c.as_[k] = as_;
+            c.d[k] = hf * dx / (ap / alpha - ae - aw - an - as_).max(1e-300);
+        }
+    }
+}
+
+/// Symmetric Gauss–Seidel sweeps on a face field of row length `rl` and `rows` rows; fixed faces stay.
+fn sweep(phi: &mut [f64], c: &Coeffs, fixed: &[Option<f64>], rl: usize, rows: usize, n: usize) {
+    let upd = |phi: &mut [f64], k: usize| {
+        if fixed[k].is_some() || c.ap[k] == 0.0 {
+            return;
+        }
+        let (i, j) = (k % rl, k / rl);
+        let mut s = c.b[k];
+        if i + 1 < rl {
+            s += c.ae[k] * phi[k + 1];
+        }
+        if i > 0 {
+            s += c.aw[k] * phi[k - 1];
+        }
+        if j + 1 < rows {
+            s += c.an[k] * phi[k + rl];
+        }
+        if j > 0 {
+            s += c.as_[k] * phi[k - rl];
+        }
+        phi[k] = s / c.ap[k];
+    };
+    for _ in 0..n {
+        for k in 0..phi.len() {
+            upd(phi, k);
+        }
+        for k in (0..phi.len()).rev() {
+            upd(phi, k);
+        }
+    }
+}
+
+/// Pressure-correction equation: Σ A·(P'_P − P'_nb) = r, solved by Jacobi-PCG with the mean removed.
+fn pressure_correction(
+    d: &FlowDomain,
+    cu: &Coeffs,
+    cv: &Coeffs,
+    r: &[f64],
+    tol: f64,
+    x: &mut [f64],
+) -> u32 {
+    let (nx, ny) = (d.nx, d.ny);
+    let n = nx * ny;
+    let ax = |i: usize, j: usize| d.hu(i, j) * d.dy * cu.d[d.iu(i, j)];
+    let ay = |i: usize, j: usize| d.hv(i, j) * d.dx * cv.d[d.iv(i, j)];
+    let mut aw = vec![0.0; n];
+    let mut as_ = vec![0.0; n];
+    let mut diag = vec![0.0; n];
+    for j in 0..ny {
+        for i in 0..nx {
+            let k = d.ic(i, j);
+            aw[k] = if i > 0 { ax(i, j) } else { 0.0 };
+            as_[k] = if j > 0 { ay(i, j) } else { 0.0 };
+            let ae = if i + 1 < nx { ax(i + 1, j) } else { 0.0 };
+            let an = if j + 1 < ny { ay(i, j + 1) } else { 0.0 };
+            diag[k] = aw[k] + as_[k] + ae + an;
+        }
+    }
+    let matvec = |p: &[f64], out: &mut [f64]| {
+        for k in 0..n {
+            let (i, j) = (k % nx, k / nx);
+            let mut s = diag[k] * p[k];
+            if i > 0 {
+                s -= aw[k] * p[k - 1];
+            }
+            if i + 1 < nx {
+                s -= aw[k + 1] * p[k + 1];
+            }
+            if j > 0 {
+                s -= as_[k] * p[k - nx];
+            }
+            if j + 1 < ny {
+                s -= as_[k + nx] * p[k + nx];
+            }
+            out[k] = s;
+        }
+    };
+    let mean = r.iter().sum::<f64>() / n as f64;
+    let mut res: Vec<f64> = r.iter().map(|v| v - mean).collect();
+    x.iter_mut().for_each(|v| *v = 0.0);
+    let norm0 = res.iter().map(|v| v * v).sum::<f64>().sqrt();
+    if norm0 == 0.0 {
+        return 0;
+    }
+    let inv: Vec<f64> = diag
+        .iter()
+        .map(|&a| if a > 0.0 { 1.0 / a } else { 0.0 })
+        .collect();
+    let mut z: Vec<f64> = res.iter().zip(&inv).map(|(a, b)| a * b).collect();
+    let mut pdir = z.clone();
+    let mut q = vec![0.0; n];
+    let mut rz: f64 = res.iter().zip(&z).map(|(a, b)| a * b).sum();
+    let mut it = 0;
+    while it < 10 * n as u32 + 100 {
+        it += 1;
+        matvec(&pdir, &mut q);
+        let pq: f64 = pdir.iter().zip(&q).map(|(a, b)| a * b).sum();
+        if pq <= 0.0 {
+            break;
+        }
+        let a = rz / pq;
+        for k in 0..n {
+            x[k] += a * pdir[k];
+            res[k] -= a * q[k];
+        }
+        if res.iter().map(|v| v * v).sum::<f64>().sqrt() <= tol * norm0 {
+            break;
+        }
+        for k in 0..n {
+            z[k] = res[k] * inv[k];
+        }
+        let rz1: f64 = res.iter().zip(&z).map(|(a, b)| a * b).sum();
+        let beta = rz1 / rz;
+        rz = rz1;
+        for k in 0..n {
+            pdir[k] = z[k] + beta * pdir[k];
+        }
+    }
+    let m = x.iter().sum::<f64>() / n as f64;
+    x.iter_mut().for_each(|v| *v -= m);
+    it
+}
+
+fn check_domain(d: &FlowDomain) -> Result<(), FlowError> {
+    let bad = |m: &str| Err(FlowError::Domain(m.to_string()));
+    if d.nx < 2 || d.ny < 2 {
+        return bad("need at least 2 × 2 cells");
+    }
+    if !(d.dx > 0.0 && d.dy > 0.0) {
+        return bad("cell sizes must be positive");
+    }
+    if d.depth.len() != d.nx * d.ny || d.depth.iter().any(|h| !(h.is_finite() && *h > 0.0)) {
+        return bad("depth must be positive on every cell");
+    }
+    if d.u_fixed.len() != (d.nx + 1) * d.ny
+        || d.v_fixed.len() != d.nx * (d.ny + 1)
+        || d.sink_m3_per_s.len() != d.nx * d.ny
+        || d.u_momentum_factor.len() != d.u_fixed.len()
+        || d.v_momentum_factor.len() != d.v_fixed.len()
+    {
+        return bad("array sizes do not match the grid");
+    }
+    for j in 0..d.ny {
+        if d.u_fixed[d.iu(0, j)].is_none() || d.u_fixed[d.iu(d.nx, j)].is_none() {
+            return bad("every boundary x-face needs a prescribed velocity");
+        }
+    }
+    for i in 0..d.nx {
+        if d.v_fixed[d.iv(i, 0)].is_none() || d.v_fixed[d.iv(i, d.ny)].is_none() {
+            return bad("every boundary y-face needs a prescribed velocity");
+        }
+    }
+    Ok(())
+}
+
+/// Net volumetric imbalance per cell (outflow − inflow + sink), m³/s; zero when continuity holds.
+pub fn mass_imbalance(d: &FlowDomain, s: &FlowState) -> Vec<f64> {
+    let mut r = vec![0.0; d.nx * d.ny];
+    for j in 0..d.ny {
+        for i in 0..d.nx {
+            let out = d.hu(i + 1, j) * s.u[d.iu(i + 1, j)] * d.dy
+                - d.hu(i, j) * s.u[d.iu(i, j)] * d.dy
+                + d.hv(i, j + 1) * s.v[d.iv(i, j + 1)] * d.dx
+                - d.hv(i, j) * s.v[d.iv(i, j)] * d.dx;
+            r[d.ic(i, j)] = out + d.sink_m3_per_s[d.ic(i, j)];
+        }
+    }
+    r
+}
+
+/// Solve for the steady flow, starting from `state` (warm start) and leaving the solution in it.
+pub fn solve_flow(
+    d: &FlowDomain,
+    prm: &FlowParams,
+    state: &mut FlowState,
+) -> Result<FlowStats, FlowError> {
+    check_domain(d)?;
+    if !state.fits(d) {
+        *state = FlowState::at_rest(d);
+    }
+    state.apply_fixed(d);
+    let mut cu = Coeffs::new(state.u.len());
+    let mut cv = Coeffs::new(state.v.len());
+    let n = d.nx * d.ny;
+    let mut pc = vec![0.0; n];
+    let mut pressure_iters = 0;
+    let (mut dv, mut dm) = (f64::INFINITY, f64::INFINITY);
+    for it in 1..=prm.max_iters {
+        let nu = eddy_viscosity(d, state, prm);
+        let (qu, qv) = fluxes(d, state);
+        assemble_u(d, state, prm, &nu, &qu, &qv, &mut cu);
+        assemble_v(d, state, prm, &nu, &qu, &qv, &mut cv);
+        let (u0, v0) = (state.u.clone(), state.v.clone());
+        sweep(&mut state.u, &cu, &d.u_fixed, d.nx + 1, d.ny, 2);
+        sweep(&mut state.v, &cv, &d.v_fixed, d.nx, d.ny + 1, 2);
+        let r: Vec<f64> = mass_imbalance(d, state).iter().map(|x| -x).collect();
+        pressure_iters += pressure_correction(d, &cu, &cv, &r, 0.05, &mut pc);
+        for j in 0..d.ny {
+            for i in 1..d.nx {
+                let k = d.iu(i, j);
+                state.u[k] += cu.d[k] * (pc[d.ic(i - 1, j)] - pc[d.ic(i, j)]);
+            }
+        }
+        for j in 1..d.ny {
+            for i in 0..d.nx {
+                let k = d.iv(i, j);
+                state.v[k] += cv.d[k] * (pc[d.ic(i, j - 1)] - pc[d.ic(i, j)]);
+            }
+        }
+        for (p, c) in state.p.iter_mut().zip(&pc) {
+            *p += prm.relax_pressure * c;
+        }
+        let vref = state
+            .u
+            .iter()
+            .chain(&state.v)
+            .fold(d.lid_speed.abs(), |m, x| m.max(x.abs()))
+            .max(1e-300);
+        let du = state.u.iter().zip(&u0).map(|(a, b)| (a - b).abs());
+        let dvv = state.v.iter().zip(&v0).map(|(a, b)| (a - b).abs());
+        dv = du.chain(dvv).fold(0.0, f64::max) / vref;
+        let qref = vref * d.depth.iter().fold(0.0_f64, |m, x| m.max(*x)) * d.dx.max(d.dy);
+        dm = mass_imbalance(d, state)
+            .iter()
+            .fold(0.0_f64, |m, x| m.max(x.abs()))
+            / qref;
+        if !(dv.is_finite() && dm.is_finite()) {
+            return Err(FlowError::Diverged(it));
+        }
+        if it > 2 && dv < prm.tolerance && dm < prm.tolerance {
+            return Ok(FlowStats {
+                iters: it,
+                pressure_iters,
+                velocity_change: dv,
+                mass_imbalance: dm,
+            });
+        }
+    }
+    Err(FlowError::NotConverged {
+        iters: prm.max_iters,
+        velocity_change: dv,
+        mass_imbalance: dm,
+    })
+}
