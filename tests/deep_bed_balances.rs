@@ -80,3 +80,77 @@ fn balances_close_with_condensation_on_cold_peanuts() {
     let b = assert_balances(&case);
     assert!(b.condensate_kg > 0.0, "expected condensation: {b:?}");
 }
+
+/// Near-saturated night air (16.90 °C, W 0.011964, dew point 16.76 °C) on wet fresh peanuts at 16.78 °C: the state a
+/// season's load met in its first step (found when the plenum-dew-point bound stopped it). The lower layers adsorb
+/// and warm, and the drier air they pass on cools the layers above below the plenum air's dew point — the
+/// desiccant-cooler effect, which the moist-air balances allow (ASHRAE Fundamentals ch. 1: air can be cooled
+/// evaporatively to the dew point of the air that reaches the surface, not of some air upstream). Each layer must
+/// still end no colder than the dew point of the air entering it.
+#[test]
+fn layers_above_an_adsorbing_layer_may_cool_below_the_plenum_dew_point_but_not_below_their_own_air()
+{
+    use dryfront::drying::layer::{step_column, ColumnForcing, ColumnMut, LayerAir};
+    use dryfront::props::psychro::{
+        dew_point_from_vapour_pressure_c, vapour_pressure_from_humidity_ratio,
+    };
+    let (_, material) = common::peanut();
+    let p_pa = 101_145.0;
+    let air_in = LayerAir {
+        t_c: 16.902_603_911_290_43,
+        w: 0.011_963_685_786_299_277,
+    };
+    let dew =
+        |w: f64| dew_point_from_vapour_pressure_c(vapour_pressure_from_humidity_ratio(w, p_pa));
+    let forcing = ColumnForcing {
+        air_in,
+        dry_air_kg_per_m2_s: 0.269_156,
+        p_pa,
+        dt_s: 720.0,
+    };
+    // The first n layers of a column step exactly as an n-layer column: air crosses them bottom to top.
+    let step = |n: usize| {
+        let (mut h, mut k, mut c, mut t) = (
+            vec![0.454_027; n],
+            vec![0.236_094; n],
+            vec![0.236_094; n],
+            vec![16.78; n],
+        );
+        let d = vec![23.050_2; n];
+        let column = ColumnMut {
+            hull_db: &mut h,
+            kernel_db: &mut k,
+            curve_start_db: &mut c,
+            temp_c: &mut t,
+            dry_matter_kg_per_m2: &d,
+        };
+        let (out, totals) = step_column(&material, column, forcing);
+        (out, totals, t)
+    };
+    let (_, totals, t) = step(10);
+    assert_eq!(totals.below_floor, None, "{t:?}");
+    let plenum_dew = dew(air_in.w);
+    let cooled: Vec<usize> = (0..10).filter(|&k| t[k] < plenum_dew).collect();
+    assert!(
+        !cooled.is_empty(),
+        "no layer below the plenum dew point {plenum_dew}: {t:?}"
+    );
+    for &k in &cooled {
+        // The air entering layer k is the exhaust of the first k layers: drier than the plenum air (adsorbed
+        // below), and layer k ends no colder than its dew point (round-off 1e-9 K, the layer step's own tolerance
+        // on saturation).
+        let (into, _, _) = step(k);
+        assert!(
+            into.w < air_in.w,
+            "layer {k}: air entering W {} not below the plenum's {}",
+            into.w,
+            air_in.w
+        );
+        assert!(
+            t[k] >= dew(into.w) - 1e-9,
+            "layer {k}: {} below the dew point {} of its air",
+            t[k],
+            dew(into.w)
+        );
+    }
+}

@@ -1,13 +1,17 @@
 //! Physical bounds checked after every step, so a non-physical state stops the run where it appears instead of
 //! spreading through a season: every value finite; air leaving any layer at most saturated; moisture between zero
-//! and the crop's moisture ceiling; peanut temperatures between the coldest and hottest temperatures the air that
-//! entered so far could bring them to.
+//! and the crop's moisture ceiling; peanut temperatures no hotter than the air that entered so far could bring them
+//! to, and no colder than each layer's own floor.
 //!
 //! Temperature bounds, from the moist-air process the layer step models (ASHRAE Fundamentals ch. 1 forms used by
-//! `props::psychro`): peanuts cannot be cooled below the inlet air's dew point without condensation that warms them
-//! again, and cannot be heated above the temperature of dry air with the inlet air's enthalpy (the end of its
-//! adiabatic line when all its vapour is adsorbed). The starting bed's own temperatures widen both bounds.
+//! `props::psychro`): peanuts cannot be heated above the temperature of dry air with the inlet air's enthalpy (the
+//! end of its adiabatic line when all its vapour is adsorbed; the starting bed's own temperatures widen it). The
+//! lower bound is per layer and is checked by the layer step itself (`layer::ColumnStepTotals::below_floor`): a
+//! layer ends no colder than both it and the air entering it were, or else no colder than that air's dew point.
+//! There is no lower bound from the plenum air alone: air dried by adsorption in a lower layer can evaporatively
+//! cool the layers above below the plenum air's dew point, as a desiccant cooler does.
 
+use super::layer::ColumnStepTotals;
 use crate::props::psychro::{self, AirState};
 
 /// Round-off allowed on temperatures, K: the enthalpy-to-temperature inversion of the layer step is exact to about
@@ -19,8 +23,6 @@ pub const RH_TOL: f64 = 1e-9;
 /// The bounds in force.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Bounds {
-    /// Coldest allowed peanut temperature, °C.
-    pub t_lo_c: f64,
     /// Hottest allowed peanut temperature, °C.
     pub t_hi_c: f64,
     /// Highest allowed moisture, dry basis.
@@ -41,10 +43,9 @@ pub struct Violation {
 }
 
 impl Bounds {
-    /// Bounds for a starting bed: its coldest and hottest peanuts, and the moisture ceiling.
-    pub fn new(t_min_c: f64, t_max_c: f64, m_hi_db: f64) -> Self {
+    /// Bounds for a starting bed: its hottest peanuts, and the moisture ceiling.
+    pub fn new(t_max_c: f64, m_hi_db: f64) -> Self {
         Bounds {
-            t_lo_c: t_min_c,
             t_hi_c: t_max_c,
             m_hi_db,
         }
@@ -52,22 +53,19 @@ impl Bounds {
 
     /// Widen for air entering the bed.
     pub fn admit(&mut self, inlet: &AirState) {
-        let dew = psychro::dew_point_from_vapour_pressure_c(
-            psychro::vapour_pressure_from_humidity_ratio(inlet.w, inlet.p_pa),
-        );
         let dry_end = inlet.enthalpy_j_per_kg() / psychro::CP_DRY_AIR;
-        self.t_lo_c = self.t_lo_c.min(dew.min(inlet.t_c));
         self.t_hi_c = self.t_hi_c.max(dry_end.max(inlet.t_c));
     }
 
-    /// Check one column after its step; `max_rh_out` is the largest RH of air leaving any of its layers.
+    /// Check one column after its step, with the step's own totals (largest exhaust RH, a layer below its floor).
     pub fn check_column(
         &self,
         hull_db: &[f64],
         kernel_db: &[f64],
         temp_c: &[f64],
-        max_rh_out: f64,
+        totals: &ColumnStepTotals,
     ) -> Option<Violation> {
+        let max_rh_out = totals.max_rh_out;
         let v = |layer, quantity, value, bound| {
             Some(Violation {
                 layer,
@@ -103,12 +101,17 @@ impl Bounds {
             if !t.is_finite() {
                 return v(k, "peanut temperature (°C)", t, f64::NAN);
             }
-            if t < self.t_lo_c - TEMP_TOL_K {
-                return v(k, "peanut temperature (°C)", t, self.t_lo_c);
-            }
             if t > self.t_hi_c + TEMP_TOL_K {
                 return v(k, "peanut temperature (°C)", t, self.t_hi_c);
             }
+        }
+        if let Some((k, t, floor)) = totals.below_floor {
+            return v(
+                k,
+                "peanut temperature below its layer's floor (°C)",
+                t,
+                floor,
+            );
         }
         None
     }

@@ -89,6 +89,36 @@ pub struct ColumnStepTotals {
     pub condensate_kg_per_m2: f64,
     /// Largest RH (decimal) of air leaving any layer.
     pub max_rh_out: f64,
+    /// The first layer the step left colder than its floor, if any: (layer, temperature °C, floor °C). See
+    /// [`below_floor`].
+    pub below_floor: Option<(usize, f64, f64)>,
+}
+
+/// Relative round-off allowed when comparing a layer's saturation pressure with the vapour pressure of the air
+/// that entered it (both from the same saturation table; about 2e-8 K in temperature).
+const FLOOR_REL_TOL: f64 = 1e-9;
+/// Round-off allowed on the sensible-mixing side of the floor, K (the enthalpy inversion is exact to about 1e-10 K).
+const FLOOR_TOL_K: f64 = 1e-6;
+
+/// The floor of one layer's temperature after a step, or `None` when `t_out` is on or above it. A layer ends no
+/// colder than both its own peanuts and the air entering it were (sensible mixing, heat released by adsorption or
+/// condensation), unless it ends no colder than the entering air's dew point (evaporation: the air leaving is at
+/// most saturated and holds at least the water it brought). The floor is local: air dried by adsorption in a lower
+/// layer can evaporatively cool the layers above it below the *plenum* air's dew point, as a desiccant cooler
+/// does, so no bound from the plenum air alone holds for a whole column.
+fn below_floor(
+    t_out: f64,
+    p_ws_out: f64,
+    t_before: f64,
+    t_air_in: f64,
+    p_w_in: f64,
+) -> Option<f64> {
+    let mixing = t_before.min(t_air_in);
+    if t_out >= mixing - FLOOR_TOL_K || p_ws_out >= p_w_in * (1.0 - FLOOR_REL_TOL) {
+        return None;
+    }
+    let dew = crate::props::psychro::dew_point_from_vapour_pressure_c(p_w_in);
+    Some(mixing.min(dew))
 }
 
 /// Latent heat of free water consistent with the enthalpy datum of ASHRAE eq. 32 (h_fg0 + (c_v − c_w)·T), J/kg.
@@ -175,6 +205,7 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             curve_start_db: curve_start_db[k],
         };
         let th = &mut temp_c[k];
+        let t_before = *th;
         let r = dm / air_kg;
         let pod0 = material.pod_db(*m);
         let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
@@ -290,6 +321,11 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         } else {
             totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
         }
+        if totals.below_floor.is_none() {
+            if let Some(floor) = below_floor(t_out, p_ws_out, t_before, air.t_c, p_w_in) {
+                totals.below_floor = Some((k, t_out, floor));
+            }
+        }
         totals.water_removed_kg_per_m2 += d_m * dm;
         totals.max_rh_out = totals
             .max_rh_out
@@ -374,6 +410,27 @@ fn inverse_quadratic_root((a, ga): (f64, f64), (b, gb): (f64, f64), (c, gc): (f6
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_floor_holds_a_layer_to_its_mixing_temperature_or_its_air_dew_point() {
+        let p_w_in = 1_900.0; // Pa, dew point about 16.7 °C (ASHRAE Fundamentals ch. 1 table 3: 1.938 kPa at 17 °C)
+        let sat = SaturationTable::get();
+        let dew = crate::props::psychro::dew_point_from_vapour_pressure_c(p_w_in);
+        // Warmed (adsorption): never below the floor whatever the air.
+        assert_eq!(
+            below_floor(18.0, sat.pressure_pa(18.0), 17.0, 20.0, p_w_in),
+            None
+        );
+        // Cooled by evaporation to just above the entering air's dew point: allowed.
+        let t = dew + 1e-6;
+        assert_eq!(below_floor(t, sat.pressure_pa(t), 17.0, 20.0, p_w_in), None);
+        // Cooled below both the mixing temperature and the dew point: caught; the floor is the lower of the two
+        // (the dew point here, 16.7 < 17).
+        let t = dew - 0.01;
+        let floor =
+            below_floor(t, sat.pressure_pa(t), 17.0, 20.0, p_w_in).expect("below its floor");
+        assert!((floor - dew).abs() < 1e-12, "{floor} vs {dew}");
+    }
 
     /// Runs the cap's root finder on `f`, counting evaluations; checks it never returns a point where the exhaust
     /// would be wetter than equilibrium and, where `f` is continuous, lands within the tolerance.

@@ -436,7 +436,6 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let plenum0 = start_plenum_estimate(&heater, &first);
         let field = provider.flow(&first.air, &plenum0, water_kg / dry_kg)?;
         let density = first.air.density_kg_per_m3();
-        let t_min = bed.temp_c.iter().copied().fold(f64::MAX, f64::min);
         let t_max = bed.temp_c.iter().copied().fold(f64::MIN, f64::max);
         let m_max = (bed.hull_db.iter().chain(bed.kernel_db.iter()))
             .copied()
@@ -468,7 +467,6 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                 solves: 1,
             },
             bounds: Bounds::new(
-                t_min,
                 t_max,
                 m_max.max(material.moisture_ceiling_db()) * CONDENSATE_ALLOWANCE,
             ),
@@ -640,7 +638,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             };
             let (exhaust, totals) = step_column(material, column, forcing);
             ColumnResult {
-                violation: bounds.check_column(h, k, t, totals.max_rh_out),
+                violation: bounds.check_column(h, k, t, &totals),
                 totals,
                 exhaust,
                 dry_air_kg_per_m2: g * dt_s,
