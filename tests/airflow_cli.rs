@@ -246,7 +246,7 @@ fn an_airflow_far_below_practice_is_named_not_passed_over() {
     };
     let low = run(&["--flow-m3-min", "1"]);
     assert!(
-        low.contains("advice: little air per volume of peanuts: 0.0 m³/min per m³"),
+        low.contains("advice: little air per volume of peanuts: 0.05 m³/min per m³"),
         "{low}"
     );
     // The trailer's own fill holds 19.2 m³ of peanuts: 192 m³/min is the usual 10 per m³.

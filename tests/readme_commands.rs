@@ -49,13 +49,26 @@ const EDITS: &[(&str, &str, &str, &str)] = &[
         "--from 2026-09-01 --days 30 --out cleaned.csv",
         "square brackets mark optional parts; both are run",
     ),
+    (
+        "calibrate",
+        "--load SCENARIO SAMPLES.csv",
+        "--load examples/calibration/bf-load-23.json examples/calibration/bf-load-23-samples.csv",
+        "SCENARIO and SAMPLES.csv are placeholders; the README's own calibration example stands in",
+    ),
 ];
 
 /// README commands not run here, with the reason.
-const NOT_RUN: &[(&str, &str)] = &[(
-    "cargo test --release",
-    "runs the test suite this test belongs to",
-)];
+const NOT_RUN: &[(&str, &str)] = &[
+    (
+        "cargo test --release",
+        "runs the test suite this test belongs to",
+    ),
+    (
+        "dryfront season merge --out sweep/ shards/shard-*/sweep-shard-*-of-4.json",
+        "needs the four shard files of the README's sharded sweep and a shell to expand the pattern; \
+         tests/season_shard.rs runs shards and their merge end to end",
+    ),
+];
 
 fn root() -> &'static Path {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -145,11 +158,13 @@ fn arguments(cmd: &str, used: &mut [bool]) -> Option<Vec<String>> {
     Some(words(&args))
 }
 
-/// A fresh folder that looks like a checkout for reading: `models/` linked, `weather-samples/` copied (a README
-/// command regenerates a file inside it).
+/// A fresh folder that looks like a checkout for reading: `models/`, `examples/` and `survey-samples/` linked,
+/// `weather-samples/` copied (a README command regenerates a file inside it).
 fn workdir() -> tempfile::TempDir {
     let dir = tempfile::tempdir().unwrap();
-    std::os::unix::fs::symlink(root().join("models"), dir.path().join("models")).unwrap();
+    for linked in ["models", "examples", "survey-samples"] {
+        std::os::unix::fs::symlink(root().join(linked), dir.path().join(linked)).unwrap();
+    }
     copy_dir(
         &root().join("weather-samples"),
         &dir.path().join("weather-samples"),
