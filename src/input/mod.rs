@@ -29,13 +29,19 @@ pub fn field_err(path: &Path, field: impl Into<String>, message: impl Into<Strin
 }
 
 /// An error in a line-oriented file's field: file, line, field, the text found and what was expected.
-pub fn line_err(path: &Path, line: u64, field: &str, value: &str, expected: &str) -> InputError {
+pub fn line_err(
+    path: &Path,
+    line: u64,
+    field: &str,
+    value: &str,
+    expected: impl Into<String>,
+) -> InputError {
     InputError::Field {
         path: path.to_path_buf(),
         line,
         field: field.to_string(),
         value: value.to_string(),
-        expected: expected.to_string(),
+        expected: expected.into(),
     }
 }
 
@@ -55,7 +61,7 @@ pub fn check_line_number(
             line,
             field,
             text,
-            &format!("must be a number between {lo} and {hi} {unit}"),
+            format!("must be a number between {lo} and {hi} {unit}"),
         )),
     }
 }

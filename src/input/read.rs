@@ -124,6 +124,57 @@ pub fn text_from_bytes(path: &Path, bytes: &[u8]) -> Result<String, InputError> 
     }
 }
 
+/// The one check of a comma-separated file's header row: not empty (the message lists `expected`, the header as
+/// written for people), no field running past its line end, no tabs or semicolons for separators; then the index
+/// of each of `columns`, a missing one named with the columns found. Errors carry the header's line.
+pub fn header_columns(
+    path: &Path,
+    headers: &csv::StringRecord,
+    expected: &str,
+    columns: &[&str],
+) -> Result<Vec<usize>, InputError> {
+    let line = headers.position().map_or(1, |p| p.line());
+    let perr = |line: Option<u64>, message: String| InputError::Parse {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    if headers.iter().all(str::is_empty) {
+        return Err(perr(
+            None,
+            format!("empty file: expected a header row ({expected})"),
+        ));
+    }
+    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
+        return Err(perr(Some(line), UNCLOSED_QUOTE.into()));
+    }
+    for (c, what, hint) in [('\t', "tabs", TAB_HINT), (';', "';'", SEMICOLON_HINT)] {
+        if headers.iter().any(|h| h.contains(c)) {
+            return Err(perr(
+                Some(line),
+                format!("header is separated by {what}: {hint}"),
+            ));
+        }
+    }
+    columns
+        .iter()
+        .map(|name| {
+            headers.iter().position(|h| h == *name).ok_or_else(|| {
+                super::line_err(
+                    path,
+                    line,
+                    name,
+                    "",
+                    format!(
+                        "column is missing from the header (found: {})",
+                        headers.iter().collect::<Vec<_>>().join(", ")
+                    ),
+                )
+            })
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

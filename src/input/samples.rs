@@ -17,7 +17,8 @@ use std::path::Path;
 
 use chrono::{DateTime, FixedOffset};
 
-use super::{check_line_number, line_err, read_text, SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
+use super::read::header_columns;
+use super::{check_line_number, line_err, read_text, SEMICOLON_HINT, UNCLOSED_QUOTE};
 use crate::calibrate::samples::{Measure, Method, Place, Sample};
 use crate::error::InputError;
 
@@ -74,39 +75,7 @@ pub fn parse_samples(
         .headers()
         .map_err(|e| perr(e.position().map(|p| p.line()), e.to_string()))?
         .clone();
-    let header_line = headers.position().map_or(1, |p| p.line());
-    if headers.iter().all(str::is_empty) {
-        return Err(perr(
-            None,
-            format!("empty file: expected a header row ({})", COLUMNS.join(", ")),
-        ));
-    }
-    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
-        return Err(perr(Some(header_line), UNCLOSED_QUOTE.into()));
-    }
-    for (c, hint) in [('\t', TAB_HINT), (';', SEMICOLON_HINT)] {
-        if headers.iter().any(|h| h.contains(c)) {
-            return Err(perr(
-                Some(header_line),
-                format!("header is separated by {c:?}: {hint}"),
-            ));
-        }
-    }
-    let mut idx = [0usize; 8];
-    for (k, name) in COLUMNS.iter().enumerate() {
-        idx[k] = headers.iter().position(|h| h == *name).ok_or_else(|| {
-            line_err(
-                path,
-                header_line,
-                name,
-                "",
-                &format!(
-                    "column is missing from the header (found: {})",
-                    headers.iter().collect::<Vec<_>>().join(", ")
-                ),
-            )
-        })?;
-    }
+    let idx = header_columns(path, &headers, &COLUMNS.join(", "), &COLUMNS)?;
     let mut out = Vec::new();
     for rec in rdr.records() {
         let rec = rec.map_err(|e| perr(e.position().map(|p| p.line()), e.to_string()))?;
@@ -166,7 +135,7 @@ fn sample<'r>(
             line,
             "time",
             t,
-            &format!("is before the load's start ({})", load.start.to_rfc3339()),
+            format!("is before the load's start ({})", load.start.to_rfc3339()),
         ));
     }
     let place = match get(1) {

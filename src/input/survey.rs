@@ -23,7 +23,9 @@ use std::path::{Path, PathBuf};
 use crate::airflow::fit::{block_columns, SurveyBlock};
 use crate::airflow::{Container, Grid};
 use crate::error::InputError;
-use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
+use crate::input::line_err;
+use crate::input::read::header_columns;
+use crate::input::{SEMICOLON_HINT, UNCLOSED_QUOTE};
 
 /// The columns of a survey file, in the order written.
 pub const SURVEY_COLUMNS: [&str; 7] = [
@@ -81,22 +83,6 @@ pub struct Survey {
     pub rows: Vec<SurveyRow>,
 }
 
-fn field(
-    path: &Path,
-    line: u64,
-    name: &str,
-    value: &str,
-    expected: impl Into<String>,
-) -> InputError {
-    InputError::Field {
-        path: path.to_path_buf(),
-        line,
-        field: name.to_string(),
-        value: value.to_string(),
-        expected: expected.into(),
-    }
-}
-
 fn perr(path: &Path, line: Option<u64>, message: impl Into<String>) -> InputError {
     InputError::Parse {
         path: path.to_path_buf(),
@@ -111,54 +97,6 @@ pub fn read_survey(path: &Path) -> Result<Survey, InputError> {
     parse_survey(path, &text)
 }
 
-/// Check the header and return each column's index.
-fn header_columns(path: &Path, headers: &csv::StringRecord) -> Result<[usize; 7], InputError> {
-    let line = headers.position().map_or(1, |p| p.line());
-    if headers.iter().all(str::is_empty) {
-        return Err(perr(
-            path,
-            None,
-            format!(
-                "empty file: expected a header row ({})",
-                SURVEY_COLUMNS.join(", ")
-            ),
-        ));
-    }
-    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
-        return Err(perr(path, Some(line), UNCLOSED_QUOTE));
-    }
-    if headers.iter().any(|h| h.contains('\t')) {
-        return Err(perr(
-            path,
-            Some(line),
-            format!("header is separated by tabs: {TAB_HINT}"),
-        ));
-    }
-    if headers.iter().any(|h| h.contains(';')) {
-        return Err(perr(
-            path,
-            Some(line),
-            format!("header is separated by ';': {SEMICOLON_HINT}"),
-        ));
-    }
-    let mut idx = [0usize; 7];
-    for (k, name) in SURVEY_COLUMNS.iter().enumerate() {
-        idx[k] = headers.iter().position(|h| h == *name).ok_or_else(|| {
-            field(
-                path,
-                line,
-                name,
-                "",
-                format!(
-                    "column is missing from the header (found: {})",
-                    headers.iter().collect::<Vec<_>>().join(", ")
-                ),
-            )
-        })?;
-    }
-    Ok(idx)
-}
-
 /// Parse survey text; `path` names the file in errors.
 pub fn parse_survey(path: &Path, text: &str) -> Result<Survey, InputError> {
     let mut rdr = csv::ReaderBuilder::new()
@@ -168,7 +106,7 @@ pub fn parse_survey(path: &Path, text: &str) -> Result<Survey, InputError> {
         .from_reader(text.as_bytes());
     let parse_err = |e: csv::Error| perr(path, e.position().map(|p| p.line()), e.to_string());
     let headers = rdr.headers().map_err(parse_err)?.clone();
-    let idx = header_columns(path, &headers)?;
+    let idx = header_columns(path, &headers, &SURVEY_COLUMNS.join(", "), &SURVEY_COLUMNS)?;
     let mut rows: Vec<SurveyRow> = Vec::new();
     for rec in rdr.records() {
         let rec = rec.map_err(parse_err)?;
@@ -176,7 +114,7 @@ pub fn parse_survey(path: &Path, text: &str) -> Result<Survey, InputError> {
         rows.push(parse_row(path, line, &rec, &headers, &idx)?);
         let row = rows.last().expect("just pushed");
         if let Some(first) = rows[..rows.len() - 1].iter().find(|r| r.block == row.block) {
-            return Err(field(
+            return Err(line_err(
                 path,
                 line,
                 "block",
@@ -203,7 +141,7 @@ fn parse_row(
     line: u64,
     rec: &csv::StringRecord,
     headers: &csv::StringRecord,
-    idx: &[usize; 7],
+    idx: &[usize],
 ) -> Result<SurveyRow, InputError> {
     if rec.iter().any(|f| f.contains(['\n', '\r'])) {
         return Err(perr(path, Some(line), UNCLOSED_QUOTE));
@@ -230,17 +168,17 @@ fn parse_row(
     }
     let get = |k: usize| {
         rec.get(idx[k])
-            .ok_or_else(|| field(path, line, SURVEY_COLUMNS[k], "", "is missing on this line"))
+            .ok_or_else(|| line_err(path, line, SURVEY_COLUMNS[k], "", "is missing on this line"))
     };
     let block = get(0)?.to_string();
     if block.is_empty() {
-        return Err(field(path, line, "block", "", "must not be empty"));
+        return Err(line_err(path, line, "block", "", "must not be empty"));
     }
     let num = |k: usize| -> Result<f64, InputError> {
         let s = get(k)?;
         match s.parse::<f64>() {
             Ok(v) if v.is_finite() => Ok(v),
-            _ => Err(field(
+            _ => Err(line_err(
                 path,
                 line,
                 SURVEY_COLUMNS[k],
@@ -268,10 +206,11 @@ fn check_row(
     path: &Path,
     r: &SurveyRow,
     rec: &csv::StringRecord,
-    idx: &[usize; 7],
+    idx: &[usize],
 ) -> Result<(), InputError> {
-    let bad =
-        |k: usize, expected: String| field(path, r.line, SURVEY_COLUMNS[k], &rec[idx[k]], expected);
+    let bad = |k: usize, expected: String| {
+        line_err(path, r.line, SURVEY_COLUMNS[k], &rec[idx[k]], expected)
+    };
     if r.x0_m < 0.0 {
         return Err(bad(1, "must be 0 or more (m from the front wall)".into()));
     }
@@ -317,7 +256,7 @@ impl Survey {
     pub fn check_against(&self, c: &Container) -> Result<(), InputError> {
         for r in &self.rows {
             let beyond = |name: &str, v: f64, wall: f64, what: &str| {
-                field(
+                line_err(
                     &self.path,
                     r.line,
                     name,
@@ -345,7 +284,7 @@ impl Survey {
                 let ox = a.x1_m.min(b.x1_m) - a.x0_m.max(b.x0_m);
                 let oy = a.y1_m.min(b.y1_m) - a.y0_m.max(b.y0_m);
                 if ox > EDGE_TOL_M && oy > EDGE_TOL_M {
-                    return Err(field(
+                    return Err(line_err(
                         &self.path,
                         b.line,
                         "block",
@@ -380,7 +319,7 @@ impl Survey {
                     continue;
                 }
                 let near = self.nearest(x, y);
-                return Err(field(
+                return Err(line_err(
                     &self.path,
                     near.line,
                     "block",
@@ -443,7 +382,7 @@ impl Survey {
         let cols = block_columns(c, grid, &blocks);
         if let Some(k) = cols.iter().position(Vec::is_empty) {
             let r = &self.rows[k];
-            return Err(field(
+            return Err(line_err(
                 &self.path,
                 r.line,
                 "block",

@@ -17,7 +17,9 @@ use rand_chacha::ChaCha8Rng;
 use statrs::distribution::Normal;
 
 use crate::error::InputError;
-use crate::input::{SEMICOLON_HINT, TAB_HINT, UNCLOSED_QUOTE};
+use crate::input::line_err;
+use crate::input::read::header_columns;
+use crate::input::{SEMICOLON_HINT, UNCLOSED_QUOTE};
 
 /// One load of farmer-stock peanuts.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -36,16 +38,6 @@ pub struct Load {
 
 /// Lowest and highest initial moisture accepted, % w.b.
 pub const MOISTURE_RANGE_PCT: (f64, f64) = (5.0, 45.0);
-
-fn field(path: &Path, line: u64, name: &str, value: &str, expected: &str) -> InputError {
-    InputError::Field {
-        path: path.to_path_buf(),
-        line,
-        field: name.to_string(),
-        value: value.to_string(),
-        expected: expected.to_string(),
-    }
-}
 
 /// Parse an arrivals CSV. `range` is the weather record's `[start, end)`: each arrival must fall inside it. A row
 /// with more fields than the header, a semicolon-separated file and a file without loads are errors.
@@ -66,53 +58,18 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         message: e.to_string(),
     };
     let headers = rdr.headers().map_err(parse_err)?.clone();
-    let header_line = headers.position().map_or(1, |p| p.line());
+    let idx = header_columns(
+        path,
+        &headers,
+        "load_id, arrival, net_mass_kg, kernel_moisture_pct[, notes]",
+        &["load_id", "arrival", "net_mass_kg", "kernel_moisture_pct"],
+    )?;
+    let col = |name: &str| headers.iter().position(|h| h == name);
     let perr = |line: Option<u64>, message: String| InputError::Parse {
         path: path.to_path_buf(),
         line,
         message,
     };
-    if headers.iter().all(str::is_empty) {
-        return Err(perr(
-            None,
-            "empty file: expected a header row (load_id, arrival, net_mass_kg, kernel_moisture_pct[, notes])"
-                .into(),
-        ));
-    }
-    if headers.iter().any(|h| h.contains(['\n', '\r'])) {
-        return Err(perr(Some(header_line), UNCLOSED_QUOTE.into()));
-    }
-    if headers.iter().any(|h| h.contains('\t')) {
-        return Err(perr(
-            Some(header_line),
-            format!("header is separated by tabs: {TAB_HINT}"),
-        ));
-    }
-    if headers.iter().any(|h| h.contains(';')) {
-        return Err(perr(
-            Some(header_line),
-            format!("header is separated by ';': {SEMICOLON_HINT}"),
-        ));
-    }
-    let col = |name: &str| headers.iter().position(|h| h == name);
-    let mut idx = [0usize; 4];
-    for (k, name) in ["load_id", "arrival", "net_mass_kg", "kernel_moisture_pct"]
-        .iter()
-        .enumerate()
-    {
-        idx[k] = col(name).ok_or_else(|| {
-            field(
-                path,
-                header_line,
-                name,
-                "",
-                &format!(
-                    "column is missing from the header (found: {})",
-                    headers.iter().collect::<Vec<_>>().join(", ")
-                ),
-            )
-        })?;
-    }
     let notes_col = col("notes");
     let mut loads = Vec::new();
     let mut ids = std::collections::BTreeMap::new();
@@ -143,24 +100,24 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         }
         let get = |k: usize, name: &str| {
             rec.get(idx[k])
-                .ok_or_else(|| field(path, line, name, "", "is missing on this line"))
+                .ok_or_else(|| line_err(path, line, name, "", "is missing on this line"))
         };
         let id = get(0, "load_id")?.to_string();
         if id.is_empty() {
-            return Err(field(path, line, "load_id", "", "must not be empty"));
+            return Err(line_err(path, line, "load_id", "", "must not be empty"));
         }
         if let Some(first) = ids.insert(id.clone(), line) {
-            return Err(field(
+            return Err(line_err(
                 path,
                 line,
                 "load_id",
                 &id,
-                &format!("is already used on line {first}"),
+                format!("is already used on line {first}"),
             ));
         }
         let t = get(1, "arrival")?;
         let arrival = DateTime::parse_from_rfc3339(t).map_err(|_| {
-            field(
+            line_err(
                 path,
                 line,
                 "arrival",
@@ -170,12 +127,12 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         })?;
         if let Some((a, b)) = range {
             if arrival < a || arrival >= b {
-                return Err(field(
+                return Err(line_err(
                     path,
                     line,
                     "arrival",
                     t,
-                    &format!(
+                    format!(
                         "is outside the weather record ({} to {})",
                         a.to_rfc3339(),
                         b.to_rfc3339()
@@ -186,9 +143,9 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         let m = get(2, "net_mass_kg")?;
         let mass_kg: f64 = m
             .parse()
-            .map_err(|_| field(path, line, "net_mass_kg", m, "must be a number (kg)"))?;
+            .map_err(|_| line_err(path, line, "net_mass_kg", m, "must be a number (kg)"))?;
         if !(mass_kg.is_finite() && mass_kg > 0.0) {
-            return Err(field(
+            return Err(line_err(
                 path,
                 line,
                 "net_mass_kg",
@@ -198,7 +155,7 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         }
         let w = get(3, "kernel_moisture_pct")?;
         let moisture_pct: f64 = w.parse().map_err(|_| {
-            field(
+            line_err(
                 path,
                 line,
                 "kernel_moisture_pct",
@@ -208,12 +165,12 @@ pub fn parse_arrivals_csv<R: std::io::Read>(
         })?;
         let (lo, hi) = MOISTURE_RANGE_PCT;
         if !(moisture_pct.is_finite() && (lo..=hi).contains(&moisture_pct)) {
-            return Err(field(
+            return Err(line_err(
                 path,
                 line,
                 "kernel_moisture_pct",
                 w,
-                &format!("must be between {lo} and {hi} % w.b."),
+                format!("must be between {lo} and {hi} % w.b."),
             ));
         }
         let notes = notes_col
