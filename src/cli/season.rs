@@ -24,7 +24,7 @@ use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::{DeepBedDrier, LoadDrier, LoadTemplate, RateRuleDrier};
 use crate::season::kpi::{daily, kpis};
 use crate::season::scenario::BuyingPoint;
-use crate::season::shard::{digest, merge, ShardFile, SweepSetup};
+use crate::season::shard::{merge, ShardFile, SweepSetup};
 use crate::season::sim::simulate;
 use crate::season::sweep::{
     assemble, season_seed, sweep_shard, CaseResult, SeasonInputs, Shard, SweepGrid,
@@ -703,13 +703,13 @@ fn heater_text(h: &Option<StrategySpec>) -> String {
         .unwrap_or_else(|| "scenario".into())
 }
 
-/// The check that shards read the same inputs: a digest of every input file's bytes.
+/// The check that shards read the same inputs: every input file's SHA-256, read through the one reader.
 fn inputs_digest(inputs: &[PathBuf]) -> anyhow::Result<String> {
-    let bytes = inputs
-        .iter()
-        .map(|p| std::fs::read(p).with_context(|| format!("cannot read {}", p.display())))
-        .collect::<anyhow::Result<Vec<_>>>()?;
-    Ok(digest(bytes.iter().map(Vec::as_slice)))
+    let hashes: Vec<String> = super::inputs_as_run(inputs)?
+        .into_iter()
+        .map(|r| r.sha256)
+        .collect();
+    Ok(hashes.join(","))
 }
 
 /// A whole sweep's result, from one machine or merged shards: `sweep.csv` and `report.html` written over

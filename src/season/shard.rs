@@ -23,7 +23,8 @@ pub const SHARD_FORMAT: &str = "dryfront season sweep shard, version 1";
 pub struct SweepSetup {
     /// Every command-line value that shapes the results (not file paths: their contents are in `inputs_digest`).
     pub args: String,
-    /// FNV-1a (64-bit) of every input file's bytes, in the order the sweep read them.
+    /// The SHA-256 of every input file, in the order the sweep read them (a file read twice listed once), joined
+    /// by commas: the same hashes its `report.html` lists.
     pub inputs_digest: String,
     /// Buying point's name.
     pub name: String,
@@ -281,19 +282,4 @@ pub fn merge(
         )
     })?;
     Ok((setup, grid, results))
-}
-
-/// FNV-1a (64-bit) over several byte strings, each followed by its length (so `ab`,`c` and `a`,`bc` differ): a
-/// check that shards read the same inputs, not a cryptographic hash.
-pub fn digest<'a>(parts: impl IntoIterator<Item = &'a [u8]>) -> String {
-    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
-    let mut eat = |b: u8| {
-        h ^= u64::from(b);
-        h = h.wrapping_mul(0x0000_0100_0000_01b3);
-    };
-    for p in parts {
-        p.iter().for_each(|&b| eat(b));
-        (p.len() as u64).to_le_bytes().iter().for_each(|&b| eat(b));
-    }
-    format!("{h:016x}")
 }
