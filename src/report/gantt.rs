@@ -85,16 +85,20 @@ impl Axis {
         let step = ((text_w("Sep 30", 11.0) + 10.0) / day_px).ceil().max(1.0) as i64;
         let mut s = String::new();
         for d in 0..=days {
+            if (24 * d) as f64 > self.span_h {
+                break;
+            }
             let t = self.t0 + Duration::days(d);
             let x = self.x(t);
             s.push_str(&format!(
                 "<line x1=\"{x:.1}\" y1=\"{y_top:.1}\" x2=\"{x:.1}\" y2=\"{y_bottom:.1}\" stroke=\"#d8d8d8\"/>\n"
             ));
-            if d % step == 0 {
+            let label = t.format("%b %d").to_string();
+            if d % step == 0 && x + 0.5 * text_w(&label, 11.0) <= self.width() {
                 s.push_str(&format!(
                     "<text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\">{}</text>\n",
                     y_bottom + 14.0,
-                    t.format("%b %d")
+                    label
                 ));
             }
         }
