@@ -72,10 +72,15 @@ fn fuel_at_the_crossing_converges_with_the_time_step() {
         );
     }
     assert!((a.fuel_used - b.fuel_used).abs() > 0.0);
-    // Each halving moves fuel as it moves the hours, by under 0.3 % (measured 0.15–0.20 %; the change does not
-    // shrink steadily at these steps, so no order is claimed).
-    assert!((a.fuel_used - b.fuel_used).abs() < 3e-3 * c.fuel_used);
-    assert!((b.fuel_used - c.fuel_used).abs() < 3e-3 * c.fuel_used);
+    // Each halving moves fuel as it moves the hours, by under 0.4 % and less at each halving (measured 0.32 % then
+    // 0.11 % with both compartments' activation energy at 21.2 kJ/mol, a ratio of 2.8, near first order in the
+    // step; 0.15–0.20 % without a steady ratio with the hull's old 30 kJ/mol).
+    let (first, second) = (
+        (a.fuel_used - b.fuel_used).abs(),
+        (b.fuel_used - c.fuel_used).abs(),
+    );
+    assert!(first < 4e-3 * c.fuel_used, "{first}");
+    assert!(second < first, "{second} then {first}");
 }
 
 #[test]
