@@ -262,6 +262,16 @@ fn every_report_opens_cleanly_in_chromium() {
     let sc = sc.to_str().unwrap();
     let bp = root().join("models/buying-points/wrenfield.json");
     let bp = bp.to_str().unwrap();
+    let at = |f: &str| root().join(f).to_string_lossy().into_owned();
+    let (status, board) = (
+        at("examples/at-the-dryer/status-bf06.json"),
+        at("examples/at-the-dryer/board.json"),
+    );
+    let (load23, samples23) = (
+        at("examples/calibration/bf-load-23.json"),
+        at("examples/calibration/bf-load-23-samples.csv"),
+    );
+    let survey = at("survey-samples/trailer-6m-bramble-fork.csv");
     let cases: Vec<(&str, Vec<&str>, usize)> = vec![
         ("dry", vec!["dry", "--scenario", sc], 5),
         ("dry-us", vec!["dry", "--scenario", sc, "--units", "us"], 5),
@@ -357,6 +367,52 @@ fn every_report_opens_cleanly_in_chromium() {
                 "40",
             ],
             0,
+        ),
+        // The four at-the-dryer and fitting commands, kept small: few members, a short plan, a coarse grid.
+        ("status", vec!["status", &status, "--members", "4"], 1),
+        (
+            "status-us",
+            vec!["status", &status, "--members", "4", "--units", "us"],
+            1,
+        ),
+        (
+            "board",
+            vec!["board", &board, "--members", "2", "--horizon-h", "24"],
+            1,
+        ),
+        (
+            "calibrate",
+            vec![
+                "calibrate",
+                "--load",
+                &load23,
+                &samples23,
+                "--fit",
+                "kernel-rate",
+            ],
+            1,
+        ),
+        (
+            "airflow-fit",
+            vec![
+                "airflow",
+                "fit",
+                "--survey",
+                &survey,
+                "--container",
+                "trailer-6m",
+                "--fan",
+                "vane-3kw",
+                "--nx",
+                "16",
+                "--ny",
+                "6",
+                "--nz",
+                "6",
+                "--units",
+                "us",
+            ],
+            5,
         ),
     ];
     for (name, args, pictures) in cases {

@@ -1,6 +1,6 @@
 //! Inputs are sacred: every command with an output refuses, with one line and exit 2, an output that is, holds or
 //! lies inside a file it reads — named directly, through a symbolic link or through `..` — and every input is
-//! byte-identical afterwards.
+//! byte-identical afterwards, after a refusal and after a whole run.
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -37,6 +37,21 @@ fn inputs(dir: &Path) -> PathBuf {
          2026-09-19T03:00:00-05:00,composite,,,,kernel,18.0,meter\n",
     )
     .unwrap();
+    // A load on air and the board, their weather beside them as in `examples/at-the-dryer/`.
+    copy("examples/at-the-dryer/observed.csv", "observed.csv");
+    copy("examples/at-the-dryer/forecast.csv", "forecast.csv");
+    let status = std::fs::read_to_string(root().join("examples/at-the-dryer/status-bf06.json"))
+        .unwrap()
+        // The scenario named by path (a status file's scenario is a bundled name or a path as given).
+        .replace(
+            "\"demo-load\"",
+            &format!("{:?}", d.join("scenario.json").display().to_string()),
+        );
+    std::fs::write(d.join("status.json"), status).unwrap();
+    let board = std::fs::read_to_string(root().join("examples/at-the-dryer/board.json"))
+        .unwrap()
+        .replace("../../models/buying-points/bramble-fork.json", "bp.json");
+    std::fs::write(d.join("board.json"), board).unwrap();
     std::os::unix::fs::symlink(&d, dir.join("link")).unwrap();
     d
 }
@@ -104,7 +119,24 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
                 p("container.json"),
                 "--fan".into(),
                 p("fan.json"),
+                "--nx".into(),
+                "16".into(),
+                "--ny".into(),
+                "6".into(),
+                "--nz".into(),
+                "6".into(),
             ],
+        ),
+        (
+            "status",
+            with(s(&["status", "--members", "2"]), &[p("status.json")]),
+        ),
+        (
+            "board",
+            with(
+                s(&["board", "--members", "2", "--horizon-h", "12"]),
+                &[p("board.json")],
+            ),
         ),
         (
             "season run",
@@ -134,6 +166,8 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
             "calibrate",
             vec![
                 "calibrate".into(),
+                "--fit".into(),
+                "kernel-rate".into(),
                 "--load".into(),
                 p("scenario.json"),
                 p("samples.csv"),
@@ -187,9 +221,15 @@ fn no_command_writes_over_what_it_reads() {
         ] {
             refused(&args, &out, &format!("{name} --out {}", out.display()));
         }
-        // The input file itself as the output folder.
+        // The input file itself as the output folder, and a folder inside it.
         let read = args.iter().find(|a| a.ends_with(".json")).unwrap();
         refused(&args, Path::new(read), &format!("{name} --out {read}"));
+        let inside = Path::new(read).join("out");
+        refused(
+            &args,
+            &inside,
+            &format!("{name} --out {}", inside.display()),
+        );
         assert_eq!(bytes(&d), before, "{name}: inputs unchanged");
     }
     // `airflow fit` reads a CSV besides its JSON files: the survey itself as the output folder.
@@ -232,4 +272,31 @@ fn no_command_writes_over_what_it_reads() {
     );
     std::fs::remove_file(d.join("weather.warnings.txt")).unwrap();
     assert_eq!(bytes(&d), before, "inputs unchanged");
+}
+
+#[test]
+fn the_newest_commands_leave_their_inputs_as_they_were() {
+    // A whole run of each, its set written beside the inputs: every input byte-identical afterwards.
+    let dir = tempfile::tempdir().unwrap();
+    let d = inputs(dir.path());
+    let before = bytes(&d);
+    for (name, args) in commands(&d)
+        .into_iter()
+        .filter(|(n, _)| ["status", "board", "calibrate", "airflow fit"].contains(n))
+    {
+        let out = dir.path().join(format!("out-{}", name.replace(' ', "-")));
+        let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
+            .args(&args)
+            .arg("--out")
+            .arg(&out)
+            .output()
+            .unwrap();
+        assert!(
+            o.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(out.join("report.html").is_file(), "{name}: no report.html");
+        assert_eq!(bytes(&d), before, "{name}: inputs unchanged after a run");
+    }
 }

@@ -4,7 +4,9 @@
 //!
 //! Each command runs twice, `--units si` and `--units us`; the numbers of both outputs are paired in order (the two
 //! outputs must have the same shape), and a pair whose units are a known SI/US pair is converted with the factors of
-//! `dryfront::units` (NIST SP 811) and compared within half a unit in the last printed digit of each side.
+//! `dryfront::units` (NIST SP 811) and compared within half a unit in the last printed digit of each side. For the
+//! commands of a load on air, the board, calibration and airflow fit the same is checked on `report.html` (its
+//! text without pictures), and every SVG they write is checked for SI units.
 use std::process::Command;
 
 use dryfront::units::{
@@ -87,8 +89,8 @@ fn convert(si: &str, us: &str, v: f64) -> Option<(f64, f64)> {
     }
 }
 
-/// Check one command's SI and US outputs; returns how many figures were converted and checked.
-fn check_pair(what: &str, si: &str, us: &str) -> usize {
+/// No SI unit token in any line of a US output.
+fn assert_no_si(what: &str, us: &str) {
     for line in us.lines() {
         let bad: Vec<&str> = tokens(line).into_iter().filter(|t| si_unit(t)).collect();
         assert!(
@@ -96,6 +98,11 @@ fn check_pair(what: &str, si: &str, us: &str) -> usize {
             "{what}: SI unit {bad:?} under --units us in: {line}"
         );
     }
+}
+
+/// Check one command's SI and US outputs; returns how many figures were converted and checked.
+fn check_pair(what: &str, si: &str, us: &str) -> usize {
+    assert_no_si(what, us);
     let (a, b) = (numbers(si), numbers(us));
     assert_eq!(
         a.len(),
@@ -340,6 +347,135 @@ fn weather_and_season_in_us_units() {
     );
 }
 
+/// The text a person reads in HTML or SVG: elements' text with tags, styles and scripts removed, one element per
+/// line, the few entities our writers use decoded.
+fn visible_text(markup: &str) -> String {
+    let mut out = String::new();
+    let mut rest = markup;
+    while let Some(open) = rest.find('<') {
+        out.push_str(&rest[..open]);
+        out.push('\n');
+        let tag = &rest[open..];
+        let skip_to = ["<style", "<script"]
+            .iter()
+            .find(|t| tag.starts_with(*t))
+            .map(|t| format!("</{}>", &t[1..]));
+        let end = match skip_to {
+            Some(close) => tag.find(&close).map(|i| i + close.len()),
+            None => tag.find('>').map(|i| i + 1),
+        };
+        rest = &tag[end.unwrap_or(tag.len())..];
+    }
+    out.push_str(rest);
+    out.replace("&lt;", "<")
+        .replace("&gt;", ">")
+        .replace("&quot;", "\"")
+        .replace("&amp;", "&")
+}
+
+/// `report.html` without its pictures: the page's own words and figures.
+fn page_text(dir: &std::path::Path) -> String {
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    let mut text = String::new();
+    let mut rest = html.as_str();
+    while let Some(i) = rest.find("<svg") {
+        text.push_str(&rest[..i]);
+        rest = rest[i..]
+            .find("</svg>")
+            .map_or("", |j| &rest[i + j + "</svg>".len()..]);
+    }
+    text.push_str(rest);
+    visible_text(&text)
+}
+
+/// A command run with `--out` in each system: its printed output and its page paired and converted, and no SI unit
+/// in any of the US set's pictures. The number of figures checked.
+fn with_files(what: &str, si_args: &[&str], us_args: &[&str]) -> usize {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("si"), dir.path().join("us"));
+    let go = |args: &[&str], u: &str, out: &std::path::Path| {
+        let o = out.to_str().unwrap();
+        run(&[args, &["--units", u, "--out", o]].concat(), dir.path()).replace(o, "X")
+    };
+    let (si, us) = (go(si_args, "si", &a), go(us_args, "us", &b));
+    let printed = check_pair(what, &si, &us);
+    let page = check_pair(
+        &format!("{what} report.html"),
+        &page_text(&a),
+        &page_text(&b),
+    );
+    let mut pictures = 0;
+    for e in std::fs::read_dir(&b).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_some_and(|x| x == "svg") {
+            assert_no_si(
+                &format!("{what} {}", p.display()),
+                &visible_text(&std::fs::read_to_string(&p).unwrap()),
+            );
+            pictures += 1;
+        }
+    }
+    assert!(pictures > 0, "{what}: no picture written");
+    eprintln!("{what}: {printed} printed and {page} report figures converted and checked, {pictures} pictures");
+    printed + page
+}
+
+#[test]
+fn status_and_board_in_us_units_with_their_files() {
+    let status = [
+        "status",
+        "examples/at-the-dryer/status-bf06.json",
+        "--members",
+        "4",
+    ];
+    assert!(with_files("status", &status, &status) >= 10);
+    // A heater choice given in each system's own units: a 14.4 °F rise is the 8 K rise.
+    let mut si = status.to_vec();
+    si.extend(["--what-if", "rise=8;plenum=35"]);
+    let mut us = status.to_vec();
+    us.extend(["--what-if", "rise=14.4;plenum=95"]);
+    assert!(both("status --what-if", &si, &us) >= 10);
+    let board = [
+        "board",
+        "examples/at-the-dryer/board.json",
+        "--members",
+        "2",
+        "--horizon-h",
+        "24",
+    ];
+    assert!(with_files("board", &board, &board) >= 10);
+}
+
+#[test]
+fn calibrate_and_airflow_fit_in_us_units_with_their_files() {
+    let calibrate = [
+        "calibrate",
+        "--load",
+        "examples/calibration/bf-load-23.json",
+        "examples/calibration/bf-load-23-samples.csv",
+        "--fit",
+        "kernel-rate",
+    ];
+    assert!(with_files("calibrate", &calibrate, &calibrate) >= 10);
+    let fit = [
+        "airflow",
+        "fit",
+        "--survey",
+        "survey-samples/trailer-6m-bramble-fork.csv",
+        "--container",
+        "trailer-6m",
+        "--fan",
+        "vane-3kw",
+        "--nx",
+        "16",
+        "--ny",
+        "6",
+        "--nz",
+        "6",
+    ];
+    assert!(with_files("airflow fit", &fit, &fit) >= 40);
+}
+
 #[test]
 fn the_checker_catches_an_si_unit_and_a_wrong_conversion() {
     // The checks above could fail: an SI unit left in, or a figure converted wrongly, is caught.
@@ -351,4 +487,10 @@ fn the_checker_catches_an_si_unit_and_a_wrong_conversion() {
     assert!(caught("flow 10.0 m³/min", "flow 10.0 m³/min"));
     assert!(!caught("air 30.0 °C, 12.0 h", "air 86.0 °F, 12.0 h"));
     assert_eq!(check_pair("t", "rise 8.00 K", "rise 14.40 °F"), 1);
+    // The page reader keeps what a person reads and drops markup, styles and scripts.
+    let page = "<style>p{margin:1m}</style><p>depth 0.30 m &amp; more</p><script>var m=1;</script>";
+    assert_eq!(
+        tokens(&visible_text(page)),
+        ["depth", "0.30", "m", "&", "more"]
+    );
 }

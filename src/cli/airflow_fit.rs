@@ -7,7 +7,7 @@ use std::path::PathBuf;
 use crate::airflow::fit::{block_columns, fit_survey, fitted_container, FitSettings};
 use crate::error::check_range;
 use crate::input::survey::read_survey;
-use crate::report::airflow_fit::{fit_human, fit_outputs, FitReport};
+use crate::report::airflow_fit::{fit_human, fit_outputs, fit_page, FitReport};
 use crate::report::output::check_target;
 
 /// The options of `dryfront airflow fit`.
@@ -104,13 +104,26 @@ pub fn run(args: FitArgs) -> anyhow::Result<()> {
         }),
         units: o.units,
     };
-    print!("{}", l.human(o.units));
-    print!("{}", fit_human(&report, o.units));
-    for a in crate::report::airflow::airflow_advice(&fitted, &fit.solution) {
-        println!("{}", a.text(o.units));
+    let advice: Vec<String> = crate::report::airflow::airflow_advice(&fitted, &fit.solution)
+        .iter()
+        .map(|a| a.text(o.units))
+        .collect();
+    let mut printed = l.human(o.units) + &fit_human(&report, o.units);
+    for a in &advice {
+        printed.push_str(a);
+        printed.push('\n');
     }
+    print!("{printed}");
     if let Some(dir) = &o.out {
-        let set = fit_outputs(&report);
+        let mut set = fit_outputs(&report);
+        let page = fit_page(
+            &report,
+            advice,
+            &set,
+            printed,
+            super::inputs_as_run(&l.inputs)?,
+        );
+        set.add("report.html", page.render());
         set.commit(dir, &l.inputs, o.replace)?;
         let names: Vec<String> = set.names().map(|n| n.display().to_string()).collect();
         println!("wrote {} to {}", names.join(", "), dir.display());

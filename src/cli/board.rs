@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use crate::board::{current_loads, plan, ranges};
 use crate::input::board::read_board;
-use crate::report::board::{board_outputs, board_text, BoardView};
+use crate::report::board::{board_outputs, board_page, board_text, BoardView};
 use crate::report::output::check_target;
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::DeepBedDrier;
@@ -32,10 +32,10 @@ pub struct BoardArgs {
     /// Seed of the members.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
-    /// Units for the printed board.
+    /// Units for the printed board and `report.html`.
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
-    /// Folder for `plan.csv` and `plan.svg` (written whole or not at all).
+    /// Folder for `report.html`, `plan.csv` and `plan.svg` (written whole or not at all).
     #[arg(long)]
     pub out: Option<PathBuf>,
     /// Write into the --out folder even though it holds files dryfront did not write.
@@ -85,10 +85,23 @@ pub fn run(a: BoardArgs) -> anyhow::Result<()> {
         ranges: &r,
         members: a.members,
     };
-    print!("{}", board_text(&view, a.units));
+    let printed = board_text(&view, a.units);
+    print!("{printed}");
     if let Some(dir) = &a.out {
-        board_outputs(&view).commit(dir, &b.inputs, a.replace)?;
-        println!("  wrote plan.csv and plan.svg to {}", dir.display());
+        let mut set = board_outputs(&view);
+        let page = board_page(
+            &view,
+            a.units,
+            &set,
+            printed,
+            super::inputs_as_run(&b.inputs)?,
+        );
+        set.add("report.html", page.render());
+        set.commit(dir, &b.inputs, a.replace)?;
+        println!(
+            "  wrote report.html, plan.csv and plan.svg to {}",
+            dir.display()
+        );
     }
     Ok(())
 }

@@ -9,9 +9,10 @@ use crate::calibrate::rates::{calibrate, Constant, LoadRecord};
 use crate::input::samples::{read_samples, SampledLoad};
 use crate::input::scenario::Scenario;
 use crate::report::calibrate::{
-    calibrated_crop_json, fit_table, plot_svg, residual_table, residuals_csv,
+    calibrate_page, calibrated_crop_json, fit_table, plot_svg, residual_table, residuals_csv,
 };
 use crate::report::output::{check_target, OutputSet};
+use crate::units::UnitSystem;
 
 /// Arguments of `dryfront calibrate`.
 #[derive(Debug, clap::Args)]
@@ -26,8 +27,11 @@ pub struct CalibrateArgs {
     /// Most Levenberg–Marquardt iterations.
     #[arg(long, default_value_t = 30)]
     pub max_iterations: usize,
-    /// Folder for the calibrated crop file, residuals and plot (created if missing; an earlier set there is
-    /// replaced whole); nothing is written without it.
+    /// Units of the printed places, the plot and `report.html` (the crop file and `residuals.csv` stay SI).
+    #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
+    pub units: UnitSystem,
+    /// Folder for the calibrated crop file, residuals, plot and `report.html` (created if missing; an earlier set
+    /// there is replaced whole); nothing is written without it.
     #[arg(long)]
     pub out: Option<PathBuf>,
     /// Write into the --out folder even though it holds files dryfront did not write (they are removed).
@@ -114,9 +118,13 @@ pub fn run(args: CalibrateArgs) -> anyhow::Result<()> {
         constants.len() + 1
     );
     let cal = calibrate(&crop, &records, &constants, &settings)?;
-    println!("{} — fitted to {n} moisture samples", crop.name);
-    print!("{}", fit_table(&cal, settings.confidence));
-    print!("{}", residual_table(&cal, &records));
+    let printed = format!(
+        "{} — fitted to {n} moisture samples\n{}{}",
+        crop.name,
+        fit_table(&cal, settings.confidence),
+        residual_table(&cal, &records, args.units)
+    );
+    print!("{printed}");
     let date = chrono::Utc::now().format("%Y-%m-%d");
     let names: Vec<String> = records.iter().map(|r| r.name.clone()).collect();
     let fitted: Vec<String> = cal
@@ -145,10 +153,21 @@ pub fn run(args: CalibrateArgs) -> anyhow::Result<()> {
         let mut set = OutputSet::new();
         set.add(format!("{}-calibrated.json", crop.name), json);
         set.add("residuals.csv", residuals_csv(&cal, &records));
-        set.add("measured-vs-model.svg", plot_svg(&cal, &records));
+        set.add(
+            "measured-vs-model.svg",
+            plot_svg(&cal, &records, args.units),
+        );
+        let page = calibrate_page(
+            (&cal, &records, settings.confidence),
+            args.units,
+            &set,
+            printed,
+            super::inputs_as_run(&inputs)?,
+        );
+        set.add("report.html", page.render());
         set.commit(dir, &inputs, args.replace)?;
         println!(
-            "  wrote {}-calibrated.json, residuals.csv and measured-vs-model.svg to {}",
+            "  wrote report.html, {}-calibrated.json, residuals.csv and measured-vs-model.svg to {}",
             crop.name,
             dir.display()
         );

@@ -8,7 +8,7 @@ use crate::drying::heater::StrategySpec;
 use crate::input::status::read_status;
 use crate::load::checked_heater;
 use crate::report::output::check_target;
-use crate::report::status::{status_outputs, status_text};
+use crate::report::status::{status_outputs, status_page, status_text};
 use crate::status::forecast::forecast;
 use crate::status::{ForecastSettings, WhatIf};
 use crate::units::UnitSystem;
@@ -35,17 +35,18 @@ pub struct StatusArgs {
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
     /// Heater choices for the remaining time, `;`-separated in the heater language (`none`, `rise=8`,
-    /// `plenum=35`, `rh=55,max=35`, with an optional burner window `@6-20`). Default: `none` and the load's own
-    /// strategy with the burner off from 20:00 to 06:00 ("stop the burner tonight").
+    /// `plenum=35`, `rh=55,max=35`, with an optional burner window `@6-20`; set-points in °F under `--units us`).
+    /// Default: `none` and the load's own strategy with the burner off from 20:00 to 06:00 ("stop the burner
+    /// tonight").
     #[arg(long)]
     pub what_if: Option<String>,
     /// Run a heater choice above the crop's safe plenum maximum anyway.
     #[arg(long)]
     pub force: bool,
-    /// Units for the printed summary.
+    /// Units for the printed summary, `report.html` and `finish.svg` (and the `--what-if` set-points).
     #[arg(long, value_enum, default_value_t = UnitSystem::Si)]
     pub units: UnitSystem,
-    /// Folder for `status.json` and `members.csv` (written whole or not at all).
+    /// Folder for `report.html`, `status.json`, `members.csv` and `finish.svg` (written whole or not at all).
     #[arg(long)]
     pub out: Option<PathBuf>,
     /// Write into the --out folder even though it holds files dryfront did not write.
@@ -87,8 +88,15 @@ pub fn run(a: StatusArgs) -> anyhow::Result<()> {
         label: format!("{own} (as now)"),
         heater: spec.heater,
     }];
+    // The default choices are written in SI; the user's in the chosen units.
+    let written = if a.what_if.is_some() {
+        a.units
+    } else {
+        UnitSystem::Si
+    };
     for c in choices {
-        let strategy: StrategySpec = c.parse().with_context(|| format!("--what-if {c:?}"))?;
+        let strategy =
+            StrategySpec::parse_in(&c, written).with_context(|| format!("--what-if {c:?}"))?;
         let (heater, warning) = checked_heater(
             &spec.crop,
             strategy,
@@ -100,7 +108,11 @@ pub fn run(a: StatusArgs) -> anyhow::Result<()> {
         if let Some(w) = warning {
             eprintln!("dryfront: warning: {w} (running because of --force)");
         }
-        what_if.push(WhatIf { label: c, heater });
+        // Labelled in SI heater language (status.json); reports rewrite it in the chosen units.
+        what_if.push(WhatIf {
+            label: strategy.to_string(),
+            heater,
+        });
     }
     let settings = ForecastSettings {
         members: a.members,
@@ -112,11 +124,24 @@ pub fn run(a: StatusArgs) -> anyhow::Result<()> {
         what_if,
     };
     let f = forecast(&input.status, &settings)?;
-    print!("{}", status_text(&input.name, &input.status, &f, a.units));
+    let printed = status_text(&input.name, &input.status, &f, a.units);
+    print!("{printed}");
     if let Some(dir) = &a.out {
-        let set = status_outputs(&input.name, &input.status, &f);
+        let mut set = status_outputs(&input.name, &input.status, &f);
+        let page = status_page(
+            (&input.name, a.units),
+            &input.status,
+            &f,
+            &set,
+            printed,
+            super::inputs_as_run(&input.inputs)?,
+        );
+        set.add("report.html", page.render());
         set.commit(dir, &input.inputs, a.replace)?;
-        println!("  wrote status.json and members.csv to {}", dir.display());
+        println!(
+            "  wrote report.html, status.json, members.csv and finish.svg to {}",
+            dir.display()
+        );
     }
     Ok(())
 }

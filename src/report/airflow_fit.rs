@@ -1,10 +1,13 @@
 //! The reports of `airflow fit`: the printed fit, the fitted container file, the per-block residual table, the
 //! fit record, and maps of the measured and modelled airflow (on one colour scale), the residuals, the fitted
-//! multipliers and their uncertainty.
+//! multipliers and their uncertainty, and the HTML report (`report.html`), which leads with the multipliers and
+//! how much of each the survey determined.
 use std::fmt::Write as _;
 
 use ndarray::Array2;
 
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
+use super::load::{picture, CAUTIONS};
 use super::output::OutputSet;
 use super::svg::{heat_map, HeatMap, Overlay};
 use crate::airflow::fit::{BlockFit, SurveyBlock, SurveyFit};
@@ -341,4 +344,120 @@ pub fn fit_outputs(r: &FitReport<'_>) -> OutputSet {
         ),
     );
     set
+}
+
+/// The HTML report of a fit: the multipliers and their data share first, then the maps of the set (measured and
+/// modelled on one colour scale, residual, multiplier, uncertainty), the per-block table, the printed account,
+/// the inputs (container, fan, crop, survey) and the cautions. `notes` are the advice lines of the fitted map.
+pub fn fit_page(
+    r: &FitReport<'_>,
+    notes: Vec<String>,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let (f, u) = (r.fit, r.units);
+    let span = |v: &mut dyn Iterator<Item = f64>| {
+        v.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+            (a.min(x), b.max(x))
+        })
+    };
+    let (m_lo, m_hi) = span(&mut f.blocks.iter().map(|b| b.multiplier));
+    let mut share: Vec<f64> = f.blocks.iter().map(|b| b.data_share).collect();
+    share.sort_by(f64::total_cmp);
+    let median_share = share.get(share.len() / 2).copied().unwrap_or(f64::NAN);
+    let low_share = share.iter().filter(|&&d| d < 0.5).count();
+    let at_bound = f.blocks.iter().filter(|b| b.at_bound).count();
+    let sm = &r.sol().summary;
+    let mut all_notes = Vec::new();
+    if !f.converged {
+        all_notes.push(format!(
+            "The fit did NOT converge within {} iterations: the map is not a best fit.",
+            f.settings.max_iters
+        ));
+    }
+    if f.misfit > 2.0 * f.blocks.len() as f64 {
+        all_notes.push("The misfit is over twice the number of readings, so no map within the bounds matches the survey: check the fan or flow (the readings' total against it), the fill and the reading sd.".into());
+    }
+    if at_bound > 0 {
+        all_notes.push(format!(
+            "{at_bound} blocks ended at a multiplier bound: the survey asks for more than the bounds allow there."
+        ));
+    }
+    all_notes.extend(notes);
+    let pic = |name: &str, caption: &str| picture(set, name, caption);
+    Page {
+        title: format!("{} — airflow fit", r.fitted.name),
+        lead: format!(
+            "A permeability multiplier per survey block, fitted to the survey {} ({} blocks) by regularised least squares: {} iterations, {} airflow solves.",
+            r.survey_name,
+            f.blocks.len(),
+            f.iterations,
+            f.solves
+        ),
+        answer: vec![
+            KeyFigure::new(
+                "multipliers",
+                format!("{m_lo:.2} – {m_hi:.2}"),
+                format!("{} blocks; 1 is the crop's own law", f.blocks.len()),
+            ),
+            KeyFigure::new(
+                "data share",
+                format!("median {:.0} %", 100.0 * median_share),
+                format!("{low_share} blocks under 50 %: there the prior, not the survey, sets the multiplier"),
+            ),
+            KeyFigure::new(
+                "misfit",
+                format!("{:.2}", f.misfit),
+                format!("Σ((model − measured)/sd)² over {} readings", f.blocks.len()),
+            ),
+            KeyFigure::new(
+                "through the bed, fitted map",
+                u.flow(sm.bed_flow_m3_per_s),
+                format!("{} overall", u.specific_airflow(sm.specific_airflow_m3_per_min_per_m3)),
+            ),
+        ],
+        notes: all_notes,
+        body: vec![
+            Block::Heading("Pictures".into()),
+            pic("measured.svg", "Measured airflow per block (the survey), on the modelled map's colour scale"),
+            pic("modelled.svg", "Modelled airflow with the fitted map, on the measured map's colour scale"),
+            pic("residual.svg", "Residual: (model − measured) / reading sd"),
+            pic("multiplier.svg", "Fitted permeability multiplier per block"),
+            pic("uncertainty.svg", "95 % uncertainty factor of each multiplier (×/÷)"),
+            Block::Heading("Figures".into()),
+            Block::Table(blocks_table(r)),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+fn blocks_table(r: &FitReport<'_>) -> Table {
+    let u = r.units;
+    let meas = r.specific(|b| b.measured_m_per_s);
+    let model = r.specific(|b| b.modelled_m_per_s);
+    Table {
+        caption: "Each block: measured and modelled airflow, multiplier, its 95 % interval and data share".into(),
+        head: ["block", "measured", "modelled", "multiplier", "95 % interval", "data share"]
+            .map(String::from)
+            .to_vec(),
+        rows: r
+            .fit
+            .blocks
+            .iter()
+            .zip(meas.iter().zip(&model))
+            .map(|(b, (m, y))| {
+                vec![
+                    b.name.clone(),
+                    u.specific_airflow(*m),
+                    u.specific_airflow(*y),
+                    format!("{:.3}{}", b.multiplier, if b.at_bound { " (at a bound)" } else { "" }),
+                    format!("{:.3} – {:.3}", b.ci95_low, b.ci95_high),
+                    format!("{:.0} %", 100.0 * b.data_share),
+                ]
+            })
+            .collect(),
+    }
 }

@@ -1,11 +1,14 @@
 //! What the board of a buying point looks like: the printed plan (units on every number, local clock times),
-//! `plan.csv` and the Gantt picture of the plan from now (`plan.svg`, drawn by [`super::gantt`]).
+//! `plan.csv`, the Gantt picture of the plan from now (`plan.svg`, drawn by [`super::gantt`]) and the HTML report
+//! (`report.html`), which leads with the plan: which load goes on which dryer when, finishes with ranges, waits
+//! against the limit and fuel.
 
 use std::fmt::Write as _;
 
 use chrono::{DateTime, FixedOffset};
 
 use super::gantt::gantt_svg;
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
 use super::load::CAUTIONS;
 use super::output::OutputSet;
 use crate::board::CurrentLoad;
@@ -214,4 +217,231 @@ pub fn board_outputs(v: &BoardView<'_>) -> OutputSet {
         ),
     );
     set
+}
+
+/// Loads past the wait limit: planned loads that wait longer, and loads the plan does not start that have waited
+/// longer by its end.
+fn past_limit(v: &BoardView<'_>) -> Vec<String> {
+    let lim = v.plan.max_wait_h;
+    let planned = v.plan.schedule.iter().filter(|r| r.wait_h > lim).map(|r| {
+        format!(
+            "load {} waits {:.1} h for {}",
+            r.load_id, r.wait_h, r.dryer_id
+        )
+    });
+    let unstarted = v.plan.never_started.iter().filter_map(|u| {
+        let w = crate::season::sim::hours_between(u.arrival, v.plan.end);
+        (w > lim).then(|| {
+            format!(
+                "load {} is not started within the plan and has waited {w:.1} h by its end",
+                u.load_id
+            )
+        })
+    });
+    planned.chain(unstarted).collect()
+}
+
+/// The HTML report of the board: the plan first (next hook-ups, when the dryers come free, waits against the limit,
+/// fuel), then the Gantt picture of the plan from now, the tables of the loads on the dryers and of the plan, the
+/// board as printed, the inputs and the cautions.
+pub fn board_page(
+    v: &BoardView<'_>,
+    units: UnitSystem,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let plan = &v.plan.schedule;
+    let late = past_limit(v);
+    let now_fuel: f64 = v.current.iter().map(|c| c.finish.fuel).sum();
+    let plan_fuel: f64 = plan.iter().map(|r| r.result.fuel_l).sum();
+    let next = plan.first().map_or_else(
+        || {
+            (
+                "nothing planned".to_string(),
+                "the yard is empty or no dryer comes free".to_string(),
+            )
+        },
+        |r| {
+            (
+                format!("{} on {} at {}", r.load_id, r.dryer_id, hm(r.start)),
+                format!(
+                    "{} hook-ups in the plan, {} loads not started",
+                    plan.len(),
+                    v.plan.never_started.len()
+                ),
+            )
+        },
+    );
+    let free = v.current.iter().min_by_key(|c| c.released).map_or_else(
+        || ("no load on a dryer".to_string(), String::new()),
+        |c| {
+            (
+                format!("{} at {}", v.plan.dryer_ids[c.dryer_index], hm(c.released)),
+                format!("load {} done {}", c.load_id, range_text(v.now, &c.range)),
+            )
+        },
+    );
+    let mut notes: Vec<String> = late
+        .iter()
+        .map(|l| format!("Past the {:.1} h wait limit: {l}.", v.plan.max_wait_h))
+        .collect();
+    notes.push("Re-run with new readings and arrivals to update the plan.".into());
+    Page {
+        title: format!("{} — board", v.name),
+        lead: format!(
+            "The buying point now ({}) and its plan to {}: {} loads on dryers forecast from their readings, {} loads in the yard dispatched; finish ranges P10–P90 over {} weather members.",
+            v.now.format("%a %Y-%m-%d %H:%M %:z"),
+            v.plan.end.format("%a %Y-%m-%d %H:%M"),
+            v.current.len(),
+            plan.len() + v.plan.never_started.len(),
+            v.members
+        ),
+        answer: vec![
+            KeyFigure::new("next hook-up", next.0, next.1),
+            KeyFigure::new("first dryer free", free.0, free.1),
+            KeyFigure::new(
+                format!("waits past the {:.1} h limit", v.plan.max_wait_h),
+                late.len().to_string(),
+                format!(
+                    "longest planned wait {:.1} h",
+                    plan.iter().map(|r| r.wait_h).fold(0.0, f64::max)
+                ),
+            ),
+            KeyFigure::new(
+                "fuel",
+                units.fuel(now_fuel + plan_fuel, "L"),
+                format!(
+                    "{} on the dryers, {} planned",
+                    units.fuel(now_fuel, "L"),
+                    units.fuel(plan_fuel, "L")
+                ),
+            ),
+        ],
+        notes,
+        body: vec![
+            Block::Heading("The plan".into()),
+            Block::Table(plan_table(v, units)),
+            Block::Picture {
+                svg: set.text("plan.svg").to_string(),
+                caption: "Each dryer from now: the loads on air and the planned hook-ups (also written as plan.svg)"
+                    .into(),
+                zoom: true,
+            },
+            Block::Heading("On the dryers".into()),
+            Block::Table(current_table(v, units)),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+fn current_table(v: &BoardView<'_>, units: UnitSystem) -> Table {
+    Table {
+        caption: "Loads on the dryers: replay from air-on, adjusted to the readings".into(),
+        head: [
+            "dryer",
+            "load",
+            "net mass",
+            "on air since",
+            "mean kernel now",
+            "done",
+            "P10–P90",
+            "fuel to go",
+            "dryer free",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: v
+            .current
+            .iter()
+            .map(|c| {
+                vec![
+                    v.plan.dryer_ids[c.dryer_index].clone(),
+                    c.load_id.clone(),
+                    units.mass(c.mass_kg),
+                    hm(c.on_air),
+                    format!("{:.1} % w.b.", c.mean_kernel_wb.1 * 100.0),
+                    c.finish
+                        .stop_h
+                        .map(|h| hm(v.now + duration_h(h)))
+                        .unwrap_or("not within the forecast".into()),
+                    range_text(v.now, &c.range),
+                    units.fuel(c.finish.fuel, "L"),
+                    hm(c.released),
+                ]
+            })
+            .collect(),
+    }
+}
+
+fn plan_table(v: &BoardView<'_>, units: UnitSystem) -> Table {
+    let lim = v.plan.max_wait_h;
+    let mut rows: Vec<Vec<String>> = v
+        .plan
+        .schedule
+        .iter()
+        .zip(v.ranges)
+        .map(|(r, p)| {
+            vec![
+                r.dryer_id.clone(),
+                r.load_id.clone(),
+                units.mass(r.mass_kg),
+                format!("{:.1} % w.b.", r.moisture_in_pct),
+                hm(r.arrival),
+                hm(r.start),
+                hm(r.finish),
+                range_text(r.start, p),
+                format!(
+                    "{:.1} h{}",
+                    r.wait_h,
+                    if r.wait_h > lim {
+                        " (past the limit)"
+                    } else {
+                        ""
+                    }
+                ),
+                units.fuel(r.result.fuel_l, "L"),
+            ]
+        })
+        .collect();
+    rows.extend(v.plan.never_started.iter().map(|u| {
+        let w = crate::season::sim::hours_between(u.arrival, v.plan.end);
+        vec![
+            "(no dryer)".into(),
+            u.load_id.clone(),
+            units.mass(u.mass_kg),
+            String::new(),
+            hm(u.arrival),
+            "not within the plan".into(),
+            String::new(),
+            String::new(),
+            format!(
+                "{w:.1} h by the plan's end{}",
+                if w > lim { " (past the limit)" } else { "" }
+            ),
+            String::new(),
+        ]
+    }));
+    Table {
+        caption: format!(
+            "Which load goes on which dryer when (policy as chosen; wait limit {lim:.1} h)"
+        ),
+        head: [
+            "dryer",
+            "load",
+            "net mass",
+            "moisture in",
+            "arrived",
+            "on air",
+            "done",
+            "P10–P90",
+            "wait",
+            "fuel",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows,
+    }
 }

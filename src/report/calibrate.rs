@@ -1,20 +1,29 @@
 //! What `dryfront calibrate` writes: the fit table, the residuals (CSV), measured against modelled moisture (SVG),
-//! and the new crop file with the fitted constants marked "calibrated".
+//! the new crop file with the fitted constants marked "calibrated", and the HTML report (`report.html`), which
+//! leads with the constants before and after with their intervals.
 
 use std::fmt::Write as _;
 
 use serde_json::Value;
 
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
+use super::load::{picture, CAUTIONS};
+use super::output::OutputSet;
 use super::svg::{line_chart, LineChart, Series};
 use crate::calibrate::rates::{Calibration, LoadRecord};
 use crate::calibrate::samples::{Measure, Place};
+use crate::units::UnitSystem;
 
-fn place_text(p: Place) -> String {
+/// A sample's place in `units` (SI in `residuals.csv`).
+fn place_text(p: Place, units: UnitSystem) -> String {
     match p {
         Place::Composite => "composite".into(),
-        Place::Point { x_m, y_m, depth_m } => {
-            format!("x {x_m:.2} m, y {y_m:.2} m, {depth_m:.2} m deep")
-        }
+        Place::Point { x_m, y_m, depth_m } => format!(
+            "x {}, y {}, {} deep",
+            units.length(x_m),
+            units.length(y_m),
+            units.length(depth_m)
+        ),
     }
 }
 
@@ -101,7 +110,7 @@ pub fn residuals_csv(cal: &Calibration, records: &[LoadRecord]) -> String {
                 r.name,
                 smp.line,
                 smp.hours,
-                place_text(smp.place),
+                place_text(smp.place, UnitSystem::Si),
                 measure_text(smp.measure),
                 smp.method.name(),
                 smp.moisture_wb_pct,
@@ -119,15 +128,15 @@ pub fn residuals_csv(cal: &Calibration, records: &[LoadRecord]) -> String {
 type Points = Vec<(f64, f64)>;
 
 /// Measured and modelled moisture against hours on air, one group of lines per record, place and measure (so a
-/// line never joins a grab sample to a composite): measured, modelled before and after the fit.
-pub fn plot_svg(cal: &Calibration, records: &[LoadRecord]) -> String {
+/// line never joins a grab sample to a composite): measured, modelled before and after the fit; places in `units`.
+pub fn plot_svg(cal: &Calibration, records: &[LoadRecord], units: UnitSystem) -> String {
     let mut series = Vec::new();
     let mut n = 0;
     for r in records {
         // Groups in order of first appearance.
         let mut groups: Vec<(String, [Points; 3])> = Vec::new();
         for s in &r.samples {
-            let key = format!("{} {}", place_text(s.place), measure_text(s.measure));
+            let key = format!("{} {}", place_text(s.place, units), measure_text(s.measure));
             let g = match groups.iter().position(|(k, _)| *k == key) {
                 Some(i) => i,
                 None => {
@@ -192,8 +201,8 @@ pub fn calibrated_crop_json(
     Ok(s)
 }
 
-/// The printed residuals: one line per sample.
-pub fn residual_table(cal: &Calibration, records: &[LoadRecord]) -> String {
+/// The printed residuals: one line per sample, places in `units`.
+pub fn residual_table(cal: &Calibration, records: &[LoadRecord], units: UnitSystem) -> String {
     let mut s = format!(
         "{:<6} {:>8} {:<34} {:<7} {:>9} {:>9} {:>9} {:>9}\n",
         "line", "hours", "place", "measure", "measured", "before", "fitted", "residual"
@@ -208,7 +217,7 @@ pub fn residual_table(cal: &Calibration, records: &[LoadRecord]) -> String {
                 "{:<6} {:>6.1} h {:<34} {:<7} {:>7.2} % {:>7.2} % {:>7.2} % {:>+9.2}",
                 smp.line,
                 smp.hours,
-                place_text(smp.place),
+                place_text(smp.place, units),
                 measure_text(smp.measure),
                 smp.moisture_wb_pct,
                 cal.model_before[n],
@@ -220,4 +229,185 @@ pub fn residual_table(cal: &Calibration, records: &[LoadRecord]) -> String {
     }
     s.push_str("(moisture % wet basis; residual = fitted − measured, %-points)\n");
     s
+}
+
+/// Root-mean-square of model − measured, %-points.
+fn rms(cal: &Calibration, model: &[f64]) -> f64 {
+    let n = model.len().max(1) as f64;
+    (model
+        .iter()
+        .zip(&cal.measured)
+        .map(|(a, b)| (a - b) * (a - b))
+        .sum::<f64>()
+        / n)
+        .sqrt()
+}
+
+/// The HTML report of a calibration: each constant before and after with its interval, the residuals before and
+/// after, then the measured-vs-model picture of the set, the constants and residuals as tables, the summary as
+/// printed, the inputs (scenarios, weather, samples) and the cautions.
+pub fn calibrate_page(
+    (cal, records, confidence): (&Calibration, &[LoadRecord], f64),
+    units: UnitSystem,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let f = &cal.fit;
+    let level = format!("{:.0} %", confidence * 100.0);
+    let interval = |k: usize| {
+        let hw = f.half_width[k];
+        if hw.is_finite() {
+            format!(
+                "{level} interval {:.4} – {:.4}",
+                f.values[k] - hw,
+                f.values[k] + hw
+            )
+        } else {
+            "not determined by the samples".into()
+        }
+    };
+    let mut answer: Vec<KeyFigure> = cal
+        .constants
+        .iter()
+        .enumerate()
+        .map(|(k, c)| {
+            KeyFigure::new(
+                format!("{} (was {:.4})", c.name(), cal.before[k]),
+                format!("{:.4} {}", f.values[k], c.unit()),
+                interval(k),
+            )
+        })
+        .collect();
+    answer.push(KeyFigure::new(
+        "rms residual",
+        format!("{:.2} %-points w.b.", rms(cal, &f.model)),
+        format!("before the fit {:.2}", rms(cal, &cal.model_before)),
+    ));
+    let mut notes = Vec::new();
+    if !f.converged {
+        notes.push(format!(
+            "The fit stopped at its iteration limit ({} iterations) without converging: the constants are not a best fit.",
+            f.iterations
+        ));
+    }
+    for (k, c) in cal.constants.iter().enumerate() {
+        if f.at_bound[k] {
+            notes.push(format!(
+                "{} ended at its bound: leave it as it was rather than use the fitted value.",
+                c.name()
+            ));
+        } else if !f.half_width[k].is_finite() {
+            notes.push(format!(
+                "{}: the samples do not determine it; leave it as it was.",
+                c.name()
+            ));
+        }
+    }
+    Page {
+        title: format!("{} — calibration", cal.crop.name),
+        lead: format!(
+            "{} constants of {} fitted to {} moisture samples of {} loads by weighted least squares (Levenberg–Marquardt), {} iterations.",
+            cal.constants.len(),
+            cal.crop.name,
+            cal.measured.len(),
+            records.len(),
+            f.iterations
+        ),
+        answer,
+        notes,
+        body: vec![
+            Block::Heading("Pictures".into()),
+            picture(
+                set,
+                "measured-vs-model.svg",
+                "Measured moisture and the model before and after the fit at each sampled place",
+            ),
+            Block::Heading("Figures".into()),
+            Block::Table(constants_table(cal, &level)),
+            Block::Table(residuals_html(cal, records, units)),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+fn constants_table(cal: &Calibration, level: &str) -> Table {
+    let f = &cal.fit;
+    Table {
+        caption: "Constants before and after the fit".into(),
+        head: vec![
+            "constant".into(),
+            "before".into(),
+            "fitted".into(),
+            format!("{level} interval"),
+            "allowed range".into(),
+            "unit".into(),
+        ],
+        rows: cal
+            .constants
+            .iter()
+            .enumerate()
+            .map(|(k, c)| {
+                let (lo, hi) = c.bounds();
+                let hw = f.half_width[k];
+                vec![
+                    c.name().into(),
+                    format!("{:.4}", cal.before[k]),
+                    format!(
+                        "{:.4}{}",
+                        f.values[k],
+                        if f.at_bound[k] { " (at its bound)" } else { "" }
+                    ),
+                    if hw.is_finite() {
+                        format!("{:.4} – {:.4}", f.values[k] - hw, f.values[k] + hw)
+                    } else {
+                        "not determined".into()
+                    },
+                    format!("{lo} – {hi}"),
+                    c.unit().into(),
+                ]
+            })
+            .collect(),
+    }
+}
+
+fn residuals_html(cal: &Calibration, records: &[LoadRecord], units: UnitSystem) -> Table {
+    let mut rows = Vec::new();
+    let mut n = 0;
+    for r in records {
+        for smp in &r.samples {
+            let fitted = cal.fit.model[n];
+            rows.push(vec![
+                r.name.clone(),
+                smp.line.to_string(),
+                format!("{:.1} h", smp.hours),
+                place_text(smp.place, units),
+                measure_text(smp.measure).into(),
+                format!("{:.2}", smp.moisture_wb_pct),
+                format!("{:.2}", cal.model_before[n]),
+                format!("{fitted:.2}"),
+                format!("{:+.2}", fitted - smp.moisture_wb_pct),
+            ]);
+            n += 1;
+        }
+    }
+    Table {
+        caption: "Each sample: moisture % w.b.; residual = fitted − measured, %-points".into(),
+        head: [
+            "record",
+            "line",
+            "on air",
+            "place",
+            "measure",
+            "measured",
+            "model before",
+            "model fitted",
+            "residual",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows,
+    }
 }

@@ -84,10 +84,9 @@ impl Axis {
         let day_px = self.plot_w * 24.0 / self.span_h;
         let step = ((text_w("Sep 30", 11.0) + 10.0) / day_px).ceil().max(1.0) as i64;
         let mut s = String::new();
-        for d in 0..=days {
-            if (24 * d) as f64 > self.span_h {
-                break;
-            }
+        // Only the days inside the axis: past its end a line and its date would fall beyond the picture (a short
+        // span, as a board's, leaves up to a day of it there).
+        for d in (0..=days).take_while(|d| *d as f64 * 24.0 <= self.span_h + 1e-9) {
             let t = self.t0 + Duration::days(d);
             let x = self.x(t);
             s.push_str(&format!(

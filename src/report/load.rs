@@ -785,7 +785,8 @@ fn crossings_table(spec: &LoadSpec, r: &LoadResult, units: UnitSystem) -> Table 
     }
 }
 
-fn picture(set: &OutputSet, name: &str, caption: &str) -> Block {
+/// A picture of `set` shown in a report, its caption naming the file it is also written as.
+pub(crate) fn picture(set: &OutputSet, name: &str, caption: &str) -> Block {
     Block::Picture {
         svg: set.text(name).to_string(),
         caption: format!("{caption} (also written as {name})"),

@@ -1,12 +1,16 @@
 //! What the status of a load on air and the forecast of its finish look like: the printed summary (units on every
-//! number, local clock times), `status.json` and the ensemble's `members.csv`.
+//! number, local clock times), `status.json`, the ensemble's `members.csv`, the members' finishes as a picture
+//! (`finish.svg`) and the HTML report (`report.html`), which leads with the hours and clock times to done.
 
 use std::fmt::Write as _;
 
 use chrono::{DateTime, FixedOffset};
 
-use super::load::CAUTIONS;
+use super::html::{Block, InputRecord, KeyFigure, Page, Table};
+use super::load::{picture, CAUTIONS};
 use super::output::OutputSet;
+use super::svg::{line_chart, LineChart, Series};
+use crate::drying::heater::StrategySpec;
 use crate::status::{Finish, LoadStatus, Part, Percentiles, Place, StatusForecast};
 use crate::units::UnitSystem;
 
@@ -38,7 +42,7 @@ fn range(now: DateTime<FixedOffset>, p: &Percentiles, members: usize) -> String 
     )
 }
 
-fn place_text(r: &crate::status::Reading) -> String {
+fn place_text(r: &crate::status::Reading, units: UnitSystem) -> String {
     let part = match r.part {
         Part::Kernel => "kernel",
         Part::Pod => "pod",
@@ -49,8 +53,17 @@ fn place_text(r: &crate::status::Reading) -> String {
             along,
             across,
             depth_m,
-        } => format!("{part}, {depth_m:.2} m deep at {along:.2}/{across:.2}"),
+        } => format!(
+            "{part}, {} deep at {along:.2}/{across:.2}",
+            units.length(depth_m)
+        ),
     }
+}
+
+/// A heater choice's label as a person reads it: the label (written by the command in SI heater language) with
+/// its strategy rewritten in `units`.
+fn heater_label(label: &str, heater: &StrategySpec, units: UnitSystem) -> String {
+    label.replacen(&heater.to_string(), &heater.text_in(units), 1)
 }
 
 /// The printed summary.
@@ -74,7 +87,7 @@ pub fn status_text(name: &str, st: &LoadStatus, f: &StatusForecast, units: UnitS
             crate::load::FillSpec::Container => "as the container file fills".into(),
         },
         spec.container.name,
-        spec.heater.spec,
+        spec.heater.spec.text_in(units),
         units.fuel(f.replay.fuel_so_far, unit)
     );
     let _ = writeln!(
@@ -86,7 +99,7 @@ pub fn status_text(name: &str, st: &LoadStatus, f: &StatusForecast, units: UnitS
             s,
             "  {}  {:<32} {:<16} read {:5.2} ± {:.2}, replay {:5.2} (off {:+.2}{}), adjusted {:5.2}",
             r.time.format("%m-%d %H:%M"),
-            place_text(r),
+            place_text(r, units),
             if r.meter.is_empty() { "-" } else { &r.meter },
             c.reading_wb * 100.0,
             r.accuracy_wb * 100.0,
@@ -163,7 +176,8 @@ pub fn status_text(name: &str, st: &LoadStatus, f: &StatusForecast, units: UnitS
     );
     if !f.what_if.is_empty() {
         let _ = writeln!(s, "Heater for the remaining time (forecast as given):");
-        for (label, w) in &f.what_if {
+        for (wi, w) in &f.what_if {
+            let label = heater_label(&wi.label, &wi.heater.spec, units);
             let _ = writeln!(
                 s,
                 "  {label:<16} mean {:<44} {:.0} %: {:<44} fuel {}",
@@ -209,7 +223,7 @@ struct StatusDoc<'a> {
     cautions: &'static str,
 }
 
-/// `status.json`, `members.csv`.
+/// `status.json`, `members.csv` (both SI) and `finish.svg` (the members' finishes, for people).
 pub fn status_outputs(name: &str, st: &LoadStatus, f: &StatusForecast) -> OutputSet {
     let doc = StatusDoc {
         name,
@@ -227,7 +241,7 @@ pub fn status_outputs(name: &str, st: &LoadStatus, f: &StatusForecast) -> Output
         ensemble_mean_h: &f.spread[0],
         ensemble_fraction_h: &f.spread[1],
         ensemble_fuel: &f.spread[2],
-        what_if: f.what_if.iter().map(|(l, w)| (l.as_str(), w)).collect(),
+        what_if: f.what_if.iter().map(|(l, w)| (l.label.as_str(), w)).collect(),
         meaning: "Moisture as wet-basis decimals; hours counted from `now`; fuel in fuel_unit, from now until both \
 the mean and the fraction rule hold. Percentiles are linear between the members' order statistics; null where they \
 fall on members that did not finish within the weather.",
@@ -252,5 +266,221 @@ fall on members that did not finish within the weather.",
     let mut set = OutputSet::new();
     set.add("status.json", json);
     set.add("members.csv", csv);
+    set.add("finish.svg", finish_svg(name, st, f));
     set
+}
+
+/// The share of members done by each hour from now: one stepped line for the mean target and one for the fraction
+/// rule, on a clock axis with night shading, the finishes under the forecast as given as upright lines.
+fn finish_svg(name: &str, st: &LoadStatus, f: &StatusForecast) -> String {
+    let n = f.members.len();
+    let steps = |h: &dyn Fn(&Finish) -> Option<f64>| -> Vec<(f64, f64)> {
+        let mut done: Vec<f64> = f.members.iter().filter_map(h).collect();
+        done.sort_by(f64::total_cmp);
+        let mut pts = vec![(0.0, 0.0)];
+        for (k, t) in done.iter().enumerate() {
+            pts.push((*t, 100.0 * k as f64 / n as f64));
+            pts.push((*t, 100.0 * (k + 1) as f64 / n as f64));
+        }
+        pts
+    };
+    let d = &f.deterministic;
+    let target = st.spec.run.target_kernel_wb * 100.0;
+    let frac = st.spec.run.fraction * 100.0;
+    let mut series = vec![
+        Series {
+            name: format!("members with mean kernel at {target:.1} %"),
+            points: steps(&|m: &Finish| m.mean_h),
+        },
+        Series {
+            name: format!("members with {frac:.0} % of the load at {target:.1} %"),
+            points: steps(&|m: &Finish| m.fraction_h),
+        },
+    ];
+    let mark = |label: &str, h: Option<f64>| Series {
+        name: format!("forecast as given: {label}"),
+        points: h.map(|h| vec![(h, 0.0), (h, 100.0)]).unwrap_or_default(),
+    };
+    series.push(mark("mean at target", d.mean_h));
+    series.push(mark(&format!("{frac:.0} % at target"), d.fraction_h));
+    line_chart(&LineChart {
+        title: format!("{name}: chance of being done, {n} weather members"),
+        x_label: "time from now".into(),
+        x_unit: "h".into(),
+        y_label: "members done".into(),
+        y_unit: "%".into(),
+        series,
+        limits: vec![],
+        clock: Some(st.now),
+    })
+}
+
+/// "17.0 h, Sat 21:59" or "not within the weather".
+fn short_when(now: DateTime<FixedOffset>, h: Option<f64>) -> String {
+    match h {
+        Some(h) => format!(
+            "{h:.1} h, {}",
+            crate::load::clock_at(now, h).format("%a %H:%M")
+        ),
+        None => "not within the weather".into(),
+    }
+}
+
+/// "P10 Sat 21:17, P50 Sat 21:59, P90 Sat 22:25 (6 of 6 members)".
+fn short_range(now: DateTime<FixedOffset>, p: &Percentiles, members: usize) -> String {
+    if members == 0 {
+        return "no ensemble run".into();
+    }
+    let at = |x: Option<f64>| match x {
+        Some(h) => crate::load::clock_at(now, h).format("%a %H:%M").to_string(),
+        None => "beyond the weather".into(),
+    };
+    format!(
+        "P10 {}, P50 {}, P90 {} ({} of {members} members got there)",
+        at(p.p10),
+        at(p.p50),
+        at(p.p90),
+        p.reached
+    )
+}
+
+/// The HTML report of a load on air: when it will be done (hours and clock time to the mean and to the fraction
+/// rule, with the ensemble's P10/P50/P90), fuel still to burn, the heater choices, then the members' picture, the
+/// readings against the replay, the summary as printed, the inputs and the cautions.
+pub fn status_page(
+    (name, units): (&str, UnitSystem),
+    st: &LoadStatus,
+    f: &StatusForecast,
+    set: &OutputSet,
+    printed: String,
+    inputs: Vec<InputRecord>,
+) -> Page {
+    let spec = &st.spec;
+    let (now, n, d) = (st.now, f.members.len(), &f.deterministic);
+    let target = spec.run.target_kernel_wb * 100.0;
+    let frac = spec.run.fraction * 100.0;
+    let fuel = |x: f64| units.fuel(x, &f.fuel_unit);
+    let p = &f.spread[2];
+    let fuel_note = if n == 0 {
+        "no ensemble run".to_string()
+    } else {
+        let v = |x: Option<f64>| x.map(fuel).unwrap_or("-".into());
+        format!("P10 {}, P50 {}, P90 {}", v(p.p10), v(p.p50), v(p.p90))
+    };
+    let (rm, am) = f.replay.mean_kernel_wb;
+    let mut notes = Vec::new();
+    if f.replay.left_outside_wb > 0.0 {
+        notes.push(format!(
+            "The readings disagree with each other: one is still {:.2} points outside its accuracy after the adjustment.",
+            f.replay.left_outside_wb * 100.0
+        ));
+    }
+    if d.stop_h.is_none() {
+        notes.push("The load does not reach its stop rule within the forecast's weather: forecast further ahead or read it again.".into());
+    }
+    Page {
+        title: format!("{name} — status"),
+        lead: format!(
+            "A load on air: {} on {}, heater {}, on air since {} ({:.1} h); now {}. Replayed with the observed weather, adjusted to the operator's readings, run on with the forecast.",
+            match spec.fill {
+                crate::load::FillSpec::NetMass(kg) => units.mass(kg),
+                crate::load::FillSpec::Container => "a load as the container file fills".into(),
+            },
+            spec.container.name,
+            spec.heater.spec.text_in(units),
+            spec.start.format("%a %Y-%m-%d %H:%M"),
+            crate::status::hours_between(spec.start, now),
+            now.format("%a %Y-%m-%d %H:%M %:z")
+        ),
+        answer: vec![
+            KeyFigure::new(
+                format!("mean kernel at {target:.1} % w.b."),
+                short_when(now, d.mean_h),
+                short_range(now, &f.spread[0], n),
+            ),
+            KeyFigure::new(
+                format!("{frac:.0} % of the load at {target:.1} % w.b."),
+                short_when(now, d.fraction_h),
+                short_range(now, &f.spread[1], n),
+            ),
+            KeyFigure::new("fuel still to burn", fuel(d.fuel), fuel_note),
+            KeyFigure::new(
+                "mean kernel now",
+                format!("{:.2} % w.b.", am * 100.0),
+                format!("replay without the readings {:.2} % w.b.", rm * 100.0),
+            ),
+        ],
+        notes,
+        body: vec![
+            Block::Heading("Heater for the remaining time".into()),
+            Block::Table(what_if_table(st, f, units)),
+            Block::Heading("Pictures".into()),
+            picture(
+                set,
+                "finish.svg",
+                "Share of the weather members done by each hour from now; the upright lines are the finishes under the forecast as given",
+            ),
+            Block::Heading("Readings".into()),
+            Block::Table(readings_table(st, f, units)),
+        ],
+        summary: Some(printed),
+        inputs,
+        cautions: CAUTIONS.into(),
+    }
+}
+
+fn what_if_table(st: &LoadStatus, f: &StatusForecast, units: UnitSystem) -> Table {
+    let target = st.spec.run.target_kernel_wb * 100.0;
+    Table {
+        caption: "Each heater choice under the forecast as given".into(),
+        head: vec![
+            "heater".into(),
+            format!("mean kernel at {target:.1} %"),
+            format!(
+                "{:.0} % of the load at {target:.1} %",
+                st.spec.run.fraction * 100.0
+            ),
+            "fuel from now".into(),
+        ],
+        rows: f
+            .what_if
+            .iter()
+            .map(|(wi, w)| {
+                vec![
+                    heater_label(&wi.label, &wi.heater.spec, units),
+                    short_when(st.now, w.mean_h),
+                    short_when(st.now, w.fraction_h),
+                    units.fuel(w.fuel, &f.fuel_unit),
+                ]
+            })
+            .collect(),
+    }
+}
+
+fn readings_table(st: &LoadStatus, f: &StatusForecast, units: UnitSystem) -> Table {
+    Table {
+        caption: "Readings against the replay from the on-air time (moisture % w.b.)".into(),
+        head: ["time", "place", "meter", "read", "replay", "adjusted"]
+            .map(String::from)
+            .to_vec(),
+        rows: st
+            .readings
+            .iter()
+            .zip(&f.replay.checks)
+            .map(|(r, c)| {
+                vec![
+                    r.time.format("%a %H:%M").to_string(),
+                    place_text(r, units),
+                    if r.meter.is_empty() {
+                        "-".into()
+                    } else {
+                        r.meter.clone()
+                    },
+                    format!("{:.2} ± {:.2}", c.reading_wb * 100.0, r.accuracy_wb * 100.0),
+                    format!("{:.2}", c.replay_wb * 100.0),
+                    format!("{:.2}", c.adjusted_wb * 100.0),
+                ]
+            })
+            .collect(),
+    }
 }

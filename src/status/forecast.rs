@@ -294,7 +294,7 @@ pub struct StatusForecast {
     /// Ensemble percentiles: hours to the mean target, to the fraction rule, fuel still to burn.
     pub spread: [Percentiles; 3],
     /// Each heater choice and its finish under the forecast as given.
-    pub what_if: Vec<(String, Finish)>,
+    pub what_if: Vec<(WhatIf, Finish)>,
     /// The fuel's unit.
     pub fuel_unit: String,
 }
@@ -319,7 +319,7 @@ pub fn forecast(
         .map(|w| {
             let mut s = spec.clone();
             s.heater = w.heater;
-            Ok((w.label.clone(), finish(&s)?))
+            Ok((w.clone(), finish(&s)?))
         })
         .collect::<Result<Vec<_>, StatusError>>()?;
     Ok(StatusForecast {
