@@ -3,7 +3,8 @@
 //! 1-D duct's trend) and the trade's picture of a 6.4 m trailer.
 mod common;
 
-use dryfront::airflow::plenum_shape::Plenum2dParams;
+use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
+use dryfront::airflow::solve::solve_with_plenum;
 use dryfront::airflow::{
     solve, AirPath, AirflowSolution, Container, FlowSpec, Grid, PlenumModel, SolverSettings,
 };
@@ -84,6 +85,175 @@ fn tall_plenum_tends_to_the_uniform_plenum() {
     // air at a few cm/s: dynamic pressures of order 1e-3 Pa against about 100 Pa across the bed
     assert!(a.summary.plenum_pressure_range_pa < 0.05);
     assert!(d < 1e-3);
+}
+
+/// The coupled solve through a caller-held 2-D plenum, so the plenum's own flow field can be read afterwards.
+fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
+    let settings = SolverSettings {
+        grid,
+        plenum: two_d(),
+        ..SolverSettings::default()
+    };
+    let disc = c.discretize(grid).unwrap();
+    let mut plenum = Plenum2d::new(c, grid, &Plenum2dParams::default());
+    let s = solve_with_plenum(
+        c,
+        &disc,
+        &FlowSpec::Fixed {
+            total_m3_per_s: 230.0 / 60.0,
+        },
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings,
+        &mut plenum,
+    )
+    .unwrap();
+    (s, plenum)
+}
+
+/// A centred inlet on the end wall of a plenum symmetric about its centre line: the mirrored field must equal the
+/// field. The solver's Gauss–Seidel sweeps run in one direction across the width, so equality holds to the loops'
+/// convergence tolerances (1.1e-4 Pa of a 28 Pa range, 6.6e-5 of 1.56 m/s measured 2026-12-03), not to round-off;
+/// the bounds are ten times the measured asymmetry.
+#[test]
+fn centred_end_inlet_gives_a_symmetric_field() {
+    let mut c = plain_trailer();
+    // a milder jet than the trailer's (twice the opening, the plenum's full height) keeps this test short
+    c.inlet.width_m = 1.2;
+    let grid = Grid {
+        nx: 16,
+        ny: 6,
+        nz: 6,
+    };
+    let (s, pl) = run_held(&c, grid);
+    let p = &s.plenum_pressure_pa;
+    let (nx, ny) = p.dim();
+    let mut worst = 0.0f64;
+    for i in 0..nx {
+        for j in 0..ny / 2 {
+            worst = worst.max((p[[i, j]] - p[[i, ny - 1 - j]]).abs());
+        }
+    }
+    let (d, f) = pl.field();
+    let mut worst_v = 0.0f64;
+    let vmax = f.v.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    for j in 0..=d.ny {
+        for i in 0..d.nx {
+            // v on the mirrored face has the opposite sign
+            let m = (d.ny - j) * d.nx + i;
+            worst_v = worst_v.max((f.v[j * d.nx + i] + f.v[m]).abs());
+        }
+    }
+    let range = s.summary.plenum_pressure_range_pa;
+    eprintln!(
+        "largest mirrored pressure difference {worst:.2e} Pa (range {range:.2} Pa); v {worst_v:.2e} of {vmax:.3} m/s; {} outer iterations",
+        s.converged.iters
+    );
+    assert!(range > 1.0, "the test needs a plenum with a pressure field");
+    assert!(worst < SYMMETRY_PA);
+    assert!(worst_v < SYMMETRY_M_PER_S);
+}
+
+/// Measured asymmetry (see the test's output) times ten.
+const SYMMETRY_PA: f64 = 1e-3;
+const SYMMETRY_M_PER_S: f64 = 1e-3;
+
+/// A narrow plenum (0.3 m wide, the inlet across its whole width and height) is a duct: the 2-D model's row-mean
+/// pressure along the length follows the 1-D duct's within the tolerance below.
+#[test]
+fn narrow_plenum_follows_the_duct() {
+    let mut c = plain_trailer();
+    c.width_m = 0.3;
+    c.inlet.width_m = 0.3;
+    c.inlet.height_m = c.plenum_height_m;
+    let grid = Grid {
+        nx: 32,
+        ny: 2,
+        nz: 6,
+    };
+    let flow = 230.0 / 60.0 * 0.3 / 2.4;
+    let solve_with = |model: PlenumModel| {
+        let settings = SolverSettings {
+            grid,
+            plenum: model,
+            ..SolverSettings::default()
+        };
+        solve(
+            &c,
+            &FlowSpec::Fixed {
+                total_m3_per_s: flow,
+            },
+            &common::peanut(1.5),
+            &AirPath::same(common::air()),
+            &settings,
+        )
+        .unwrap()
+    };
+    let a = solve_with(two_d());
+    let b = solve_with(PlenumModel::default());
+    let rows = |s: &AirflowSolution| -> Vec<f64> {
+        let p = &s.plenum_pressure_pa;
+        let (nx, ny) = p.dim();
+        (0..nx)
+            .map(|i| (0..ny).map(|j| p[[i, j]]).sum::<f64>() / ny as f64)
+            .collect()
+    };
+    let (ra, rb) = (rows(&a), rows(&b));
+    let rise = |r: &[f64]| r[r.len() - 1] - r[0];
+    let worst = ra
+        .iter()
+        .zip(&rb)
+        .map(|(x, y)| ((x - ra[0]) - (y - rb[0])).abs())
+        .fold(0.0, f64::max);
+    eprintln!(
+        "2-D rise {:.3} Pa, duct rise {:.3} Pa; largest difference of the trends {worst:.3} Pa; 2-D {:?}; duct {:?}",
+        rise(&ra),
+        rise(&rb),
+        ra.iter().map(|v| (v * 10.0).round() / 10.0).collect::<Vec<_>>(),
+        rb.iter().map(|v| (v * 10.0).round() / 10.0).collect::<Vec<_>>()
+    );
+    assert!(rise(&ra) > 0.0 && rise(&rb) > 0.0);
+    assert!(worst < NARROW_TOLERANCE_FRACTION * rise(&rb).abs());
+}
+
+/// The two models share one wall friction but differ in how the outflow carries momentum and in the inlet's mixing
+/// region (the duct's mixing length against the 2-D eddy viscosity); a fifth of the duct's static regain.
+const NARROW_TOLERANCE_FRACTION: f64 = 0.2;
+
+/// The container file chooses the plenum model; the default is the 1-D duct.
+#[test]
+fn the_container_file_chooses_the_plenum_model() {
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/models/containers/trailer-6m.json"
+    ))
+    .unwrap();
+    let path = std::path::Path::new("trailer-6m.json");
+    let plain = Container::from_json_str(&text, path).unwrap();
+    assert_eq!(plain.plenum_model(), PlenumModel::default());
+    let with = text.replacen(
+        "\"leakage_m3_per_s_per_sqrt_pa\"",
+        "\"plenum\": { \"model\": \"2d\", \"cells_per_column\": 3 },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
+        1,
+    );
+    let c = Container::from_json_str(&with, path).unwrap();
+    match c.plenum_model() {
+        PlenumModel::TwoD(p) => {
+            assert_eq!(p.cells_per_column, 3);
+            assert_eq!(
+                p.friction_coefficient,
+                Plenum2dParams::default().friction_coefficient
+            );
+        }
+        m => panic!("expected the 2-D model, got {m:?}"),
+    }
+    let uniform = text.replacen(
+        "\"leakage_m3_per_s_per_sqrt_pa\"",
+        "\"plenum\": { \"model\": \"uniform\" },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
+        1,
+    );
+    let c = Container::from_json_str(&uniform, path).unwrap();
+    assert_eq!(c.plenum_model(), PlenumModel::Uniform);
 }
 
 /// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5. The
