@@ -113,7 +113,7 @@ fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
 
 /// A centred inlet on the end wall of a plenum symmetric about its centre line: the mirrored field must equal the
 /// field. The solver's Gauss–Seidel sweeps run in one direction across the width, so equality holds to the loops'
-/// convergence tolerances (1.1e-4 Pa of a 28 Pa range, 6.6e-5 of 1.56 m/s measured 2026-12-03), not to round-off;
+/// convergence tolerances (3.0e-5 Pa of a 27 Pa range, 1.2e-5 of 1.76 m/s measured 2026-12-03), not to round-off;
 /// the bounds are ten times the measured asymmetry.
 #[test]
 fn centred_end_inlet_gives_a_symmetric_field() {
@@ -155,8 +155,8 @@ fn centred_end_inlet_gives_a_symmetric_field() {
 }
 
 /// Measured asymmetry (see the test's output) times ten.
-const SYMMETRY_PA: f64 = 1e-3;
-const SYMMETRY_M_PER_S: f64 = 1e-3;
+const SYMMETRY_PA: f64 = 3e-4;
+const SYMMETRY_M_PER_S: f64 = 1.2e-4;
 
 /// A narrow plenum (0.3 m wide, the inlet across its whole width and height) is a duct: the 2-D model's row-mean
 /// pressure along the length follows the 1-D duct's within the tolerance below.
@@ -216,9 +216,10 @@ fn narrow_plenum_follows_the_duct() {
     assert!(worst < NARROW_TOLERANCE_FRACTION * rise(&rb).abs());
 }
 
-/// The two models share one wall friction but differ in how the outflow carries momentum and in the inlet's mixing
-/// region (the duct's mixing length against the 2-D eddy viscosity); a fifth of the duct's static regain.
-const NARROW_TOLERANCE_FRACTION: f64 = 0.2;
+/// The two models share one wall friction (the 2-D side walls by its wall law) and one outflow momentum fraction;
+/// they differ in the inlet's mixing region and in the velocity profile across the width. Measured 2026-12-03: the
+/// row-mean trends differ by at most 0.12 Pa over the duct's 7.27 Pa rise (1.6 %); bound 5 % of the rise.
+const NARROW_TOLERANCE_FRACTION: f64 = 0.05;
 
 /// The container file chooses the plenum model; the default is the 1-D duct.
 #[test]
@@ -256,40 +257,46 @@ fn the_container_file_chooses_the_plenum_model() {
     assert_eq!(c.plenum_model(), PlenumModel::Uniform);
 }
 
-/// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5. The
-/// trade's picture (common practice, no source): on the centre line the pressure rises toward the far wall; along
-/// the side wall it is low in the inlet-wall corner region; side-wall plenum pressure about 124 Pa (±25 %).
-/// About a minute in release (some 280 outer iterations), so run with `--ignored`.
+/// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5 (the
+/// `common::peanut(1.5)` bed law). The trade's picture of a 6.4 m trailer (common practice, no source; issue 13):
+/// recirculation in the inlet-wall corners (air along the side wall running back toward the inlet); on the centre
+/// line a drop after the inlet and a rise toward the far wall; side-wall plenum pressure about 124 Pa (±25 %);
+/// top-surface air 0.15–0.4 m/s, faster near the far wall than over the inlet. Takes a minute or more in release
+/// (some hundreds of outer iterations; the 2-D pressure correction is the bottleneck), so run with `--ignored`.
 #[test]
 #[ignore]
 fn trade_picture_of_the_six_metre_trailer() {
-    let s = run(&plain_trailer(), two_d(), grid());
+    let (s, pl) = run_held(&plain_trailer(), grid());
     let p = &s.plenum_pressure_pa;
     let (nx, ny) = p.dim();
     let centre: Vec<f64> = (0..nx)
         .map(|i| 0.5 * (p[[i, ny / 2 - 1]] + p[[i, ny / 2]]))
         .collect();
     let side: Vec<f64> = (0..nx).map(|i| p[[i, 0]]).collect();
-    eprintln!(
-        "centre line {:?}",
-        centre.iter().map(|v| v.round()).collect::<Vec<_>>()
-    );
-    eprintln!(
-        "side wall   {:?}",
-        side.iter().map(|v| v.round()).collect::<Vec<_>>()
-    );
+    let round = |v: &[f64]| v.iter().map(|v| v.round()).collect::<Vec<_>>();
+    eprintln!("centre line {:?}", round(&centre));
+    eprintln!("side wall   {:?}", round(&side));
     let side_mean = side.iter().sum::<f64>() / nx as f64;
+    // the plenum cells along the side wall in the inlet-end quarter: the most negative u (back toward the inlet)
+    let (d, f) = pl.field();
+    let back = (0..=d.nx / 4)
+        .map(|i| f.u[i])
+        .fold(f64::INFINITY, f64::min);
+    let top = &s.top_velocity_m_per_s;
+    let (tmin, tmax) = top
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |a, &v| (a.0.min(v), a.1.max(v)));
+    let row = |i: usize| (0..ny).map(|j| top[[i, j]]).sum::<f64>() / ny as f64;
+    let centre_min = centre[1..nx / 2].iter().copied().fold(f64::INFINITY, f64::min);
     eprintln!(
-        "side-wall mean {side_mean:.1} Pa; {} outer iterations",
+        "side-wall mean {side_mean:.1} Pa; side-wall u in the inlet quarter down to {back:.2} m/s; top air {tmin:.3}–{tmax:.3} m/s, row over the inlet {:.3}, by the far wall {:.3}; {} outer iterations",
+        row(0),
+        row(nx - 1),
         s.converged.iters
     );
-    assert!(centre[nx - 1] > centre[nx / 4]);
-    // the side wall's lowest pressure lies in the inlet-end quarter, below its value at the inlet wall
-    let (imin, _) =
-        side.iter().enumerate().fold(
-            (0, f64::INFINITY),
-            |a, (i, &v)| if v < a.1 { (i, v) } else { a },
-        );
-    assert!(imin > 0 && imin < nx / 4 && side[imin] < side[0]);
+    assert!(back < 0.0, "no recirculation in the inlet-wall corner");
+    assert!(centre_min < centre[0] && centre[nx - 1] > centre_min);
     assert!((side_mean / 124.0 - 1.0).abs() < 0.25);
+    assert!(tmin >= 0.15 && tmax <= 0.4);
+    assert!(row(nx - 1) > row(0));
 }
