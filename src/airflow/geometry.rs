@@ -121,16 +121,17 @@ pub struct Permeability {
 /// Which plenum model the container's air is solved with (the container file's `"plenum"` object; the 1-D duct
 /// when it is absent). The 2-D model's numerical settings may be given; the rest keep
 /// [`Plenum2dParams`](super::plenum_shape::Plenum2dParams)'s documented defaults.
-#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+/// (`Duct {}` and `Uniform {}` are empty struct variants rather than unit ones so that a stray field beside their
+/// `model` is refused: serde ignores extra fields of an internally tagged unit variant.)
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "model", deny_unknown_fields)]
 pub enum PlenumChoice {
     /// The 1-D dividing-flow duct along the length (`airflow::plenum`).
-    #[default]
     #[serde(rename = "duct")]
-    Duct,
+    Duct {},
     /// One pressure under the whole floor.
     #[serde(rename = "uniform")]
-    Uniform,
+    Uniform {},
     /// The 2-D depth-averaged plenum flow (`airflow::plenum2d`).
     #[serde(rename = "2d")]
     TwoD {
@@ -143,10 +144,16 @@ pub enum PlenumChoice {
     },
 }
 
+impl Default for PlenumChoice {
+    fn default() -> Self {
+        PlenumChoice::Duct {}
+    }
+}
+
 impl PlenumChoice {
     /// True for the default, the 1-D duct.
     pub fn is_duct(&self) -> bool {
-        *self == PlenumChoice::Duct
+        *self == PlenumChoice::Duct {}
     }
 }
 
@@ -327,6 +334,16 @@ impl Container {
                 ),
             ));
         }
+        if inl.width_m > self.width_m {
+            return Err(model_err(
+                path,
+                "inlet.width_m",
+                format!(
+                    "{} m is wider than its wall ({} m)",
+                    inl.width_m, self.width_m
+                ),
+            ));
+        }
         if !inl.offset_m.is_finite()
             || inl.offset_m.abs() + 0.5 * inl.width_m > 0.5 * self.width_m + 1e-9
         {
@@ -459,8 +476,8 @@ impl Container {
     /// The plenum model the container file asks for.
     pub fn plenum_model(&self) -> PlenumModel {
         match self.plenum {
-            PlenumChoice::Duct => PlenumModel::default(),
-            PlenumChoice::Uniform => PlenumModel::Uniform,
+            PlenumChoice::Duct {} => PlenumModel::default(),
+            PlenumChoice::Uniform {} => PlenumModel::Uniform,
             PlenumChoice::TwoD {
                 cells_per_column,
                 mixing_length_ratio,
@@ -589,7 +606,7 @@ mod tests {
             },
             permeability: Permeability::default(),
             leakage_m3_per_s_per_sqrt_pa: 0.0,
-            plenum: PlenumChoice::Duct,
+            plenum: PlenumChoice::Duct {},
         }
     }
 
