@@ -120,7 +120,7 @@ fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
 #[test]
 fn centred_end_inlet_gives_a_symmetric_field() {
     let mut c = plain_trailer();
-    // a milder jet than the trailer's (twice the opening, the plenum's full height) keeps this test short
+    // a milder jet than the trailer's (a 1.2 m opening instead of 0.8 m) keeps this test short
     c.inlet.width_m = 1.2;
     let grid = Grid {
         nx: 16,
