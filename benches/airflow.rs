@@ -109,7 +109,75 @@ fn bench_fit(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench, bench_fit);
+/// The coupled 2-D plenum + 3-D bed solve of the same trailer at 64 × 24 columns × 32 layers (2 plenum cells per
+/// column side: a 128 × 48 plenum grid), cold (plenum at rest) and warm (a re-solve from the held plenum's last
+/// field after the air warmed by 5 K, as in a drying run). Targets: cold under 0.5 s median, warm under a fifth of
+/// cold. Each pass prints the outer (bed–plenum) iterations and the plenum's SIMPLEC and pressure-CG iterations.
+fn bench_plenum2d(c: &mut Criterion) {
+    use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
+    use dryfront::airflow::solve::solve_with_plenum;
+    use dryfront::airflow::PlenumModel;
+    let (container, fan) = load();
+    let flow = FlowSpec::Fan(fan);
+    let law = BedLaw {
+        law: ResistanceLaw::Shedd(Shedd {
+            a: 3.80e3,
+            b: 111.0,
+        }),
+        packing_factor: 1.5,
+        horizontal_ratio: 1.0,
+    };
+    let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
+    let warm_air = AirPath::same(AirState::from_rh(35.0, 0.4, 101_325.0));
+    let grid = Grid {
+        nx: 64,
+        ny: 24,
+        nz: 32,
+    };
+    let p2 = Plenum2dParams::default();
+    let settings = SolverSettings {
+        grid,
+        plenum: PlenumModel::TwoD(p2),
+        ..SolverSettings::default()
+    };
+    let disc = container.discretize(grid).unwrap();
+    let solve_on = |pl: &mut Plenum2d, a: &AirPath| {
+        solve_with_plenum(&container, &disc, &flow, &law, a, &settings, pl).unwrap()
+    };
+    let mut pl = Plenum2d::new(&container, grid, &p2);
+    let s = solve_on(&mut pl, &air);
+    let cold_simplec = pl.total_iters;
+    let w = solve_on(&mut pl, &warm_air);
+    eprintln!(
+        "2-D plenum 64x24x32: cold {} outer iterations, {} SIMPLEC; warm {} outer, {} SIMPLEC",
+        s.converged.iters,
+        cold_simplec,
+        w.converged.iters,
+        pl.total_iters - cold_simplec
+    );
+    let mut g = c.benchmark_group("airflow 2-D plenum");
+    g.sample_size(10);
+    g.bench_function("trailer-6m 64x24x32 cold", |b| {
+        b.iter(|| {
+            let mut pl = Plenum2d::new(&container, grid, &p2);
+            solve_on(&mut pl, &air)
+        })
+    });
+    g.bench_function("trailer-6m 64x24x32 warm re-solve", |b| {
+        b.iter_batched(
+            || {
+                let mut pl = Plenum2d::new(&container, grid, &p2);
+                solve_on(&mut pl, &air);
+                pl
+            },
+            |mut pl| solve_on(&mut pl, &warm_air),
+            criterion::BatchSize::PerIteration,
+        )
+    });
+    g.finish();
+}
+
+criterion_group!(benches, bench, bench_fit, bench_plenum2d);
 criterion_main!(benches);
 
 // Measured 2026-12-02 on the shared 2-core development machine (load average ≈ 1), command

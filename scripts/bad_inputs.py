@@ -479,6 +479,11 @@ variants("container", CONTAINER, container, COMMON_JSON + [
     ("inlet_wall_unknown.json", set_path(["inlet", "wall"], "roof")),
     ("block_outside.json", set_path(["permeability", "blocks", 0, "x1_m"], 9.0)),
     ("length_text.json", set_path(["length_m"], "six")),
+    ("plenum_model_unknown.json", set_path(["plenum"], {"model": "3d"})),
+    ("plenum_cells_zero.json", set_path(["plenum"], {"model": "2d", "cells_per_column": 0})),
+    ("plenum_mixing_length_5.json", set_path(["plenum"], {"model": "2d", "mixing_length_ratio": 5.0})),
+    ("plenum_unknown_field.json", set_path(["plenum"], {"model": "duct", "colour": "red"})),
+    ("inlet_wider_than_wall.json", set_path(["inlet", "width_m"], 3.0)),
 ])
 
 fan = load("models/fans/vane-3kw.json")

@@ -267,6 +267,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         law: bed_law(&spec.crop),
         settings: SolverSettings {
             grid: spec.grid,
+            plenum: container.plenum_model(),
             ..SolverSettings::default()
         },
         efficiency: spec.efficiency,

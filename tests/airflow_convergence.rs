@@ -45,6 +45,7 @@ fn max_error(n: usize) -> f64 {
         fill: Fill::Level { depth_m: H },
         permeability: Permeability::default(),
         leakage_m3_per_s_per_sqrt_pa: 0.0,
+        plenum: Default::default(),
     };
     let grid = Grid {
         nx: 2 * n,

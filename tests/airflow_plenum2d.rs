@@ -3,7 +3,8 @@
 //! 1-D duct's trend) and the trade's picture of a 6.4 m trailer.
 mod common;
 
-use dryfront::airflow::plenum_shape::Plenum2dParams;
+use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
+use dryfront::airflow::solve::solve_with_plenum;
 use dryfront::airflow::{
     solve, AirPath, AirflowSolution, Container, FlowSpec, Grid, PlenumModel, SolverSettings,
 };
@@ -86,40 +87,241 @@ fn tall_plenum_tends_to_the_uniform_plenum() {
     assert!(d < 1e-3);
 }
 
-/// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5. The
-/// trade's picture (common practice, no source): on the centre line the pressure rises toward the far wall; along
-/// the side wall it is low in the inlet-wall corner region; side-wall plenum pressure about 124 Pa (±25 %).
-/// About a minute in release (some 280 outer iterations), so run with `--ignored`.
+/// The coupled solve through a caller-held 2-D plenum, so the plenum's own flow field can be read afterwards.
+fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
+    let settings = SolverSettings {
+        grid,
+        plenum: two_d(),
+        // the 6.4 m trailer's jet needs some hundreds of outer iterations (see the trade test)
+        max_outer_iters: 2000,
+        ..SolverSettings::default()
+    };
+    let disc = c.discretize(grid).unwrap();
+    let mut plenum = Plenum2d::new(c, grid, &Plenum2dParams::default());
+    let s = solve_with_plenum(
+        c,
+        &disc,
+        &FlowSpec::Fixed {
+            total_m3_per_s: 230.0 / 60.0,
+        },
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings,
+        &mut plenum,
+    )
+    .unwrap();
+    (s, plenum)
+}
+
+/// A centred inlet on the end wall of a plenum symmetric about its centre line: the mirrored field must equal the
+/// field. The solver's Gauss–Seidel sweeps run in one direction across the width, so equality holds to the loops'
+/// convergence tolerances (3.0e-5 Pa of a 27 Pa range, 1.2e-5 of 1.76 m/s measured 2026-12-03), not to round-off;
+/// the bounds are ten times the measured asymmetry.
+#[test]
+fn centred_end_inlet_gives_a_symmetric_field() {
+    let mut c = plain_trailer();
+    // a milder jet than the trailer's (a 1.2 m opening instead of 0.8 m) keeps this test short
+    c.inlet.width_m = 1.2;
+    let grid = Grid {
+        nx: 16,
+        ny: 6,
+        nz: 6,
+    };
+    let (s, pl) = run_held(&c, grid);
+    let p = &s.plenum_pressure_pa;
+    let (nx, ny) = p.dim();
+    let mut worst = 0.0f64;
+    for i in 0..nx {
+        for j in 0..ny / 2 {
+            worst = worst.max((p[[i, j]] - p[[i, ny - 1 - j]]).abs());
+        }
+    }
+    let (d, f) = pl.field();
+    let mut worst_v = 0.0f64;
+    let vmax = f.v.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    for j in 0..=d.ny {
+        for i in 0..d.nx {
+            // v on the mirrored face has the opposite sign
+            let m = (d.ny - j) * d.nx + i;
+            worst_v = worst_v.max((f.v[j * d.nx + i] + f.v[m]).abs());
+        }
+    }
+    let range = s.summary.plenum_pressure_range_pa;
+    eprintln!(
+        "largest mirrored pressure difference {worst:.2e} Pa (range {range:.2} Pa); v {worst_v:.2e} of {vmax:.3} m/s; {} outer iterations",
+        s.converged.iters
+    );
+    assert!(range > 1.0, "the test needs a plenum with a pressure field");
+    assert!(worst < SYMMETRY_PA);
+    assert!(worst_v < SYMMETRY_M_PER_S);
+}
+
+/// Measured asymmetry (see the test's output) times ten.
+const SYMMETRY_PA: f64 = 3e-4;
+const SYMMETRY_M_PER_S: f64 = 1.2e-4;
+
+/// A narrow plenum (0.3 m wide, the inlet across its whole width and height) is a duct: the 2-D model's row-mean
+/// pressure along the length follows the 1-D duct's within the tolerance below.
+#[test]
+fn narrow_plenum_follows_the_duct() {
+    let mut c = plain_trailer();
+    c.width_m = 0.3;
+    c.inlet.width_m = 0.3;
+    c.inlet.height_m = c.plenum_height_m;
+    let grid = Grid {
+        nx: 32,
+        ny: 2,
+        nz: 6,
+    };
+    let flow = 230.0 / 60.0 * 0.3 / 2.4;
+    let solve_with = |model: PlenumModel| {
+        let settings = SolverSettings {
+            grid,
+            plenum: model,
+            ..SolverSettings::default()
+        };
+        solve(
+            &c,
+            &FlowSpec::Fixed {
+                total_m3_per_s: flow,
+            },
+            &common::peanut(1.5),
+            &AirPath::same(common::air()),
+            &settings,
+        )
+        .unwrap()
+    };
+    let a = solve_with(two_d());
+    let b = solve_with(PlenumModel::default());
+    let rows = |s: &AirflowSolution| -> Vec<f64> {
+        let p = &s.plenum_pressure_pa;
+        let (nx, ny) = p.dim();
+        (0..nx)
+            .map(|i| (0..ny).map(|j| p[[i, j]]).sum::<f64>() / ny as f64)
+            .collect()
+    };
+    let (ra, rb) = (rows(&a), rows(&b));
+    let rise = |r: &[f64]| r[r.len() - 1] - r[0];
+    let worst = ra
+        .iter()
+        .zip(&rb)
+        .map(|(x, y)| ((x - ra[0]) - (y - rb[0])).abs())
+        .fold(0.0, f64::max);
+    eprintln!(
+        "2-D rise {:.3} Pa, duct rise {:.3} Pa; largest difference of the trends {worst:.3} Pa; 2-D {:?}; duct {:?}",
+        rise(&ra),
+        rise(&rb),
+        ra.iter().map(|v| (v * 10.0).round() / 10.0).collect::<Vec<_>>(),
+        rb.iter().map(|v| (v * 10.0).round() / 10.0).collect::<Vec<_>>()
+    );
+    assert!(rise(&ra) > 0.0 && rise(&rb) > 0.0);
+    assert!(worst < NARROW_TOLERANCE_FRACTION * rise(&rb).abs());
+}
+
+/// The two models share one wall friction (the 2-D side walls by its wall law) and one outflow momentum fraction;
+/// they differ in the inlet's mixing region and in the velocity profile across the width. Measured 2026-12-03: the
+/// row-mean trends differ by at most 0.12 Pa over the duct's 7.27 Pa rise (1.6 %); bound 5 % of the rise.
+const NARROW_TOLERANCE_FRACTION: f64 = 0.05;
+
+/// The container file chooses the plenum model; the default is the 1-D duct.
+#[test]
+fn the_container_file_chooses_the_plenum_model() {
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/models/containers/trailer-6m.json"
+    ))
+    .unwrap();
+    let path = std::path::Path::new("trailer-6m.json");
+    let plain = Container::from_json_str(&text, path).unwrap();
+    assert_eq!(plain.plenum_model(), PlenumModel::default());
+    let with = text.replacen(
+        "\"leakage_m3_per_s_per_sqrt_pa\"",
+        "\"plenum\": { \"model\": \"2d\", \"cells_per_column\": 3 },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
+        1,
+    );
+    let c = Container::from_json_str(&with, path).unwrap();
+    match c.plenum_model() {
+        PlenumModel::TwoD(p) => {
+            assert_eq!(p.cells_per_column, 3);
+            assert_eq!(
+                p.friction_coefficient,
+                Plenum2dParams::default().friction_coefficient
+            );
+        }
+        m => panic!("expected the 2-D model, got {m:?}"),
+    }
+    let uniform = text.replacen(
+        "\"leakage_m3_per_s_per_sqrt_pa\"",
+        "\"plenum\": { \"model\": \"uniform\" },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
+        1,
+    );
+    let c = Container::from_json_str(&uniform, path).unwrap();
+    assert_eq!(c.plenum_model(), PlenumModel::Uniform);
+}
+
+/// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5 (the
+/// `common::peanut(1.5)` bed law). The trade's picture of a 6.4 m trailer (common practice, no source; issue 13):
+/// recirculation in the inlet-wall corners (air along the side wall running back toward the inlet); on the centre
+/// line a drop after the inlet and a rise toward the far wall; side-wall plenum pressure about 124 Pa (±25 %);
+/// top-surface air 0.15–0.4 m/s, faster near the far wall than over the inlet. Takes a minute or more in release
+/// (some hundreds of outer iterations; the 2-D pressure correction is the bottleneck), so run with `--ignored`.
 #[test]
 #[ignore]
 fn trade_picture_of_the_six_metre_trailer() {
-    let s = run(&plain_trailer(), two_d(), grid());
+    let (s, pl) = run_held(&plain_trailer(), grid());
     let p = &s.plenum_pressure_pa;
     let (nx, ny) = p.dim();
     let centre: Vec<f64> = (0..nx)
         .map(|i| 0.5 * (p[[i, ny / 2 - 1]] + p[[i, ny / 2]]))
         .collect();
     let side: Vec<f64> = (0..nx).map(|i| p[[i, 0]]).collect();
-    eprintln!(
-        "centre line {:?}",
-        centre.iter().map(|v| v.round()).collect::<Vec<_>>()
-    );
-    eprintln!(
-        "side wall   {:?}",
-        side.iter().map(|v| v.round()).collect::<Vec<_>>()
-    );
+    let round = |v: &[f64]| v.iter().map(|v| v.round()).collect::<Vec<_>>();
+    eprintln!("centre line {:?}", round(&centre));
+    eprintln!("side wall   {:?}", round(&side));
     let side_mean = side.iter().sum::<f64>() / nx as f64;
+    // the plenum cells along the side wall in the inlet-end quarter: the most negative u (back toward the inlet)
+    let (d, f) = pl.field();
+    let back = (0..=d.nx / 4).map(|i| f.u[i]).fold(f64::INFINITY, f64::min);
+    let top = &s.top_velocity_m_per_s;
+    let (tmin, tmax) = top
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |a, &v| (a.0.min(v), a.1.max(v)));
+    let row = |i: usize| (0..ny).map(|j| top[[i, j]]).sum::<f64>() / ny as f64;
+    let centre_min = centre[1..nx / 2]
+        .iter()
+        .copied()
+        .fold(f64::INFINITY, f64::min);
     eprintln!(
-        "side-wall mean {side_mean:.1} Pa; {} outer iterations",
+        "side-wall mean {side_mean:.1} Pa; side-wall u in the inlet quarter down to {back:.2} m/s; top air {tmin:.3}–{tmax:.3} m/s, row over the inlet {:.3}, by the far wall {:.3}; {} outer iterations",
+        row(0),
+        row(nx - 1),
         s.converged.iters
     );
-    assert!(centre[nx - 1] > centre[nx / 4]);
-    // the side wall's lowest pressure lies in the inlet-end quarter, below its value at the inlet wall
-    let (imin, _) =
-        side.iter().enumerate().fold(
-            (0, f64::INFINITY),
-            |a, (i, &v)| if v < a.1 { (i, v) } else { a },
-        );
-    assert!(imin > 0 && imin < nx / 4 && side[imin] < side[0]);
+    assert!(back < 0.0, "no recirculation in the inlet-wall corner");
+    assert!(centre_min < centre[0] && centre[nx - 1] > centre_min);
     assert!((side_mean / 124.0 - 1.0).abs() < 0.25);
+    assert!(tmin >= 0.15 && tmax <= 0.4);
+    assert!(row(nx - 1) > row(0));
+}
+
+/// Design sense (common practice, no source): a taller plenum slows the jet, so the air divides more evenly among
+/// the columns. The bundled trailer with its 0.4 m plenum against the same trailer with a 0.6 m plenum (same inlet),
+/// 2-D plenum, 230 m³/min: the column-flow CV must fall. Two coupled solves of the trailer's jet take minutes, so
+/// run with `--ignored`.
+#[test]
+#[ignore]
+fn a_taller_plenum_evens_the_column_flow() {
+    let low = plain_trailer();
+    let mut tall = plain_trailer();
+    tall.plenum_height_m = 0.6;
+    let (a, _) = run_held(&low, grid());
+    let (b, _) = run_held(&tall, grid());
+    let (ca, cb) = (a.summary.column_flow_cv, b.summary.column_flow_cv);
+    eprintln!(
+        "column-flow CV: 0.4 m plenum {ca:.4} ({} outer iterations), 0.6 m plenum {cb:.4} ({}); change {:.1} %",
+        a.converged.iters,
+        b.converged.iters,
+        100.0 * (cb / ca - 1.0)
+    );
+    assert!(cb < ca);
 }

@@ -10,7 +10,10 @@ use std::path::Path;
 use ndarray::{Array2, Array3};
 use serde::{Deserialize, Serialize};
 
+use super::plenum::PlenumModel;
+use super::plenum_shape::Plenum2dParams;
 use crate::error::InputError;
+use crate::input::check_field;
 
 /// Which end wall the plenum inlet is in. The x axis runs from the front wall (x = 0) to the rear (x = length).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -115,6 +118,45 @@ pub struct Permeability {
     pub blocks: Vec<PermeabilityBlock>,
 }
 
+/// Which plenum model the container's air is solved with (the container file's `"plenum"` object; the 1-D duct
+/// when it is absent). The 2-D model's numerical settings may be given; the rest keep
+/// [`Plenum2dParams`](super::plenum_shape::Plenum2dParams)'s documented defaults.
+/// (`Duct {}` and `Uniform {}` are empty struct variants rather than unit ones so that a stray field beside their
+/// `model` is refused: serde ignores extra fields of an internally tagged unit variant.)
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "model", deny_unknown_fields)]
+pub enum PlenumChoice {
+    /// The 1-D dividing-flow duct along the length (`airflow::plenum`).
+    #[serde(rename = "duct")]
+    Duct {},
+    /// One pressure under the whole floor.
+    #[serde(rename = "uniform")]
+    Uniform {},
+    /// The 2-D depth-averaged plenum flow (`airflow::plenum2d`).
+    #[serde(rename = "2d")]
+    TwoD {
+        /// Plenum cells along each side of a bed column (1–8).
+        #[serde(default)]
+        cells_per_column: Option<usize>,
+        /// Mixing length over plenum height, c_m (0.05–1).
+        #[serde(default)]
+        mixing_length_ratio: Option<f64>,
+    },
+}
+
+impl Default for PlenumChoice {
+    fn default() -> Self {
+        PlenumChoice::Duct {}
+    }
+}
+
+impl PlenumChoice {
+    /// True for the default, the 1-D duct.
+    pub fn is_duct(&self) -> bool {
+        *self == PlenumChoice::Duct {}
+    }
+}
+
 /// A loaded drying container.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -144,6 +186,9 @@ pub struct Container {
     /// Leakage from the plenum (doors, seams): Q = C·√p, C in m³/(s·Pa^0.5); 0 = tight.
     #[serde(default)]
     pub leakage_m3_per_s_per_sqrt_pa: f64,
+    /// Plenum model (default: the 1-D duct; left out of written files when it is the default, so they read as before).
+    #[serde(default, skip_serializing_if = "PlenumChoice::is_duct")]
+    pub plenum: PlenumChoice,
 }
 
 /// Grid resolution: nx columns along the length, ny across, nz layers in every column.
@@ -289,6 +334,16 @@ impl Container {
                 ),
             ));
         }
+        if inl.width_m > self.width_m {
+            return Err(model_err(
+                path,
+                "inlet.width_m",
+                format!(
+                    "{} m is wider than its wall ({} m)",
+                    inl.width_m, self.width_m
+                ),
+            ));
+        }
         if !inl.offset_m.is_finite()
             || inl.offset_m.abs() + 0.5 * inl.width_m > 0.5 * self.width_m + 1e-9
         {
@@ -399,7 +454,42 @@ impl Container {
                 ));
             }
         }
+        self.validate_plenum(path)
+    }
+
+    fn validate_plenum(&self, path: &Path) -> Result<(), InputError> {
+        if let PlenumChoice::TwoD {
+            cells_per_column,
+            mixing_length_ratio,
+        } = self.plenum
+        {
+            if let Some(n) = cells_per_column {
+                check_field(path, "plenum.cells_per_column", n as f64, 1.0, 8.0, "")?;
+            }
+            if let Some(c) = mixing_length_ratio {
+                check_field(path, "plenum.mixing_length_ratio", c, 0.05, 1.0, "")?;
+            }
+        }
         Ok(())
+    }
+
+    /// The plenum model the container file asks for.
+    pub fn plenum_model(&self) -> PlenumModel {
+        match self.plenum {
+            PlenumChoice::Duct {} => PlenumModel::default(),
+            PlenumChoice::Uniform {} => PlenumModel::Uniform,
+            PlenumChoice::TwoD {
+                cells_per_column,
+                mixing_length_ratio,
+            } => {
+                let d = Plenum2dParams::default();
+                PlenumModel::TwoD(Plenum2dParams {
+                    cells_per_column: cells_per_column.unwrap_or(d.cells_per_column),
+                    mixing_length_ratio: mixing_length_ratio.unwrap_or(d.mixing_length_ratio),
+                    ..d
+                })
+            }
+        }
     }
 
     /// Footprint area, m².
@@ -516,6 +606,7 @@ mod tests {
             },
             permeability: Permeability::default(),
             leakage_m3_per_s_per_sqrt_pa: 0.0,
+            plenum: PlenumChoice::Duct {},
         }
     }
 

@@ -19,7 +19,7 @@ pub mod solve;
 
 pub use bed::{BedLaw, ResistanceLaw};
 pub use fan::{FanCurve, FanPoint, FanPosition, FlowSpec};
-pub use geometry::{Container, Fill, Grid};
+pub use geometry::{Container, Fill, Grid, PlenumChoice};
 pub use path::AirPath;
 pub use plenum::{ManifoldParams, PlenumModel};
 pub use solve::{

@@ -18,7 +18,11 @@
 //! of SIMPLE, Patankar 1980, *Numerical Heat Transfer and Fluid Flow*). Convection: upwind implicit with a deferred
 //! correction to the van Leer limited scheme (van Leer 1974, J. Comput. Phys. 14:361–370), which is bounded (TVD)
 //! and second order away from extrema; `Scheme::Upwind` and `Scheme::Central` are there for checks. No-slip walls
-//! use a second-order one-sided wall gradient (exact for a parabola), also by deferred correction. Momentum is
+//! use a second-order one-sided wall gradient (exact for a parabola), also by deferred correction, in laminar flow;
+//! in turbulent flow (an eddy viscosity on) side walls and baffles take a wall law instead, τ/ρ = ½·c_f·|u|·u on
+//! their area h·Δ, the floor sheet's skin friction: resolving the wall layer with the mixing length κ·y on cells
+//! some centimetres wide gives τ/ρ ≈ κ²·u² ≈ 0.17·u², about twenty times the skin friction, which made a narrow
+//! plenum lose pressure along its length where the 1-D duct (same friction) regains it. Momentum is
 //! relaxed by symmetric Gauss–Seidel sweeps, the pressure correction solved by Jacobi-preconditioned conjugate
 //! gradients (the all-Neumann problem is consistent because inflow equals outflow, and its mean is removed).
 //!
@@ -66,6 +70,11 @@ pub struct FlowParams {
 }
 
 impl FlowParams {
+    /// True when an eddy viscosity is on: then no-slip walls take a wall law instead of the viscous gradient.
+    pub fn is_turbulent(&self) -> bool {
+        self.depth_eddy_coefficient > 0.0 || self.mixing_length_ratio > 0.0
+    }
+
     /// Laminar flow with kinematic viscosity `nu`: no friction, no eddy viscosity (the benchmark setting).
     pub fn laminar(nu: f64) -> Self {
         FlowParams {
@@ -390,6 +399,7 @@ fn assemble_u(
     c: &mut Coeffs,
 ) {
     let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let turbulent = prm.is_turbulent();
     let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
     let u = |i: usize, j: usize| s.u[d.iu(i, j)];
     for j in 0..ny {
@@ -412,7 +422,11 @@ fn assemble_u(
             // north / south: interior shear or a no-slip wall with a second-order one-sided gradient
             let mut side = |up: bool| -> f64 {
                 let jf = if up { j + 1 } else { j };
-                if d.wall_y(i, jf) {
+                if d.wall_y(i, jf) && turbulent {
+                    // wall law: the side wall's skin friction, as on the floor sheet (see the module docs)
+                    ap_wall += 0.5 * prm.friction_coefficient * u(i, j).abs() * hf * dx;
+                    0.0
+                } else if d.wall_y(i, jf) {
                     let g = 0.5 * (gam(i - 1, j) + gam(i, j)) * dx / dy;
                     let uw = if up && jf == ny { d.lid_speed } else { 0.0 };
                     // τ·A = g·(9u₁ − u₂ − 8u_w)/3: implicit 8/3·g on u₁ − u_w, deferred g/3·(u₁ − u₂)
@@ -528,6 +542,7 @@ fn assemble_v(
     c: &mut Coeffs,
 ) {
     let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let turbulent = prm.is_turbulent();
     let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
     let v = |i: usize, j: usize| s.v[d.iv(i, j)];
     for j in 1..ny {
@@ -549,7 +564,10 @@ fn assemble_v(
             let mut ap_wall = 0.0;
             let mut side = |up: bool| -> f64 {
                 let iface = if up { i + 1 } else { i };
-                if d.wall_x(iface, j) {
+                if d.wall_x(iface, j) && turbulent {
+                    ap_wall += 0.5 * prm.friction_coefficient * v(i, j).abs() * hf * dy;
+                    0.0
+                } else if d.wall_x(iface, j) {
                     let g = 0.5 * (gam(i, j - 1) + gam(i, j)) * dy / dx;
                     let i2 = if up {
                         i.checked_sub(1)

@@ -128,7 +128,7 @@ pub struct AirflowOptions {
     /// Site elevation, m (sets the barometric pressure).
     #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub elevation_m: f64,
-    /// Treat the plenum as one pressure (the classical assumption) instead of the manifold model.
+    /// Treat the plenum as one pressure (the classical assumption) instead of the model the container file names.
     #[arg(long)]
     pub uniform_plenum: bool,
     /// Folder for columns.csv, summary.json and the SVG maps (nothing is written without it; an earlier set there is
@@ -277,7 +277,7 @@ pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
         plenum: if args.uniform_plenum {
             PlenumModel::Uniform
         } else {
-            PlenumModel::default()
+            container.plenum_model()
         },
         ..SolverSettings::default()
     };
