@@ -265,6 +265,7 @@ impl BedSystem {
 
     /// Resistivities, transmissibilities and the line operator (diagonal and Thomas factors included, coarse
     /// levels not) for cell speeds `speeds` and floor speeds `floor_speeds`: the one place faces are computed.
+    #[allow(clippy::needless_range_loop)] // c indexes depth, kv, ttop, tbot and the floor speeds together
     fn fill_faces(&self, speeds: &[f64], floor_speeds: &[f64], f: &mut Faces) {
         let (nx, ny, nz) = (self.nx, self.ny, self.nz);
         let law = self.law;

@@ -100,10 +100,12 @@ pub struct SolverSettings {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum OuterMethod {
-    /// Picard: freeze the resistivities, solve the linear bed, update (linear convergence; kept for comparison).
-    Picard,
-    /// Newton–Krylov (`airflow::newton`) from a few Picard steps, or from a previous solution when given one.
+    /// Picard: freeze the resistivities, solve the linear bed, update (linear convergence). The default: it is
+    /// still the faster in wall time (see DEVELOPERS.md, benchmarks).
     #[default]
+    Picard,
+    /// Newton–Krylov (`airflow::newton`) from a few Picard steps, or from a previous solution when given one:
+    /// a quarter of Picard's outer steps, but each GMRES step re-evaluates the whole residual, so it is slower.
     Newton,
 }
 
