@@ -1,13 +1,15 @@
 //! Steady airflow solve of the invented 6.4 m trailer (`models/containers/trailer-6m.json`, level 1.25 m fill, a
 //! packed block, leakage, fan `vane-3kw`, manifold plenum) at about 50 000 and 500 000 cells. Targets: under 0.5 s
-//! and under 5 s median on the 2-core development machine. Run quickly with
+//! and under 5 s median on the 2-core development machine. At 64×24×32 the Newton–Krylov outer iteration, Picard
+//! and a warm Newton re-solve (plenum air 3 K warmer) run side by side. Run quickly with
 //! `cargo bench --bench airflow -- --warm-up-time 1 --measurement-time 2`.
 use std::path::PathBuf;
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use dryfront::airflow::fit::{fit_survey, FitSettings};
 use dryfront::airflow::{
-    solve, AirPath, BedLaw, Container, FanCurve, FlowSpec, Grid, ResistanceLaw, SolverSettings,
+    solve, solve_from, AirPath, BedLaw, Container, FanCurve, FlowSpec, Grid, OuterMethod,
+    ResistanceLaw, SolverSettings,
 };
 use dryfront::input::survey::read_survey;
 use dryfront::props::psychro::AirState;
@@ -52,11 +54,37 @@ fn bench(c: &mut Criterion) {
     ] {
         let settings = SolverSettings {
             grid,
+            method: OuterMethod::Newton,
             ..SolverSettings::default()
         };
         let s = solve(&container, &flow, &law, &air, &settings).unwrap();
+        if grid.nx == 64 {
+            // Side by side in the same run: Picard, and a warm re-solve for 3 K warmer plenum air.
+            let picard = SolverSettings {
+                method: OuterMethod::Picard,
+                ..settings
+            };
+            let p = solve(&container, &flow, &law, &air, &picard).unwrap();
+            let warmer = AirPath::same(AirState::from_rh(33.0, 0.45, 101_325.0));
+            let w = solve_from(&container, &flow, &law, &warmer, &settings, Some(&s.warm)).unwrap();
+            eprintln!(
+                "64x24x32: Picard {} outer / {} CG; warm re-solve {} outer / {} GMRES",
+                p.converged.iters,
+                p.converged.linear_iters,
+                w.converged.iters,
+                w.converged.linear_iters
+            );
+            g.bench_function("trailer-6m 64x24x32 picard", |b| {
+                b.iter(|| solve(&container, &flow, &law, &air, &picard).unwrap())
+            });
+            g.bench_function("trailer-6m 64x24x32 warm re-solve", |b| {
+                b.iter(|| {
+                    solve_from(&container, &flow, &law, &warmer, &settings, Some(&s.warm)).unwrap()
+                })
+            });
+        }
         eprintln!(
-            "{}x{}x{} = {} cells: {} outer, {} CG iterations, residual {:.1e}",
+            "{}x{}x{} = {} cells (Newton): {} outer, {} linear iterations, residual {:.1e}",
             grid.nx,
             grid.ny,
             grid.nz,

@@ -136,16 +136,50 @@ pub struct BedSystem {
     law: BedLaw,
     floor_c2: f64,
     rho: f64,
-    kv: Vec<f64>,
-    op: LineOp,
-    ttop: Vec<f64>,
-    tbot: Vec<f64>,
+    faces: Faces,
     precond: Preconditioner,
     mg: Multigrid,
     r: Vec<f64>,
     z: Vec<f64>,
     pdir: Vec<f64>,
     ap: Vec<f64>,
+}
+
+/// Resistivities and face transmissibilities for one set of cell and floor speeds: the linear operator of one
+/// outer step. The solver keeps one; the Newton solve evaluates its residual on others.
+#[derive(Debug, Clone)]
+pub struct Faces {
+    kv: Vec<f64>,
+    op: LineOp,
+    ttop: Vec<f64>,
+    tbot: Vec<f64>,
+}
+
+impl Faces {
+    /// y = A·x with these faces.
+    pub fn matvec(&self, x: &[f64], y: &mut [f64]) {
+        self.op.matvec(x, y);
+    }
+
+    /// Plenum-to-bottom-cell transmissibility per column, m³/(s·Pa).
+    pub fn tbot(&self) -> &[f64] {
+        &self.tbot
+    }
+
+    /// Diagonal of A per cell, m³/(s·Pa).
+    pub fn diag(&self) -> &[f64] {
+        &self.op.diag
+    }
+
+    /// Empty faces for an nx × ny × nz bed.
+    pub fn zeros(nx: usize, ny: usize, nz: usize) -> Self {
+        Faces {
+            kv: vec![0.0; nx * ny * nz],
+            op: LineOp::zeros(nx, ny, nz),
+            ttop: vec![0.0; nx * ny],
+            tbot: vec![0.0; nx * ny],
+        }
+    }
 }
 
 /// The preconditioner of the conjugate-gradient solve.
@@ -201,10 +235,7 @@ impl BedSystem {
             law,
             floor_c2: (floor_cd * floor_open_area).powi(2),
             rho: rho_kg_per_m3,
-            kv: vec![0.0; n],
-            op: LineOp::zeros(nx, ny, nz),
-            ttop: vec![0.0; nc],
-            tbot: vec![0.0; nc],
+            faces: Faces::zeros(nx, ny, nz),
             precond: Preconditioner::default(),
             mg: Multigrid::default(),
             r: vec![0.0; n],
@@ -212,7 +243,7 @@ impl BedSystem {
             pdir: vec![0.0; n],
             ap: vec![0.0; n],
         };
-        s.mg = Multigrid::new(&s.op, MgSettings::default());
+        s.mg = Multigrid::new(&s.faces.op, MgSettings::default());
         s.assemble();
         s
     }
@@ -232,15 +263,13 @@ impl BedSystem {
         self.nx * self.ny * self.nz
     }
 
-    /// Recompute resistivities and transmissibilities from `speed_for_k` and `floor_speed`.
-    pub fn assemble(&mut self) {
+    /// Resistivities, transmissibilities and the line operator (diagonal and Thomas factors included, coarse
+    /// levels not) for cell speeds `speeds` and floor speeds `floor_speeds`: the one place faces are computed.
+    #[allow(clippy::needless_range_loop)] // c indexes depth, kv, ttop, tbot and the floor speeds together
+    fn fill_faces(&self, speeds: &[f64], floor_speeds: &[f64], f: &mut Faces) {
         let (nx, ny, nz) = (self.nx, self.ny, self.nz);
         let law = self.law;
-        for (kv, (&u, &m)) in self
-            .kv
-            .iter_mut()
-            .zip(self.speed_for_k.iter().zip(&self.perm))
-        {
+        for (kv, (&u, &m)) in f.kv.iter_mut().zip(speeds.iter().zip(&self.perm)) {
             *kv = law.resistivity(u) / m;
         }
         let axy = self.dx_m * self.dy_m;
@@ -250,15 +279,15 @@ impl BedSystem {
             let base = c * nz;
             for k in 0..nz {
                 let idx = base + k;
-                self.op.tz[idx] = if k + 1 < nz {
-                    axy / (0.5 * dz * (self.kv[idx] + self.kv[idx + 1]))
+                f.op.tz[idx] = if k + 1 < nz {
+                    axy / (0.5 * dz * (f.kv[idx] + f.kv[idx + 1]))
                 } else {
                     0.0
                 };
             }
-            self.ttop[c] = axy / (0.5 * dz * self.kv[base + nz - 1]);
-            let r_floor = self.rho * self.floor_speed[c].abs() / (2.0 * self.floor_c2);
-            self.tbot[c] = axy / (0.5 * dz * self.kv[base] + r_floor * 1.0);
+            f.ttop[c] = axy / (0.5 * dz * f.kv[base + nz - 1]);
+            let r_floor = self.rho * floor_speeds[c].abs() / (2.0 * self.floor_c2);
+            f.tbot[c] = axy / (0.5 * dz * f.kv[base] + r_floor * 1.0);
         }
         for i in 0..nx {
             for j in 0..ny {
@@ -266,19 +295,19 @@ impl BedSystem {
                 let dz_a = self.depth_m[c] / nz as f64;
                 for k in 0..nz {
                     let idx = c * nz + k;
-                    self.op.tx[idx] = if i + 1 < nx {
+                    f.op.tx[idx] = if i + 1 < nx {
                         let cb = c + ny;
                         let dz_b = self.depth_m[cb] / nz as f64;
                         let area = self.dy_m * 0.5 * (dz_a + dz_b);
-                        area / (0.5 * self.dx_m * rh * (self.kv[idx] + self.kv[cb * nz + k]))
+                        area / (0.5 * self.dx_m * rh * (f.kv[idx] + f.kv[cb * nz + k]))
                     } else {
                         0.0
                     };
-                    self.op.ty[idx] = if j + 1 < ny {
+                    f.op.ty[idx] = if j + 1 < ny {
                         let cb = c + 1;
                         let dz_b = self.depth_m[cb] / nz as f64;
                         let area = self.dx_m * 0.5 * (dz_a + dz_b);
-                        area / (0.5 * self.dy_m * rh * (self.kv[idx] + self.kv[cb * nz + k]))
+                        area / (0.5 * self.dy_m * rh * (f.kv[idx] + f.kv[cb * nz + k]))
                     } else {
                         0.0
                     };
@@ -287,26 +316,63 @@ impl BedSystem {
         }
         for c in 0..nx * ny {
             let base = c * nz;
-            self.op.dir[base..base + nz]
-                .iter_mut()
-                .for_each(|v| *v = 0.0);
-            self.op.dir[base] += self.tbot[c];
-            self.op.dir[base + nz - 1] += self.ttop[c];
+            f.op.dir[base..base + nz].iter_mut().for_each(|v| *v = 0.0);
+            f.op.dir[base] += f.tbot[c];
+            f.op.dir[base + nz - 1] += f.ttop[c];
         }
-        // Diagonal and Thomas factors of each vertical line (diag, −tz), then the coarse levels.
-        self.op.finish();
-        self.mg.rebuild(&self.op);
+        f.op.finish();
+    }
+
+    /// Faces for cell speeds `speeds` and floor speeds `floor_speeds` (m/s), leaving the solver's own untouched.
+    pub(crate) fn faces_for(&self, speeds: &[f64], floor_speeds: &[f64], f: &mut Faces) {
+        self.fill_faces(speeds, floor_speeds, f);
+    }
+
+    /// The solver's own faces (those of the last `assemble`).
+    pub(crate) fn faces(&self) -> &Faces {
+        &self.faces
+    }
+
+    /// z = B·r, the preconditioner of the last `assemble`, for outer solvers that reuse it.
+    pub(crate) fn apply_preconditioner(&mut self, r: &[f64], z: &mut Vec<f64>) {
+        self.precondition(r, z);
+    }
+
+    /// d ln K / d ln q of the bed law at speed `q_m_per_s`.
+    pub(crate) fn law_log_slope(&self, q_m_per_s: f64) -> f64 {
+        self.law.log_slope(q_m_per_s)
+    }
+
+    /// Per column, the floor's share of the resistance between plenum and bottom cell centre (the orifice term,
+    /// linear in the floor speed, over the whole), from the last `assemble`.
+    pub(crate) fn floor_share(&self) -> Vec<f64> {
+        let axy = self.dx_m * self.dy_m;
+        (0..self.nx * self.ny)
+            .map(|c| {
+                let bed = 0.5 * self.depth_m[c] / self.nz as f64 * self.faces.kv[c * self.nz];
+                1.0 - bed * self.faces.tbot[c] / axy
+            })
+            .collect()
+    }
+
+    /// Recompute resistivities and transmissibilities from `speed_for_k` and `floor_speed`.
+    pub fn assemble(&mut self) {
+        let mut faces = std::mem::replace(&mut self.faces, Faces::zeros(0, 0, 0));
+        self.fill_faces(&self.speed_for_k, &self.floor_speed, &mut faces);
+        self.faces = faces;
+        // The coarse levels from the finished fine operator.
+        self.mg.rebuild(&self.faces.op);
     }
 
     /// y = A·x, column by column (each vertical line is a contiguous slice, so the inner loops vectorise).
     fn matvec(&self, x: &[f64], y: &mut [f64]) {
-        self.op.matvec(x, y);
+        self.faces.op.matvec(x, y);
     }
 
     /// z = M⁻¹·r with M the block-diagonal of vertical lines (Thomas algorithm with the operator's stored factors).
     fn line_jacobi(&self, r: &[f64], z: &mut [f64]) {
         let nz = self.nz;
-        let op = &self.op;
+        let op = &self.faces.op;
         let cols_per_block = (BLOCK / nz).max(1);
         z.par_chunks_mut(cols_per_block * nz)
             .zip(r.par_chunks(cols_per_block * nz))
@@ -325,7 +391,7 @@ impl BedSystem {
     fn precondition(&mut self, r: &[f64], z: &mut Vec<f64>) {
         match self.precond {
             Preconditioner::LineJacobi => self.line_jacobi(r, z),
-            Preconditioner::Multigrid => self.mg.apply(&self.op, r, z),
+            Preconditioner::Multigrid => self.mg.apply(&self.faces.op, r, z),
         }
     }
 
@@ -333,7 +399,7 @@ impl BedSystem {
     pub fn rhs(&self, p_plenum_pa: &[f64], b: &mut [f64]) {
         b.iter_mut().for_each(|v| *v = 0.0);
         for (c, &p) in p_plenum_pa.iter().enumerate() {
-            b[c * self.nz] = self.tbot[c] * p;
+            b[c * self.nz] = self.faces.tbot[c] * p;
         }
     }
 
@@ -429,14 +495,14 @@ impl BedSystem {
     /// Flow up through the top face of each column, m³/s.
     pub fn top_flow_m3_per_s(&self, p: &[f64]) -> Vec<f64> {
         (0..self.nx * self.ny)
-            .map(|c| self.ttop[c] * p[c * self.nz + self.nz - 1])
+            .map(|c| self.faces.ttop[c] * p[c * self.nz + self.nz - 1])
             .collect()
     }
 
     /// Flow in through the floor of each column, m³/s, for plenum pressures `p_plenum_pa`.
     pub fn bottom_flow_m3_per_s(&self, p: &[f64], p_plenum_pa: &[f64]) -> Vec<f64> {
         (0..self.nx * self.ny)
-            .map(|c| self.tbot[c] * (p_plenum_pa[c] - p[c * self.nz]))
+            .map(|c| self.faces.tbot[c] * (p_plenum_pa[c] - p[c * self.nz]))
             .collect()
     }
 
@@ -445,16 +511,16 @@ impl BedSystem {
         let axy = self.dx_m * self.dy_m;
         (0..self.nx * self.ny)
             .map(|c| {
-                let q = self.tbot[c] * (p_plenum_pa[c] - p[c * self.nz]) / axy;
+                let q = self.faces.tbot[c] * (p_plenum_pa[c] - p[c * self.nz]) / axy;
                 let dz = self.depth_m[c] / self.nz as f64;
-                p[c * self.nz] + q * 0.5 * dz * self.kv[c * self.nz]
+                p[c * self.nz] + q * 0.5 * dz * self.faces.kv[c * self.nz]
             })
             .collect()
     }
 
     /// Sum of the transmissibilities from plenum to bed per column (for the total-conductance closure).
     pub fn tbot(&self) -> &[f64] {
-        &self.tbot
+        &self.faces.tbot
     }
 
     /// Update the speeds that the next `assemble` uses, from pressures `p` (with plenum `p_plenum_pa`).
@@ -462,12 +528,33 @@ impl BedSystem {
     /// which damps the Picard map's oscillation (for K ∝ qⁿ at a fixed gradient it lands on the fixed point in one
     /// step). The floor (n = 1) takes the plain geometric mean.
     pub fn update_speeds(&mut self, p: &[f64], p_plenum_pa: &[f64]) {
+        let (speeds, floor_q) = self.cell_speeds(&self.faces, p, p_plenum_pa);
+        let law = self.law;
+        self.speed_for_k = speeds
+            .par_iter()
+            .with_min_len(1024)
+            .zip(self.speed_for_k.par_iter())
+            .map(|(&new, &old)| {
+                let old = old.max(1e-12);
+                let n = law.log_slope(old);
+                let w = 1.0 / (1.0 + n);
+                (old.ln() * (1.0 - w) + new.ln() * w).exp()
+            })
+            .collect();
+        for (fs, q) in self.floor_speed.iter_mut().zip(floor_q) {
+            let old = fs.abs().max(1e-12);
+            *fs = (old * q).sqrt();
+        }
+    }
+
+    /// The speed |u| of every cell (at least 1e-12 m/s) and the floor speed |q| of every column that pressures
+    /// `p` give through `faces`: u is the mean of each pair of opposite face fluxes over their areas.
+    pub fn cell_speeds(&self, f: &Faces, p: &[f64], p_plenum_pa: &[f64]) -> (Vec<f64>, Vec<f64>) {
         let (nx, ny, nz) = (self.nx, self.ny, self.nz);
         let nyz = ny * nz;
         let axy = self.dx_m * self.dy_m;
-        let law = self.law;
         let floor_q: Vec<f64> = (0..nx * ny)
-            .map(|c| self.tbot[c] * (p_plenum_pa[c] - p[c * nz]) / axy)
+            .map(|c| f.tbot[c] * (p_plenum_pa[c] - p[c * nz]) / axy)
             .collect();
         let speeds: Vec<f64> = (0..nx * ny * nz)
             .into_par_iter()
@@ -480,21 +567,21 @@ impl BedSystem {
                 let fb = if k == 0 {
                     floor_q[c] * axy
                 } else {
-                    self.op.tz[idx - 1] * (p[idx - 1] - p[idx])
+                    f.op.tz[idx - 1] * (p[idx - 1] - p[idx])
                 };
                 let ft = if k + 1 == nz {
-                    self.ttop[c] * p[idx]
+                    f.ttop[c] * p[idx]
                 } else {
-                    self.op.tz[idx] * (p[idx] - p[idx + 1])
+                    f.op.tz[idx] * (p[idx] - p[idx + 1])
                 };
                 let uz = 0.5 * (fb + ft) / axy;
                 let face_x = |a: usize, b: usize, ca: usize, cb: usize| {
                     let area = self.dy_m * 0.5 * (self.depth_m[ca] + self.depth_m[cb]) / nz as f64;
-                    self.op.tx[a] * (p[a] - p[b]) / area
+                    f.op.tx[a] * (p[a] - p[b]) / area
                 };
                 let face_y = |a: usize, b: usize, ca: usize, cb: usize| {
                     let area = self.dx_m * 0.5 * (self.depth_m[ca] + self.depth_m[cb]) / nz as f64;
-                    self.op.ty[a] * (p[a] - p[b]) / area
+                    f.op.ty[a] * (p[a] - p[b]) / area
                 };
                 let uw = if i > 0 {
                     face_x(idx - nyz, idx, c - ny, c)
@@ -518,18 +605,10 @@ impl BedSystem {
                 };
                 let ux = 0.5 * (uw + ue);
                 let uy = 0.5 * (us + un);
-                let new = (ux * ux + uy * uy + uz * uz).sqrt().max(1e-12);
-                let old = self.speed_for_k[idx].max(1e-12);
-                let n = law.log_slope(old);
-                let w = 1.0 / (1.0 + n);
-                (old.ln() * (1.0 - w) + new.ln() * w).exp()
+                (ux * ux + uy * uy + uz * uz).sqrt().max(1e-12)
             })
             .collect();
-        self.speed_for_k = speeds;
-        for (fs, q) in self.floor_speed.iter_mut().zip(floor_q) {
-            let old = fs.abs().max(1e-12);
-            *fs = (old * q.abs().max(1e-12)).sqrt();
-        }
+        (speeds, floor_q.iter().map(|q| q.abs().max(1e-12)).collect())
     }
 }
 

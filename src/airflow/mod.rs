@@ -11,6 +11,7 @@ pub mod fan;
 pub mod fit;
 pub mod geometry;
 mod mg;
+mod newton;
 pub mod path;
 pub mod plenum;
 pub mod plenum2d;
@@ -23,6 +24,6 @@ pub use geometry::{Container, Fill, Grid, PlenumChoice};
 pub use path::AirPath;
 pub use plenum::{ManifoldParams, PlenumModel};
 pub use solve::{
-    solve, solve_prescribed, AirflowError, AirflowSolution, AirflowSummary, Converged,
-    OperatingPoint, SolverSettings,
+    solve, solve_from, solve_prescribed, AirflowError, AirflowSolution, AirflowSummary, Converged,
+    OperatingPoint, OuterMethod, SolverSettings, WarmStart,
 };

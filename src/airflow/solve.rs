@@ -23,6 +23,7 @@ use serde::Serialize;
 use super::bed::{BedLaw, BedSystem, LinearStats};
 use super::fan::{leakage_m3_per_s, FanError, FlowSpec};
 use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
+use super::newton::{self, Closure, Iterate};
 use super::path::AirPath;
 use super::plenum::PlenumModel;
 use super::plenum2d::FlowError;
@@ -91,6 +92,34 @@ pub struct SolverSettings {
     pub linear_tolerance: f64,
     /// CG iterations allowed per linear solve.
     pub max_linear_iters: u32,
+    /// The outer iteration.
+    pub method: OuterMethod,
+}
+
+/// How the outer (nonlinear) iteration is done.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum OuterMethod {
+    /// Picard: freeze the resistivities, solve the linear bed, update (linear convergence). The default: it is
+    /// still the faster in wall time (see DEVELOPERS.md, benchmarks).
+    #[default]
+    Picard,
+    /// Newton–Krylov (`airflow::newton`) from a few Picard steps, or from a previous solution when given one:
+    /// a quarter of Picard's outer steps, but each GMRES step re-evaluates the whole residual, so it is slower.
+    Newton,
+}
+
+/// Relative pressure change at which a cold Newton solve leaves its first Picard steps.
+const NEWTON_HANDOVER: f64 = 0.05;
+
+/// What a later solve of the same container and grid can start from (solver orientation).
+#[derive(Debug, Clone, Default)]
+pub struct WarmStart {
+    pressure_pa: Vec<f64>,
+    speeds_m_per_s: Vec<f64>,
+    floor_speeds_m_per_s: Vec<f64>,
+    inlet_pa: f64,
+    shape_pa: Vec<f64>,
 }
 
 impl Default for SolverSettings {
@@ -103,6 +132,7 @@ impl Default for SolverSettings {
             tolerance: 1e-8,
             linear_tolerance: 1e-10,
             max_linear_iters: 5000,
+            method: OuterMethod::default(),
         }
     }
 }
@@ -201,6 +231,40 @@ pub struct AirflowSolution {
     pub summary: AirflowSummary,
     /// Convergence record.
     pub converged: Converged,
+    /// Relative pressure change of every outer step, first to last.
+    #[serde(skip)]
+    pub changes: Vec<f64>,
+    /// ‖F‖ (dimensionless, `airflow::newton`) at the start of every Newton step.
+    #[serde(skip)]
+    pub newton_residuals: Vec<f64>,
+    /// The state a later solve can start from.
+    #[serde(skip)]
+    pub warm: WarmStart,
+}
+
+/// As [`solve`], starting from `warm` (a solution of the same container and grid for nearby air or bed) when
+/// given and the method is Newton; otherwise, or if the warm solve fails, cold.
+pub fn solve_from(
+    container: &Container,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    air: &AirPath,
+    settings: &SolverSettings,
+    warm: Option<&WarmStart>,
+) -> Result<AirflowSolution, AirflowError> {
+    check_law(law)?;
+    let disc = container.discretize(settings.grid)?;
+    let mut plenum = build(&settings.plenum, container, disc.grid);
+    solve_with_plenum_from(
+        container,
+        &disc,
+        flow,
+        law,
+        air,
+        settings,
+        plenum.as_mut(),
+        warm,
+    )
 }
 
 /// Solve the airflow through a loaded container, each part at its own air along `air` (see `airflow::path`).
@@ -428,6 +492,21 @@ pub fn solve_with_plenum(
     settings: &SolverSettings,
     plenum: &mut dyn Plenum,
 ) -> Result<AirflowSolution, AirflowError> {
+    solve_with_plenum_from(container, disc, flow, law, air, settings, plenum, None)
+}
+
+/// As [`solve_with_plenum`], starting from `warm` when given (see [`solve_from`]).
+#[allow(clippy::too_many_arguments)]
+pub fn solve_with_plenum_from(
+    container: &Container,
+    disc: &DiscreteContainer,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    air: &AirPath,
+    settings: &SolverSettings,
+    plenum: &mut dyn Plenum,
+    warm: Option<&WarmStart>,
+) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
     // Plenum air: inlet transition, plenum, floor, leakage and bed. Fan air: the fan curve.
     let (rho, v_dry) = air_props(&air.plenum, "plenum air density (kg/m³)")?;
@@ -478,6 +557,50 @@ pub fn solve_with_plenum(
     let mut delta_col = vec![0.0; nc];
     let mut linear_total = 0;
     let mut last_change: f64 = 1.0;
+    let closure = Closure {
+        flow,
+        leak_c,
+        a_in_m2: a_in,
+        k_transition: inl.transition_loss_coefficient,
+        rho,
+        rho_fan,
+        to_fan,
+    };
+    let ctx = Ctx {
+        container,
+        disc,
+        depth: &depth,
+        v_dry,
+    };
+    // The 2-D plenum's shape comes from an iterative solve of its own, not smooth enough for Newton's
+    // difference quotients (see `airflow::newton`): it keeps Picard.
+    let newton = settings.method == OuterMethod::Newton
+        && !matches!(settings.plenum, super::plenum::PlenumModel::TwoD(_));
+    if let Some(w) = warm.filter(|w| newton && w.pressure_pa.len() == n && w.shape_pa.len() == nc) {
+        let start = Iterate {
+            p: w.pressure_pa.clone(),
+            speeds: w.speeds_m_per_s.clone(),
+            floor_speeds: w.floor_speeds_m_per_s.clone(),
+            p_in: w.inlet_pa,
+            delta: w.shape_pa.clone(),
+        };
+        let outer = NewtonOuter {
+            manifold,
+            iters_done: 0,
+            linear_total: 0,
+            changes: Vec::new(),
+        };
+        match newton_outer(&mut sys, plenum, &closure, start, outer, settings, &ctx) {
+            Ok(sol) => return Ok(sol),
+            Err(_) => {
+                // Too far from the old solution: start cold, as without one.
+                sys.speed_for_k.fill(q_guess / floor_area);
+                sys.floor_speed.fill(q_guess / floor_area);
+                sys.assemble();
+            }
+        }
+    }
+    let mut changes = Vec::new();
     for it in 1..=settings.max_outer_iters {
         // Inexact Picard: solve each frozen linear problem only as well as the outer iteration can use it
         // (a hundredth of the last outer change), down to the requested linear tolerance at convergence.
@@ -579,9 +702,34 @@ pub fn solve_with_plenum(
         last_change = change;
         let bottom = sys.bottom_flow_m3_per_s(&p, &p_pl);
         let leak = leakage_m3_per_s(leak_c, p_in + dbar);
+        changes.push(change);
+        if newton && it > 1 && change < NEWTON_HANDOVER && change >= settings.tolerance {
+            let (speeds, floor_speeds) = sys.cell_speeds(sys.faces(), &p, &p_pl);
+            let start = Iterate {
+                p,
+                speeds,
+                floor_speeds,
+                p_in,
+                delta: delta_col,
+            };
+            let outer = NewtonOuter {
+                manifold,
+                iters_done: it,
+                linear_total,
+                changes,
+            };
+            return newton_outer(&mut sys, plenum, &closure, start, outer, settings, &ctx);
+        }
         if it > 1 && change < settings.tolerance {
             let top = sys.top_flow_m3_per_s(&p);
             let bfp = sys.bottom_face_pressure_pa(&p, &p_pl);
+            let warm = WarmStart {
+                pressure_pa: p.clone(),
+                speeds_m_per_s: sys.speed_for_k.clone(),
+                floor_speeds_m_per_s: sys.floor_speed.clone(),
+                inlet_pa: p_in,
+                shape_pa: delta_col.clone(),
+            };
             return finish(
                 container,
                 disc,
@@ -606,6 +754,7 @@ pub fn solve_with_plenum(
                     linear_iters: linear_total,
                     residual: change,
                 },
+                (changes, Vec::new(), warm),
             );
         }
         prev.copy_from_slice(&p);
@@ -643,6 +792,7 @@ fn finish(
     depth: &[f64],
     f: FinishInputs<'_>,
     converged: Converged,
+    record: (Vec<f64>, Vec<f64>, WarmStart),
 ) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
     let area = disc.dx_m * disc.dy_m;
@@ -715,5 +865,148 @@ fn finish(
             plenum_air_density_kg_per_m3: f.rho,
         },
         converged,
+        changes: record.0,
+        newton_residuals: record.1,
+        warm: record.2,
     })
+}
+
+/// The container-side inputs of `finish` that the Newton phase carries.
+struct Ctx<'a> {
+    container: &'a Container,
+    disc: &'a DiscreteContainer,
+    depth: &'a [f64],
+    v_dry: f64,
+}
+
+/// Where the Newton phase starts in the outer count.
+struct NewtonOuter {
+    manifold: bool,
+    iters_done: u32,
+    linear_total: u32,
+    changes: Vec<f64>,
+}
+
+/// Newton outer steps from `start` until the pressure change, or an estimate of the remaining error from the
+/// ratio θ of the last two changes, falls below the tolerance.
+#[allow(clippy::too_many_arguments)]
+fn newton_outer(
+    sys: &mut BedSystem,
+    plenum: &mut dyn Plenum,
+    closure: &Closure<'_>,
+    start: Iterate,
+    mut outer: NewtonOuter,
+    settings: &SolverSettings,
+    ctx: &Ctx<'_>,
+) -> Result<AirflowSolution, AirflowError> {
+    let mut it = start;
+    let mut prev_change = f64::INFINITY;
+    let mut residuals = Vec::new();
+    for k in outer.iters_done + 1..=settings.max_outer_iters {
+        let step = newton::step(
+            &mut newton::System::new(sys, closure, &mut *plenum, outer.manifold),
+            &it,
+        );
+        outer.linear_total += step.krylov_iters;
+        residuals.push(step.residual);
+        outer.changes.push(step.change);
+        it = step.iterate;
+        if !it.p_in.is_finite() || !step.change.is_finite() {
+            return Err(AirflowError::NonPhysical {
+                quantity: "inlet static pressure (Pa)",
+                value: it.p_in,
+            });
+        }
+        // Remaining error estimated from the ratio θ of the last two changes as for a linear contraction,
+        // change·θ/(1 − θ) (conservative for Newton; an estimate assuming order 2 stopped too early: the pressure
+        // change is not monotone while the speeds still move).
+        let theta = step.change / prev_change;
+        let done = step.change < settings.tolerance
+            || (prev_change.is_finite()
+                && theta < 0.5
+                && step.change * theta / (1.0 - theta) < settings.tolerance);
+        prev_change = step.change;
+        if done {
+            let converged = Converged {
+                iters: k,
+                linear_iters: outer.linear_total,
+                residual: step.change,
+            };
+            return newton_finish(sys, closure, it, converged, (outer.changes, residuals), ctx);
+        }
+    }
+    Err(AirflowError::NotConverged {
+        iters: settings.max_outer_iters,
+        residual: prev_change,
+    })
+}
+
+/// The solution from a converged Newton iterate.
+fn newton_finish(
+    sys: &mut BedSystem,
+    closure: &Closure<'_>,
+    it: Iterate,
+    converged: Converged,
+    record: (Vec<f64>, Vec<f64>),
+    ctx: &Ctx<'_>,
+) -> Result<AirflowSolution, AirflowError> {
+    sys.speed_for_k.copy_from_slice(&it.speeds);
+    sys.floor_speed.copy_from_slice(&it.floor_speeds);
+    sys.assemble();
+    let q_total = closure.plenum_flow_m3_per_s(it.p_in);
+    let p_fan = match closure.flow {
+        FlowSpec::Fixed { .. } => {
+            let u = q_total / closure.a_in_m2;
+            it.p_in + closure.k_transition * 0.5 * closure.rho * u * u
+        }
+        FlowSpec::Fan(fan) => {
+            let (lo, hi) = fan.flow_range_m3_per_s();
+            let q_fan = q_total * closure.to_fan;
+            if q_fan <= lo * (1.0 + 1e-12) || q_fan >= hi * (1.0 - 1e-12) {
+                return Err(AirflowError::OffCurve {
+                    fan: fan.name.clone(),
+                    message: format!(
+                        "the operating point ({:.1} m³/min) is at the end of the rated range",
+                        q_fan * 60.0
+                    ),
+                });
+            }
+            fan.pressure_pa(q_fan, closure.rho_fan)
+        }
+    };
+    let delta = &it.delta;
+    let p_pl: Vec<f64> = delta.iter().map(|d| it.p_in + d).collect();
+    let dbar = delta.iter().sum::<f64>() / delta.len() as f64;
+    let leak = leakage_m3_per_s(closure.leak_c, it.p_in + dbar);
+    let top = sys.top_flow_m3_per_s(&it.p);
+    let bfp = sys.bottom_face_pressure_pa(&it.p, &p_pl);
+    let warm = WarmStart {
+        pressure_pa: it.p.clone(),
+        speeds_m_per_s: it.speeds.clone(),
+        floor_speeds_m_per_s: it.floor_speeds.clone(),
+        inlet_pa: it.p_in,
+        shape_pa: delta.clone(),
+    };
+    finish(
+        ctx.container,
+        ctx.disc,
+        ctx.depth,
+        FinishInputs {
+            top: &top,
+            bfp: &bfp,
+            p_pl: &p_pl,
+            p: &it.p,
+            q_total,
+            leak,
+            p_in: it.p_in,
+            p_fan,
+            rho: closure.rho,
+            v_dry: ctx.v_dry,
+            rho_fan: closure.rho_fan,
+            to_fan: closure.to_fan,
+            a_in: closure.a_in_m2,
+        },
+        converged,
+        (record.0, record.1, warm),
+    )
 }
