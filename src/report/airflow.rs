@@ -266,16 +266,20 @@ pub fn airflow_page(
     Page {
         title: format!("{} — airflow", c.name),
         lead: format!(
-            "Steady airflow through {} ({:.1} m³ of peanuts), grid {}×{}×{}.",
-            c.name, sm.bed_volume_m3, s.grid.nx, s.grid.ny, s.grid.nz
+            "Steady airflow through {} ({} of peanuts), grid {}×{}×{}.",
+            c.name,
+            u.bulk_volume(sm.bed_volume_m3),
+            s.grid.nx,
+            s.grid.ny,
+            s.grid.nz
         ),
         answer: vec![
             KeyFigure::new(
                 "through the bed",
                 u.flow(sm.bed_flow_m3_per_s),
                 format!(
-                    "{:.1} m³/min per m³ of peanuts",
-                    sm.specific_airflow_m3_per_min_per_m3
+                    "{} of peanuts",
+                    u.specific_airflow(sm.specific_airflow_m3_per_min_per_m3)
                 ),
             ),
             KeyFigure::new(
