@@ -120,7 +120,7 @@ pub struct Permeability {
 
 /// Which plenum model the container's air is solved with (the container file's `"plenum"` object; the 1-D duct
 /// when it is absent). The 2-D model's numerical settings may be given; the rest keep
-/// [`Plenum2dParams`](super::plenum_shape::Plenum2dParams)'s documented defaults.
+/// [`Plenum2dParams`]'s documented defaults.
 /// (`Duct {}` and `Uniform {}` are empty struct variants rather than unit ones so that a stray field beside their
 /// `model` is refused: serde ignores extra fields of an internally tagged unit variant.)
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]

@@ -90,7 +90,7 @@ pub struct ColumnStepTotals {
     /// Largest RH (decimal) of air leaving any layer.
     pub max_rh_out: f64,
     /// The first layer the step left colder than its floor, if any: (layer, temperature °C, floor °C). See
-    /// [`below_floor`].
+    /// `layer::below_floor`.
     pub below_floor: Option<(usize, f64, f64)>,
 }
 

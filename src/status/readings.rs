@@ -180,7 +180,7 @@ fn weight(bed: &BedState, place: &Place) -> Array3<f64> {
 /// Adjust `bed` so that every reading agrees with it within its accuracy, changing it as little as the readings
 /// allow: readings are visited in turn (a sweep), each moving the moisture of the cells it stands for by the
 /// factor that brings its value to the near edge of its band; sweeps repeat until all agree (readings that
-/// overlap converge as alternating projections do) or [`MAX_SWEEPS`] pass. A replay already within every
+/// overlap converge as alternating projections do) or `MAX_SWEEPS` pass. A replay already within every
 /// band is left exactly as it was. Returns the largest distance still outside a band (0 when all agree).
 pub fn adjust<M: LayerMaterial + ?Sized>(
     material: &M,
