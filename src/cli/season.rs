@@ -16,8 +16,8 @@ use crate::input::season::{
 use crate::report::gantt::{gantt_svg, queue_svg};
 use crate::report::output::{check_target, OutputSet};
 use crate::report::season::{
-    air_note, arrivals_csv, daily_csv, kpis_csv, schedule_csv, season_page, shard_json,
-    sweep_answer, sweep_csv, sweep_page,
+    air_note, arrivals_csv, daily_csv, heater_label, kpis_csv, schedule_csv, season_page,
+    shard_json, sweep_answer, sweep_csv, sweep_page,
 };
 use crate::season::arrivals::{generate, ArrivalParams, Load};
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
@@ -643,7 +643,10 @@ fn run_sweep(a: SweepArgs) -> anyhow::Result<()> {
         max_wait_h: bp.rules.max_wait_h,
         dryer_counts: grid.dryer_counts.clone(),
         policies: policies.iter().map(|p| p.name().to_string()).collect(),
-        heaters: heaters.iter().map(heater_text).collect(),
+        heaters: heaters
+            .iter()
+            .map(|h| heater_label(h, UnitSystem::Si))
+            .collect(),
         seasons: a.seasons,
         loads: a.loads,
         seed: a.seed,
@@ -695,12 +698,6 @@ fn run_merge(a: MergeArgs) -> anyhow::Result<()> {
     }
     let (setup, grid, res) = merge(&files)?;
     write_sweep(&setup, &grid, &res, (&a.shards, &a.out, a.replace), a.units)
-}
-
-/// A heater of the sweep as its table names it.
-fn heater_text(h: &Option<StrategySpec>) -> String {
-    h.map(|h| h.to_string())
-        .unwrap_or_else(|| "scenario".into())
 }
 
 /// The check that shards read the same inputs: every input file's SHA-256, read through the one reader.

@@ -166,7 +166,7 @@ pub fn sweep_answer(
         field("propane_per_tonne"),
         field("total_cost"),
     );
-    let heater_text = |h: &Option<StrategySpec>| h.map_or("scenario".into(), |h| h.text_in(u));
+    let heater_text = |h: &Option<StrategySpec>| heater_label(h, u);
     let trio = |r: &CaseResult, f: usize, digits: usize| {
         format!(
             "{:.d$}/{:.d$}/{:.d$}",
@@ -257,6 +257,12 @@ pub fn sweep_answer(
         }
     }
     s
+}
+
+/// A swept heater as tables and shard files name it: in the heater language (SI set-points for `Si`), or
+/// `scenario` for each dryer's own.
+pub fn heater_label(h: &Option<StrategySpec>, u: UnitSystem) -> String {
+    h.map_or("scenario".into(), |h| h.text_in(u))
 }
 
 /// What explains a season's fuel per tonne: the air each load got per m³ of peanuts (median and range over the
