@@ -155,7 +155,31 @@ impl PlenumChoice {
     pub fn is_duct(&self) -> bool {
         *self == PlenumChoice::Duct {}
     }
+
+    /// The model named `name` (`duct`, `uniform` or `2d`, as in the container file) with its default settings,
+    /// or `self` when it already is that model (so a file's own 2-D settings stay); `None` for another name.
+    pub fn switched_to(&self, name: &str) -> Option<Self> {
+        let wanted = match name {
+            "duct" => PlenumChoice::Duct {},
+            "uniform" => PlenumChoice::Uniform {},
+            "2d" => PlenumChoice::TwoD {
+                cells_per_column: None,
+                mixing_length_ratio: None,
+            },
+            _ => return None,
+        };
+        Some(
+            if std::mem::discriminant(self) == std::mem::discriminant(&wanted) {
+                self.clone()
+            } else {
+                wanted
+            },
+        )
+    }
 }
+
+/// The plenum model names, as the container file and the command line spell them.
+pub const PLENUM_MODEL_NAMES: &str = "duct, uniform or 2d";
 
 /// A loaded drying container.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -25,6 +25,7 @@ use super::plenum::{profile, PlenumGeometry, PlenumModel};
 use super::plenum2d::{
     solve_flow, FlowDomain, FlowError, FlowParams, FlowState, FlowStats, Scheme,
 };
+use super::plenum_map::{MapFrame, PlenumMap};
 
 /// Kinematic viscosity of air near 30 °C, m²/s (ASHRAE 2017 ch. 33 tables, about 1.6e-5; from memory).
 const NU_AIR: f64 = 1.6e-5;
@@ -74,6 +75,10 @@ pub trait Plenum {
     /// True if δ is always zero (then the coupled loop needs no shape solve).
     fn is_uniform(&self) -> bool {
         false
+    }
+    /// The plenum's own flow field after the last call, for the outputs (only a plenum that has one).
+    fn flow_map(&self, _frame: MapFrame) -> Option<PlenumMap> {
+        None
     }
 }
 
@@ -176,6 +181,15 @@ impl Plenum2d {
     pub fn field(&self) -> (&FlowDomain, &FlowState) {
         (&self.domain, &self.state)
     }
+
+    /// Kinematic static pressure at the inlet: the mean over the cells along the opening, m²/s².
+    fn inlet_kinematic(&self) -> f64 {
+        let nx = self.domain.nx;
+        self.inlet
+            .iter()
+            .map(|&(k, share)| share * self.state.p[(k / (nx + 1)) * nx])
+            .sum()
+    }
 }
 
 impl Plenum for Plenum2d {
@@ -197,12 +211,8 @@ impl Plenum for Plenum2d {
         let stats = solve_flow(d, &self.params, &mut self.state)?;
         self.total_iters += stats.iters;
         self.last = Some(stats);
+        let p_in = self.inlet_kinematic();
         let d = &self.domain;
-        let p_in: f64 = self
-            .inlet
-            .iter()
-            .map(|&(k, share)| share * self.state.p[(k / (d.nx + 1)) * d.nx])
-            .sum();
         let mut out = vec![0.0; q.len()];
         for jj in 0..d.ny {
             for ii in 0..d.nx {
@@ -211,6 +221,16 @@ impl Plenum for Plenum2d {
             }
         }
         Ok(out)
+    }
+
+    fn flow_map(&self, frame: MapFrame) -> Option<PlenumMap> {
+        let p_in = self.inlet_kinematic();
+        Some(PlenumMap::from_solver(
+            &self.domain,
+            &self.state,
+            p_in,
+            frame,
+        ))
     }
 }
 

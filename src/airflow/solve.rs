@@ -27,6 +27,7 @@ use super::newton::{self, Closure, Iterate};
 use super::path::AirPath;
 use super::plenum::PlenumModel;
 use super::plenum2d::FlowError;
+use super::plenum_map::{MapFrame, PlenumMap};
 use super::plenum_shape::{build, Plenum};
 use crate::error::InputError;
 use crate::props::psychro::AirState;
@@ -240,6 +241,9 @@ pub struct AirflowSolution {
     /// The state a later solve can start from.
     #[serde(skip)]
     pub warm: WarmStart,
+    /// The plenum's own flow field, for a plenum model that has one (the 2-D plenum).
+    #[serde(skip)]
+    pub plenum_map: Option<PlenumMap>,
 }
 
 /// As [`solve`], starting from `warm` (a solution of the same container and grid for nearby air or bed) when
@@ -498,6 +502,27 @@ pub fn solve_with_plenum(
 /// As [`solve_with_plenum`], starting from `warm` when given (see [`solve_from`]).
 #[allow(clippy::too_many_arguments)]
 pub fn solve_with_plenum_from(
+    container: &Container,
+    disc: &DiscreteContainer,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    air: &AirPath,
+    settings: &SolverSettings,
+    plenum: &mut dyn Plenum,
+    warm: Option<&WarmStart>,
+) -> Result<AirflowSolution, AirflowError> {
+    let mut sol = solve_coupled(container, disc, flow, law, air, settings, plenum, warm)?;
+    sol.plenum_map = plenum.flow_map(MapFrame {
+        rho_kg_per_m3: sol.summary.plenum_air_density_kg_per_m3,
+        inlet_pa: sol.operating_point.inlet_static_pressure_pa,
+        flip: container.inlet.wall == InletWall::Rear,
+    });
+    Ok(sol)
+}
+
+/// The coupled plenum–floor–bed–fan iteration of [`solve_with_plenum_from`].
+#[allow(clippy::too_many_arguments)]
+fn solve_coupled(
     container: &Container,
     disc: &DiscreteContainer,
     flow: &FlowSpec,
@@ -868,6 +893,7 @@ fn finish(
         changes: record.0,
         newton_residuals: record.1,
         warm: record.2,
+        plenum_map: None,
     })
 }
 

@@ -19,9 +19,9 @@ use std::path::{Path, PathBuf};
 
 use anyhow::Context;
 
+use crate::airflow::geometry::PLENUM_MODEL_NAMES;
 use crate::airflow::{
-    solve, AirPath, BedLaw, Container, FanCurve, FanPosition, Fill, FlowSpec, Grid, PlenumModel,
-    SolverSettings,
+    solve, AirPath, BedLaw, Container, FanCurve, FanPosition, Fill, FlowSpec, Grid, SolverSettings,
 };
 use crate::error::{check_range, InputError};
 use crate::props::psychro::{pressure_at_elevation_pa, AirState};
@@ -128,9 +128,11 @@ pub struct AirflowOptions {
     /// Site elevation, m (sets the barometric pressure).
     #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub elevation_m: f64,
-    /// Treat the plenum as one pressure (the classical assumption) instead of the model the container file names.
+    /// Plenum model instead of the one the container file names: `duct` (1-D along the length), `uniform` (one
+    /// pressure under the floor, the classical assumption) or `2d` (depth-averaged flow with the inlet jet, its
+    /// eddies and the side walls; writes the plenum's own flow map too).
     #[arg(long)]
-    pub uniform_plenum: bool,
+    pub plenum: Option<String>,
     /// Folder for columns.csv, summary.json and the SVG maps (nothing is written without it; an earlier set there is
     /// replaced whole).
     #[arg(long)]
@@ -226,6 +228,14 @@ pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
         law.packing_factor = check_range("--packing", p, 0.1, 10.0, "")?;
     }
     override_fill(args, &mut container, &container_path)?;
+    if let Some(name) = &args.plenum {
+        container.plenum = container.plenum.switched_to(name).with_context(|| {
+            format!("--plenum: {name:?} is not a plenum model; expected {PLENUM_MODEL_NAMES}")
+        })?;
+        container
+            .validate(&container_path)
+            .context("the plenum model chosen on the command line does not fit this container")?;
+    }
     let flow_m3_min = args.flow_m3_min.or(args
         .flow_cfm
         .map(|q| UnitSystem::Us.flow_to_si_m3_per_min(q)));
@@ -274,11 +284,7 @@ pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
             ny: args.ny,
             nz: args.nz,
         },
-        plenum: if args.uniform_plenum {
-            PlenumModel::Uniform
-        } else {
-            container.plenum_model()
-        },
+        plenum: container.plenum_model(),
         ..SolverSettings::default()
     };
     let used = Used::new(&air, &flow, bed);
@@ -360,7 +366,8 @@ pub fn run(args: AirflowArgs) -> anyhow::Result<()> {
         );
         set.add("report.html", page.render());
         set.commit(dir, &l.inputs, args.replace)?;
-        println!("wrote report.html, columns.csv, summary.json, top_airflow.svg, plenum_pressure.svg, plenum_profile.svg to {}", dir.display());
+        let names: Vec<String> = set.names().map(|n| n.display().to_string()).collect();
+        println!("wrote {} to {}", names.join(", "), dir.display());
     }
     Ok(())
 }

@@ -4,11 +4,26 @@ use std::fmt::Write as _;
 
 use super::html::{Block, InputRecord, KeyFigure, Page};
 use super::output::OutputSet;
-use super::svg::{heat_map, line_chart, HeatMap, LineChart, Series};
-use crate::airflow::{AirflowSolution, BedLaw, Container, FlowSpec, SolverSettings};
+use super::svg::{heat_map, line_chart, HeatMap, LineChart, Overlay, Series};
+use crate::airflow::plenum_map::PlenumMap;
+use crate::airflow::{AirflowSolution, BedLaw, Container, FlowSpec, PlenumModel, SolverSettings};
 use crate::units::UnitSystem;
 
 const MEMORY: &str = "writing to memory cannot fail";
+
+/// What the container's plenum model is, in a few words.
+pub fn plenum_model_text(c: &Container) -> String {
+    match c.plenum_model() {
+        PlenumModel::Uniform => "uniform (one pressure under the whole floor)".into(),
+        PlenumModel::Manifold(_) => {
+            "duct (1-D along the length, one pressure across the width)".into()
+        }
+        PlenumModel::TwoD(p) => format!(
+            "2d (depth-averaged flow, {} × {} plenum cells under each column)",
+            p.cells_per_column, p.cells_per_column
+        ),
+    }
+}
 
 /// The printed summary of a solve.
 pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: UnitSystem) -> String {
@@ -37,6 +52,7 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
         g.ny,
         g.nz
     );
+    let _ = writeln!(o, "plenum model: {}", plenum_model_text(c));
     let _ = writeln!(
         o,
         "{source} ({}); into the plenum {} at the plenum air ({}), {} of dry air",
@@ -182,7 +198,10 @@ pub fn airflow_outputs(
         overlays: overlays.clone(),
         notes: vec![note.clone()],
     });
-    let plenum_p = s.plenum_pressure_pa.mapv(|v| u.pressure_value(v));
+    let plenum_p = match &s.plenum_map {
+        Some(m) => m.pressure_pa.mapv(|v| u.pressure_value(v)),
+        None => s.plenum_pressure_pa.mapv(|v| u.pressure_value(v)),
+    };
     let mean_p = finite_mean(plenum_p.iter().copied());
     let plenum = heat_map(&HeatMap {
         values: plenum_p.view(),
@@ -197,7 +216,7 @@ pub fn airflow_outputs(
         range: None,
         min_span: 0.1 * mean_p.abs(),
         marks: None,
-        overlays,
+        overlays: overlays.clone(),
         notes: vec!["the plenum under the floor, seen from above".into()],
     });
     let along = |a: &ndarray::Array2<f64>| -> Vec<(f64, f64)> {
@@ -216,16 +235,13 @@ pub fn airflow_outputs(
         x_unit: u.length_unit().into(),
         y_label: "static pressure".into(),
         y_unit: u.pressure_unit().into(),
-        series: vec![
-            Series {
-                name: "plenum".into(),
-                points: along(&s.plenum_pressure_pa),
-            },
-            Series {
-                name: "bed bottom (above floor)".into(),
+        series: plenum_lines(s, u)
+            .into_iter()
+            .chain([Series {
+                name: "bed bottom (above floor, mean across)".into(),
                 points: along(&s.bottom_pressure_pa),
-            },
-        ],
+            }])
+            .collect(),
         ..LineChart::default()
     });
     let mut set = OutputSet::new();
@@ -234,7 +250,143 @@ pub fn airflow_outputs(
     set.add("top_airflow.svg", top);
     set.add("plenum_pressure.svg", plenum);
     set.add("plenum_profile.svg", profile);
+    if let Some(m) = &s.plenum_map {
+        set.add("plenum_flow.svg", plenum_flow_svg(c, m, u, overlays));
+        set.add("plenum.csv", plenum_csv(m));
+    }
     set
+}
+
+/// The plenum pressure along the length: on the centre line and along both side walls when the plenum model
+/// resolves the width (the 2-D plenum), one line otherwise (the duct and the uniform plenum hold one pressure
+/// across the width).
+fn plenum_lines(s: &AirflowSolution, u: UnitSystem) -> Vec<Series> {
+    let conv = |v: Vec<(f64, f64)>| -> Vec<(f64, f64)> {
+        v.into_iter()
+            .map(|(x, p)| (u.length_value(x), u.pressure_value(p)))
+            .collect()
+    };
+    match &s.plenum_map {
+        Some(m) => vec![
+            Series {
+                name: "plenum, centre line".into(),
+                points: conv(m.pressure_along(0.5)),
+            },
+            Series {
+                name: "plenum, side wall at y = 0".into(),
+                points: conv(m.pressure_along(0.0)),
+            },
+            Series {
+                name: "plenum, side wall at y = width".into(),
+                points: conv(m.pressure_along(1.0)),
+            },
+        ],
+        None => vec![Series {
+            name: "plenum (one pressure across the width)".into(),
+            points: (0..s.grid.nx)
+                .map(|i| {
+                    let p = s.plenum_pressure_pa.row(i).mean().unwrap_or(f64::NAN);
+                    (
+                        u.length_value((i as f64 + 0.5) * s.dx_m),
+                        u.pressure_value(p),
+                    )
+                })
+                .collect(),
+        }],
+    }
+}
+
+/// Most arrows drawn along the length and across the width of a plenum map.
+const ARROWS_ALONG: usize = 32;
+const ARROWS_ACROSS: usize = 12;
+
+/// The plenum's air speed seen from above with arrows for its direction (each arrow the mean velocity of a block
+/// of plenum cells, the longest as long as 0.9 of a block).
+pub fn plenum_flow_svg(
+    c: &Container,
+    m: &PlenumMap,
+    u: UnitSystem,
+    overlays: Vec<Overlay>,
+) -> String {
+    let speed = m.speed_m_per_s();
+    let (nx, ny) = speed.dim();
+    let (sx, sy) = (nx.div_ceil(ARROWS_ALONG), ny.div_ceil(ARROWS_ACROSS));
+    let mut blocks = Vec::new();
+    for bi in (0..nx).step_by(sx) {
+        for bj in (0..ny).step_by(sy) {
+            let (i1, j1) = ((bi + sx).min(nx), (bj + sy).min(ny));
+            let n = ((i1 - bi) * (j1 - bj)) as f64;
+            let mean = |a: &ndarray::Array2<f64>| a.slice(ndarray::s![bi..i1, bj..j1]).sum() / n;
+            let centre = (
+                0.5 * (bi + i1) as f64 * m.dx_m,
+                0.5 * (bj + j1) as f64 * m.dy_m,
+            );
+            blocks.push((centre, mean(&m.u_m_per_s), mean(&m.v_m_per_s)));
+        }
+    }
+    let vmax = blocks.iter().map(|b| b.1.hypot(b.2)).fold(0.0, f64::max);
+    let cell = (sx as f64 * m.dx_m).min(sy as f64 * m.dy_m);
+    let scale = if vmax > 0.0 { 0.9 * cell / vmax } else { 0.0 };
+    let mut all = overlays;
+    all.extend(blocks.iter().map(|&((x, y), bu, bv)| Overlay::Arrow {
+        x_m: x - 0.5 * bu * scale,
+        y_m: y - 0.5 * bv * scale,
+        dx_m: bu * scale,
+        dy_m: bv * scale,
+    }));
+    let speed_u = speed.mapv(|v| u.speed_value(v));
+    let mean = finite_mean(speed_u.iter().copied());
+    heat_map(&HeatMap {
+        values: speed_u.view(),
+        x_extent_m: c.length_m,
+        y_extent_m: c.width_m,
+        units: u,
+        title: format!("{}: air in the plenum", c.name),
+        x_label: "distance from front wall".into(),
+        y_label: "across".into(),
+        quantity: "depth-mean speed".into(),
+        unit: u.speed_unit().into(),
+        range: None,
+        min_span: 0.5 * mean,
+        marks: None,
+        overlays: all,
+        notes: vec![
+            "the plenum under the floor, seen from above (2-D plenum model, speeds averaged over its height)"
+                .into(),
+            format!("the longest arrow stands for {}", u.velocity(vmax)),
+        ],
+    })
+}
+
+/// The plenum field cell by cell: position, velocity, speed and static pressure (SI).
+fn plenum_csv(m: &PlenumMap) -> Vec<u8> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "i",
+        "j",
+        "x_m",
+        "y_m",
+        "u_m_per_s",
+        "v_m_per_s",
+        "speed_m_per_s",
+        "static_pressure_pa",
+    ])
+    .expect(MEMORY);
+    for ((i, j), &p) in m.pressure_pa.indexed_iter() {
+        let (a, b) = (m.u_m_per_s[[i, j]], m.v_m_per_s[[i, j]]);
+        w.write_record([
+            i.to_string(),
+            j.to_string(),
+            format!("{:.4}", (i as f64 + 0.5) * m.dx_m),
+            format!("{:.4}", (j as f64 + 0.5) * m.dy_m),
+            format!("{a:.4}"),
+            format!("{b:.4}"),
+            format!("{:.4}", a.hypot(b)),
+            format!("{p:.3}"),
+        ])
+        .expect(MEMORY);
+    }
+    w.into_inner().expect(MEMORY)
 }
 
 fn finite_mean(v: impl Iterator<Item = f64>) -> f64 {
@@ -299,7 +451,13 @@ pub fn airflow_page(
             pic("top_airflow.svg", "Air leaving the top surface"),
             pic("plenum_pressure.svg", "Static pressure in the plenum"),
             pic("plenum_profile.svg", "Pressure along the length"),
-        ],
+        ]
+        .into_iter()
+        .chain(
+            set.has("plenum_flow.svg")
+                .then(|| pic("plenum_flow.svg", "Air in the plenum: speed and direction")),
+        )
+        .collect(),
         summary: Some(printed),
         inputs,
         cautions: crate::report::load::CAUTIONS.into(),

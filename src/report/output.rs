@@ -128,6 +128,11 @@ impl OutputSet {
         self.files.get(name.as_ref()).map(Vec::as_slice)
     }
 
+    /// Whether the set holds a file of this name.
+    pub fn has(&self, name: impl AsRef<Path>) -> bool {
+        self.get(name).is_some()
+    }
+
     /// The file named `name` as text (empty if the set lacks it or it is not UTF-8): for a report that shows
     /// the set's own pictures.
     pub fn text(&self, name: impl AsRef<Path>) -> &str {

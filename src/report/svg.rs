@@ -160,6 +160,17 @@ pub enum Overlay {
         /// Permeability multiplier.
         multiplier: f64,
     },
+    /// A flow arrow from (`x_m`, `y_m`) to (`x_m + dx_m`, `y_m + dy_m`), with its head at the end.
+    Arrow {
+        /// Tail along the horizontal axis, m.
+        x_m: f64,
+        /// Tail along the vertical axis, m.
+        y_m: f64,
+        /// Length along the horizontal axis, m.
+        dx_m: f64,
+        /// Length along the vertical axis, m.
+        dy_m: f64,
+    },
 }
 
 /// Colour of the inlet bar (not on the ramp).
@@ -389,6 +400,12 @@ fn heat_legend(m: &HeatMap<'_>, lo: f64, hi: f64) -> Vec<String> {
     {
         l.push("dashed outline: a block of the bed with its own permeability (× the bed's)".into());
     }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::Arrow { .. }))
+    {
+        l.push("arrows: the direction of the air, their length in proportion to its speed".into());
+    }
     l.extend(m.notes.iter().cloned());
     l
 }
@@ -449,7 +466,39 @@ fn overlay_svg(s: &mut String, f: &Frame, o: &Overlay) {
                 );
             }
         }
+        Overlay::Arrow {
+            x_m,
+            y_m,
+            dx_m,
+            dy_m,
+        } => arrow_svg(s, f, (x_m, y_m), (dx_m, dy_m)),
     }
+}
+
+/// A black arrow with a white halo, so it reads on every colour of the ramp; arrows shorter than 2 px are left out.
+fn arrow_svg(s: &mut String, f: &Frame, tail: (f64, f64), d: (f64, f64)) {
+    let (x0, y0) = (f.left + tail.0 * f.sx, f.top + f.h - tail.1 * f.sy);
+    let (dx, dy) = (d.0 * f.sx, -d.1 * f.sy);
+    let len = dx.hypot(dy);
+    if !(len >= 2.0) {
+        return;
+    }
+    let (x1, y1) = (x0 + dx, y0 + dy);
+    let (ux, uy) = (dx / len, dy / len);
+    let head = (0.35 * len).min(6.0);
+    let (bx, by) = (x1 - head * ux, y1 - head * uy);
+    let (px, py) = (-uy * 0.5 * head, ux * 0.5 * head);
+    let path = format!(
+        "M{x0:.2},{y0:.2} L{x1:.2},{y1:.2} M{:.2},{:.2} L{x1:.2},{y1:.2} L{:.2},{:.2}",
+        bx + px,
+        by + py,
+        bx - px,
+        by - py
+    );
+    let _ = writeln!(
+        s,
+        r#"<path d="{path}" fill="none" stroke="white" stroke-width="3" stroke-linecap="round"/><path d="{path}" fill="none" stroke="black" stroke-width="1.2" stroke-linecap="round"/>"#
+    );
 }
 
 fn colour_bar(s: &mut String, bar_x: f64, top: f64, plot_h: f64, lo: f64, hi: f64) {
