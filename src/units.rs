@@ -417,6 +417,20 @@ impl UnitSystem {
             UnitSystem::Us => "in. water",
         }
     }
+    /// A volumetric flow as a number in this system (m³/min, or cfm).
+    pub fn flow_value(self, q_m3_per_s: f64) -> f64 {
+        match self {
+            UnitSystem::Si => q_m3_per_s * 60.0,
+            UnitSystem::Us => m3s_to_cfm(q_m3_per_s),
+        }
+    }
+    /// The volumetric flow unit.
+    pub fn flow_unit(self) -> &'static str {
+        match self {
+            UnitSystem::Si => "m³/min",
+            UnitSystem::Us => "cfm",
+        }
+    }
 }
 
 #[cfg(test)]

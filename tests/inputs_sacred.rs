@@ -93,6 +93,20 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
             ),
         ),
         (
+            "design",
+            vec![
+                "design".into(),
+                "--scenario".into(),
+                p("scenario.json"),
+                "--variants".into(),
+                format!(
+                    "scenario; container={},fan={}",
+                    p("container.json"),
+                    p("fan.json")
+                ),
+            ],
+        ),
+        (
             "airflow",
             vec![
                 "airflow".into(),
@@ -239,6 +253,22 @@ fn no_command_writes_over_what_it_reads() {
         .unwrap();
     refused(&fit, &d.join("survey.csv"), "airflow fit --out survey.csv");
     assert_eq!(bytes(&d), before, "airflow fit: inputs unchanged");
+    // `design` reads the files its variants name: the variant's container as the output folder.
+    let (_, design) = commands(&d)
+        .into_iter()
+        .find(|(n, _)| *n == "design")
+        .unwrap();
+    refused(
+        &design,
+        &d.join("container.json"),
+        "design --out container.json",
+    );
+    refused(
+        &design,
+        &d.join("fan.json/out"),
+        "design --out fan.json/out",
+    );
+    assert_eq!(bytes(&d), before, "design: inputs unchanged");
     // `weather summary --out FILE` writes files, not a folder: the weather file, directly and by link and `..`.
     let summary = |out: PathBuf| {
         let args = vec![

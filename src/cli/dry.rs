@@ -111,7 +111,7 @@ impl RunObserver for Progress {
 }
 
 /// The scenario with the command line's overrides; the heater's safety warning when `--force` let it run.
-fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<SafetyWarning>)> {
+pub(super) fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<SafetyWarning>)> {
     let (mut sc, warning) = Scenario::read(&opts.scenario, opts.force)?;
     let spec = &mut sc.spec;
     if let Some(pct) = opts.initial_pct {
@@ -140,14 +140,14 @@ fn setup(opts: &LoadOptions) -> anyhow::Result<(Scenario, Option<SafetyWarning>)
     Ok((sc, warning))
 }
 
-fn warn(warning: &Option<SafetyWarning>) {
+pub(super) fn warn(warning: &Option<SafetyWarning>) {
     if let Some(w) = warning {
         eprintln!("dryfront: warning: {w} (running because of --force)");
     }
 }
 
 /// Refuse early an output folder that is, holds or lies inside an input, or holds foreign files.
-fn check_out(opts: &LoadOptions, sc: &Scenario) -> anyhow::Result<()> {
+pub(super) fn check_out(opts: &LoadOptions, sc: &Scenario) -> anyhow::Result<()> {
     if let Some(dir) = &opts.out {
         check_target(dir, &sc.inputs, opts.replace)?;
     }
@@ -155,7 +155,7 @@ fn check_out(opts: &LoadOptions, sc: &Scenario) -> anyhow::Result<()> {
 }
 
 /// Write a command's set into `--out` (when given) and say so with `said(dir)`.
-fn commit(
+pub(super) fn commit(
     opts: &LoadOptions,
     sc: &Scenario,
     set: &OutputSet,

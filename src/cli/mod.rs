@@ -6,6 +6,7 @@ pub mod airflow_fit;
 pub mod board;
 pub mod calibrate;
 pub mod demo;
+pub mod design;
 pub mod dry;
 pub mod progress;
 pub mod props;
@@ -50,6 +51,9 @@ pub enum Command {
     Compare(dry::CompareArgs),
     /// Run one load from several start times through the weather record.
     Starts(dry::StartsArgs),
+    /// Run one load on several containers, fans, plenum models or fill depths side by side: airflow evenness,
+    /// hours to the whole load, over-dried and still-wet mass, fuel and fan energy.
+    Design(design::DesignArgs),
     /// Solve the airflow through a loaded container (plenum, floor, bed and fan together); `airflow fit` fits its
     /// permeability map to a top-surface airflow survey.
     Airflow(airflow::AirflowArgs),
@@ -101,6 +105,7 @@ fn run_command(args: Args) -> anyhow::Result<()> {
         Command::Dry(a) => dry::run_dry(a),
         Command::Compare(a) => dry::run_compare(a),
         Command::Starts(a) => dry::run_starts(a),
+        Command::Design(a) => design::run(a),
         Command::Calibrate(a) => calibrate::run(a),
         Command::Season(c) => season::run(c),
         Command::Status(a) => status::run(a),

@@ -4,6 +4,7 @@
 //! scenario file; `season` loads what a buying point's dryers name; `survey` reads a top-surface airflow survey.
 
 pub mod board;
+pub mod design;
 pub mod limits;
 pub mod read;
 pub mod samples;

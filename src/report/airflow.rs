@@ -251,7 +251,7 @@ pub fn airflow_outputs(
     set.add("plenum_pressure.svg", plenum);
     set.add("plenum_profile.svg", profile);
     if let Some(m) = &s.plenum_map {
-        set.add("plenum_flow.svg", plenum_flow_svg(c, m, u, overlays));
+        set.add("plenum_flow.svg", plenum_flow_svg(c, m, u, overlays, None));
         set.add("plenum.csv", plenum_csv(m));
     }
     set
@@ -301,12 +301,14 @@ const ARROWS_ALONG: usize = 32;
 const ARROWS_ACROSS: usize = 12;
 
 /// The plenum's air speed seen from above with arrows for its direction (each arrow the mean velocity of a block
-/// of plenum cells, the longest as long as 0.9 of a block).
+/// of plenum cells, the longest as long as 0.9 of a block). `range` fixes the colour scale (in the report's speed
+/// unit) for maps read against each other.
 pub fn plenum_flow_svg(
     c: &Container,
     m: &PlenumMap,
     u: UnitSystem,
     overlays: Vec<Overlay>,
+    range: Option<(f64, f64)>,
 ) -> String {
     let speed = m.speed_m_per_s();
     let (nx, ny) = speed.dim();
@@ -346,7 +348,7 @@ pub fn plenum_flow_svg(
         y_label: "across".into(),
         quantity: "depth-mean speed".into(),
         unit: u.speed_unit().into(),
-        range: None,
+        range,
         min_span: 0.5 * mean,
         marks: None,
         overlays: all,

@@ -64,6 +64,9 @@ pub enum Block {
         /// Whether to offer zoom.
         zoom: bool,
     },
+    /// Pictures side by side (as many to a row as the page's width holds), each with its caption: for pictures
+    /// read against each other on one scale.
+    Gallery(Vec<(String, String)>),
     /// A table.
     Table(Table),
     /// Preformatted text (the terminal summary as printed).
@@ -137,7 +140,8 @@ figcaption{font-size:.9em;color:#444;max-width:70em}.zoombox{overflow:auto;max-h
 td,th{border:1px solid #ccc;padding:.2em .5em;text-align:right}th{background:#f0f0f0}\
 td:first-child,th:first-child{text-align:left}caption{text-align:left;font-weight:bold;padding:.3em 0}\
 pre{background:#f7f7f7;padding:.8em;overflow:auto;font-size:.85em}.hash{font-family:monospace;font-size:.85em}\
-.caution{border-left:4px solid #b2182b;padding:.4em .9em;background:#fbf3f3}";
+.caution{border-left:4px solid #b2182b;padding:.4em .9em;background:#fbf3f3}\
+.gallery{display:grid;grid-template-columns:repeat(auto-fill,minmax(560px,1fr));gap:.8em}.gallery figure{margin:.4em 0}";
 
 /// Zoom for wide pictures: buttons set the picture's width to the frame, or to 1, 2 or 4 times its drawn size.
 const ZOOM_JS: &str = "document.querySelectorAll('.zoomfig').forEach(function(f){var s=f.querySelector('svg');\
@@ -252,6 +256,15 @@ fn block_html(h: &mut String, b: &Block) {
                 h.push_str(svg);
             }
             let _ = writeln!(h, "<figcaption>{}</figcaption></figure>", esc(caption));
+        }
+        Block::Gallery(pics) => {
+            h.push_str("<div class=\"gallery\">");
+            for (svg, caption) in pics {
+                h.push_str("<figure>");
+                h.push_str(svg);
+                let _ = write!(h, "<figcaption>{}</figcaption></figure>", esc(caption));
+            }
+            h.push_str("</div>\n");
         }
         Block::Table(t) => table_html(h, t),
     }

@@ -838,10 +838,10 @@ pub fn strategy_folder(label: &str) -> String {
 }
 
 /// The mean kernel moisture of every compared run on one chart, one colour each, target as a line.
-pub fn compare_curves_svg(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
+pub fn compare_curves_svg(spec: &LoadSpec, rows: &[CompareRow<'_>], by: &str) -> String {
     let target = spec.run.target_kernel_wb * 100.0;
     line_chart(&LineChart {
-        title: format!("{}: mean kernel moisture by heater strategy", spec.name),
+        title: format!("{}: mean kernel moisture by {by}", spec.name),
         x_label: "time on air".into(),
         x_unit: "h".into(),
         y_label: "mean kernel moisture".into(),
@@ -972,7 +972,7 @@ pub fn compare_page(
     let mut body = vec![
         Block::Heading("Pictures".into()),
         Block::Picture {
-            svg: compare_curves_svg(spec, rows),
+            svg: compare_curves_svg(spec, rows, "heater strategy"),
             caption: "Mean kernel moisture of every strategy (same load, weather and fan)".into(),
             zoom: false,
         },

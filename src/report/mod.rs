@@ -4,6 +4,7 @@ pub mod airflow;
 pub mod airflow_fit;
 pub mod board;
 pub mod calibrate;
+pub mod design;
 pub mod gantt;
 pub mod html;
 pub mod load;
