@@ -317,6 +317,38 @@ fn every_report_opens_cleanly_in_chromium() {
             3,
         ),
         (
+            "airflow-2d",
+            vec![
+                "airflow",
+                "--container",
+                "trailer-6m",
+                "--fan",
+                "vane-trailer",
+                "--plenum",
+                "2d",
+                "--nx",
+                "8",
+                "--ny",
+                "4",
+                "--nz",
+                "4",
+            ],
+            4,
+        ),
+        (
+            "design",
+            vec![
+                "design",
+                "--scenario",
+                sc,
+                "--stop",
+                "hours=6",
+                "--variants",
+                "scenario;plenum=uniform;depth=1.0",
+            ],
+            10,
+        ),
+        (
             "season-run",
             vec![
                 "season",

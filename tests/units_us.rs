@@ -198,6 +198,55 @@ fn compare_and_starts_in_us_units() {
 }
 
 #[test]
+fn design_in_us_units() {
+    // Depths on the command line are feet under --units us: 4 ft = 1.2192 m asks for the same run.
+    // The table's units sit in its headings (none SI under US, same shape: `both`); its SI file, design.csv, is
+    // the same for both runs but for the variant's own words.
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("si"), dir.path().join("us"));
+    let (a_s, b_s) = (a.to_str().unwrap(), b.to_str().unwrap());
+    let si = run(
+        &[
+            &["design"],
+            SMALL,
+            &["--variants", "scenario;depth=1.2192", "--out", a_s],
+        ]
+        .concat(),
+        dir.path(),
+    );
+    let us = run(
+        &[
+            &["design"],
+            SMALL,
+            &[
+                "--variants",
+                "scenario;depth=4",
+                "--units",
+                "us",
+                "--out",
+                b_s,
+            ],
+        ]
+        .concat(),
+        dir.path(),
+    );
+    check_pair("design", &si.replace(a_s, "X"), &us.replace(b_s, "X"));
+    assert!(
+        us.contains("bed air (cfm)") && us.contains("lb d.m."),
+        "{us}"
+    );
+    let csv = |p: &std::path::Path| {
+        std::fs::read_to_string(p.join("design.csv"))
+            .unwrap()
+            .replace("depth=1.2192", "V")
+            .replace("depth_1.2192", "V")
+            .replace("depth=4", "V")
+            .replace("depth_4", "V")
+    };
+    assert_eq!(csv(&a), csv(&b));
+}
+
+#[test]
 fn airflow_and_props_in_us_units() {
     let airflow = [
         "airflow",
@@ -215,6 +264,23 @@ fn airflow_and_props_in_us_units() {
         "8",
     ];
     assert!(both("airflow", &airflow, &airflow) >= 12);
+    // The 2-D plenum's outputs name their speeds too (coarse grid, fixed flow: a quick solve).
+    let two_d = [
+        "airflow",
+        "--container",
+        "trailer-6m",
+        "--flow-m3-min",
+        "200",
+        "--plenum",
+        "2d",
+        "--nx",
+        "8",
+        "--ny",
+        "4",
+        "--nz",
+        "4",
+    ];
+    assert!(both("airflow 2d", &two_d, &two_d) >= 12);
     // Temperatures given to props are °F under --units us: 86 °F = 30 °C, a 14.4 °F rise = 8 K.
     both(
         "props emc",
