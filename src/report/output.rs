@@ -36,9 +36,17 @@ pub enum OutputError {
         /// The input as given.
         input: PathBuf,
     },
-    /// The target folder holds one of the run's input files, or lies inside one.
+    /// The target folder holds one of the run's input files.
     #[error("refusing to write {}: the input file {} is inside it", .target.display(), .input.display())]
     HoldsInput {
+        /// The output as given.
+        target: PathBuf,
+        /// The input as given.
+        input: PathBuf,
+    },
+    /// The target lies inside (below) one of the run's input files.
+    #[error("refusing to write {}: it lies inside the input file {}", .target.display(), .input.display())]
+    InsideInput {
         /// The output as given.
         target: PathBuf,
         /// The input as given.
@@ -383,8 +391,11 @@ fn check_inputs(target: &Path, inputs: &[PathBuf]) -> Result<(), OutputError> {
         if i == t {
             return Err(OutputError::IsInput { target, input });
         }
-        if i.starts_with(&t) || t.starts_with(&i) {
+        if i.starts_with(&t) {
             return Err(OutputError::HoldsInput { target, input });
+        }
+        if t.starts_with(&i) {
+            return Err(OutputError::InsideInput { target, input });
         }
     }
     Ok(())
@@ -496,6 +507,13 @@ mod tests {
             let err = s.commit(&target, &inputs, true).unwrap_err();
             assert!(matches!(err, OutputError::HoldsInput { .. }), "{err}");
         }
+        let below = input.join("out");
+        let err = s.commit(&below, &inputs, true).unwrap_err();
+        assert!(matches!(err, OutputError::InsideInput { .. }), "{err}");
+        assert!(
+            err.to_string().contains("lies inside the input file"),
+            "{err}"
+        );
         let err = s.commit_files(
             dir.path().join("in").as_path(),
             &[dir.path().join("in/a.csv")],
