@@ -56,7 +56,7 @@ fn main() {
     };
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
     let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("weather");
-    let (container, _) = read_container("wagon-4m", "container").expect("container");
+    let (container, _) = read_container(None, "wagon-4m", "container").expect("container");
     let case = WagonCase::published(container, Arc::new(weather));
     let tz = FixedOffset::west_opt(5 * 3600).unwrap();
     let starts: Vec<_> = (0..10)

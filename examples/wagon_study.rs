@@ -68,7 +68,7 @@ fn main() {
     };
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
     let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("weather");
-    let (container, _) = read_container("wagon-4m", "container").expect("container");
+    let (container, _) = read_container(None, "wagon-4m", "container").expect("container");
     let case = WagonCase::published(container, Arc::new(weather));
     let tz = FixedOffset::west_opt(5 * 3600).unwrap();
     let day0 = tz.with_ymd_and_hms(2026, 9, 1, 15, 0, 0).unwrap();

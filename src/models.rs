@@ -39,6 +39,45 @@ pub fn resolve(kind: &str, name: &str, what: &str) -> Result<PathBuf, InputError
     resolve_in(None, kind, name, what)
 }
 
+/// As [`resolve`], for a name written inside the file `referrer`: a path is taken from beside that file first
+/// (see [`beside`]), as every file a file names is.
+pub fn resolve_named_by(
+    referrer: Option<&Path>,
+    kind: &str,
+    name: &str,
+    what: &str,
+) -> Result<PathBuf, InputError> {
+    match referrer {
+        Some(r) if is_path(name) => Ok(beside(r, name)),
+        _ => resolve(kind, name, what),
+    }
+}
+
+/// A name is a path (not a bundled name) when it ends in `.json` or has more than one component.
+fn is_path(name: &str) -> bool {
+    name.ends_with(".json") || Path::new(name).components().count() > 1
+}
+
+/// A file that the file `referrer` names: beside that file, else as given (from the working folder), else in the
+/// source tree.
+pub fn beside(referrer: &Path, name: &str) -> PathBuf {
+    let rel = PathBuf::from(name);
+    if rel.is_absolute() {
+        return rel;
+    }
+    if let Some(b) = referrer.parent().map(|d| d.join(&rel)) {
+        if b.is_file() {
+            return b;
+        }
+    }
+    let in_tree = Path::new(env!("CARGO_MANIFEST_DIR")).join(&rel);
+    if !rel.is_file() && in_tree.is_file() {
+        in_tree
+    } else {
+        rel
+    }
+}
+
 /// As [`resolve`], looking first in `models/<kind>` of the folder `dir` (a command's `--models`) when given.
 pub fn resolve_in(
     dir: Option<&Path>,
@@ -46,9 +85,8 @@ pub fn resolve_in(
     name: &str,
     what: &str,
 ) -> Result<PathBuf, InputError> {
-    let as_path = Path::new(name);
-    if name.ends_with(".json") || as_path.components().count() > 1 {
-        return Ok(as_path.to_path_buf());
+    if is_path(name) {
+        return Ok(PathBuf::from(name));
     }
     let first = dir.map(|d| d.join(kind));
     for dir in first.into_iter().chain(search_dirs(kind)) {

@@ -24,7 +24,7 @@ fn case() -> WagonCase {
     };
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
     let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("bundled TMY3");
-    let (container, _) = read_container("wagon-4m", "container").expect("bundled wagon");
+    let (container, _) = read_container(None, "wagon-4m", "container").expect("bundled wagon");
     WagonCase::published(container, Arc::new(weather))
 }
 

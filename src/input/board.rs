@@ -27,7 +27,6 @@ use std::sync::Arc;
 use chrono::{DateTime, FixedOffset};
 use serde::Deserialize;
 
-use super::scenario::weather_path;
 use super::season::{read_buying_point, season_template, SeasonRunSettings};
 use super::status::{reading, time_field, ReadingFile};
 use super::{check_field, field_err, parse_json, with_json_line};
@@ -35,6 +34,7 @@ use crate::board::OnDryer;
 use crate::drying::run::StopRule;
 use crate::error::InputError;
 use crate::input::read_text;
+use crate::models::beside;
 use crate::season::arrivals::Load;
 use crate::season::dispatch::DispatchPolicy;
 use crate::season::drier::LoadTemplate;
@@ -141,10 +141,10 @@ pub fn read_board(path: &Path) -> Result<BoardInput, InputError> {
 
 fn from_file(p: &Path, file: BoardFile) -> Result<BoardInput, InputError> {
     let wrap = |field: String| move |e: InputError| field_err(p, field, e.to_string());
-    let bp_path = weather_path(p, &file.buying_point);
+    let bp_path = beside(p, &file.buying_point);
     let bp = read_buying_point(&bp_path).map_err(wrap("buying_point".into()))?;
     let read_weather = |field: &str, name: &str| {
-        let wp = weather_path(p, name);
+        let wp = beside(p, name);
         crate::weather::read(&wp, None, &ReadOptions::default())
             .map(|(w, _)| (w, wp))
             .map_err(wrap(field.into()))

@@ -117,14 +117,14 @@ pub fn apply(base: &LoadSpec, v: &Variant) -> Result<(LoadSpec, Vec<PathBuf>), I
     };
     let mut container = match &v.container {
         Some(name) => {
-            let (c, p) = read_container(name, "container").map_err(wrap("container"))?;
+            let (c, p) = read_container(None, name, "container").map_err(wrap("container"))?;
             read.push(p);
             c
         }
         None => (*base.container).clone(),
     };
     if let Some(name) = &v.fan {
-        let (f, p) = read_fan(name, "fan").map_err(wrap("fan"))?;
+        let (f, p) = read_fan(None, name, "fan").map_err(wrap("fan"))?;
         read.push(p);
         spec.flow = FlowSpec::Fan(f);
     }

@@ -20,7 +20,7 @@ use crate::drying::run::{RunSettings, StopRule};
 use crate::error::InputError;
 use crate::input::read_text;
 use crate::load::{checked_heater, AirflowUpdates, FillSpec, LoadSpec, Prices};
-use crate::models::resolve;
+use crate::models::{beside, resolve_named_by};
 use crate::weather::series::ReadOptions;
 
 /// The scenario file as written.
@@ -168,21 +168,33 @@ pub struct Scenario {
     pub inputs: Vec<PathBuf>,
 }
 
-/// Read a container by bundled name or path.
-pub fn read_container(name: &str, what: &str) -> Result<(Container, PathBuf), InputError> {
-    let p = resolve("containers", name, what)?;
+/// Read a container by bundled name or path; a path written in the file `from` is taken from beside it.
+pub fn read_container(
+    from: Option<&Path>,
+    name: &str,
+    what: &str,
+) -> Result<(Container, PathBuf), InputError> {
+    let p = resolve_named_by(from, "containers", name, what)?;
     Ok((Container::from_json_str(&read_text(&p)?, &p)?, p))
 }
 
-/// Read a fan curve by bundled name or path.
-pub fn read_fan(name: &str, what: &str) -> Result<(FanCurve, PathBuf), InputError> {
-    let p = resolve("fans", name, what)?;
+/// Read a fan curve by bundled name or path (a path written in `from` taken from beside it).
+pub fn read_fan(
+    from: Option<&Path>,
+    name: &str,
+    what: &str,
+) -> Result<(FanCurve, PathBuf), InputError> {
+    let p = resolve_named_by(from, "fans", name, what)?;
     Ok((FanCurve::from_json_str(&read_text(&p)?, &p)?, p))
 }
 
-/// Read a crop by bundled name or path.
-pub fn read_crop(name: &str, what: &str) -> Result<(Crop, PathBuf), InputError> {
-    let p = resolve("crops", name, what)?;
+/// Read a crop by bundled name or path (a path written in `from` taken from beside it).
+pub fn read_crop(
+    from: Option<&Path>,
+    name: &str,
+    what: &str,
+) -> Result<(Crop, PathBuf), InputError> {
+    let p = resolve_named_by(from, "crops", name, what)?;
     Ok((Crop::from_json_str(&read_text(&p)?, &p)?, p))
 }
 
@@ -199,25 +211,6 @@ pub fn fuel_named(path: &Path, field: &str, name: &str) -> Result<Fuel, InputErr
     }
 }
 
-/// A file a scenario (or status file) names: beside that file, else as given, else in the source tree.
-pub(crate) fn weather_path(scenario: &Path, name: &str) -> PathBuf {
-    let rel = PathBuf::from(name);
-    if rel.is_absolute() {
-        return rel;
-    }
-    if let Some(b) = scenario.parent().map(|d| d.join(&rel)) {
-        if b.is_file() {
-            return b;
-        }
-    }
-    let in_tree = Path::new(env!("CARGO_MANIFEST_DIR")).join(&rel);
-    if !rel.is_file() && in_tree.is_file() {
-        in_tree
-    } else {
-        rel
-    }
-}
-
 impl Scenario {
     /// Read and check a scenario file (a bundled scenario name or a path). `force` lets a heater above the crop's
     /// safe limits run (its warning is returned).
@@ -225,7 +218,16 @@ impl Scenario {
         name_or_path: &str,
         force: bool,
     ) -> Result<(Self, Option<SafetyWarning>), InputError> {
-        let path = resolve("scenarios", name_or_path, "--scenario")?;
+        Self::read_named_by(None, name_or_path, force)
+    }
+
+    /// As [`Scenario::read`], for a scenario named inside the file `from` (a path is taken from beside it).
+    pub fn read_named_by(
+        from: Option<&Path>,
+        name_or_path: &str,
+        force: bool,
+    ) -> Result<(Self, Option<SafetyWarning>), InputError> {
+        let path = resolve_named_by(from, "scenarios", name_or_path, "--scenario")?;
         let text = read_text(&path)?;
         let file: ScenarioFile = parse_json(&path, &text)?;
         Self::from_file(path.clone(), file, force).map_err(|e| with_json_line(e, &path, &text))
@@ -239,13 +241,13 @@ impl Scenario {
     ) -> Result<(Self, Option<SafetyWarning>), InputError> {
         let p = path.as_path();
         let wrap = |field: &'static str| move |e: InputError| field_err(p, field, e.to_string());
-        let (crop, crop_path) = read_crop(&file.crop, "crop").map_err(wrap("crop"))?;
+        let (crop, crop_path) = read_crop(Some(p), &file.crop, "crop").map_err(wrap("crop"))?;
         let (container, container_path) =
-            read_container(&file.container, "container").map_err(wrap("container"))?;
+            read_container(Some(p), &file.container, "container").map_err(wrap("container"))?;
         let mut inputs = vec![path.clone(), crop_path, container_path];
         let flow = match (&file.fan, file.flow_m3_per_min) {
             (Some(f), None) => {
-                let (fan, fan_path) = read_fan(f, "fan").map_err(wrap("fan"))?;
+                let (fan, fan_path) = read_fan(Some(p), f, "fan").map_err(wrap("fan"))?;
                 inputs.push(fan_path);
                 FlowSpec::Fan(fan)
             }
@@ -265,7 +267,7 @@ impl Scenario {
             fan: check_field(p, "fan_efficiency", file.fan_efficiency, 0.1, 0.95, "")?,
             motor: check_field(p, "motor_efficiency", file.motor_efficiency, 0.3, 1.0, "")?,
         };
-        let wpath = weather_path(p, &file.weather);
+        let wpath = beside(p, &file.weather);
         let (weather, _) =
             crate::weather::read(&wpath, None, &ReadOptions::default()).map_err(wrap("weather"))?;
         inputs.push(wpath);

@@ -78,7 +78,7 @@ pub fn season_template(
     weather: Arc<WeatherSeries>,
     settings: &SeasonRunSettings,
 ) -> Result<(LoadTemplate, Vec<PathBuf>), InputError> {
-    let (crop, crop_path) = read_crop(crop, "--crop")?;
+    let (crop, crop_path) = read_crop(None, crop, "--crop")?;
     let mut inputs = vec![crop_path];
     let mut containers = BTreeMap::new();
     let mut fans = BTreeMap::new();
@@ -88,12 +88,13 @@ pub fn season_template(
             move |e: InputError| field_err(bp_path, field, e.to_string())
         };
         if !containers.contains_key(&d.container) {
-            let (c, p) = read_container(&d.container, "container").map_err(named("container"))?;
+            let (c, p) = read_container(Some(bp_path), &d.container, "container")
+                .map_err(named("container"))?;
             containers.insert(d.container.clone(), Arc::new(c));
             inputs.push(p);
         }
         if !fans.contains_key(&d.fan) {
-            let (f, p) = read_fan(&d.fan, "fan").map_err(named("fan"))?;
+            let (f, p) = read_fan(Some(bp_path), &d.fan, "fan").map_err(named("fan"))?;
             fans.insert(d.fan.clone(), FlowSpec::Fan(f));
             inputs.push(p);
         }

@@ -30,13 +30,14 @@ use std::path::{Path, PathBuf};
 use chrono::{DateTime, FixedOffset};
 use serde::Deserialize;
 
-use super::scenario::{weather_path, GridFile, Scenario};
+use super::scenario::{GridFile, Scenario};
 use super::{check_field, field_err, parse_json, with_json_line};
 use crate::airflow::geometry::Grid;
 use crate::drying::bed::InitialMoisture;
 use crate::error::InputError;
 use crate::input::read_text;
 use crate::load::FillSpec;
+use crate::models::beside;
 use crate::status::{LoadStatus, Part, Place, PlenumReading, Reading};
 use crate::weather::ensemble::join;
 use crate::weather::series::ReadOptions;
@@ -150,12 +151,13 @@ pub fn read_status(path: &Path) -> Result<StatusInput, InputError> {
 
 fn from_file(p: &Path, file: StatusFile) -> Result<StatusInput, InputError> {
     let wrap = |field: &'static str| move |e: InputError| field_err(p, field, e.to_string());
-    let (sc, _) = Scenario::read(&file.scenario, false).map_err(wrap("scenario"))?;
+    let (sc, _) =
+        Scenario::read_named_by(Some(p), &file.scenario, false).map_err(wrap("scenario"))?;
     let mut spec = sc.spec;
     let mut inputs = vec![p.to_path_buf()];
     inputs.extend(sc.inputs);
     let read_weather = |field: &'static str, name: &str| {
-        let wp = weather_path(p, name);
+        let wp = beside(p, name);
         crate::weather::read(&wp, None, &ReadOptions::default())
             .map(|(w, _)| (w, wp))
             .map_err(wrap(field))
