@@ -32,7 +32,8 @@ pub struct ScenarioFile {
     /// What the scenario is.
     #[serde(default)]
     pub description: String,
-    /// Crop model (bundled name or path).
+    /// Crop model (bundled name or path; a relative path is taken from the scenario file's folder, then the
+    /// working directory, as for every file named here).
     pub crop: String,
     /// Container (bundled name or path).
     pub container: String,
