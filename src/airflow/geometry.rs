@@ -170,7 +170,7 @@ impl PlenumChoice {
         };
         Some(
             if std::mem::discriminant(self) == std::mem::discriminant(&wanted) {
-                self.clone()
+                *self
             } else {
                 wanted
             },

@@ -48,7 +48,7 @@ pub fn parse_variants(text: &str, units: UnitSystem) -> Result<Vec<Variant>, Inp
     if list.len() < 2 || list.len() > MAX_VARIANTS {
         return Err(bad(
             text,
-            &format!("give 2 to {MAX_VARIANTS} variants separated by ';'"),
+            format!("give 2 to {MAX_VARIANTS} variants separated by ';'"),
         ));
     }
     for (k, v) in list.iter().enumerate() {

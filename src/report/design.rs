@@ -143,7 +143,7 @@ fn cell(f: &Figure, r: &LoadResult, best: Option<f64>) -> (String, bool) {
 
 /// The side-by-side table as printed; `*` marks the best of each column.
 pub fn design_table(spec: &LoadSpec, rows: &[CompareRow<'_>], u: UnitSystem) -> String {
-    let figs = figures(u, &spec.heater.fuel.unit, spec.run.fraction * 100.0);
+    let figs = figures(u, spec.heater.fuel.unit, spec.run.fraction * 100.0);
     let w0 = rows
         .iter()
         .map(|r| r.label.chars().count())
@@ -185,7 +185,7 @@ pub fn design_table(spec: &LoadSpec, rows: &[CompareRow<'_>], u: UnitSystem) -> 
 pub fn design_csv(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
     let figs = figures(
         UnitSystem::Si,
-        &spec.heater.fuel.unit,
+        spec.heater.fuel.unit,
         spec.run.fraction * 100.0,
     );
     let mut w = csv::Writer::from_writer(Vec::new());
@@ -256,7 +256,7 @@ fn gallery(set: &OutputSet, rows: &[CompareRow<'_>], name: &str) -> Option<Block
 }
 
 fn html_table(spec: &LoadSpec, rows: &[CompareRow<'_>], u: UnitSystem) -> Table {
-    let figs = figures(u, &spec.heater.fuel.unit, spec.run.fraction * 100.0);
+    let figs = figures(u, spec.heater.fuel.unit, spec.run.fraction * 100.0);
     Table {
         caption:
             "Variants side by side (★ = best in its column; fuel and fan energy to the stop rule)"
@@ -335,8 +335,8 @@ pub fn design_page(
             format!(
                 "{}: {:.1} {}",
                 b.label,
-                u.fuel_per_mass_value(f, &spec.heater.fuel.unit),
-                u.fuel_per_mass_unit(&spec.heater.fuel.unit)
+                u.fuel_per_mass_value(f, spec.heater.fuel.unit),
+                u.fuel_per_mass_unit(spec.heater.fuel.unit)
             ),
             "per tonne loaded, to the stop rule",
         ));

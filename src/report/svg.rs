@@ -480,7 +480,7 @@ fn arrow_svg(s: &mut String, f: &Frame, tail: (f64, f64), d: (f64, f64)) {
     let (x0, y0) = (f.left + tail.0 * f.sx, f.top + f.h - tail.1 * f.sy);
     let (dx, dy) = (d.0 * f.sx, -d.1 * f.sy);
     let len = dx.hypot(dy);
-    if !(len >= 2.0) {
+    if len.is_nan() || len < 2.0 {
         return;
     }
     let (x1, y1) = (x0 + dx, y0 + dy);
