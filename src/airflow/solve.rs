@@ -254,7 +254,7 @@ pub fn solve_from(
 ) -> Result<AirflowSolution, AirflowError> {
     check_law(law)?;
     let disc = container.discretize(settings.grid)?;
-    let mut plenum = build(&settings.plenum, container, disc.grid);
+    let mut plenum = build(&settings.plenum, container, disc.grid)?;
     solve_with_plenum_from(
         container,
         &disc,
@@ -413,6 +413,7 @@ pub fn solve_prescribed(
         rho_kg_per_m3,
         guess,
     );
+    sys.set_floor_open_share(&disc.floor_open_share.iter().copied().collect::<Vec<_>>());
     let n = sys.cells();
     let mut b = vec![0.0; n];
     let mut p = vec![0.0; n];
@@ -477,7 +478,7 @@ pub fn solve_discrete(
     air: &AirPath,
     settings: &SolverSettings,
 ) -> Result<AirflowSolution, AirflowError> {
-    let mut plenum = build(&settings.plenum, container, disc.grid);
+    let mut plenum = build(&settings.plenum, container, disc.grid)?;
     solve_with_plenum(container, disc, flow, law, air, settings, plenum.as_mut())
 }
 
@@ -542,6 +543,7 @@ pub fn solve_with_plenum_from(
         rho,
         q_guess / floor_area,
     );
+    sys.set_floor_open_share(&disc.floor_open_share.iter().copied().collect::<Vec<_>>());
     let n = sys.cells();
     let nc = nx * ny;
     let manifold = !plenum.is_uniform();

@@ -135,17 +135,30 @@ pub struct ZoneMarks<'a> {
     pub wet: String,
 }
 
+/// An edge of a map: left and right are x = 0 and x = extent, bottom and top y = 0 and y = extent.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum MapEdge {
+    /// x = 0.
+    Left,
+    /// x = extent.
+    Right,
+    /// y = 0.
+    Bottom,
+    /// y = extent.
+    Top,
+}
+
 /// Something drawn over a heat map, in metres from the map's origin.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Overlay {
-    /// The plenum inlet: a bar on the left (x = 0) or right edge between `y0_m` and `y1_m`.
+    /// The plenum inlet: a bar on one edge from `from_m` to `to_m` along it.
     Inlet {
-        /// On the right edge (x = extent) instead of the left.
-        at_x_max: bool,
-        /// Lower end, m.
-        y0_m: f64,
-        /// Upper end, m.
-        y1_m: f64,
+        /// The edge holding the inlet.
+        edge: MapEdge,
+        /// Start along the edge (y on the left and right edges, x on the bottom and top), m.
+        from_m: f64,
+        /// End along the edge, m.
+        to_m: f64,
     },
     /// A block of the bed with its own permeability: a dashed outline labelled with its multiplier.
     Block {
@@ -405,21 +418,32 @@ struct Frame {
 
 fn overlay_svg(s: &mut String, f: &Frame, o: &Overlay) {
     match *o {
-        Overlay::Inlet {
-            at_x_max,
-            y0_m,
-            y1_m,
-        } => {
-            let x = if at_x_max {
-                f.left + f.w - 3.0
-            } else {
-                f.left + 3.0
+        Overlay::Inlet { edge, from_m, to_m } => {
+            let (x1, y1, x2, y2) = match edge {
+                MapEdge::Left | MapEdge::Right => {
+                    let x = if edge == MapEdge::Right {
+                        f.left + f.w - 3.0
+                    } else {
+                        f.left + 3.0
+                    };
+                    let ya = (f.top + f.h - from_m * f.sy).clamp(f.top, f.top + f.h);
+                    let yb = (f.top + f.h - to_m * f.sy).clamp(f.top, f.top + f.h);
+                    (x, ya, x, yb)
+                }
+                MapEdge::Bottom | MapEdge::Top => {
+                    let y = if edge == MapEdge::Top {
+                        f.top + 3.0
+                    } else {
+                        f.top + f.h - 3.0
+                    };
+                    let xa = (f.left + from_m * f.sx).clamp(f.left, f.left + f.w);
+                    let xb = (f.left + to_m * f.sx).clamp(f.left, f.left + f.w);
+                    (xa, y, xb, y)
+                }
             };
-            let ya = (f.top + f.h - y0_m * f.sy).clamp(f.top, f.top + f.h);
-            let yb = (f.top + f.h - y1_m * f.sy).clamp(f.top, f.top + f.h);
             let _ = writeln!(
                 s,
-                r#"<line x1="{x:.2}" y1="{ya:.2}" x2="{x:.2}" y2="{yb:.2}" stroke="{INLET_COLOUR}" stroke-width="6"/>"#
+                r#"<line x1="{x1:.2}" y1="{y1:.2}" x2="{x2:.2}" y2="{y2:.2}" stroke="{INLET_COLOUR}" stroke-width="6"/>"#
             );
         }
         Overlay::Block {
