@@ -346,7 +346,7 @@ fn zone_code(over: f64, under: f64) -> i8 {
     }
 }
 
-/// The inlet and permeability blocks of a container, for its top-view maps.
+/// The inlet, permeability blocks, baffles and blocked floor areas of a container, for its top-view maps.
 pub fn top_overlays(c: &crate::airflow::Container) -> Vec<Overlay> {
     use crate::airflow::geometry::InletWall;
     let (from_m, to_m) = c.inlet_span_m();
@@ -366,6 +366,18 @@ pub fn top_overlays(c: &crate::airflow::Container) -> Vec<Overlay> {
         y0_m: b.y0_m,
         y1_m: b.y1_m,
         multiplier: b.multiplier,
+    }));
+    v.extend(c.baffles.iter().map(|b| Overlay::Baffle {
+        x0_m: b.x0_m,
+        y0_m: b.y0_m,
+        x1_m: b.x1_m,
+        y1_m: b.y1_m,
+    }));
+    v.extend(c.floor.blocked_areas.iter().map(|a| Overlay::BlockedFloor {
+        x0_m: a.x0_m,
+        x1_m: a.x1_m,
+        y0_m: a.y0_m,
+        y1_m: a.y1_m,
     }));
     v
 }

@@ -173,6 +173,28 @@ pub enum Overlay {
         /// Permeability multiplier.
         multiplier: f64,
     },
+    /// A baffle in the plenum under the floor: a solid line between its ends.
+    Baffle {
+        /// One end, horizontal, m.
+        x0_m: f64,
+        /// One end, vertical, m.
+        y0_m: f64,
+        /// Other end, horizontal, m.
+        x1_m: f64,
+        /// Other end, vertical, m.
+        y1_m: f64,
+    },
+    /// A part of the floor that passes no air: an outline crossed corner to corner.
+    BlockedFloor {
+        /// Left, m.
+        x0_m: f64,
+        /// Right, m.
+        x1_m: f64,
+        /// Bottom, m.
+        y0_m: f64,
+        /// Top, m.
+        y1_m: f64,
+    },
 }
 
 /// Colour of the inlet bar (not on the ramp).
@@ -402,6 +424,18 @@ fn heat_legend(m: &HeatMap<'_>, lo: f64, hi: f64) -> Vec<String> {
     {
         l.push("dashed outline: a block of the bed with its own permeability (× the bed's)".into());
     }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::Baffle { .. }))
+    {
+        l.push("black line: a baffle standing in the plenum under the floor".into());
+    }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::BlockedFloor { .. }))
+    {
+        l.push("crossed outline: floor blocked, no air from the plenum below".into());
+    }
     l.extend(m.notes.iter().cloned());
     l
 }
@@ -418,6 +452,32 @@ struct Frame {
 
 fn overlay_svg(s: &mut String, f: &Frame, o: &Overlay) {
     match *o {
+        Overlay::Baffle {
+            x0_m,
+            y0_m,
+            x1_m,
+            y1_m,
+        } => {
+            let (xa, ya) = (f.left + x0_m * f.sx, f.top + f.h - y0_m * f.sy);
+            let (xb, yb) = (f.left + x1_m * f.sx, f.top + f.h - y1_m * f.sy);
+            let _ = writeln!(
+                s,
+                r#"<line x1="{xa:.2}" y1="{ya:.2}" x2="{xb:.2}" y2="{yb:.2}" stroke="white" stroke-width="6"/><line x1="{xa:.2}" y1="{ya:.2}" x2="{xb:.2}" y2="{yb:.2}" stroke="black" stroke-width="3"/>"#
+            );
+        }
+        Overlay::BlockedFloor {
+            x0_m,
+            x1_m,
+            y0_m,
+            y1_m,
+        } => {
+            let (xa, xb) = (f.left + x0_m * f.sx, f.left + x1_m * f.sx);
+            let (ya, yb) = (f.top + f.h - y1_m * f.sy, f.top + f.h - y0_m * f.sy);
+            let _ = writeln!(
+                s,
+                r#"<path d="M{xa:.2},{ya:.2}H{xb:.2}V{yb:.2}H{xa:.2}ZL{xb:.2},{yb:.2}M{xb:.2},{ya:.2}L{xa:.2},{yb:.2}" fill="none" stroke="white" stroke-width="3"/><path d="M{xa:.2},{ya:.2}H{xb:.2}V{yb:.2}H{xa:.2}ZL{xb:.2},{yb:.2}M{xb:.2},{ya:.2}L{xa:.2},{yb:.2}" fill="none" stroke="black" stroke-width="1.2"/>"#
+            );
+        }
         Overlay::Inlet { edge, from_m, to_m } => {
             let (x1, y1, x2, y2) = match edge {
                 MapEdge::Left | MapEdge::Right => {
