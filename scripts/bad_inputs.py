@@ -484,6 +484,30 @@ variants("container", CONTAINER, container, COMMON_JSON + [
     ("plenum_mixing_length_5.json", set_path(["plenum"], {"model": "2d", "mixing_length_ratio": 5.0})),
     ("plenum_unknown_field.json", set_path(["plenum"], {"model": "duct", "colour": "red"})),
     ("inlet_wider_than_wall.json", set_path(["inlet", "width_m"], 3.0)),
+    # the plenum geometry: side inlet, taper, baffles, blocked floor
+    ("inlet_wall_side_duct.json", set_path(["inlet", "wall"], "left")),
+    ("inlet_side_wider_than_wall.json", lambda o: (o["inlet"].update(wall="right", width_m=7.0),
+                                                    o.update(plenum={"model": "2d"}))),
+    ("inlet_side_offset_beyond_wall.json", lambda o: (o["inlet"].update(wall="left", offset_m=3.0),
+                                                       o.update(plenum={"model": "2d"}))),
+    ("inlet_taller_than_taper.json", lambda o: (o["inlet"].update(wall="rear"),
+                                                 o.update(plenum_rear_height_m=0.3))),
+    ("plenum_rear_height_zero.json", set_path(["plenum_rear_height_m"], 0.0)),
+    ("baffle_outside.json", lambda o: o.update(plenum={"model": "2d"}, baffles=[
+        {"x0_m": 1.0, "y0_m": 0.5, "x1_m": 1.0, "y1_m": 3.0}])),
+    ("baffle_duct.json", set_path(["baffles"], [{"x0_m": 1.0, "y0_m": 0.5, "x1_m": 1.5, "y1_m": 1.0}])),
+    ("baffles_close_off.json", lambda o: o.update(plenum={"model": "2d"}, baffles=[
+        {"x0_m": 4.0, "y0_m": 0.0, "x1_m": 4.0, "y1_m": 1.3},
+        {"x0_m": 4.0, "y0_m": 1.3, "x1_m": 6.4, "y1_m": 1.3}])),
+    ("baffle_too_short.json", lambda o: o.update(plenum={"model": "2d"}, baffles=[
+        {"x0_m": 1.0, "y0_m": 0.5, "x1_m": 1.0, "y1_m": 0.52}])),
+    ("blocked_area_outside.json", set_path(["floor", "blocked_areas"], [
+        {"x0_m": 6.0, "x1_m": 7.0, "y0_m": 0.0, "y1_m": 2.4}])),
+    ("blocked_whole_floor.json", set_path(["floor", "blocked_areas"], [
+        {"x0_m": 0.0, "x1_m": 3.2, "y0_m": 0.0, "y1_m": 2.4},
+        {"x0_m": 3.0, "x1_m": 6.4, "y0_m": 0.0, "y1_m": 2.4}])),
+    ("blocked_area_unknown_field.json", set_path(["floor", "blocked_areas"], [
+        {"x0_m": 0.0, "x1_m": 1.0, "y0_m": 0.0, "y1_m": 2.4, "depth_m": 0.1}])),
 ])
 
 fan = load("models/fans/vane-3kw.json")

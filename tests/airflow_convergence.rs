@@ -34,6 +34,7 @@ fn max_error(n: usize) -> f64 {
         floor: Floor {
             open_area_fraction: 1.0,
             discharge_coefficient: 1.0,
+            blocked_areas: vec![],
         },
         inlet: Inlet {
             wall: InletWall::Front,
@@ -46,6 +47,8 @@ fn max_error(n: usize) -> f64 {
         permeability: Permeability::default(),
         leakage_m3_per_s_per_sqrt_pa: 0.0,
         plenum: Default::default(),
+        plenum_rear_height_m: None,
+        baffles: vec![],
     };
     let grid = Grid {
         nx: 2 * n,

@@ -133,6 +133,8 @@ pub struct BedSystem {
     pub speed_for_k: Vec<f64>,
     /// Floor speed per column used to linearise the floor law, m/s.
     pub floor_speed: Vec<f64>,
+    /// Share of each column's floor that is open (1 by default; 0: a blocked floor, no flow from the plenum).
+    floor_open: Vec<f64>,
     law: BedLaw,
     floor_c2: f64,
     rho: f64,
@@ -232,6 +234,7 @@ impl BedSystem {
             perm,
             speed_for_k: vec![speed_guess_m_per_s; n],
             floor_speed: vec![speed_guess_m_per_s; nc],
+            floor_open: vec![1.0; nc],
             law,
             floor_c2: (floor_cd * floor_open_area).powi(2),
             rho: rho_kg_per_m3,
@@ -246,6 +249,16 @@ impl BedSystem {
         s.mg = Multigrid::new(&s.faces.op, MgSettings::default());
         s.assemble();
         s
+    }
+
+    /// Set the open share of each column's floor (index i·ny + j, each in [0, 1]) and reassemble: a share s
+    /// scales the open area, so the orifice resistance by 1/s², and a column with none open takes no air from
+    /// the plenum (its bottom face is a wall).
+    pub fn set_floor_open_share(&mut self, share: &[f64]) {
+        if self.floor_open != share {
+            self.floor_open.copy_from_slice(share);
+            self.assemble();
+        }
     }
 
     /// Choose the preconditioner for later solves.
@@ -286,8 +299,14 @@ impl BedSystem {
                 };
             }
             f.ttop[c] = axy / (0.5 * dz * f.kv[base + nz - 1]);
-            let r_floor = self.rho * floor_speeds[c].abs() / (2.0 * self.floor_c2);
-            f.tbot[c] = axy / (0.5 * dz * f.kv[base] + r_floor * 1.0);
+            let open = self.floor_open[c];
+            f.tbot[c] = if open > 0.0 {
+                let r_floor =
+                    self.rho * floor_speeds[c].abs() / (2.0 * self.floor_c2 * open * open);
+                axy / (0.5 * dz * f.kv[base] + r_floor)
+            } else {
+                0.0
+            };
         }
         for i in 0..nx {
             for j in 0..ny {

@@ -1,5 +1,6 @@
-//! Container geometry: a rectangular drying trailer with a perforated floor over a plenum fed through an end wall,
-//! a fill-depth map (level, crowned, sloped or an explicit grid) and a permeability-multiplier map.
+//! Container geometry: a rectangular drying trailer with a perforated floor (parts of it may be blocked) over a
+//! plenum fed through an opening in any of its four walls, level or tapered along the length, with flat baffles
+//! standing in it; a fill-depth map (level, crowned, sloped or an explicit grid) and a permeability-multiplier map.
 //! Parsed from `models/containers/*.json` (no file access here: the caller reads the text) and validated with
 //! errors naming the file and field; `Container::discretize` turns it into per-column arrays on an nx × ny grid.
 //!
@@ -11,31 +12,46 @@ use ndarray::{Array2, Array3};
 use serde::{Deserialize, Serialize};
 
 use super::plenum::PlenumModel;
+use super::plenum_layout::PlenumLayout;
 use super::plenum_shape::Plenum2dParams;
 use crate::error::InputError;
 use crate::input::check_field;
 
-/// Which end wall the plenum inlet is in. The x axis runs from the front wall (x = 0) to the rear (x = length).
+/// Which wall the plenum inlet is in. The x axis runs from the front wall (x = 0) to the rear (x = length), y
+/// across from the left wall (y = 0) to the right wall (y = width), left and right as seen from the front wall
+/// looking toward the rear.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum InletWall {
-    /// The wall at x = 0.
+    /// The end wall at x = 0 (end entry).
     Front,
-    /// The wall at x = length.
+    /// The end wall at x = length (end entry).
     Rear,
+    /// The side wall at y = 0 (side entry).
+    Left,
+    /// The side wall at y = width (side entry).
+    Right,
+}
+
+impl InletWall {
+    /// True for the two side walls.
+    pub fn is_side(self) -> bool {
+        matches!(self, InletWall::Left | InletWall::Right)
+    }
 }
 
 /// The duct opening through which the fan blows into the plenum.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Inlet {
-    /// End wall holding the opening.
+    /// Wall holding the opening.
     pub wall: InletWall,
-    /// Opening width across the trailer, m.
+    /// Opening width along its wall, m (across the trailer on an end wall, along it on a side wall).
     pub width_m: f64,
-    /// Opening height, m (at most the plenum height).
+    /// Opening height, m (at most the plenum height at the opening).
     pub height_m: f64,
-    /// Lateral offset of the opening's centre from the trailer centreline, m (0 = centred).
+    /// Offset of the opening's centre from the middle of its wall, m (0 = centred): toward the right wall on an
+    /// end wall, toward the rear on a side wall.
     #[serde(default)]
     pub offset_m: f64,
     /// Loss coefficient of the transition from fan to inlet, on the inlet velocity pressure (dimensionless).
@@ -43,14 +59,48 @@ pub struct Inlet {
     pub transition_loss_coefficient: f64,
 }
 
-/// The perforated floor between plenum and bed.
+/// A rectangle of the footprint, m (x along the length from the front wall, y across from the left wall).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct FloorArea {
+    /// Start along the length, m.
+    pub x0_m: f64,
+    /// End along the length, m.
+    pub x1_m: f64,
+    /// Start across the width, m.
+    pub y0_m: f64,
+    /// End across the width, m.
+    pub y1_m: f64,
+}
+
+/// The perforated floor between plenum and bed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Floor {
     /// Effective open-area fraction φ (0 < φ ≤ 1).
     pub open_area_fraction: f64,
     /// Orifice discharge coefficient C_d (0 < C_d ≤ 1).
     pub discharge_coefficient: f64,
+    /// Parts of the floor that pass no air (solid sheet, a cross member, a covered section): a column passes air
+    /// through the share of its floor outside them, so a fully covered column gets no air from below.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub blocked_areas: Vec<FloorArea>,
+}
+
+/// A flat plate standing the plenum's full height, from (x0, y0) to (x1, y1) on the plan, m: a baffle or a
+/// deflector. On the 2-D plenum's grid it is the staircase of cell faces nearest its line, each a wall with the
+/// wall law.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Baffle {
+    /// One end along the length, m.
+    pub x0_m: f64,
+    /// One end across the width, m.
+    pub y0_m: f64,
+    /// Other end along the length, m.
+    pub x1_m: f64,
+    /// Other end across the width, m.
+    pub y1_m: f64,
 }
 
 /// How deep the peanuts lie over the footprint.
@@ -196,8 +246,14 @@ pub struct Container {
     pub width_m: f64,
     /// Side-wall height above the floor, m.
     pub wall_height_m: f64,
-    /// Plenum height below the floor, m.
+    /// Plenum height below the floor, m (at the front wall when `plenum_rear_height_m` is given).
     pub plenum_height_m: f64,
+    /// Plenum height at the rear wall, m, for a plenum tapered linearly along the length (absent: level).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub plenum_rear_height_m: Option<f64>,
+    /// Baffles and deflector plates in the plenum (default: none).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub baffles: Vec<Baffle>,
     /// Perforated floor.
     pub floor: Floor,
     /// Plenum inlet.
@@ -250,6 +306,18 @@ pub struct DiscreteContainer {
     pub depth_m: Array2<f64>,
     /// Permeability multiplier per cell [nx, ny, nz] (k = 0 at the floor).
     pub permeability: Array3<f64>,
+    /// Share of each column's floor that is open, [nx, ny] (1 = the whole floor; 0 = blocked, no inflow).
+    pub floor_open_share: Array2<f64>,
+}
+
+/// Shortest baffle accepted, m: a plate shorter than this deflects nothing a plenum grid can resolve.
+const MIN_BAFFLE_M: f64 = 0.05;
+
+/// The fine plenum grid the container file's baffles are checked on (cells of about 2.5 cm, so a gap of a few
+/// centimetres stays open; the solve's own, coarser grid is checked again when its plenum is built).
+fn reference_plenum_grid(length_m: f64, width_m: f64) -> (usize, usize) {
+    let n = |v: f64| ((v / 0.025).ceil() as usize).clamp(8, 1024);
+    (n(length_m), n(width_m))
 }
 
 fn model_err(path: &Path, field: &str, message: impl Into<String>) -> InputError {
@@ -345,41 +413,11 @@ impl Container {
                 format!("{} must be above 0 and at most 1", f.discharge_coefficient),
             ));
         }
+        if let Some(h) = self.plenum_rear_height_m {
+            positive(path, "plenum_rear_height_m", h, "m")?;
+        }
+        self.validate_inlet(path)?;
         let inl = &self.inlet;
-        positive(path, "inlet.width_m", inl.width_m, "m")?;
-        positive(path, "inlet.height_m", inl.height_m, "m")?;
-        if inl.height_m > self.plenum_height_m {
-            return Err(model_err(
-                path,
-                "inlet.height_m",
-                format!(
-                    "{} m is taller than the plenum ({} m)",
-                    inl.height_m, self.plenum_height_m
-                ),
-            ));
-        }
-        if inl.width_m > self.width_m {
-            return Err(model_err(
-                path,
-                "inlet.width_m",
-                format!(
-                    "{} m is wider than its wall ({} m)",
-                    inl.width_m, self.width_m
-                ),
-            ));
-        }
-        if !inl.offset_m.is_finite()
-            || inl.offset_m.abs() + 0.5 * inl.width_m > 0.5 * self.width_m + 1e-9
-        {
-            return Err(model_err(
-                path,
-                "inlet.offset_m",
-                format!(
-                    "an opening {} m wide centred {} m off the centreline does not fit in a {} m wall",
-                    inl.width_m, inl.offset_m, self.width_m
-                ),
-            ));
-        }
         if !(inl.transition_loss_coefficient.is_finite() && inl.transition_loss_coefficient >= 0.0)
         {
             return Err(model_err(
@@ -478,10 +516,230 @@ impl Container {
                 ));
             }
         }
+        self.validate_floor_areas(path)?;
+        self.validate_baffles(path)?;
         self.validate_plenum(path)
     }
 
+    /// The opening fits its wall and the plenum height there.
+    fn validate_inlet(&self, path: &Path) -> Result<(), InputError> {
+        let inl = &self.inlet;
+        positive(path, "inlet.width_m", inl.width_m, "m")?;
+        positive(path, "inlet.height_m", inl.height_m, "m")?;
+        let (wall, wall_m) = match inl.wall {
+            InletWall::Front | InletWall::Rear => ("end", self.width_m),
+            InletWall::Left | InletWall::Right => ("side", self.length_m),
+        };
+        if inl.width_m > wall_m {
+            return Err(model_err(
+                path,
+                "inlet.width_m",
+                format!(
+                    "{} m is wider than its {wall} wall ({wall_m} m)",
+                    inl.width_m
+                ),
+            ));
+        }
+        if !inl.offset_m.is_finite() || inl.offset_m.abs() + 0.5 * inl.width_m > 0.5 * wall_m + 1e-9
+        {
+            return Err(model_err(
+                path,
+                "inlet.offset_m",
+                format!(
+                    "an opening {} m wide centred {} m off the middle of its wall does not fit in a {wall_m} m {wall} wall",
+                    inl.width_m, inl.offset_m
+                ),
+            ));
+        }
+        // the plenum's height over the opening: at its end wall, or the lower end of its span along a side wall
+        let (a, b) = self.inlet_span_m();
+        let h_at = match inl.wall {
+            InletWall::Front => self.plenum_height_at_m(0.0),
+            InletWall::Rear => self.plenum_height_at_m(self.length_m),
+            InletWall::Left | InletWall::Right => {
+                self.plenum_height_at_m(a).min(self.plenum_height_at_m(b))
+            }
+        };
+        if inl.height_m > h_at + 1e-12 {
+            return Err(model_err(
+                path,
+                "inlet.height_m",
+                format!(
+                    "{} m is taller than the plenum at the opening ({h_at} m)",
+                    inl.height_m
+                ),
+            ));
+        }
+        Ok(())
+    }
+
+    /// Every blocked floor area lies on the footprint and together they leave some floor open.
+    fn validate_floor_areas(&self, path: &Path) -> Result<(), InputError> {
+        let (l, w) = (self.length_m, self.width_m);
+        for (n, a) in self.floor.blocked_areas.iter().enumerate() {
+            let inside = |v: f64, hi: f64| v.is_finite() && v >= 0.0 && v <= hi + 1e-9;
+            if !(inside(a.x0_m, l) && inside(a.x1_m, l) && a.x1_m > a.x0_m) {
+                return Err(model_err(
+                    path,
+                    &format!("floor.blocked_areas[{n}].x1_m"),
+                    format!(
+                        "area {}–{} m must lie on the floor, within 0–{l} m, with x1 > x0",
+                        a.x0_m, a.x1_m
+                    ),
+                ));
+            }
+            if !(inside(a.y0_m, w) && inside(a.y1_m, w) && a.y1_m > a.y0_m) {
+                return Err(model_err(
+                    path,
+                    &format!("floor.blocked_areas[{n}].y1_m"),
+                    format!(
+                        "area {}–{} m must lie on the floor, within 0–{w} m, with y1 > y0",
+                        a.y0_m, a.y1_m
+                    ),
+                ));
+            }
+        }
+        if !self.floor.blocked_areas.is_empty() && self.open_floor_area_m2() <= 1e-9 * l * w {
+            return Err(model_err(
+                path,
+                "floor.blocked_areas",
+                "the blocked areas cover the whole floor: no air could reach the bed",
+            ));
+        }
+        Ok(())
+    }
+
+    /// Every baffle lies in the plenum, has a length, and the set leaves the whole plenum reachable from the
+    /// inlet (checked on a fine reference grid; `build` checks the solve's own grid again).
+    fn validate_baffles(&self, path: &Path) -> Result<(), InputError> {
+        let (l, w) = (self.length_m, self.width_m);
+        for (n, b) in self.baffles.iter().enumerate() {
+            let inside = |v: f64, hi: f64| v.is_finite() && v >= -1e-9 && v <= hi + 1e-9;
+            for (end, x, y) in [("0", b.x0_m, b.y0_m), ("1", b.x1_m, b.y1_m)] {
+                if !(inside(x, l) && inside(y, w)) {
+                    return Err(model_err(
+                        path,
+                        &format!("baffles[{n}].x{end}_m"),
+                        format!(
+                            "end ({x} m, {y} m) is outside the plenum (0–{l} m along, 0–{w} m across)"
+                        ),
+                    ));
+                }
+            }
+            let len = (b.x1_m - b.x0_m).hypot(b.y1_m - b.y0_m);
+            if len < MIN_BAFFLE_M {
+                return Err(model_err(
+                    path,
+                    &format!("baffles[{n}].x1_m"),
+                    format!("a baffle {len:.3} m long is shorter than {MIN_BAFFLE_M} m"),
+                ));
+            }
+        }
+        let (nx, ny) = reference_plenum_grid(l, w);
+        for n in 0..self.baffles.len() {
+            let layout = PlenumLayout::new(self, &self.baffles[..=n], nx, ny);
+            if let Some(cut) = layout.closed_off() {
+                let with = if n == 0 {
+                    ""
+                } else {
+                    " (with the baffles before it)"
+                };
+                return Err(model_err(
+                    path,
+                    &format!("baffles[{n}]"),
+                    format!(
+                        "closes {:.2} m² of the plenum off from the inlet{with}, around x = {:.2} m, y = {:.2} m: every part of the plenum must be open to the inlet",
+                        cut.area_m2, cut.x_m, cut.y_m
+                    ),
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    /// Floor left open by the blocked areas, m².
+    pub fn open_floor_area_m2(&self) -> f64 {
+        self.open_floor_in_m2(0.0, self.length_m, 0.0, self.width_m)
+    }
+
+    /// Floor left open by the blocked areas inside the rectangle x0–x1, y0–y1 (m, from the front and left walls),
+    /// m²: exact, from the union of the rectangles on the grid of their own edges.
+    pub fn open_floor_in_m2(&self, x0: f64, x1: f64, y0: f64, y1: f64) -> f64 {
+        let areas = &self.floor.blocked_areas;
+        let mut xs: Vec<f64> = vec![x0, x1];
+        let mut ys: Vec<f64> = vec![y0, y1];
+        for a in areas {
+            xs.extend([a.x0_m.clamp(x0, x1), a.x1_m.clamp(x0, x1)]);
+            ys.extend([a.y0_m.clamp(y0, y1), a.y1_m.clamp(y0, y1)]);
+        }
+        xs.sort_by(f64::total_cmp);
+        ys.sort_by(f64::total_cmp);
+        let mut open = 0.0;
+        for xw in xs.windows(2) {
+            for yw in ys.windows(2) {
+                let (xm, ym) = (0.5 * (xw[0] + xw[1]), 0.5 * (yw[0] + yw[1]));
+                let covered = areas
+                    .iter()
+                    .any(|a| xm > a.x0_m && xm < a.x1_m && ym > a.y0_m && ym < a.y1_m);
+                if !covered {
+                    open += (xw[1] - xw[0]) * (yw[1] - yw[0]);
+                }
+            }
+        }
+        open
+    }
+
+    /// Plenum height at `x_m` along the length from the front wall, m (linear between the two end heights).
+    pub fn plenum_height_at_m(&self, x_m: f64) -> f64 {
+        match self.plenum_rear_height_m {
+            None => self.plenum_height_m,
+            Some(rear) => {
+                let t = (x_m / self.length_m).clamp(0.0, 1.0);
+                self.plenum_height_m + (rear - self.plenum_height_m) * t
+            }
+        }
+    }
+
+    /// The opening's extent along its wall, m: y from the left wall on an end wall, x from the front wall on a
+    /// side wall.
+    pub fn inlet_span_m(&self) -> (f64, f64) {
+        let inl = &self.inlet;
+        let wall_m = if inl.wall.is_side() {
+            self.length_m
+        } else {
+            self.width_m
+        };
+        let c = 0.5 * wall_m + inl.offset_m;
+        (c - 0.5 * inl.width_m, c + 0.5 * inl.width_m)
+    }
+
+    /// Why `model` cannot represent this container's plenum, if it cannot: the 1-D duct marches along the length
+    /// from an end wall at one height-averaged cross-section, so a side inlet and baffles need the 2-D model (a
+    /// taper it represents: its cross-section follows the height). The uniform plenum has one pressure whatever
+    /// the plenum's shape, which is its assumption, so it takes every geometry.
+    pub fn plenum_model_limit(&self, model: &PlenumModel) -> Option<(&'static str, String)> {
+        if !matches!(model, PlenumModel::Manifold(_)) {
+            return None;
+        }
+        if self.inlet.wall.is_side() {
+            return Some((
+                "inlet.wall",
+                "a side inlet needs the 2-D plenum (\"plenum\": {\"model\": \"2d\"}): the 1-D duct marches from an end wall".into(),
+            ));
+        }
+        if !self.baffles.is_empty() {
+            return Some((
+                "baffles",
+                "baffles need the 2-D plenum (\"plenum\": {\"model\": \"2d\"}): the 1-D duct has no plan to put them in".into(),
+            ));
+        }
+        None
+    }
+
     fn validate_plenum(&self, path: &Path) -> Result<(), InputError> {
+        if let Some((field, message)) = self.plenum_model_limit(&self.plenum_model()) {
+            return Err(model_err(path, field, message));
+        }
         if let PlenumChoice::TwoD {
             cells_per_column,
             mixing_length_ratio,
@@ -555,6 +813,17 @@ impl Container {
             let j = ((y / self.width_m * nj as f64) as usize).min(nj - 1);
             map[i][j]
         };
+        let floor_open_share = Array2::from_shape_fn((nx, ny), |(i, j)| {
+            let (x, y) = (x_of(i), y_of(j));
+            let (x0, y0) = (x - 0.5 * dx, y - 0.5 * dy);
+            // 1e-12 of a column: the rounding of the rectangle sums, not a partly covered floor
+            let share = self.open_floor_in_m2(x0, x0 + dx, y0, y0 + dy) / (dx * dy);
+            if share < 1e-12 {
+                0.0
+            } else {
+                share.min(1.0)
+            }
+        });
         let depth = Array2::from_shape_fn((nx, ny), |(i, j)| {
             let (x, y) = (x_of(i), y_of(j));
             match &self.fill {
@@ -597,6 +866,7 @@ impl Container {
             dy_m: dy,
             depth_m: depth,
             permeability: perm,
+            floor_open_share,
         })
     }
 }
@@ -616,6 +886,7 @@ mod tests {
             floor: Floor {
                 open_area_fraction: 0.2,
                 discharge_coefficient: 0.6,
+                blocked_areas: vec![],
             },
             inlet: Inlet {
                 wall: InletWall::Rear,
@@ -631,6 +902,8 @@ mod tests {
             permeability: Permeability::default(),
             leakage_m3_per_s_per_sqrt_pa: 0.0,
             plenum: PlenumChoice::Duct {},
+            plenum_rear_height_m: None,
+            baffles: vec![],
         }
     }
 

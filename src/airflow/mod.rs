@@ -1,7 +1,8 @@
 //! Airflow through a drying trailer: plenum, floor, bed and fan solved together, giving the airflow through every
 //! column of a load. `geometry` describes the container, `bed` the 3-D porous-flow discretisation and its linear
-//! solver, `plenum` the dividing-flow manifold under the floor, `plenum2d` the depth-averaged 2-D plenum flow and
-//! `plenum_map` its field as outputs show it, `plenum_shape` the plenum models behind one trait, `fan` the fan curve and leakage, `path` the ambient
+//! solver, `plenum` the dividing-flow manifold under the floor, `plenum_layout` the plenum's shape on a grid,
+//! `plenum2d` the depth-averaged 2-D plenum flow and `plenum_map` its field as outputs show it, `plenum_shape` the
+//! plenum models behind one trait, `fan` the fan curve and leakage, `path` the ambient
 //! and plenum air each part is solved at, `solve` the coupled iteration and its `AirflowSolution`, and `fit` the
 //! permeability map fitted to a top-surface airflow survey.
 //!
@@ -16,6 +17,7 @@ mod newton;
 pub mod path;
 pub mod plenum;
 pub mod plenum2d;
+pub mod plenum_layout;
 pub mod plenum_map;
 pub mod plenum_shape;
 pub mod solve;

@@ -23,6 +23,12 @@
 //! the jet mixing factor and the defaults for β, f and c_mix are our own reduced-order choices (from memory:
 //! a round free jet's potential core is about 5–6 diameters long). It is 1-D: the inlet's lateral offset does not
 //! change the pressure across the width (a limitation; each row of columns across the width sees the same p(x)).
+//!
+//! Taper: a plenum whose height varies linearly along the length has A = W·h(x). The slice balance keeps its form
+//! with the outflow term written on the flow, `A·dp = −dJ + β·ρ·U·dQ − τ_w·P·dx` (the sloping wall's pressure
+//! force p·dA cancels against the pressure's own change of area), which for β = 1, χ = 1, f = 0 is Bernoulli,
+//! `dp = −ρ·U·dU`, with U = Q/A(x); for a level plenum dQ = A·dU and it is the balance above. Each slice takes
+//! A at its ends for U and the mean for the pressure force and D_h.
 use serde::{Deserialize, Serialize};
 
 /// Parameters of the manifold model (numerical-model settings, so they have documented defaults).
@@ -71,8 +77,11 @@ pub struct PlenumGeometry {
     pub length_m: f64,
     /// Plenum width, m.
     pub width_m: f64,
-    /// Plenum height, m.
+    /// Plenum height at the inlet wall, m.
     pub height_m: f64,
+    /// Plenum height at the far end wall, m (the height varies linearly between the two; equal for a level
+    /// plenum).
+    pub far_height_m: f64,
     /// Inlet opening area, m².
     pub inlet_area_m2: f64,
     /// Inlet opening hydraulic diameter, m.
@@ -109,9 +118,10 @@ pub fn profile(
         }
         PlenumModel::Manifold(p) => p,
     };
-    let a = geom.width_m * geom.height_m;
-    let dh = 4.0 * a / (2.0 * (geom.width_m + geom.height_m));
-    let dx = geom.length_m / nx as f64;
+    let (w, len) = (geom.width_m, geom.length_m);
+    let area = |x: f64| w * (geom.height_m + (geom.far_height_m - geom.height_m) * x / len);
+    let a = area(0.0);
+    let dx = len / nx as f64;
     let l_mix = (params.mixing_length_diameters * geom.inlet_hydraulic_diameter_m).max(1e-9);
     let chi = |x: f64| 1.0 + (a / geom.inlet_area_m2 - 1.0).max(0.0) * (-x / l_mix).exp();
     let beta = params.outflow_momentum_fraction;
@@ -122,12 +132,15 @@ pub fn profile(
     let mut vel = Vec::with_capacity(nx);
     for (i, &out) in outflow_m3_per_s.iter().enumerate() {
         let x0 = i as f64 * dx;
+        let (a0, a1) = (area(x0), area(x0 + dx));
+        let am = 0.5 * (a0 + a1);
+        let dh = 4.0 * am / (2.0 * (w + am / w));
         let q1 = (q_face - out).max(0.0);
-        let (u0, u1) = (q_face / a, q1 / a);
+        let (u0, u1) = (q_face / a0, q1 / a1);
         let j0 = chi(x0) * rho_kg_per_m3 * q_face * u0;
         let j1 = chi(x0 + dx) * rho_kg_per_m3 * q1 * u1;
         let um = 0.5 * (u0 + u1);
-        let dp = -(j1 - j0) / a + beta * rho_kg_per_m3 * um * (u1 - u0)
+        let dp = -(j1 - j0) / am + beta * rho_kg_per_m3 * um * (q1 - q_face) / am
             - params.friction_factor * rho_kg_per_m3 * um * um / (2.0 * dh) * dx;
         rise.push(p_face + 0.5 * dp);
         vel.push(um);
@@ -150,6 +163,7 @@ mod tests {
             length_m: 6.0,
             width_m: 2.4,
             height_m: h,
+            far_height_m: h,
             inlet_area_m2: 2.4 * h,
             inlet_hydraulic_diameter_m: 4.0 * 2.4 * h / (2.0 * (2.4 + h)),
         }
@@ -170,6 +184,34 @@ mod tests {
         let u0: f64 = 3.0 / (2.4 * 0.4);
         // last centre is half a row short of the end; regain is quadratic in Q so the gap is O(1/n²)
         assert_relative_eq!(p.rise_pa[n - 1], 0.5 * 1.2 * u0 * u0, max_relative = 1e-4);
+    }
+
+    #[test]
+    fn frictionless_taper_follows_bernoulli_along_its_changing_section() {
+        // β = 1, f = 0, no jet: a plenum halving in height with no outflow over its first half and all of it over
+        // its second; Bernoulli on U = Q/A(x) gives at the middle p − p_in = ρ/2·(U₀² − U_mid²) with the full flow,
+        // and at the end, where nothing is left, ρ/2·U₀².
+        let m = PlenumModel::Manifold(ManifoldParams {
+            outflow_momentum_fraction: 1.0,
+            friction_factor: 0.0,
+            mixing_length_diameters: 6.0,
+        });
+        let n = 800;
+        let out: Vec<f64> = (0..n)
+            .map(|i| if i < n / 2 { 0.0 } else { 3.0 / (n / 2) as f64 })
+            .collect();
+        let mut g = geom(0.4);
+        g.far_height_m = 0.2;
+        let p = profile(&m, &g, &out, 1.2);
+        let u0: f64 = 3.0 / (2.4 * 0.4);
+        let u_mid: f64 = 3.0 / (2.4 * 0.3);
+        // half a row short of the middle: the area there differs by O(1/n), so its U² by 1/n relative
+        assert_relative_eq!(
+            p.rise_pa[n / 2 - 1],
+            0.6 * (u0 * u0 - u_mid * u_mid),
+            max_relative = 5e-3
+        );
+        assert_relative_eq!(p.rise_pa[n - 1], 0.6 * u0 * u0, max_relative = 1e-4);
     }
 
     #[test]

@@ -7,10 +7,11 @@
 //!
 //! The 2-D plenum runs on a grid of its own, `cells_per_column`² cells under each column; the transfer is
 //! conservative: a column's outflow leaves evenly through its cells, and its δ is the mean over its cells. The
-//! inlet is a set of x-faces on the inlet wall covering the opening's width at its offset (partly covered faces
-//! carry their share); the jet fills `inlet height / plenum height` of the depth, so it enters with a momentum
-//! flux of `h/h_inlet` times its depth-mean value. The inlet static pressure is the mean over the cells along the
-//! opening.
+//! plenum's shape on that grid comes from `airflow::plenum_layout`: the depth of each cell (a taper), the faces
+//! baffles block, and the inlet, a set of boundary faces on its wall (an end wall or a side wall) covering the
+//! opening's width at its offset (partly covered faces carry their share); the jet fills `inlet height / plenum
+//! height` of the depth, so it enters with a momentum flux of `h/h_inlet` times its depth-mean value. The inlet
+//! static pressure is the mean over the cells along the opening.
 //!
 //! Status: with the default mixing length c_m = 0.3 (see [`Plenum2dParams`]) and momentum relaxation 0.5 the
 //! coupled solve converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m plenum);
@@ -25,7 +26,9 @@ use super::plenum::{profile, PlenumGeometry, PlenumModel};
 use super::plenum2d::{
     solve_flow, FlowDomain, FlowError, FlowParams, FlowState, FlowStats, Scheme,
 };
+use super::plenum_layout::{FaceKind, InletFace, PlenumLayout};
 use super::plenum_map::{MapFrame, PlenumMap};
+use crate::error::InputError;
 
 /// Kinematic viscosity of air near 30 °C, m²/s (ASHRAE 2017 ch. 33 tables, about 1.6e-5; from memory).
 const NU_AIR: f64 = 1.6e-5;
@@ -120,8 +123,8 @@ pub struct Plenum2d {
     state: FlowState,
     grid: Grid,
     r: usize,
-    /// Inlet x-faces (index into u) with their share of the inflow.
-    inlet: Vec<(usize, f64)>,
+    /// The inlet's boundary faces with their shares of the inflow.
+    inlet: Vec<InletFace>,
     /// Last solve's record.
     pub last: Option<FlowStats>,
     /// SIMPLEC iterations summed over all calls.
@@ -129,29 +132,15 @@ pub struct Plenum2d {
 }
 
 impl Plenum2d {
-    /// Build the plenum grid under `grid`'s columns of `container` (inlet at x = 0 of the solver orientation).
+    /// Build the plenum grid under `grid`'s columns of `container` (inlet at x = 0 of the solver orientation for
+    /// an end inlet; see `airflow::plenum_layout`). [`build`] checks first that the grid resolves the baffles.
     pub fn new(container: &Container, grid: Grid, p: &Plenum2dParams) -> Self {
         let r = p.cells_per_column.max(1);
         let (nx, ny) = (grid.nx * r, grid.ny * r);
-        let dx = container.length_m / nx as f64;
-        let dy = container.width_m / ny as f64;
-        let h = container.plenum_height_m;
-        let mut domain = FlowDomain::closed_box(nx, ny, dx, dy, h);
-        let inl = container.inlet;
-        let yc = 0.5 * container.width_m + inl.offset_m;
-        let (y0, y1) = (yc - 0.5 * inl.width_m, yc + 0.5 * inl.width_m);
-        let mut inlet = Vec::new();
-        for j in 0..ny {
-            let (a, b) = (j as f64 * dy, (j + 1) as f64 * dy);
-            let cover = (b.min(y1) - a.max(y0)).max(0.0) / dy;
-            if cover > 0.0 {
-                let k = j * (nx + 1);
-                inlet.push((k, cover));
-                domain.u_momentum_factor[k] = h / inl.height_m.min(h);
-            }
-        }
-        let total: f64 = inlet.iter().map(|x| x.1).sum();
-        inlet.iter_mut().for_each(|x| x.1 /= total);
+        let layout = PlenumLayout::new(container, &container.baffles, nx, ny);
+        let mut domain = FlowDomain::closed_box(nx, ny, layout.dx, layout.dy, 1.0);
+        layout.apply(&mut domain);
+        let inlet = layout.inlet;
         let params = FlowParams {
             nu_m2_per_s: NU_AIR,
             friction_coefficient: p.friction_coefficient,
@@ -184,10 +173,9 @@ impl Plenum2d {
 
     /// Kinematic static pressure at the inlet: the mean over the cells along the opening, m²/s².
     fn inlet_kinematic(&self) -> f64 {
-        let nx = self.domain.nx;
         self.inlet
             .iter()
-            .map(|&(k, share)| share * self.state.p[(k / (nx + 1)) * nx])
+            .map(|f| f.share * self.state.p[f.cell])
             .sum()
     }
 }
@@ -204,9 +192,12 @@ impl Plenum for Plenum2d {
             }
         }
         let inflow: f64 = q.iter().sum::<f64>() + leak;
-        let h = d.depth[0];
-        for &(k, share) in &self.inlet {
-            d.u_fixed[k] = Some(inflow * share / (h * d.dy));
+        for f in &self.inlet {
+            let v = Some(f.velocity_m_per_s(inflow));
+            match f.kind {
+                FaceKind::X => d.u_fixed[f.face] = v,
+                FaceKind::Y => d.v_fixed[f.face] = v,
+            }
         }
         let stats = solve_flow(d, &self.params, &mut self.state)?;
         self.total_iters += stats.iters;
@@ -234,18 +225,38 @@ impl Plenum for Plenum2d {
     }
 }
 
-/// The plenum `model` asks for, for `container` on `grid`.
-pub fn build(model: &PlenumModel, container: &Container, grid: Grid) -> Box<dyn Plenum> {
-    match model {
+/// The plenum `model` asks for, for `container` on `grid`. Refused: a geometry the model cannot represent (a side
+/// inlet or baffles in the 1-D duct: `Container::plenum_model_limit`), and a 2-D plenum grid too coarse for the
+/// baffles (`PlenumLayout::check_resolved`).
+pub fn build(
+    model: &PlenumModel,
+    container: &Container,
+    grid: Grid,
+) -> Result<Box<dyn Plenum>, InputError> {
+    if let Some((field, message)) = container.plenum_model_limit(model) {
+        return Err(InputError::argument(
+            "plenum model",
+            format!("duct for container {:?} ({field})", container.name),
+            &format!("cannot be used: {message}"),
+        ));
+    }
+    Ok(match model {
         PlenumModel::Uniform => Box::new(UniformPlenum),
         PlenumModel::Manifold(_) => {
             let inl = container.inlet;
+            // the duct marches from the inlet wall: its height there first
+            let front = if inl.wall == super::geometry::InletWall::Rear {
+                container.length_m
+            } else {
+                0.0
+            };
             Box::new(DuctPlenum {
                 model: *model,
                 geom: PlenumGeometry {
                     length_m: container.length_m,
                     width_m: container.width_m,
-                    height_m: container.plenum_height_m,
+                    height_m: container.plenum_height_at_m(front),
+                    far_height_m: container.plenum_height_at_m(container.length_m - front),
                     inlet_area_m2: container.inlet_area_m2(),
                     inlet_hydraulic_diameter_m: 2.0 * inl.width_m * inl.height_m
                         / (inl.width_m + inl.height_m),
@@ -253,6 +264,11 @@ pub fn build(model: &PlenumModel, container: &Container, grid: Grid) -> Box<dyn 
                 ny: grid.ny,
             })
         }
-        PlenumModel::TwoD(p) => Box::new(Plenum2d::new(container, grid, p)),
-    }
+        PlenumModel::TwoD(p) => {
+            let r = p.cells_per_column.max(1);
+            PlenumLayout::new(container, &container.baffles, grid.nx * r, grid.ny * r)
+                .check_resolved()?;
+            Box::new(Plenum2d::new(container, grid, p))
+        }
+    })
 }

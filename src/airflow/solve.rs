@@ -258,7 +258,7 @@ pub fn solve_from(
 ) -> Result<AirflowSolution, AirflowError> {
     check_law(law)?;
     let disc = container.discretize(settings.grid)?;
-    let mut plenum = build(&settings.plenum, container, disc.grid);
+    let mut plenum = build(&settings.plenum, container, disc.grid)?;
     solve_with_plenum_from(
         container,
         &disc,
@@ -417,6 +417,7 @@ pub fn solve_prescribed(
         rho_kg_per_m3,
         guess,
     );
+    sys.set_floor_open_share(&disc.floor_open_share.iter().copied().collect::<Vec<_>>());
     let n = sys.cells();
     let mut b = vec![0.0; n];
     let mut p = vec![0.0; n];
@@ -481,7 +482,7 @@ pub fn solve_discrete(
     air: &AirPath,
     settings: &SolverSettings,
 ) -> Result<AirflowSolution, AirflowError> {
-    let mut plenum = build(&settings.plenum, container, disc.grid);
+    let mut plenum = build(&settings.plenum, container, disc.grid)?;
     solve_with_plenum(container, disc, flow, law, air, settings, plenum.as_mut())
 }
 
@@ -567,6 +568,7 @@ fn solve_coupled(
         rho,
         q_guess / floor_area,
     );
+    sys.set_floor_open_share(&disc.floor_open_share.iter().copied().collect::<Vec<_>>());
     let n = sys.cells();
     let nc = nx * ny;
     let manifold = !plenum.is_uniform();

@@ -11,7 +11,8 @@ use chrono::{DateTime, FixedOffset};
 use super::html::{Block, InputRecord, KeyFigure, Page, Table};
 use super::output::OutputSet;
 use super::svg::{
-    finite_range, heat_map, line_chart, HeatMap, Limit, LineChart, Overlay, Series, ZoneMarks,
+    finite_range, heat_map, line_chart, HeatMap, Limit, LineChart, MapEdge, Overlay, Series,
+    ZoneMarks,
 };
 use crate::advice::{advise, load_figures};
 use crate::drying::run::{Outcome, RunSettings, SeriesRow, StopReason, Tally};
@@ -345,13 +346,19 @@ fn zone_code(over: f64, under: f64) -> i8 {
     }
 }
 
-/// The inlet and permeability blocks of a container, for its top-view maps.
+/// The inlet, permeability blocks, baffles and blocked floor areas of a container, for its top-view maps.
 pub fn top_overlays(c: &crate::airflow::Container) -> Vec<Overlay> {
-    let centre = 0.5 * c.width_m + c.inlet.offset_m;
+    use crate::airflow::geometry::InletWall;
+    let (from_m, to_m) = c.inlet_span_m();
     let mut v = vec![Overlay::Inlet {
-        at_x_max: c.inlet.wall == crate::airflow::geometry::InletWall::Rear,
-        y0_m: centre - 0.5 * c.inlet.width_m,
-        y1_m: centre + 0.5 * c.inlet.width_m,
+        edge: match c.inlet.wall {
+            InletWall::Front => MapEdge::Left,
+            InletWall::Rear => MapEdge::Right,
+            InletWall::Left => MapEdge::Bottom,
+            InletWall::Right => MapEdge::Top,
+        },
+        from_m,
+        to_m,
     }];
     v.extend(c.permeability.blocks.iter().map(|b| Overlay::Block {
         x0_m: b.x0_m,
@@ -359,6 +366,18 @@ pub fn top_overlays(c: &crate::airflow::Container) -> Vec<Overlay> {
         y0_m: b.y0_m,
         y1_m: b.y1_m,
         multiplier: b.multiplier,
+    }));
+    v.extend(c.baffles.iter().map(|b| Overlay::Baffle {
+        x0_m: b.x0_m,
+        y0_m: b.y0_m,
+        x1_m: b.x1_m,
+        y1_m: b.y1_m,
+    }));
+    v.extend(c.floor.blocked_areas.iter().map(|a| Overlay::BlockedFloor {
+        x0_m: a.x0_m,
+        x1_m: a.x1_m,
+        y0_m: a.y0_m,
+        y1_m: a.y1_m,
     }));
     v
 }
@@ -452,6 +471,8 @@ pub fn final_side_svg(
             match spec.container.inlet.wall {
                 crate::airflow::geometry::InletWall::Front => "front (left)",
                 crate::airflow::geometry::InletWall::Rear => "rear (right)",
+                crate::airflow::geometry::InletWall::Left => "left side",
+                crate::airflow::geometry::InletWall::Right => "right side",
             }
         )],
     })

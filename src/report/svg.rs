@@ -135,17 +135,30 @@ pub struct ZoneMarks<'a> {
     pub wet: String,
 }
 
+/// An edge of a map: left and right are x = 0 and x = extent, bottom and top y = 0 and y = extent.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum MapEdge {
+    /// x = 0.
+    Left,
+    /// x = extent.
+    Right,
+    /// y = 0.
+    Bottom,
+    /// y = extent.
+    Top,
+}
+
 /// Something drawn over a heat map, in metres from the map's origin.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Overlay {
-    /// The plenum inlet: a bar on the left (x = 0) or right edge between `y0_m` and `y1_m`.
+    /// The plenum inlet: a bar on one edge from `from_m` to `to_m` along it.
     Inlet {
-        /// On the right edge (x = extent) instead of the left.
-        at_x_max: bool,
-        /// Lower end, m.
-        y0_m: f64,
-        /// Upper end, m.
-        y1_m: f64,
+        /// The edge holding the inlet.
+        edge: MapEdge,
+        /// Start along the edge (y on the left and right edges, x on the bottom and top), m.
+        from_m: f64,
+        /// End along the edge, m.
+        to_m: f64,
     },
     /// A block of the bed with its own permeability: a dashed outline labelled with its multiplier.
     Block {
@@ -170,6 +183,28 @@ pub enum Overlay {
         dx_m: f64,
         /// Length along the vertical axis, m.
         dy_m: f64,
+    },
+    /// A baffle in the plenum under the floor: a solid line between its ends.
+    Baffle {
+        /// One end, horizontal, m.
+        x0_m: f64,
+        /// One end, vertical, m.
+        y0_m: f64,
+        /// Other end, horizontal, m.
+        x1_m: f64,
+        /// Other end, vertical, m.
+        y1_m: f64,
+    },
+    /// A part of the floor that passes no air: an outline crossed corner to corner.
+    BlockedFloor {
+        /// Left, m.
+        x0_m: f64,
+        /// Right, m.
+        x1_m: f64,
+        /// Bottom, m.
+        y0_m: f64,
+        /// Top, m.
+        y1_m: f64,
     },
 }
 
@@ -406,6 +441,18 @@ fn heat_legend(m: &HeatMap<'_>, lo: f64, hi: f64) -> Vec<String> {
     {
         l.push("arrows: the direction of the air, their length in proportion to its speed".into());
     }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::Baffle { .. }))
+    {
+        l.push("black line: a baffle standing in the plenum under the floor".into());
+    }
+    if m.overlays
+        .iter()
+        .any(|o| matches!(o, Overlay::BlockedFloor { .. }))
+    {
+        l.push("crossed outline: floor blocked, no air from the plenum below".into());
+    }
     l.extend(m.notes.iter().cloned());
     l
 }
@@ -422,21 +469,58 @@ struct Frame {
 
 fn overlay_svg(s: &mut String, f: &Frame, o: &Overlay) {
     match *o {
-        Overlay::Inlet {
-            at_x_max,
+        Overlay::Baffle {
+            x0_m,
+            y0_m,
+            x1_m,
+            y1_m,
+        } => {
+            let (xa, ya) = (f.left + x0_m * f.sx, f.top + f.h - y0_m * f.sy);
+            let (xb, yb) = (f.left + x1_m * f.sx, f.top + f.h - y1_m * f.sy);
+            let _ = writeln!(
+                s,
+                r#"<line x1="{xa:.2}" y1="{ya:.2}" x2="{xb:.2}" y2="{yb:.2}" stroke="white" stroke-width="6"/><line x1="{xa:.2}" y1="{ya:.2}" x2="{xb:.2}" y2="{yb:.2}" stroke="black" stroke-width="3"/>"#
+            );
+        }
+        Overlay::BlockedFloor {
+            x0_m,
+            x1_m,
             y0_m,
             y1_m,
         } => {
-            let x = if at_x_max {
-                f.left + f.w - 3.0
-            } else {
-                f.left + 3.0
-            };
-            let ya = (f.top + f.h - y0_m * f.sy).clamp(f.top, f.top + f.h);
-            let yb = (f.top + f.h - y1_m * f.sy).clamp(f.top, f.top + f.h);
+            let (xa, xb) = (f.left + x0_m * f.sx, f.left + x1_m * f.sx);
+            let (ya, yb) = (f.top + f.h - y1_m * f.sy, f.top + f.h - y0_m * f.sy);
             let _ = writeln!(
                 s,
-                r#"<line x1="{x:.2}" y1="{ya:.2}" x2="{x:.2}" y2="{yb:.2}" stroke="{INLET_COLOUR}" stroke-width="6"/>"#
+                r#"<path d="M{xa:.2},{ya:.2}H{xb:.2}V{yb:.2}H{xa:.2}ZL{xb:.2},{yb:.2}M{xb:.2},{ya:.2}L{xa:.2},{yb:.2}" fill="none" stroke="white" stroke-width="3"/><path d="M{xa:.2},{ya:.2}H{xb:.2}V{yb:.2}H{xa:.2}ZL{xb:.2},{yb:.2}M{xb:.2},{ya:.2}L{xa:.2},{yb:.2}" fill="none" stroke="black" stroke-width="1.2"/>"#
+            );
+        }
+        Overlay::Inlet { edge, from_m, to_m } => {
+            let (x1, y1, x2, y2) = match edge {
+                MapEdge::Left | MapEdge::Right => {
+                    let x = if edge == MapEdge::Right {
+                        f.left + f.w - 3.0
+                    } else {
+                        f.left + 3.0
+                    };
+                    let ya = (f.top + f.h - from_m * f.sy).clamp(f.top, f.top + f.h);
+                    let yb = (f.top + f.h - to_m * f.sy).clamp(f.top, f.top + f.h);
+                    (x, ya, x, yb)
+                }
+                MapEdge::Bottom | MapEdge::Top => {
+                    let y = if edge == MapEdge::Top {
+                        f.top + 3.0
+                    } else {
+                        f.top + f.h - 3.0
+                    };
+                    let xa = (f.left + from_m * f.sx).clamp(f.left, f.left + f.w);
+                    let xb = (f.left + to_m * f.sx).clamp(f.left, f.left + f.w);
+                    (xa, y, xb, y)
+                }
+            };
+            let _ = writeln!(
+                s,
+                r#"<line x1="{x1:.2}" y1="{y1:.2}" x2="{x2:.2}" y2="{y2:.2}" stroke="{INLET_COLOUR}" stroke-width="6"/>"#
             );
         }
         Overlay::Block {
