@@ -720,7 +720,8 @@ pub fn solve_with_plenum_from(
             };
             return newton_outer(&mut sys, plenum, &closure, start, outer, settings, &ctx);
         }
-        if it > 1 && change < settings.tolerance {
+        // An inexact plenum (the 2-D flow, a few iterations per call) must also have met its own tolerance.
+        if it > 1 && change < settings.tolerance && plenum.converged() {
             let top = sys.top_flow_m3_per_s(&p);
             let bfp = sys.bottom_face_pressure_pa(&p, &p_pl);
             let warm = WarmStart {
