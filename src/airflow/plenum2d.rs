@@ -1034,7 +1034,7 @@ impl Anderson {
 fn solve_small(a: &mut [f64], b: &mut [f64], m: usize) -> Option<Vec<f64>> {
     for c in 0..m {
         let piv = (c..m).max_by(|&i, &j| a[i * m + c].abs().total_cmp(&a[j * m + c].abs()))?;
-        if !(a[piv * m + c].abs() > 0.0) {
+        if a[piv * m + c] == 0.0 || !a[piv * m + c].is_finite() {
             return None;
         }
         if piv != c {

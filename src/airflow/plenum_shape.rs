@@ -12,12 +12,17 @@
 //! flux of `h/h_inlet` times its depth-mean value. The inlet static pressure is the mean over the cells along the
 //! opening.
 //!
-//! Status: with the default mixing length c_m = 0.3 (see [`Plenum2dParams`]) and momentum relaxation 0.5 the
-//! coupled solve converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m plenum);
-//! with c_m = 0.1 it does not (limit cycle). On the 32 × 12 × 10 grid it meets the trade's picture
-//! (`tests/airflow_plenum2d.rs`, 2026-12-03: 352 outer iterations, 61 s wall, 23 s CPU at load average 7) but
-//! takes a minute, against well under a second for the duct, so the container file chooses it
-//! (`"plenum": {"model": "2d"}`) and the 1-D duct stays the default until the pressure correction is faster.
+//! Status: the coupled loop calls the 2-D plenum inexactly: 20 Anderson-accelerated SIMPLEC iterations per call
+//! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`), and stops only when the bed has settled
+//! and the plenum meets its own tolerance ([`Plenum::converged`]). With the default mixing length c_m = 0.3 (see
+//! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
+//! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
+//! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
+//! iterations and 23 s of CPU with plain SIMPLEC to 1e-7 on every call); at 64 × 24 × 32 with the fan, 150 outer /
+//! 2 980 SIMPLEC iterations, about 26 s of CPU, against the 0.5 s and about 0.2 s for the 1-D duct; a warm
+//! re-solve is no faster than a cold one. The plenum is the whole cost, and its slowest SIMPLEC mode needs more
+//! iterations on a finer plenum grid. So the container file chooses it (`"plenum": {"model": "2d"}`) and the 1-D
+//! duct stays the default.
 use serde::{Deserialize, Serialize};
 
 use super::geometry::{Container, Grid};
@@ -96,6 +101,11 @@ pub trait Plenum {
     /// the coupled loop does not stop before it does. Direct models always answer true.
     fn converged(&self) -> bool {
         true
+    }
+    /// δ per column of the state the plenum keeps from its last call, at density `rho`, or None if it keeps none:
+    /// where a re-solve during a drying run starts its plenum shape (a warm start), instead of a uniform plenum.
+    fn kept_shape_pa(&self, _rho_kg_per_m3: f64) -> Option<Vec<f64>> {
+        None
     }
 }
 
@@ -223,24 +233,36 @@ impl Plenum for Plenum2d {
         let stats = advance_flow(d, &prm, &mut self.state, SIMPLEC_PER_CALL, ANDERSON_DEPTH)?;
         self.total_iters += stats.iters;
         self.last = Some(stats);
+        Ok(self.shape_of_state(rho))
+    }
+
+    fn converged(&self) -> bool {
+        self.last.is_some_and(|s| s.converged)
+    }
+
+    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
+        self.last.map(|_| self.shape_of_state(rho))
+    }
+}
+
+impl Plenum2d {
+    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
+    fn shape_of_state(&self, rho: f64) -> Vec<f64> {
         let d = &self.domain;
+        let (r, ny_c) = (self.r, self.grid.ny);
         let p_in: f64 = self
             .inlet
             .iter()
             .map(|&(k, share)| share * self.state.p[(k / (d.nx + 1)) * d.nx])
             .sum();
-        let mut out = vec![0.0; q.len()];
+        let mut out = vec![0.0; self.grid.nx * ny_c];
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let c = (ii / r) * ny_c + jj / r;
                 out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
             }
         }
-        Ok(out)
-    }
-
-    fn converged(&self) -> bool {
-        self.last.is_some_and(|s| s.converged)
+        out
     }
 }
 
