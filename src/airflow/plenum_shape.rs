@@ -19,8 +19,8 @@
 //! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
 //! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
 //! iterations and 23 s of CPU with plain SIMPLEC to 1e-7 on every call); at 64 × 24 × 32 with the fan, 150 outer /
-//! 2 980 SIMPLEC iterations, about 26 s of CPU, against the 0.5 s and about 0.2 s for the 1-D duct; a warm
-//! re-solve is no faster than a cold one. The plenum is the whole cost, and its slowest SIMPLEC mode needs more
+//! 2 980 SIMPLEC iterations, about 26–31 s of CPU, against the 0.5 s and about 0.2 s for the 1-D duct; a
+//! warm re-solve (from the kept field and its shape, [`Plenum::kept_shape_pa`]) takes 129 / 2 560, 0.8 of cold. The plenum is the whole cost, and its slowest SIMPLEC mode needs more
 //! iterations on a finer plenum grid. So the container file chooses it (`"plenum": {"model": "2d"}`) and the 1-D
 //! duct stays the default.
 use serde::{Deserialize, Serialize};
