@@ -13,18 +13,23 @@
 //! height` of the depth, so it enters with a momentum flux of `h/h_inlet` times its depth-mean value. The inlet
 //! static pressure is the mean over the cells along the opening.
 //!
-//! Status: with the default mixing length c_m = 0.3 (see [`Plenum2dParams`]) and momentum relaxation 0.5 the
-//! coupled solve converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m plenum);
-//! with c_m = 0.1 it does not (limit cycle). On the 32 × 12 × 10 grid it meets the trade's picture
-//! (`tests/airflow_plenum2d.rs`, 2026-12-03: 352 outer iterations, 61 s wall, 23 s CPU at load average 7) but
-//! takes a minute, against well under a second for the duct, so the container file chooses it
-//! (`"plenum": {"model": "2d"}`) and the 1-D duct stays the default until the pressure correction is faster.
+//! Status: the coupled loop calls the 2-D plenum inexactly: 20 Anderson-accelerated SIMPLEC iterations per call
+//! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`), and stops only when the bed has settled
+//! and the plenum meets its own tolerance ([`Plenum::converged`]). With the default mixing length c_m = 0.3 (see
+//! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
+//! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
+//! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
+//! iterations and 23 s of CPU with plain SIMPLEC to 1e-7 on every call); at 64 × 24 × 32 with the fan, 150 outer /
+//! 2 980 SIMPLEC iterations, about 26–31 s of CPU, against the 0.5 s and about 0.2 s for the 1-D duct; a
+//! warm re-solve (from the kept field and its shape, [`Plenum::kept_shape_pa`]) takes 129 / 2 560, 0.8 of cold. The plenum is the whole cost, and its slowest SIMPLEC mode needs more
+//! iterations on a finer plenum grid. So the container file chooses it (`"plenum": {"model": "2d"}`) and the 1-D
+//! duct stays the default.
 use serde::{Deserialize, Serialize};
 
 use super::geometry::{Container, Grid};
 use super::plenum::{profile, PlenumGeometry, PlenumModel};
 use super::plenum2d::{
-    solve_flow, FlowDomain, FlowError, FlowParams, FlowState, FlowStats, Scheme,
+    advance_flow, FlowDomain, FlowError, FlowParams, FlowState, FlowStats, Scheme,
 };
 use super::plenum_layout::{FaceKind, InletFace, PlenumLayout};
 use super::plenum_map::{MapFrame, PlenumMap};
@@ -32,6 +37,22 @@ use crate::error::InputError;
 
 /// Kinematic viscosity of air near 30 °C, m²/s (ASHRAE 2017 ch. 33 tables, about 1.6e-5; from memory).
 const NU_AIR: f64 = 1.6e-5;
+
+/// SIMPLEC iterations per [`Plenum::shape_pa`] call of the 2-D plenum. The coupled loop changes the floor outflow
+/// between calls, so solving the plenum fully each time is wasted work; its stop test waits for
+/// [`Plenum::converged`]. Measured on the 6.4 m trailer at 32 × 12 × 10 (2026-12-03): 10 per call took 98 outer
+/// iterations and 970 SIMPLEC iterations, 20 per call 31 and 600.
+const SIMPLEC_PER_CALL: u32 = 20;
+
+/// Differences kept by the Anderson acceleration of the plenum's SIMPLEC iterations (`plenum2d::advance_flow`).
+const ANDERSON_DEPTH: usize = 5;
+
+/// Momentum relaxation of the accelerated inexact solve, in place of the 0.5 that [`Plenum2d::new`] sets for a
+/// plain SIMPLEC solve. Measured on the 6.4 m trailer at 32 × 12 × 10 with 20 iterations per call (2026-12-03):
+/// plain SIMPLEC at 0.85 took 197 outer / 2016 SIMPLEC iterations; Anderson-accelerated at 0.85, 44 / 459 (one
+/// iteration per call once converged; 31 / 600 with all 20, as now); Anderson-accelerated at 0.5 stalled with a
+/// velocity change of 1.4e-5 per iteration. The converged field is the same (it does not depend on relaxation).
+const RELAX_ACCELERATED: f64 = 0.85;
 
 /// Settings of the 2-D plenum (numerical-model settings with documented defaults).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -81,6 +102,17 @@ pub trait Plenum {
     }
     /// The plenum's own flow field after the last call, for the outputs (only a plenum that has one).
     fn flow_map(&self, _frame: MapFrame) -> Option<PlenumMap> {
+        None
+    }
+    /// True when the plenum's own iteration met its tolerance in the last [`Plenum::shape_pa`] call. A plenum
+    /// solved inexactly (a few iterations per call, continuing from its kept state) answers false until it has;
+    /// the coupled loop does not stop before it does. Direct models always answer true.
+    fn converged(&self) -> bool {
+        true
+    }
+    /// δ per column of the state the plenum keeps from its last call, at density `rho`, or None if it keeps none:
+    /// where a re-solve during a drying run starts its plenum shape (a warm start), instead of a uniform plenum.
+    fn kept_shape_pa(&self, _rho_kg_per_m3: f64) -> Option<Vec<f64>> {
         None
     }
 }
@@ -199,19 +231,22 @@ impl Plenum for Plenum2d {
                 FaceKind::Y => d.v_fixed[f.face] = v,
             }
         }
-        let stats = solve_flow(d, &self.params, &mut self.state)?;
+        let prm = FlowParams {
+            relax_velocity: RELAX_ACCELERATED,
+            ..self.params
+        };
+        let stats = advance_flow(d, &prm, &mut self.state, SIMPLEC_PER_CALL, ANDERSON_DEPTH)?;
         self.total_iters += stats.iters;
         self.last = Some(stats);
-        let p_in = self.inlet_kinematic();
-        let d = &self.domain;
-        let mut out = vec![0.0; q.len()];
-        for jj in 0..d.ny {
-            for ii in 0..d.nx {
-                let c = (ii / r) * ny_c + jj / r;
-                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
-            }
-        }
-        Ok(out)
+        Ok(self.shape_of_state(rho))
+    }
+
+    fn converged(&self) -> bool {
+        self.last.is_some_and(|s| s.converged)
+    }
+
+    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
+        self.last.map(|_| self.shape_of_state(rho))
     }
 
     fn flow_map(&self, frame: MapFrame) -> Option<PlenumMap> {
@@ -222,6 +257,23 @@ impl Plenum for Plenum2d {
             p_in,
             frame,
         ))
+    }
+}
+
+impl Plenum2d {
+    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
+    fn shape_of_state(&self, rho: f64) -> Vec<f64> {
+        let d = &self.domain;
+        let (r, ny_c) = (self.r, self.grid.ny);
+        let p_in = self.inlet_kinematic();
+        let mut out = vec![0.0; self.grid.nx * ny_c];
+        for jj in 0..d.ny {
+            for ii in 0..d.nx {
+                let c = (ii / r) * ny_c + jj / r;
+                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
+            }
+        }
+        out
     }
 }
 

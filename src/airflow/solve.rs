@@ -581,7 +581,11 @@ fn solve_coupled(
     let mut p_in_prev = 0.0;
     let mut p = vec![0.0; n];
     let mut prev = vec![0.0; n];
-    let mut delta_col = vec![0.0; nc];
+    // a plenum that keeps its field from a previous solve (the 2-D flow) starts from that field's shape
+    let mut delta_col = plenum
+        .kept_shape_pa(rho)
+        .filter(|d| d.len() == nc)
+        .unwrap_or_else(|| vec![0.0; nc]);
     let mut linear_total = 0;
     let mut last_change: f64 = 1.0;
     let closure = Closure {
@@ -747,7 +751,8 @@ fn solve_coupled(
             };
             return newton_outer(&mut sys, plenum, &closure, start, outer, settings, &ctx);
         }
-        if it > 1 && change < settings.tolerance {
+        // An inexact plenum (the 2-D flow, a few iterations per call) must also have met its own tolerance.
+        if it > 1 && change < settings.tolerance && plenum.converged() {
             let top = sys.top_flow_m3_per_s(&p);
             let bfp = sys.bottom_face_pressure_pa(&p, &p_pl);
             let warm = WarmStart {
