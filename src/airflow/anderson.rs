@@ -1,10 +1,10 @@
 //! Anderson acceleration of the Picard outer iteration (`airflow::solve`): from the last few Picard steps
 //! y → G(y), the next state is `G(y_k) − Σ γ_j·ΔG_j`, with γ the least-squares fit of the current step's residual
 //! `f_k = G(y_k) − y_k` by the differences of earlier residuals ΔF_j, in a weighted norm. The state is what one
-//! Picard step carries to the next: ln of every cell's speed, ln of every floor speed and the plenum shape δ (Pa).
-//! Weights make each part a relative change of what matters: a cell's ln speed by its speed over the mean speed
-//! (so the near-stagnant cells, whose ln speeds swing widely, do not steer the fit), the floor's likewise, and δ
-//! by one over the largest pressure. The fixed point is Picard's own; only the path to it changes.
+//! Picard step carries to the next: every cell's speed, every floor speed (m/s) and the plenum shape δ (Pa).
+//! Weights make each part a change relative to its scale: speeds over the mean cell (or floor) speed, so a
+//! near-stagnant cell weighs by its small absolute change, and δ over the largest pressure. The fixed point is
+//! Picard's own; only the path to it changes.
 //!
 //! Safeguards: at most `depth` differences are kept; a column whose part orthogonal to the earlier ones is below
 //! 1e-10 of its length is dropped (the least squares stays well posed as the steps shrink); the history is

@@ -813,11 +813,11 @@ fn start_warm(sys: &mut BedSystem, w: &WarmStart, p: &mut [f64], delta: &mut [f6
     delta.copy_from_slice(&w.shape_pa);
 }
 
-/// What one Picard step hands the next: ln of the cell speeds, ln of the floor speeds, the plenum shape (Pa).
+/// What one Picard step hands the next: the cell speeds and floor speeds (m/s), the plenum shape (Pa).
 fn outer_state(sys: &BedSystem, delta: &[f64]) -> Vec<f64> {
-    let ln = |s: &f64| s.abs().max(1e-12).ln();
-    let mut y: Vec<f64> = sys.speed_for_k.iter().map(ln).collect();
-    y.extend(sys.floor_speed.iter().map(ln));
+    let mut y = Vec::with_capacity(sys.speed_for_k.len() + 2 * delta.len());
+    y.extend(sys.speed_for_k.iter().map(|s| s.abs()));
+    y.extend(sys.floor_speed.iter().map(|s| s.abs()));
     y.extend_from_slice(delta);
     y
 }
@@ -827,23 +827,24 @@ fn outer_state(sys: &BedSystem, delta: &[f64]) -> Vec<f64> {
 fn accelerate(acc: &mut Anderson, y: &[f64], sys: &mut BedSystem, delta: &mut [f64], p: &[f64]) {
     let (n, nc) = (sys.speed_for_k.len(), sys.floor_speed.len());
     let g = outer_state(sys, delta);
-    let mean = |v: &[f64]| v.iter().map(|s| s.abs()).sum::<f64>() / v.len().max(1) as f64;
-    let (ms, mf) = (mean(&sys.speed_for_k), mean(&sys.floor_speed));
+    let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len().max(1) as f64;
+    let (ms, mf) = (mean(&g[..n]), mean(&g[n..n + nc]));
     let pmax = p.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let relative = |s: &f64, m: f64| if m > 0.0 { s.abs() / m } else { 1.0 };
-    let mut w: Vec<f64> = sys.speed_for_k.iter().map(|s| relative(s, ms)).collect();
-    w.extend(sys.floor_speed.iter().map(|s| relative(s, mf)));
-    w.extend(std::iter::repeat_n(
-        if pmax > 0.0 { 1.0 / pmax } else { 1.0 },
-        nc,
-    ));
+    let inv = |m: f64| if m > 0.0 { 1.0 / m } else { 1.0 };
+    let mut w = Vec::with_capacity(g.len());
+    w.extend(std::iter::repeat_n(inv(ms), n));
+    w.extend(std::iter::repeat_n(inv(mf), nc));
+    w.extend(std::iter::repeat_n(inv(pmax), nc));
     let next = acc.next(y, &g, &w);
     if next.iter().all(|v| v.is_finite()) {
+        // A mixed speed stays within a factor 10 of the plain step's: far from the fixed point the linear mix
+        // could otherwise leave a speed at or below zero.
+        let keep = |s: &mut f64, v: f64| *s = v.clamp(0.1 * s.abs(), 10.0 * s.abs());
         for (s, v) in sys.speed_for_k.iter_mut().zip(&next[..n]) {
-            *s = v.exp();
+            keep(s, *v);
         }
         for (s, v) in sys.floor_speed.iter_mut().zip(&next[n..n + nc]) {
-            *s = v.exp();
+            keep(s, *v);
         }
         delta.copy_from_slice(&next[n + nc..]);
     }
