@@ -1,7 +1,8 @@
 //! Steady airflow solve of the invented 6.4 m trailer (`models/containers/trailer-6m.json`, level 1.25 m fill, a
 //! packed block, leakage, fan `vane-3kw`, manifold plenum) at about 50 000 and 500 000 cells. Targets: under 0.5 s
-//! and under 5 s median on the 2-core development machine. At 64×24×32 the Newton–Krylov outer iteration, Picard
-//! and a warm Newton re-solve (plenum air 3 K warmer) run side by side. Run quickly with
+//! and under 5 s median on the 2-core development machine. At 64×24×32 the default outer iteration (Picard with
+//! Anderson acceleration), plain Picard, Newton–Krylov and warm re-solves (plenum air 3 K warmer, from the last
+//! solution) by the default iteration and by Newton run side by side. Run quickly with
 //! `cargo bench --bench airflow -- --warm-up-time 1 --measurement-time 2`.
 use std::path::PathBuf;
 
@@ -52,39 +53,52 @@ fn bench(c: &mut Criterion) {
             nz: 64,
         },
     ] {
+        // The default outer iteration: Picard with Anderson acceleration.
         let settings = SolverSettings {
             grid,
-            method: OuterMethod::Newton,
             ..SolverSettings::default()
         };
         let s = solve(&container, &flow, &law, &air, &settings).unwrap();
         if grid.nx == 64 {
-            // Side by side in the same run: Picard, and a warm re-solve for 3 K warmer plenum air.
-            let picard = SolverSettings {
-                method: OuterMethod::Picard,
-                ..settings
-            };
+            // Side by side in the same run: plain Picard, Newton–Krylov, and warm re-solves for 3 K warmer plenum
+            // air from the last solution, by the default iteration and by Newton.
+            let with = |method| SolverSettings { method, ..settings };
+            let (picard, newton) = (with(OuterMethod::Picard), with(OuterMethod::Newton));
             let p = solve(&container, &flow, &law, &air, &picard).unwrap();
+            let n = solve(&container, &flow, &law, &air, &newton).unwrap();
             let warmer = AirPath::same(AirState::from_rh(33.0, 0.45, 101_325.0));
             let w = solve_from(&container, &flow, &law, &warmer, &settings, Some(&s.warm)).unwrap();
-            eprintln!(
-                "64x24x32: Picard {} outer / {} CG; warm re-solve {} outer / {} GMRES",
-                p.converged.iters,
-                p.converged.linear_iters,
-                w.converged.iters,
-                w.converged.linear_iters
-            );
+            let wn = solve_from(&container, &flow, &law, &warmer, &newton, Some(&n.warm)).unwrap();
+            for (what, r) in [
+                ("Picard", &p),
+                ("Newton", &n),
+                ("warm re-solve", &w),
+                ("warm Newton re-solve", &wn),
+            ] {
+                eprintln!(
+                    "64x24x32 {what}: {} outer / {} linear (CG or GMRES) iterations",
+                    r.converged.iters, r.converged.linear_iters
+                );
+            }
             g.bench_function("trailer-6m 64x24x32 picard", |b| {
                 b.iter(|| solve(&container, &flow, &law, &air, &picard).unwrap())
+            });
+            g.bench_function("trailer-6m 64x24x32 newton", |b| {
+                b.iter(|| solve(&container, &flow, &law, &air, &newton).unwrap())
             });
             g.bench_function("trailer-6m 64x24x32 warm re-solve", |b| {
                 b.iter(|| {
                     solve_from(&container, &flow, &law, &warmer, &settings, Some(&s.warm)).unwrap()
                 })
             });
+            g.bench_function("trailer-6m 64x24x32 warm newton re-solve", |b| {
+                b.iter(|| {
+                    solve_from(&container, &flow, &law, &warmer, &newton, Some(&n.warm)).unwrap()
+                })
+            });
         }
         eprintln!(
-            "{}x{}x{} = {} cells (Newton): {} outer, {} linear iterations, residual {:.1e}",
+            "{}x{}x{} = {} cells (default, Anderson): {} outer, {} linear iterations, residual {:.1e}",
             grid.nx,
             grid.ny,
             grid.nz,

@@ -8,6 +8,7 @@
 //!
 //! References: Shedd (1953) / ASAE D272 for the bed law; DOMAIN.md §1.4 (floor), §1.6 (solver), §8.1 (fans).
 
+mod anderson;
 pub mod bed;
 pub mod fan;
 pub mod fit;

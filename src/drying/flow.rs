@@ -1,5 +1,7 @@
 //! The airflow solver as the batch run's flow provider: solved for the plenum air's density and, through the D272
-//! high-moisture factor, for the bed's moisture, and re-solved only when the run says these changed enough.
+//! high-moisture factor, for the bed's moisture, and re-solved only when the run says these changed enough. Each
+//! re-solve starts from the last solution (`airflow::solve_from`), which differs from the new one only by the small
+//! change that triggered it.
 //! Fan power is air power (flow × fan static pressure) over the fan's total efficiency; the motor sits in the air
 //! stream of a vaneaxial fan, so all of its electrical input ends as heat in the drying air (common practice, no
 //! source).
@@ -8,7 +10,7 @@ use crate::airflow::bed::BedLaw;
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Container;
 use crate::airflow::path::AirPath;
-use crate::airflow::solve::{solve, AirflowError, AirflowSolution, SolverSettings};
+use crate::airflow::solve::{solve_from, AirflowError, AirflowSolution, SolverSettings};
 use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
 use crate::props::resistance::d272_moisture_factor;
@@ -36,7 +38,7 @@ pub struct SolvedFlow<'a> {
     pub efficiency: FanEfficiency,
     /// Equilibrium RH of the bed at a mean pod moisture (dry basis), for the D272 high-moisture factor.
     pub bed_erh: Box<dyn Fn(f64) -> f64 + Send + Sync + 'a>,
-    /// The last solution, for reports.
+    /// The last solution, for reports and as the next re-solve's starting point.
     pub last: Option<AirflowSolution>,
     /// The first solution solved since this was last cleared (a load keeps the one for its start's plenum air).
     pub first: Option<AirflowSolution>,
@@ -72,7 +74,15 @@ impl FlowProvider for SolvedFlow<'_> {
             }
         }
         law.packing_factor *= factor;
-        let sol = solve(self.container, &self.flow, &law, &path, &self.settings)?;
+        let warm = self.last.as_ref().map(|s| &s.warm);
+        let sol = solve_from(
+            self.container,
+            &self.flow,
+            &law,
+            &path,
+            &self.settings,
+            warm,
+        )?;
         let field = field_from_solution(&sol, self.efficiency);
         if self.first.is_none() {
             self.first = Some(sol.clone());

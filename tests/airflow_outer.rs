@@ -1,0 +1,211 @@
+//! The default outer iteration (Picard with Anderson acceleration, `airflow::anderson`) and warm starts from a
+//! previous solution, against plain Picard (the iteration before acceleration) on the same loads: the same
+//! solution to 1e-9 relative with both driven to 1e-12, fewer outer steps, and a warm re-solve after a small change
+//! of air or of the D272 wet factor — as a drying run makes them, through `drying::flow::SolvedFlow` — that lands
+//! on the cold solve's answer in fewer outer steps.
+mod common;
+
+use dryfront::airflow::{
+    solve, solve_from, AirPath, AirflowSolution, BedLaw, Container, Fill, FlowSpec, Grid,
+    OuterMethod, PlenumModel, SolverSettings,
+};
+use dryfront::drying::flow::{FanEfficiency, SolvedFlow};
+use dryfront::drying::run::FlowProvider;
+use dryfront::props::psychro::AirState;
+
+const GRID: Grid = Grid {
+    nx: 24,
+    ny: 10,
+    nz: 12,
+};
+
+fn settings(method: OuterMethod, plenum: PlenumModel, tolerance: f64) -> SolverSettings {
+    SolverSettings {
+        grid: GRID,
+        plenum,
+        method,
+        tolerance,
+        // Driven to 1e-12 the outer change must not stall on linear round-off: linear solves to 1e-13 then.
+        linear_tolerance: if tolerance < 1e-10 { 1e-13 } else { 1e-10 },
+        ..SolverSettings::default()
+    }
+}
+
+fn trailer() -> Container {
+    let mut c = common::container("trailer-6m");
+    c.fill = Fill::Crowned {
+        edge_depth_m: 1.1,
+        peak_depth_m: 1.4,
+    };
+    c
+}
+
+fn fan() -> FlowSpec {
+    FlowSpec::Fan(common::fan("vane-3kw"))
+}
+
+fn run(s: &SolverSettings, law: &BedLaw, air: AirState) -> AirflowSolution {
+    solve(&trailer(), &fan(), law, &AirPath::same(air), s).unwrap()
+}
+
+/// Largest difference of cell pressures and of top velocities, each over its largest magnitude, and of the fan
+/// flow.
+fn max_rel_diff(a: &AirflowSolution, b: &AirflowSolution) -> f64 {
+    let rel = |x: &mut dyn Iterator<Item = (f64, f64)>| {
+        let (d, m) = x.fold((0.0f64, 0.0f64), |(d, m), (p, q)| {
+            (d.max((p - q).abs()), m.max(q.abs()))
+        });
+        d / m
+    };
+    let dp = rel(&mut a
+        .pressure_pa
+        .iter()
+        .copied()
+        .zip(b.pressure_pa.iter().copied()));
+    let dv = rel(&mut a
+        .top_velocity_m_per_s
+        .iter()
+        .copied()
+        .zip(b.top_velocity_m_per_s.iter().copied()));
+    let fa = a.operating_point.fan_flow_m3_per_s;
+    let fb = b.operating_point.fan_flow_m3_per_s;
+    dp.max(dv).max((fa - fb).abs() / fb)
+}
+
+#[test]
+fn anderson_reaches_picards_solution_in_fewer_steps() {
+    for plenum in [PlenumModel::Uniform, PlenumModel::default()] {
+        let law = common::peanut(1.5);
+        // Driven to 1e-12, the two iterations must agree to 1e-9 (the check; both stop on a pressure change
+        // of 1e-12, and the residual linear error is at the 1e-10 linear tolerance's level).
+        let p = run(
+            &settings(OuterMethod::Picard, plenum, 1e-12),
+            &law,
+            common::air(),
+        );
+        let a = run(
+            &settings(OuterMethod::Anderson, plenum, 1e-12),
+            &law,
+            common::air(),
+        );
+        let d = max_rel_diff(&a, &p);
+        eprintln!(
+            "{plenum:?} at 1e-12: Picard {} outer / {} CG, Anderson {} outer / {} CG, difference {d:.1e}\n  Anderson changes {:?}",
+            p.converged.iters,
+            p.converged.linear_iters,
+            a.converged.iters,
+            a.converged.linear_iters,
+            a.changes
+        );
+        assert!(d < 1e-9, "{plenum:?}: {d:e}");
+        assert!(a.converged.iters < p.converged.iters, "{plenum:?}");
+        // At the default tolerance (1e-8) both stop within a few times the tolerance of the fixed point.
+        let p8 = run(
+            &settings(OuterMethod::Picard, plenum, 1e-8),
+            &law,
+            common::air(),
+        );
+        let a8 = run(
+            &settings(OuterMethod::Anderson, plenum, 1e-8),
+            &law,
+            common::air(),
+        );
+        let d8 = max_rel_diff(&a8, &p);
+        let dp8 = max_rel_diff(&p8, &p);
+        eprintln!(
+            "{plenum:?} at 1e-8: Picard {} outer ({dp8:.1e} from the 1e-12 answer), Anderson {} outer ({d8:.1e})",
+            p8.converged.iters, a8.converged.iters
+        );
+        assert!(d8 < 5e-8, "{plenum:?}: {d8:e}");
+        assert!(a8.converged.iters < p8.converged.iters, "{plenum:?}");
+    }
+}
+
+#[test]
+fn warm_resolve_after_small_change_lands_on_the_cold_answer() {
+    let s = settings(OuterMethod::Anderson, PlenumModel::default(), 1e-8);
+    let law = common::peanut(1.5);
+    let first = run(&s, &law, common::air());
+    // 30 → 33 °C, 50 → 45 % RH (density about 1 % lower); and the D272 wet factor 0.8 switched on.
+    let warmer = AirState::from_rh(33.0, 0.45, 101_325.0);
+    let wet = BedLaw {
+        packing_factor: 1.5 * 0.8,
+        ..law
+    };
+    for (what, law, air) in [
+        ("3 K warmer", law, warmer),
+        ("D272 factor", wet, common::air()),
+    ] {
+        let warm = solve_from(
+            &trailer(),
+            &fan(),
+            &law,
+            &AirPath::same(air),
+            &s,
+            Some(&first.warm),
+        )
+        .unwrap();
+        let cold = run(&s, &law, air);
+        let tight = run(
+            &settings(OuterMethod::Picard, PlenumModel::default(), 1e-12),
+            &law,
+            air,
+        );
+        let (d, dc) = (max_rel_diff(&warm, &tight), max_rel_diff(&cold, &tight));
+        eprintln!(
+            "{what}: warm {} outer / {} CG {:?}, cold {} outer / {} CG; from the 1e-12 answer: warm {d:.1e}, cold {dc:.1e}",
+            warm.converged.iters,
+            warm.converged.linear_iters,
+            warm.changes,
+            cold.converged.iters,
+            cold.converged.linear_iters
+        );
+        assert!(warm.converged.iters < cold.converged.iters, "{what}");
+        // both stop on a 1e-8 pressure change: within a few times that of the fixed point
+        assert!(d < 5e-8 && dc < 5e-8, "{what}: {d:e}, {dc:e}");
+    }
+}
+
+#[test]
+fn drying_runs_resolve_from_the_last_solution() {
+    let c = trailer();
+    let mut flow = SolvedFlow {
+        container: &c,
+        flow: fan(),
+        law: common::peanut(1.5),
+        settings: settings(OuterMethod::Anderson, PlenumModel::default(), 1e-8),
+        efficiency: FanEfficiency {
+            fan: 0.55,
+            motor: 0.88,
+        },
+        bed_erh: Box::new(|_| 0.7),
+        last: None,
+        first: None,
+        last_key: None,
+    };
+    let a = common::air();
+    flow.flow(&a, &a, 0.25).unwrap();
+    let cold_iters = flow.last.as_ref().unwrap().converged.iters;
+    let b = AirState::from_rh(32.0, 0.45, 101_325.0);
+    flow.flow(&a, &b, 0.25).unwrap();
+    let warm = flow.last.clone().unwrap();
+    let cold = solve(
+        &c,
+        &fan(),
+        &common::peanut(1.5),
+        &AirPath {
+            ambient: a,
+            plenum: b,
+        },
+        &flow.settings,
+    )
+    .unwrap();
+    eprintln!(
+        "run's re-solve: {} outer (cold {} and {cold_iters} at the start), difference {:.1e}",
+        warm.converged.iters,
+        cold.converged.iters,
+        max_rel_diff(&warm, &cold)
+    );
+    assert!(warm.converged.iters < cold.converged.iters);
+    assert!(max_rel_diff(&warm, &cold) < 5e-8);
+}
