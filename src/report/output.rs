@@ -171,6 +171,8 @@ impl OutputSet {
         inputs: &[PathBuf],
         replace: bool,
     ) -> Result<(), OutputError> {
+        // Inputs first: nothing is created near an input the set may not touch.
+        check_inputs(target, inputs)?;
         let parent = parent_of(target);
         std::fs::create_dir_all(&parent).map_err(io_err(&parent))?;
         let name = folder_name(target);
