@@ -275,6 +275,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         last: None,
         first: None,
         last_key: None,
+        plenum: None,
     }
 }
 

@@ -284,7 +284,7 @@ pub fn build(
     model: &PlenumModel,
     container: &Container,
     grid: Grid,
-) -> Result<Box<dyn Plenum>, InputError> {
+) -> Result<Box<dyn Plenum + Send>, InputError> {
     if let Some((field, message)) = container.plenum_model_limit(model) {
         return Err(InputError::argument(
             "plenum model",

@@ -279,9 +279,26 @@ pub fn solve_from(
     settings: &SolverSettings,
     warm: Option<&WarmStart>,
 ) -> Result<AirflowSolution, AirflowError> {
+    solve_keeping(container, flow, law, air, settings, &mut None, warm)
+}
+
+/// As [`solve_from`], with the plenum kept in `kept` between calls (built on the first): a plenum with a state of
+/// its own (the 2-D plenum's flow field) then starts each re-solve of a drying run from where the last one ended.
+pub fn solve_keeping(
+    container: &Container,
+    flow: &FlowSpec,
+    law: &BedLaw,
+    air: &AirPath,
+    settings: &SolverSettings,
+    kept: &mut Option<Box<dyn Plenum + Send>>,
+    warm: Option<&WarmStart>,
+) -> Result<AirflowSolution, AirflowError> {
     check_law(law)?;
     let disc = container.discretize(settings.grid)?;
-    let mut plenum = build(&settings.plenum, container, disc.grid)?;
+    let plenum = match kept {
+        Some(p) => p,
+        None => kept.insert(build(&settings.plenum, container, disc.grid)?),
+    };
     solve_with_plenum_from(
         container,
         &disc,

@@ -10,7 +10,8 @@ use crate::airflow::bed::BedLaw;
 use crate::airflow::fan::FlowSpec;
 use crate::airflow::geometry::Container;
 use crate::airflow::path::AirPath;
-use crate::airflow::solve::{solve_from, AirflowError, AirflowSolution, SolverSettings};
+use crate::airflow::plenum_shape::Plenum;
+use crate::airflow::solve::{solve_keeping, AirflowError, AirflowSolution, SolverSettings};
 use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
 use crate::props::resistance::d272_moisture_factor;
@@ -45,6 +46,8 @@ pub struct SolvedFlow<'a> {
     /// Ambient and plenum air density and D272 factor the last solution was solved for; a request with the same
     /// three reuses it.
     pub last_key: Option<(f64, f64, f64)>,
+    /// The plenum, kept between re-solves (a 2-D plenum keeps its flow field: each re-solve starts from it).
+    pub plenum: Option<Box<dyn Plenum + Send>>,
 }
 
 impl FlowProvider for SolvedFlow<'_> {
@@ -75,12 +78,13 @@ impl FlowProvider for SolvedFlow<'_> {
         }
         law.packing_factor *= factor;
         let warm = self.last.as_ref().map(|s| &s.warm);
-        let sol = solve_from(
+        let sol = solve_keeping(
             self.container,
             &self.flow,
             &law,
             &path,
             &self.settings,
+            &mut self.plenum,
             warm,
         )?;
         let field = field_from_solution(&sol, self.efficiency);
