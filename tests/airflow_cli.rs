@@ -10,24 +10,8 @@
 //! - a bad value is one line naming the option or file and field, exit code 2, nothing written.
 mod common;
 
-use std::path::Path;
-use std::process::Command;
-
 use approx::assert_relative_eq;
 use serde_json::Value;
-
-fn dryfront(args: &[&str], dir: &Path) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
 
 /// The options of the example, on a coarse grid to keep the test quick.
 fn base<'a>(extra: &[&'a str]) -> Vec<&'a str> {
@@ -59,7 +43,7 @@ fn crop_packing() -> f64 {
 #[test]
 fn prints_and_writes_the_air_states_and_wet_factor_it_used() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = dryfront(
+    let (code, out, err) = common::dryfront(
         &base(&[
             "--air-temp-c",
             "20",
@@ -136,7 +120,7 @@ fn prints_and_writes_the_air_states_and_wet_factor_it_used() {
 #[test]
 fn defaults_are_said_and_a_dry_bed_gets_no_wet_factor() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = dryfront(&base(&[]), dir.path());
+    let (code, out, err) = common::dryfront(&base(&[]), dir.path());
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("ambient air 25.00 °C, 70.0 % RH"), "{out}");
     assert!(out.contains("plenum air 25.00 °C (unheated)"), "{out}");
@@ -144,7 +128,7 @@ fn defaults_are_said_and_a_dry_bed_gets_no_wet_factor() {
         out.contains("bed moisture not given (--bed-kernel-moisture-pct): D272 wet factor 1.00"),
         "{out}"
     );
-    let (code, out, err) = dryfront(
+    let (code, out, err) = common::dryfront(
         &base(&["--bed-kernel-moisture-pct", "8", "--plenum-temp-c", "35"]),
         dir.path(),
     );
@@ -185,7 +169,7 @@ fn bad_values_are_one_line_errors_with_exit_2_and_nothing_written() {
     ] {
         let mut a = args.clone();
         a.extend(["--out", "out"]);
-        let (code, _, err) = dryfront(&base(&a), dir.path());
+        let (code, _, err) = common::dryfront(&base(&a), dir.path());
         assert_eq!(code, 2, "{args:?}: {err}");
         assert!(err.starts_with(start), "{args:?}: {err}");
         assert_eq!(err.trim_end().lines().count(), 1, "{args:?}: {err}");
@@ -210,7 +194,7 @@ fn a_bad_fan_position_names_the_file_line_and_field() {
         "--out",
         "out",
     ];
-    let (code, _, err) = dryfront(&args, dir.path());
+    let (code, _, err) = common::dryfront(&args, dir.path());
     assert_eq!(code, 2, "{err}");
     assert!(
         err.starts_with("dryfront: error: fan.json:2: field \"position\": \"behind\" must be \"ahead-of-burner\""),

@@ -13,20 +13,6 @@
 mod common;
 
 use std::path::Path;
-use std::process::Command;
-
-fn dryfront(args: &[&str], dir: &Path) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
 
 fn args<'a>(extra: &[&'a str]) -> Vec<&'a str> {
     let mut v = vec![
@@ -63,7 +49,7 @@ fn rows(path: &Path) -> Vec<std::collections::HashMap<String, f64>> {
 #[test]
 fn two_d_plenum_writes_its_field_consistent_with_the_columns() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = dryfront(&args(&["--plenum", "2d", "--out", "o"]), dir.path());
+    let (code, out, err) = common::dryfront(&args(&["--plenum", "2d", "--out", "o"]), dir.path());
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("plenum model: 2d"), "{out}");
     let o = dir.path().join("o");
@@ -122,7 +108,7 @@ fn two_d_plenum_writes_its_field_consistent_with_the_columns() {
 #[test]
 fn duct_plenum_writes_no_field_and_one_line() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = dryfront(&args(&["--out", "o"]), dir.path());
+    let (code, out, err) = common::dryfront(&args(&["--out", "o"]), dir.path());
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("plenum model: duct"), "{out}");
     let o = dir.path().join("o");
@@ -136,7 +122,7 @@ fn duct_plenum_writes_no_field_and_one_line() {
 #[test]
 fn unknown_plenum_model_is_one_line_exit_2() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = dryfront(&args(&["--plenum", "3d", "--out", "o"]), dir.path());
+    let (code, out, err) = common::dryfront(&args(&["--plenum", "3d", "--out", "o"]), dir.path());
     assert_eq!(code, 2);
     assert!(out.is_empty(), "{out}");
     assert_eq!(err.trim().lines().count(), 1, "{err}");

@@ -7,21 +7,9 @@
 //! - `design.csv` has one row per variant and the `*` of each printed column sits on that column's best row;
 //! - one folder per variant, and the page shows the maps side by side;
 //! - a bad variant is one line naming `--variants` and the variant, exit code 2, nothing written.
-use std::path::Path;
-use std::process::Command;
+mod common;
 
-fn dryfront(args: &[&str], dir: &Path) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
+use std::path::Path;
 
 fn csv_rows(path: &Path) -> Vec<std::collections::HashMap<String, String>> {
     let mut r = csv::Reader::from_path(path).unwrap();
@@ -53,7 +41,7 @@ fn design_runs_the_one_load_path_and_ranks_variants() {
     let dir = tempfile::tempdir().unwrap();
     let tall = tall_trailer(dir.path());
     let variants = format!("scenario; container={tall}; plenum=uniform");
-    let (code, out, err) = dryfront(
+    let (code, out, err) = common::dryfront(
         &[
             "design",
             "--scenario",
@@ -89,7 +77,7 @@ fn design_runs_the_one_load_path_and_ranks_variants() {
         cv[2]
     );
     // The scenario variant is `dry` on the same scenario.
-    let (code, _, err) = dryfront(
+    let (code, _, err) = common::dryfront(
         &["dry", "--scenario", "demo-load", "--out", "one"],
         dir.path(),
     );
@@ -135,7 +123,7 @@ fn bad_variants_are_one_line_exit_2() {
         ("scenario;plenum=3d", "not a plenum model"),
         ("scenario;speed=3", "not a key"),
     ] {
-        let (code, out, err) = dryfront(
+        let (code, out, err) = common::dryfront(
             &[
                 "design",
                 "--scenario",

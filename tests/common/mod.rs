@@ -40,3 +40,17 @@ pub fn air() -> AirState {
 pub fn path(p: &str) -> PathBuf {
     Path::new(p).to_path_buf()
 }
+
+/// Run the `dryfront` binary with `args` in the folder `dir`: (exit code, stdout, stderr).
+pub fn dryfront(args: &[&str], dir: &Path) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_dryfront"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
