@@ -166,14 +166,13 @@ fn warm_resolve_after_small_change_lands_on_the_cold_answer() {
     }
 }
 
-#[test]
-fn drying_runs_resolve_from_the_last_solution() {
-    let c = trailer();
-    let mut flow = SolvedFlow {
-        container: &c,
+/// The airflow as a drying run asks for it, on `c` with `s`, before its first request.
+fn run_flow(c: &Container, s: SolverSettings) -> SolvedFlow<'_> {
+    SolvedFlow {
+        container: c,
         flow: fan(),
         law: common::peanut(1.5),
-        settings: settings(OuterMethod::Anderson, PlenumModel::default(), 1e-8),
+        settings: s,
         efficiency: FanEfficiency {
             fan: 0.55,
             motor: 0.88,
@@ -183,7 +182,16 @@ fn drying_runs_resolve_from_the_last_solution() {
         first: None,
         last_key: None,
         plenum: None,
-    };
+    }
+}
+
+#[test]
+fn drying_runs_resolve_from_the_last_solution() {
+    let c = trailer();
+    let mut flow = run_flow(
+        &c,
+        settings(OuterMethod::Anderson, PlenumModel::default(), 1e-8),
+    );
     let a = common::air();
     flow.flow(&a, &a, 0.25).unwrap();
     let cold_iters = flow.last.as_ref().unwrap().converged.iters;
@@ -227,21 +235,7 @@ fn drying_runs_keep_the_two_d_plenum_between_resolves() {
         grid,
         ..settings(OuterMethod::Anderson, two_d, 1e-8)
     };
-    let mut flow = SolvedFlow {
-        container: &c,
-        flow: fan(),
-        law: common::peanut(1.5),
-        settings: s,
-        efficiency: FanEfficiency {
-            fan: 0.55,
-            motor: 0.88,
-        },
-        bed_erh: Box::new(|_| 0.7),
-        last: None,
-        first: None,
-        last_key: None,
-        plenum: None,
-    };
+    let mut flow = run_flow(&c, s);
     let a = common::air();
     flow.flow(&a, &a, 0.25).unwrap();
     let b = AirState::from_rh(32.0, 0.45, 101_325.0);
