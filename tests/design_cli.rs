@@ -60,9 +60,9 @@ fn design_runs_the_one_load_path_and_ranks_variants() {
     let f = |k: usize, col: &str| rows[k][col].parse::<f64>().unwrap();
     // Design sense: the taller plenum is more even than the bundled 0.40 m, the uniform plenum most even.
     let cv = [
-        f(0, "column_flow_cv"),
-        f(1, "column_flow_cv"),
-        f(2, "column_flow_cv"),
+        f(0, "column_flow_cv_pct"),
+        f(1, "column_flow_cv_pct"),
+        f(2, "column_flow_cv_pct"),
     ];
     assert!(
         cv[1] < cv[0],

@@ -22,14 +22,13 @@ enum Better {
 }
 
 /// One column of the design table: heading (with its unit), value in the report's units, which way is better,
-/// decimals shown, and the SI name and value for `design.csv`.
+/// decimals shown, and its name in `design.csv` (which holds the values in SI units).
 struct Figure {
     head: String,
     value: Box<dyn Fn(&LoadResult) -> f64>,
     better: Better,
     decimals: usize,
     csv: &'static str,
-    si: Box<dyn Fn(&LoadResult) -> f64>,
 }
 
 fn per_tonne(r: &LoadResult) -> f64 {
@@ -50,15 +49,13 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Higher,
             decimals: 0,
             csv: "bed_flow_m3_per_min",
-            si: Box::new(move |r| sm(r).bed_flow_m3_per_s * 60.0),
         },
         Figure {
             head: "column CV (%)".into(),
             value: Box::new(move |r| 100.0 * sm(r).column_flow_cv),
             better: Better::Lower,
             decimals: 1,
-            csv: "column_flow_cv",
-            si: Box::new(move |r| sm(r).column_flow_cv),
+            csv: "column_flow_cv_pct",
         },
         Figure {
             head: "lowest/mean".into(),
@@ -66,7 +63,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Higher,
             decimals: 2,
             csv: "lowest_over_mean_column",
-            si: Box::new(move |r| sm(r).min_over_mean),
         },
         Figure {
             head: "h to mean".into(),
@@ -74,7 +70,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 1,
             csv: "hours_to_mean_target",
-            si: Box::new(|r| hours(r.outcome.hours_to_mean_target)),
         },
         Figure {
             head: format!("h to {fraction_pct:.0} % rule"),
@@ -82,7 +77,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 1,
             csv: "hours_to_fraction_target",
-            si: Box::new(|r| hours(r.outcome.hours_to_fraction_target)),
         },
         Figure {
             head: format!("over-dried ({} d.m.)", u.mass_unit()),
@@ -90,7 +84,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 0,
             csv: "over_dried_dry_kg",
-            si: Box::new(|r| r.outcome.zones.over_dried_dry_kg),
         },
         Figure {
             head: format!("still wet ({} d.m.)", u.mass_unit()),
@@ -98,7 +91,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 0,
             csv: "still_wet_dry_kg",
-            si: Box::new(|r| r.outcome.zones.still_wet_dry_kg),
         },
         Figure {
             head: format!("fuel ({})", u.fuel_per_mass_unit(fuel_unit)),
@@ -106,7 +98,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 1,
             csv: "fuel_per_tonne",
-            si: Box::new(per_tonne),
         },
         Figure {
             head: "fan (kWh)".into(),
@@ -114,7 +105,6 @@ fn figures(u: UnitSystem, fuel_unit: &str, fraction_pct: f64) -> Vec<Figure> {
             better: Better::Lower,
             decimals: 1,
             csv: "fan_kwh",
-            si: Box::new(|r| r.outcome.ready().fan_kwh),
         },
     ]
 }
@@ -195,7 +185,7 @@ pub fn design_csv(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
     w.write_record(head).expect("writing to memory cannot fail");
     for r in rows {
         let vals = figs.iter().map(|f| {
-            let v = (f.si)(r.result);
+            let v = (f.value)(r.result);
             if v.is_finite() {
                 format!("{v:.6}")
             } else {
