@@ -755,6 +755,13 @@ impl Container {
         Ok(())
     }
 
+    /// True when the solvers' x axis runs from the rear wall: they count along the length from the inlet's end
+    /// wall, which is the rear one here. Outputs always count from the front wall, so they mirror what the
+    /// solvers give.
+    pub fn solver_mirrored(&self) -> bool {
+        self.inlet.wall == InletWall::Rear
+    }
+
     /// The plenum model the container file asks for.
     pub fn plenum_model(&self) -> PlenumModel {
         match self.plenum {

@@ -94,7 +94,7 @@ impl PlenumLayout {
     pub fn new(container: &Container, baffles: &[Baffle], nx: usize, ny: usize) -> Self {
         let (l, w) = (container.length_m, container.width_m);
         let (dx, dy) = (l / nx as f64, w / ny as f64);
-        let mirrored = container.inlet.wall == InletWall::Rear;
+        let mirrored = container.solver_mirrored();
         let to_solver = |x: f64| if mirrored { l - x } else { x };
         let depth_m: Vec<f64> = (0..nx * ny)
             .map(|c| container.plenum_height_at_m(to_solver((c % nx) as f64 * dx + 0.5 * dx)))

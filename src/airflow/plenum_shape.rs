@@ -210,6 +210,21 @@ impl Plenum2d {
             .map(|f| f.share * self.state.p[f.cell])
             .sum()
     }
+
+    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
+    fn shape_of_state(&self, rho: f64) -> Vec<f64> {
+        let d = &self.domain;
+        let (r, ny_c) = (self.r, self.grid.ny);
+        let p_in = self.inlet_kinematic();
+        let mut out = vec![0.0; self.grid.nx * ny_c];
+        for jj in 0..d.ny {
+            for ii in 0..d.nx {
+                let c = (ii / r) * ny_c + jj / r;
+                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
+            }
+        }
+        out
+    }
 }
 
 impl Plenum for Plenum2d {
@@ -260,23 +275,6 @@ impl Plenum for Plenum2d {
     }
 }
 
-impl Plenum2d {
-    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
-    fn shape_of_state(&self, rho: f64) -> Vec<f64> {
-        let d = &self.domain;
-        let (r, ny_c) = (self.r, self.grid.ny);
-        let p_in = self.inlet_kinematic();
-        let mut out = vec![0.0; self.grid.nx * ny_c];
-        for jj in 0..d.ny {
-            for ii in 0..d.nx {
-                let c = (ii / r) * ny_c + jj / r;
-                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
-            }
-        }
-        out
-    }
-}
-
 /// The plenum `model` asks for, for `container` on `grid`. Refused: a geometry the model cannot represent (a side
 /// inlet or baffles in the 1-D duct: `Container::plenum_model_limit`), and a 2-D plenum grid too coarse for the
 /// baffles (`PlenumLayout::check_resolved`).
@@ -297,7 +295,7 @@ pub fn build(
         PlenumModel::Manifold(_) => {
             let inl = container.inlet;
             // the duct marches from the inlet wall: its height there first
-            let front = if inl.wall == super::geometry::InletWall::Rear {
+            let front = if container.solver_mirrored() {
                 container.length_m
             } else {
                 0.0

@@ -28,7 +28,7 @@ use serde::Serialize;
 use super::anderson::Anderson;
 use super::bed::{BedLaw, BedSystem, LinearStats};
 use super::fan::{leakage_m3_per_s, FanError, FlowSpec};
-use super::geometry::{Container, DiscreteContainer, Floor, Grid, InletWall};
+use super::geometry::{Container, DiscreteContainer, Floor, Grid};
 use super::newton::{self, Closure, Iterate};
 use super::path::AirPath;
 use super::plenum::PlenumModel;
@@ -556,7 +556,7 @@ pub fn solve_with_plenum_from(
     sol.plenum_map = plenum.flow_map(MapFrame {
         rho_kg_per_m3: sol.summary.plenum_air_density_kg_per_m3,
         inlet_pa: sol.operating_point.inlet_static_pressure_pa,
-        flip: container.inlet.wall == InletWall::Rear,
+        flip: container.solver_mirrored(),
     });
     Ok(sol)
 }
@@ -928,7 +928,7 @@ fn finish(
 ) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
     let area = disc.dx_m * disc.dy_m;
-    let flip = container.inlet.wall == InletWall::Rear;
+    let flip = container.solver_mirrored();
     // solver index i counts from the inlet wall; outputs count from the front wall
     let src = |i: usize| if flip { nx - 1 - i } else { i };
     let col = |v: &[f64]| Array2::from_shape_fn((nx, ny), |(i, j)| v[src(i) * ny + j]);
