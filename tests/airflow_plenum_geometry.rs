@@ -133,11 +133,23 @@ fn side_inlet_piles_air_up_along_the_far_side_wall_and_balances() {
 struct Recording<'a> {
     inner: &'a mut dyn Plenum,
     outflows: Vec<Vec<f64>>,
+    leakage: Vec<f64>,
+}
+
+impl<'a> Recording<'a> {
+    fn new(inner: &'a mut dyn Plenum) -> Self {
+        Recording {
+            inner,
+            outflows: Vec::new(),
+            leakage: Vec::new(),
+        }
+    }
 }
 
 impl Plenum for Recording<'_> {
     fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
         self.outflows.push(q.to_vec());
+        self.leakage.push(leak);
         self.inner.shape_pa(q, leak, rho)
     }
 }
@@ -178,10 +190,7 @@ fn blocked_floor_passes_no_air_under_every_plenum_model() {
         ("2-D", &mut plane),
     ];
     for (name, inner) in inners {
-        let mut rec = Recording {
-            inner,
-            outflows: Vec::new(),
-        };
+        let mut rec = Recording::new(inner);
         let s = solve_with_plenum(
             &c,
             &disc,
@@ -215,6 +224,86 @@ fn blocked_floor_passes_no_air_under_every_plenum_model() {
         // the peanuts over it still get air, sideways through the bed, but less than the rest
         assert!(over_blocked > 0.0 && over_blocked < 0.8 * s.summary.mean_column_velocity_m_per_s);
     }
+}
+
+#[test]
+fn a_partly_blocked_column_passes_its_air_through_its_open_part() {
+    // Geometry: a column's air leaves through the open part of its floor, so the 2-D plenum's sink under it sits
+    // where the floor is open. Plenum cells are 0.2 m (16 × 6 columns of 0.4 m, 2 × 2 cells each).
+    let mut c = trailer();
+    c.leakage_m3_per_s_per_sqrt_pa = 0.005;
+    let area = |x0_m, x1_m, y0_m, y1_m| FloorArea {
+        x0_m,
+        x1_m,
+        y0_m,
+        y1_m,
+    };
+    // the front half (along the length) of three columns; a strip across cell boundaries
+    c.floor.blocked_areas = vec![area(3.2, 3.4, 0.0, 1.2), area(5.0, 5.3, 1.9, 2.4)];
+    let grid = small();
+    let disc = c.discretize(grid).unwrap();
+    let mut plane = Plenum2d::new(&c, grid, &Plenum2dParams::default());
+    let mut rec = Recording::new(&mut plane);
+    let s = solve_with_plenum(
+        &c,
+        &disc,
+        &FlowSpec::Fixed {
+            total_m3_per_s: FLOW_M3_PER_S,
+        },
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings(PlenumModel::Uniform, grid),
+        &mut rec,
+    )
+    .unwrap();
+    let (q, leak) = (rec.outflows.pop().unwrap(), rec.leakage.pop().unwrap());
+    let sinks = &plane.field().0.sink_m3_per_s;
+    let (nx, ny) = (2 * grid.nx, 2 * grid.ny);
+    let (dx, dy) = (c.length_m / nx as f64, c.width_m / ny as f64);
+    let per_cell_leak = leak / (nx * ny) as f64;
+    // mass: the sinks carry exactly the bed's inflow and the leakage (summation round-off only)
+    let total: f64 = sinks.iter().sum();
+    let inflow = q.iter().sum::<f64>() + leak;
+    eprintln!(
+        "partly blocked floor: sinks {total:.15} m³/s, bed inflow + leakage {inflow:.15} m³/s, imbalance {:.2e}",
+        imbalance(&s)
+    );
+    assert!((total - inflow).abs() <= 1e-12 * inflow);
+    assert!(imbalance(&s) < 1e-9);
+    let (mut blocked, mut partial) = (0, 0);
+    for jj in 0..ny {
+        for ii in 0..nx {
+            let k = jj * nx + ii;
+            let col = (ii / 2) * grid.ny + jj / 2;
+            let (x0, y0) = (ii as f64 * dx, jj as f64 * dy);
+            // less than 1e-12 of a cell is the rounding of the rectangle sums: none (as Container::discretize)
+            let open = Some(c.open_floor_in_m2(x0, x0 + dx, y0, y0 + dy))
+                .filter(|a| *a >= 1e-12 * dx * dy)
+                .unwrap_or(0.0);
+            let col_open = c.open_floor_in_m2(
+                (ii / 2) as f64 * 2.0 * dx,
+                (ii / 2 + 1) as f64 * 2.0 * dx,
+                (jj / 2) as f64 * 2.0 * dy,
+                (jj / 2 + 1) as f64 * 2.0 * dy,
+            );
+            let floor = sinks[k] - per_cell_leak;
+            if open == 0.0 {
+                blocked += 1;
+                // no air through a blocked floor: only the leakage spread evenly over the plenum
+                assert!(
+                    floor.abs() <= 1e-15 * inflow,
+                    "cell ({ii}, {jj}): {floor:e} m³/s"
+                );
+            } else {
+                partial += usize::from(open < dx * dy * (1.0 - 1e-12));
+                // its column's air, in proportion to the open floor (round-off of the area sums)
+                approx::assert_relative_eq!(floor, q[col] * open / col_open, max_relative = 1e-12);
+            }
+        }
+    }
+    // the front halves of 3 columns (6 cells) and the strip's two fully covered cells (5.0–5.2 × 2.0–2.4)
+    assert_eq!(blocked, 8);
+    assert!(partial > 0);
 }
 
 /// The container mirrored across its centre line (left ↔ right): inlet, baffles and blocked areas.

@@ -299,6 +299,34 @@ impl PlenumLayout {
         Ok(())
     }
 
+    /// The open share (0–1) of each cell's floor: the part outside the container's `floor.blocked_areas`, exact
+    /// from the rectangles (`Container::open_floor_in_m2`). Less than 1e-12 of a cell counts as none, as
+    /// `Container::discretize` counts a column's.
+    pub fn floor_open_share(&self, c: &Container) -> Vec<f64> {
+        if c.floor.blocked_areas.is_empty() {
+            return vec![1.0; self.nx * self.ny];
+        }
+        (0..self.nx * self.ny)
+            .map(|k| {
+                let (i, j) = (k % self.nx, k / self.nx);
+                let x0 = i as f64 * self.dx;
+                let x0 = if self.mirrored {
+                    self.length_m - x0 - self.dx
+                } else {
+                    x0
+                };
+                let y0 = j as f64 * self.dy;
+                let area = self.dx * self.dy;
+                let share = c.open_floor_in_m2(x0, x0 + self.dx, y0, y0 + self.dy) / area;
+                if share < 1e-12 {
+                    0.0
+                } else {
+                    share.min(1.0)
+                }
+            })
+            .collect()
+    }
+
     /// Put the depths, the blocked faces and the inlet's momentum factors into a closed box of the same size (the
     /// inlet velocities are set per solve, from the inflow: [`InletFace::velocity_m_per_s`]).
     pub fn apply(&self, d: &mut FlowDomain) {

@@ -6,7 +6,10 @@
 //! Column arrays are in the solver's orientation: index `i·ny + j`, i = 0 at the inlet wall.
 //!
 //! The 2-D plenum runs on a grid of its own, `cells_per_column`² cells under each column; the transfer is
-//! conservative: a column's outflow leaves evenly through its cells, and its δ is the mean over its cells. The
+//! conservative: a column's outflow leaves through its cells in proportion to the open share of each cell's floor
+//! (a cell under a blocked floor area passes none; a column with no open floor, which takes no air, spreads its
+//! zero evenly), and its δ is the mean over its cells with the same weights, the pressure under the floor the air
+//! leaves through. The
 //! plenum's shape on that grid comes from `airflow::plenum_layout`: the depth of each cell (a taper), the faces
 //! baffles block, and the inlet, a set of boundary faces on its wall (an end wall or a side wall) covering the
 //! opening's width at its offset (partly covered faces carry their share); the jet fills `inlet height / plenum
@@ -155,6 +158,9 @@ pub struct Plenum2d {
     state: FlowState,
     grid: Grid,
     r: usize,
+    /// Share of its column's outflow leaving through each plenum cell (index `j·nx + i` of the plenum grid; the
+    /// shares of a column's cells sum to 1).
+    outflow_share: Vec<f64>,
     /// The inlet's boundary faces with their shares of the inflow.
     inlet: Vec<InletFace>,
     /// Last solve's record.
@@ -172,6 +178,7 @@ impl Plenum2d {
         let layout = PlenumLayout::new(container, &container.baffles, nx, ny);
         let mut domain = FlowDomain::closed_box(nx, ny, layout.dx, layout.dy, 1.0);
         layout.apply(&mut domain);
+        let outflow_share = outflow_shares(&layout.floor_open_share(container), grid, r);
         let inlet = layout.inlet;
         let params = FlowParams {
             nu_m2_per_s: NU_AIR,
@@ -192,6 +199,7 @@ impl Plenum2d {
             state,
             grid,
             r,
+            outflow_share,
             inlet,
             last: None,
             total_iters: 0,
@@ -211,7 +219,8 @@ impl Plenum2d {
             .sum()
     }
 
-    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
+    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ, weighted
+    /// by each cell's share of the column's outflow.
     fn shape_of_state(&self, rho: f64) -> Vec<f64> {
         let d = &self.domain;
         let (r, ny_c) = (self.r, self.grid.ny);
@@ -220,11 +229,34 @@ impl Plenum2d {
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let c = (ii / r) * ny_c + jj / r;
-                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
+                let k = jj * d.nx + ii;
+                out[c] += rho * (self.state.p[k] - p_in) * self.outflow_share[k];
             }
         }
         out
     }
+}
+
+/// Each plenum cell's share of its column's outflow (plenum index `j·nx + i`, r × r cells per column of `grid`)
+/// from the open share of each cell's floor: in proportion to it, or evenly under a column with none open.
+fn outflow_shares(open: &[f64], grid: Grid, r: usize) -> Vec<f64> {
+    let nx = grid.nx * r;
+    let col = |k: usize| ((k % nx) / r) * grid.ny + (k / nx) / r;
+    let mut total = vec![0.0; grid.nx * grid.ny];
+    for (k, s) in open.iter().enumerate() {
+        total[col(k)] += s;
+    }
+    open.iter()
+        .enumerate()
+        .map(|(k, s)| {
+            let t = total[col(k)];
+            if t > 0.0 {
+                s / t
+            } else {
+                1.0 / (r * r) as f64
+            }
+        })
+        .collect()
 }
 
 impl Plenum for Plenum2d {
@@ -235,7 +267,8 @@ impl Plenum for Plenum2d {
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let c = (ii / r) * ny_c + jj / r;
-                d.sink_m3_per_s[jj * d.nx + ii] = q[c] / (r * r) as f64 + leak / ncell as f64;
+                let k = jj * d.nx + ii;
+                d.sink_m3_per_s[k] = q[c] * self.outflow_share[k] + leak / ncell as f64;
             }
         }
         let inflow: f64 = q.iter().sum::<f64>() + leak;
