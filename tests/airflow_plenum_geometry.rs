@@ -496,6 +496,69 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
 }
 
 #[test]
+fn a_closed_pocket_over_blocked_floor_is_accepted_and_holds_still_air() {
+    // A wall across the plenum 0.8 m from the rear wall closes the rear off from the inlet. With open floor over
+    // it that air could not be supplied, and the file is refused; with that floor blocked no air has to reach it.
+    let mut c = trailer();
+    c.leakage_m3_per_s_per_sqrt_pa = 0.005;
+    c.baffles = vec![baffle(5.6, 0.0, 5.6, 2.4)];
+    c.plenum = dryfront::airflow::PlenumChoice::TwoD {
+        cells_per_column: None,
+        mixing_length_ratio: None,
+    };
+    let read = |c: &Container| {
+        let text = serde_json::to_string(c).unwrap();
+        Container::from_json_str(&text, std::path::Path::new("pocket.json"))
+    };
+    let err = read(&c).unwrap_err().to_string();
+    assert!(
+        err.contains("\"baffles[0]\"") && err.contains("open floor"),
+        "{err}"
+    );
+    c.floor.blocked_areas = vec![FloorArea {
+        x0_m: 5.6,
+        x1_m: 6.4,
+        y0_m: 0.0,
+        y1_m: 2.4,
+    }];
+    let c = read(&c).unwrap();
+    let grid = small();
+    let s = run(&c, two_d(), grid);
+    let m = s.plenum_map.as_ref().unwrap();
+    let (nx, ny) = m.pressure_pa.dim();
+    // plenum cells of 0.2 m: the last four along the length are the pocket
+    let pocket = |i: usize| i >= nx - 4;
+    let mut still = 0.0f64;
+    for i in 0..nx {
+        for j in 0..ny {
+            let p = m.pressure_pa[[i, j]];
+            if pocket(i) {
+                still = still.max(m.u_m_per_s[[i, j]].abs().max(m.v_m_per_s[[i, j]].abs()));
+                assert!(p.is_nan(), "({i}, {j}): {p} Pa in the pocket");
+            } else {
+                assert!(p.is_finite(), "({i}, {j})");
+            }
+        }
+    }
+    let v = &s.top_velocity_m_per_s;
+    let over = mean((14..16).flat_map(|i| (0..grid.ny).map(move |j| v[[i, j]])));
+    eprintln!(
+        "closed pocket over blocked floor: air speed in it {still:e} m/s; imbalance {:.2e}; {} outer iterations; \
+         top velocity over it {over:.4} m/s, mean {:.4} m/s; plenum {:.2}–{:.2} Pa",
+        imbalance(&s),
+        s.converged.iters,
+        s.summary.mean_column_velocity_m_per_s,
+        s.plenum_pressure_pa.iter().copied().fold(f64::INFINITY, f64::min),
+        s.plenum_pressure_pa.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    );
+    // the pocket's faces are held at zero: its air is exactly at rest
+    assert!(still == 0.0);
+    assert!(imbalance(&s) < 1e-9);
+    // the peanuts over it get air only sideways through the bed
+    assert!(over > 0.0 && over < 0.8 * s.summary.mean_column_velocity_m_per_s);
+}
+
+#[test]
 fn newton_and_picard_agree_on_a_blocked_floor() {
     // the Newton outer loop carries a floor speed per column; a blocked column's stays at its floor value
     let mut c = trailer();

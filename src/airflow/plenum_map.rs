@@ -16,7 +16,8 @@ pub struct PlenumMap {
     pub u_m_per_s: Array2<f64>,
     /// Depth-mean velocity across the width, m/s (positive toward y = width), [nx, ny].
     pub v_m_per_s: Array2<f64>,
-    /// Static pressure, Pa gauge, [nx, ny].
+    /// Static pressure, Pa gauge, [nx, ny]; NaN in a cell whose every face is held at zero (a closed pocket the
+    /// inlet's air cannot reach: no air moves there and nothing sets its pressure).
     pub pressure_pa: Array2<f64>,
 }
 
@@ -50,7 +51,12 @@ impl PlenumMap {
             u_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| sign * centre(i, j).0),
             v_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| centre(i, j).1),
             pressure_pa: Array2::from_shape_fn((nx, ny), |(i, j)| {
-                frame.inlet_pa + frame.rho_kg_per_m3 * (s.p[j * nx + src(i)] - p_inlet_kinematic)
+                if enclosed(d, src(i), j) {
+                    f64::NAN
+                } else {
+                    frame.inlet_pa
+                        + frame.rho_kg_per_m3 * (s.p[j * nx + src(i)] - p_inlet_kinematic)
+                }
             }),
         }
     }
@@ -95,6 +101,16 @@ impl PlenumMap {
             })
             .collect()
     }
+}
+
+/// True when every face of cell (i, j) of `d` is held at zero velocity (`airflow::plenum2d`'s face indices).
+fn enclosed(d: &FlowDomain, i: usize, j: usize) -> bool {
+    let nx = d.nx;
+    let held = |f: &Option<f64>| *f == Some(0.0);
+    held(&d.u_fixed[j * (nx + 1) + i])
+        && held(&d.u_fixed[j * (nx + 1) + i + 1])
+        && held(&d.v_fixed[j * nx + i])
+        && held(&d.v_fixed[(j + 1) * nx + i])
 }
 
 /// The two cell rows a line at fraction `frac` across `n` cells lies between, and the second's weight: a line
