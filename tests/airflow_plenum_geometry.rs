@@ -133,11 +133,23 @@ fn side_inlet_piles_air_up_along_the_far_side_wall_and_balances() {
 struct Recording<'a> {
     inner: &'a mut dyn Plenum,
     outflows: Vec<Vec<f64>>,
+    leakage: Vec<f64>,
+}
+
+impl<'a> Recording<'a> {
+    fn new(inner: &'a mut dyn Plenum) -> Self {
+        Recording {
+            inner,
+            outflows: Vec::new(),
+            leakage: Vec::new(),
+        }
+    }
 }
 
 impl Plenum for Recording<'_> {
     fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
         self.outflows.push(q.to_vec());
+        self.leakage.push(leak);
         self.inner.shape_pa(q, leak, rho)
     }
 }
@@ -178,10 +190,7 @@ fn blocked_floor_passes_no_air_under_every_plenum_model() {
         ("2-D", &mut plane),
     ];
     for (name, inner) in inners {
-        let mut rec = Recording {
-            inner,
-            outflows: Vec::new(),
-        };
+        let mut rec = Recording::new(inner);
         let s = solve_with_plenum(
             &c,
             &disc,
@@ -215,6 +224,86 @@ fn blocked_floor_passes_no_air_under_every_plenum_model() {
         // the peanuts over it still get air, sideways through the bed, but less than the rest
         assert!(over_blocked > 0.0 && over_blocked < 0.8 * s.summary.mean_column_velocity_m_per_s);
     }
+}
+
+#[test]
+fn a_partly_blocked_column_passes_its_air_through_its_open_part() {
+    // Geometry: a column's air leaves through the open part of its floor, so the 2-D plenum's sink under it sits
+    // where the floor is open. Plenum cells are 0.2 m (16 × 6 columns of 0.4 m, 2 × 2 cells each).
+    let mut c = trailer();
+    c.leakage_m3_per_s_per_sqrt_pa = 0.005;
+    let area = |x0_m, x1_m, y0_m, y1_m| FloorArea {
+        x0_m,
+        x1_m,
+        y0_m,
+        y1_m,
+    };
+    // the front half (along the length) of three columns; a strip across cell boundaries
+    c.floor.blocked_areas = vec![area(3.2, 3.4, 0.0, 1.2), area(5.0, 5.3, 1.9, 2.4)];
+    let grid = small();
+    let disc = c.discretize(grid).unwrap();
+    let mut plane = Plenum2d::new(&c, grid, &Plenum2dParams::default());
+    let mut rec = Recording::new(&mut plane);
+    let s = solve_with_plenum(
+        &c,
+        &disc,
+        &FlowSpec::Fixed {
+            total_m3_per_s: FLOW_M3_PER_S,
+        },
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings(PlenumModel::Uniform, grid),
+        &mut rec,
+    )
+    .unwrap();
+    let (q, leak) = (rec.outflows.pop().unwrap(), rec.leakage.pop().unwrap());
+    let sinks = &plane.field().0.sink_m3_per_s;
+    let (nx, ny) = (2 * grid.nx, 2 * grid.ny);
+    let (dx, dy) = (c.length_m / nx as f64, c.width_m / ny as f64);
+    let per_cell_leak = leak / (nx * ny) as f64;
+    // mass: the sinks carry exactly the bed's inflow and the leakage (summation round-off only)
+    let total: f64 = sinks.iter().sum();
+    let inflow = q.iter().sum::<f64>() + leak;
+    eprintln!(
+        "partly blocked floor: sinks {total:.15} m³/s, bed inflow + leakage {inflow:.15} m³/s, imbalance {:.2e}",
+        imbalance(&s)
+    );
+    assert!((total - inflow).abs() <= 1e-12 * inflow);
+    assert!(imbalance(&s) < 1e-9);
+    let (mut blocked, mut partial) = (0, 0);
+    for jj in 0..ny {
+        for ii in 0..nx {
+            let k = jj * nx + ii;
+            let col = (ii / 2) * grid.ny + jj / 2;
+            let (x0, y0) = (ii as f64 * dx, jj as f64 * dy);
+            // less than 1e-12 of a cell is the rounding of the rectangle sums: none (as Container::discretize)
+            let open = Some(c.open_floor_in_m2(x0, x0 + dx, y0, y0 + dy))
+                .filter(|a| *a >= 1e-12 * dx * dy)
+                .unwrap_or(0.0);
+            let col_open = c.open_floor_in_m2(
+                (ii / 2) as f64 * 2.0 * dx,
+                (ii / 2 + 1) as f64 * 2.0 * dx,
+                (jj / 2) as f64 * 2.0 * dy,
+                (jj / 2 + 1) as f64 * 2.0 * dy,
+            );
+            let floor = sinks[k] - per_cell_leak;
+            if open == 0.0 {
+                blocked += 1;
+                // no air through a blocked floor: only the leakage spread evenly over the plenum
+                assert!(
+                    floor.abs() <= 1e-15 * inflow,
+                    "cell ({ii}, {jj}): {floor:e} m³/s"
+                );
+            } else {
+                partial += usize::from(open < dx * dy * (1.0 - 1e-12));
+                // its column's air, in proportion to the open floor (round-off of the area sums)
+                approx::assert_relative_eq!(floor, q[col] * open / col_open, max_relative = 1e-12);
+            }
+        }
+    }
+    // the front halves of 3 columns (6 cells) and the strip's two fully covered cells (5.0–5.2 × 2.0–2.4)
+    assert_eq!(blocked, 8);
+    assert!(partial > 0);
 }
 
 /// The container mirrored across its centre line (left ↔ right): inlet, baffles and blocked areas.
@@ -404,6 +493,69 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
     let text = serde_json::to_string(&closed).unwrap();
     let err = Container::from_json_str(&text, std::path::Path::new("gap.json")).unwrap_err();
     assert!(err.to_string().contains("\"baffles[1]\""), "{err}");
+}
+
+#[test]
+fn a_closed_pocket_over_blocked_floor_is_accepted_and_holds_still_air() {
+    // A wall across the plenum 0.8 m from the rear wall closes the rear off from the inlet. With open floor over
+    // it that air could not be supplied, and the file is refused; with that floor blocked no air has to reach it.
+    let mut c = trailer();
+    c.leakage_m3_per_s_per_sqrt_pa = 0.005;
+    c.baffles = vec![baffle(5.6, 0.0, 5.6, 2.4)];
+    c.plenum = dryfront::airflow::PlenumChoice::TwoD {
+        cells_per_column: None,
+        mixing_length_ratio: None,
+    };
+    let read = |c: &Container| {
+        let text = serde_json::to_string(c).unwrap();
+        Container::from_json_str(&text, std::path::Path::new("pocket.json"))
+    };
+    let err = read(&c).unwrap_err().to_string();
+    assert!(
+        err.contains("\"baffles[0]\"") && err.contains("open floor"),
+        "{err}"
+    );
+    c.floor.blocked_areas = vec![FloorArea {
+        x0_m: 5.6,
+        x1_m: 6.4,
+        y0_m: 0.0,
+        y1_m: 2.4,
+    }];
+    let c = read(&c).unwrap();
+    let grid = small();
+    let s = run(&c, two_d(), grid);
+    let m = s.plenum_map.as_ref().unwrap();
+    let (nx, ny) = m.pressure_pa.dim();
+    // plenum cells of 0.2 m: the last four along the length are the pocket
+    let pocket = |i: usize| i >= nx - 4;
+    let mut still = 0.0f64;
+    for i in 0..nx {
+        for j in 0..ny {
+            let p = m.pressure_pa[[i, j]];
+            if pocket(i) {
+                still = still.max(m.u_m_per_s[[i, j]].abs().max(m.v_m_per_s[[i, j]].abs()));
+                assert!(p.is_nan(), "({i}, {j}): {p} Pa in the pocket");
+            } else {
+                assert!(p.is_finite(), "({i}, {j})");
+            }
+        }
+    }
+    let v = &s.top_velocity_m_per_s;
+    let over = mean((14..16).flat_map(|i| (0..grid.ny).map(move |j| v[[i, j]])));
+    eprintln!(
+        "closed pocket over blocked floor: air speed in it {still:e} m/s; imbalance {:.2e}; {} outer iterations; \
+         top velocity over it {over:.4} m/s, mean {:.4} m/s; plenum {:.2}–{:.2} Pa",
+        imbalance(&s),
+        s.converged.iters,
+        s.summary.mean_column_velocity_m_per_s,
+        s.plenum_pressure_pa.iter().copied().fold(f64::INFINITY, f64::min),
+        s.plenum_pressure_pa.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    );
+    // the pocket's faces are held at zero: its air is exactly at rest
+    assert!(still == 0.0);
+    assert!(imbalance(&s) < 1e-9);
+    // the peanuts over it get air only sideways through the bed
+    assert!(over > 0.0 && over < 0.8 * s.summary.mean_column_velocity_m_per_s);
 }
 
 #[test]

@@ -7,6 +7,8 @@
 //!   to the 0.001 Pa both files print;
 //! - the pressure-along-the-length picture draws the centre line and both side walls for the 2-D plenum and one
 //!   line for the duct, which holds one pressure across the width;
+//! - with a side inlet the picture runs along the inlet's axis, across the width: the line through the inlet's
+//!   centre and the lines along the two end walls, its title, axis and legend saying so, in the units asked for;
 //! - the inlet jet is where the inlet is: the fastest plenum air is in the first cells along the length, inside the
 //!   inlet's width (the trailer's 0.8 m inlet is centred on the 2.4 m width);
 //! - an unknown plenum model on the command line is one line naming `--plenum`, exit code 2.
@@ -103,6 +105,57 @@ fn two_d_plenum_writes_its_field_consistent_with_the_columns() {
     }
     let page = std::fs::read_to_string(o.join("report.html")).unwrap();
     assert!(page.contains("Air in the plenum: speed and direction"));
+}
+
+#[test]
+fn side_inlet_profile_runs_across_the_width() {
+    // the bundled side-entry trailer: inlet in the left wall, centred 1.6 m from the front wall
+    let systems = [
+        ("si", "1.600 m", "(m)", "(Pa)"),
+        ("us", "5.25 ft", "(ft)", "(in. water)"),
+    ];
+    for (units, centre, length, pressure) in systems {
+        let dir = tempfile::tempdir().unwrap();
+        let argv = [
+            "airflow",
+            "--container",
+            "trailer-6m-side",
+            "--fan",
+            "vane-trailer",
+            "--nx",
+            "16",
+            "--ny",
+            "6",
+            "--nz",
+            "4",
+            "--units",
+            units,
+            "--out",
+            "o",
+        ];
+        let (code, _, err) = common::dryfront(&argv, dir.path());
+        assert_eq!(code, 0, "{err}");
+        let o = dir.path().join("o");
+        let profile = std::fs::read_to_string(o.join("plenum_profile.svg")).unwrap();
+        for text in [
+            "trailer-6m-side: pressure across the width",
+            &format!("distance from left wall {length}"),
+            &format!("plenum, through the inlet centre ({centre} from front wall)"),
+            "plenum, along the front wall",
+            "plenum, along the rear wall",
+            "bed bottom (above floor, mean along the length)",
+            pressure,
+        ] {
+            assert!(
+                profile.contains(text),
+                "{units}: no {text:?} in the profile"
+            );
+        }
+        assert!(!profile.contains("along the length<"), "{units}");
+        assert!(!profile.contains("side wall at y"), "{units}");
+        let page = std::fs::read_to_string(o.join("report.html")).unwrap();
+        assert!(page.contains("Pressure across the width, along the axis of the side inlet"));
+    }
 }
 
 #[test]

@@ -609,8 +609,9 @@ impl Container {
         Ok(())
     }
 
-    /// Every baffle lies in the plenum, has a length, and the set leaves the whole plenum reachable from the
-    /// inlet (checked on a fine reference grid; `build` checks the solve's own grid again).
+    /// Every baffle lies in the plenum, has a length, and the set leaves every part of the plenum with open floor
+    /// over it reachable from the inlet (checked on a fine reference grid; `build` checks the solve's own grid
+    /// again). A pocket closed off over blocked floor passes no air and is accepted.
     fn validate_baffles(&self, path: &Path) -> Result<(), InputError> {
         let (l, w) = (self.length_m, self.width_m);
         for (n, b) in self.baffles.iter().enumerate() {
@@ -638,7 +639,7 @@ impl Container {
         let (nx, ny) = reference_plenum_grid(l, w);
         for n in 0..self.baffles.len() {
             let layout = PlenumLayout::new(self, &self.baffles[..=n], nx, ny);
-            if let Some(cut) = layout.closed_off() {
+            if let Some(cut) = layout.closed_off(self) {
                 let with = if n == 0 {
                     ""
                 } else {
@@ -648,8 +649,8 @@ impl Container {
                     path,
                     &format!("baffles[{n}]"),
                     format!(
-                        "closes {:.2} m² of the plenum off from the inlet{with}, around x = {:.2} m, y = {:.2} m: every part of the plenum must be open to the inlet",
-                        cut.area_m2, cut.x_m, cut.y_m
+                        "closes {:.2} m² of the plenum off from the inlet{with}, around x = {:.2} m, y = {:.2} m, with {:.2} m² of open floor over it that no air could reach: open a gap to the inlet, or block that floor (floor.blocked_areas)",
+                        cut.area_m2, cut.x_m, cut.y_m, cut.open_floor_m2
                     ),
                 ));
             }

@@ -11,7 +11,7 @@
 //! the first turbulent term is the depth mean of the parabolic eddy viscosity used in depth-averaged river models
 //! (Elder 1959, from memory), the second a Prandtl mixing length tied to the plenum height for the jet's shear
 //! layers (c_m = 0.1 by default, our choice within the 0.07–0.1 range of DOMAIN.md §13; from memory), bounded by
-//! κ times the distance to the nearest side wall.
+//! κ times the distance to the nearest wall: a side wall or a baffle (a blocked interior face).
 //!
 //! Numerics: a staggered (MAC) grid of finite volumes — pressure at cell centres, u on the x-faces, v on the
 //! y-faces — and SIMPLEC pressure coupling (Van Doormaal & Raithby 1984, Numer. Heat Transfer 7:147–163, a variant
@@ -348,6 +348,57 @@ fn dc(scheme: Scheme, f_out_pos: f64, m2: Option<f64>, m1: f64, p1: f64, p2: Opt
     }
 }
 
+/// von Kármán's constant κ.
+const KAPPA: f64 = 0.41;
+
+/// Distance from each cell centre to the nearest wall, m: the plenum's four sides and every blocked interior face
+/// (a baffle), each face a segment of the plan. Distances beyond `cutoff_m` are not searched: a cell farther than
+/// that from every baffle gets its distance to the four sides. Geometry only, so the same for every iteration on a
+/// domain; it costs a few neighbourhood passes per baffle face, small beside one momentum assembly.
+fn wall_distance(d: &FlowDomain, cutoff_m: f64) -> Vec<f64> {
+    let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let mut dist: Vec<f64> = (0..nx * ny)
+        .map(|c| {
+            let (i, j) = (c % nx, c / nx);
+            let xw = (i as f64 + 0.5).min((nx - i) as f64 - 0.5) * dx;
+            let yw = (j as f64 + 0.5).min((ny - j) as f64 - 0.5) * dy;
+            xw.min(yw)
+        })
+        .collect();
+    // a wall segment from (x0, y0) to (x1, y1), axis-parallel: stamp the cells within the cutoff
+    let mut stamp = |x0: f64, x1: f64, y0: f64, y1: f64| {
+        let reach = cutoff_m.min((nx as f64 * dx).max(ny as f64 * dy));
+        let lo = |v: f64, h: f64| ((v - reach) / h - 0.5).floor().max(0.0) as usize;
+        let hi = |v: f64, h: f64, n: usize| (((v + reach) / h).ceil().max(0.0) as usize).min(n);
+        for j in lo(y0, dy)..hi(y1, dy, ny) {
+            for i in lo(x0, dx)..hi(x1, dx, nx) {
+                let (xc, yc) = ((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dy);
+                let ex = xc - xc.clamp(x0, x1);
+                let ey = yc - yc.clamp(y0, y1);
+                let k = j * nx + i;
+                dist[k] = dist[k].min(ex.hypot(ey));
+            }
+        }
+    };
+    for j in 0..ny {
+        for i in 1..nx {
+            if d.u_fixed[d.iu(i, j)] == Some(0.0) {
+                let x = i as f64 * dx;
+                stamp(x, x, j as f64 * dy, (j + 1) as f64 * dy);
+            }
+        }
+    }
+    for j in 1..ny {
+        for i in 0..nx {
+            if d.v_fixed[d.iv(i, j)] == Some(0.0) {
+                let y = j as f64 * dy;
+                stamp(i as f64 * dx, (i + 1) as f64 * dx, y, y);
+            }
+        }
+    }
+    dist
+}
+
 fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
     let (nx, ny) = (d.nx, d.ny);
     let mut nu = vec![prm.nu_m2_per_s; nx * ny];
@@ -355,6 +406,9 @@ fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
         return nu;
     }
     let cu = |i: usize, j: usize| s.centre_velocity(d, i, j);
+    // only distances below the largest mixing length over κ can bound it
+    let h_max = d.depth.iter().fold(0.0_f64, |m, h| m.max(*h));
+    let wall = wall_distance(d, prm.mixing_length_ratio * h_max / KAPPA);
     for j in 0..ny {
         for i in 0..nx {
             let h = d.depth[d.ic(i, j)];
@@ -368,10 +422,9 @@ fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
             let dudy = (cu(i, jh).0 - cu(i, jl).0) / ((jh - jl).max(1) as f64 * d.dy);
             let dvdx = (cu(ih, j).1 - cu(il, j).1) / ((ih - il).max(1) as f64 * d.dx);
             let shear = (2.0 * (dudx * dudx + dvdy * dvdy) + (dudy + dvdx).powi(2)).sqrt();
-            // the mixing length is also bounded by κ × the distance to the nearest side wall (Prandtl's wall law)
-            let xw = (i as f64 + 0.5).min((nx - i) as f64 - 0.5) * d.dx;
-            let yw = (j as f64 + 0.5).min((ny - j) as f64 - 0.5) * d.dy;
-            let lm = (prm.mixing_length_ratio * h).min(0.41 * xw.min(yw));
+            // the mixing length is also bounded by κ × the distance to the nearest wall, side wall or baffle
+            // (Prandtl's wall law)
+            let lm = (prm.mixing_length_ratio * h).min(KAPPA * wall[d.ic(i, j)]);
             nu[d.ic(i, j)] += prm.depth_eddy_coefficient * h * ustar + lm * lm * shear;
         }
     }
@@ -1156,4 +1209,43 @@ pub fn advance_flow(
 ) -> Result<FlowStats, FlowError> {
     let n = iters.max(1);
     iterate(d, prm, state, (n, n), anderson)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A 40 × 40 box of 0.1 m cells, 1 m deep, with a baffle along y = 2 m from x = 1.5 to 2.5 m (blocked y-faces),
+    /// and a uniform shear u = a·y: every cell's strain rate is a, so ν_e − ν = l_m²·a shows the mixing length.
+    #[test]
+    fn a_cell_beside_a_baffle_gets_the_wall_bounded_mixing_length() {
+        let n = 40;
+        let mut d = FlowDomain::closed_box(n, n, 0.1, 0.1, 1.0);
+        for i in 15..25 {
+            d.v_fixed[20 * n + i] = Some(0.0);
+        }
+        let a = 2.0;
+        let mut s = FlowState::at_rest(&d);
+        for j in 0..n {
+            for i in 1..n {
+                s.u[j * (n + 1) + i] = a * (j as f64 + 0.5) * 0.1;
+            }
+        }
+        let prm = FlowParams {
+            mixing_length_ratio: 0.3,
+            ..FlowParams::laminar(1e-5)
+        };
+        let nu = eddy_viscosity(&d, &s, &prm);
+        let lm = |c: usize| ((nu[c] - 1e-5) / a).sqrt();
+        // cell (20, 20) sits on the baffle, 2 m from every side wall: l_m = κ·dy/2, not c_m·h = 0.3 m
+        approx::assert_relative_eq!(lm(20 * n + 20), KAPPA * 0.05, max_relative = 1e-12);
+        // cell (26, 20): its nearest wall point is the baffle's end (2.5, 2.0), √(0.15² + 0.05²) m away
+        approx::assert_relative_eq!(
+            lm(20 * n + 26),
+            KAPPA * 0.15f64.hypot(0.05),
+            max_relative = 1e-12
+        );
+        // a cell 1 m from the baffle and the walls: the plenum-height mixing length
+        approx::assert_relative_eq!(lm(30 * n + 10), 0.3, max_relative = 1e-12);
+    }
 }

@@ -53,7 +53,8 @@ impl InletFace {
     }
 }
 
-/// A part of the plenum no air from the inlet can reach.
+/// A part of the plenum no air from the inlet can reach, with open floor over it (a pocket with none passes no
+/// air and is accepted: see [`PlenumLayout::closed_off`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ClosedOff {
     /// Its plan area, m².
@@ -62,6 +63,8 @@ pub struct ClosedOff {
     pub x_m: f64,
     /// Its centroid across the width from the left wall, m.
     pub y_m: f64,
+    /// The open floor over it, m².
+    pub open_floor_m2: f64,
 }
 
 /// The plenum on an nx × ny grid (see the module docs for orientation and indices).
@@ -216,27 +219,42 @@ impl PlenumLayout {
         faces
     }
 
-    /// The first part of the plenum (in cell order) that no path through open faces joins to the inlet.
-    pub fn closed_off(&self) -> Option<ClosedOff> {
-        let (nx, ny) = (self.nx, self.ny);
-        let mut seen = vec![false; nx * ny];
+    /// Which cells the inlet's air can reach: those joined to the inlet by a path through faces no baffle blocks.
+    pub fn reached(&self) -> Vec<bool> {
+        let mut seen = vec![false; self.nx * self.ny];
         let starts: Vec<usize> = self.inlet.iter().map(|f| f.cell).collect();
         self.flood(&starts, &mut seen);
-        let first = seen.iter().position(|s| !s)?;
-        let before = seen.clone();
-        self.flood(&[first], &mut seen);
-        let (mut n, mut sx, mut sy) = (0usize, 0.0, 0.0);
-        for c in (0..nx * ny).filter(|&c| seen[c] && !before[c]) {
-            n += 1;
-            sx += ((c % nx) as f64 + 0.5) * self.dx;
-            sy += ((c / nx) as f64 + 0.5) * self.dy;
+        seen
+    }
+
+    /// The first part of the plenum (in cell order) that no path through open faces joins to the inlet and that
+    /// has open floor over it (`c`'s blocked areas): air would have to leave through that floor, and none can
+    /// reach it. A closed pocket under blocked floor passes no air and is not reported; the 2-D plenum keeps its
+    /// air at rest ([`PlenumLayout::apply`]).
+    pub fn closed_off(&self, c: &Container) -> Option<ClosedOff> {
+        let (nx, ny) = (self.nx, self.ny);
+        let mut seen = self.reached();
+        while let Some(first) = seen.iter().position(|s| !s) {
+            let before = seen.clone();
+            self.flood(&[first], &mut seen);
+            let (mut n, mut sx, mut sy, mut open) = (0usize, 0.0, 0.0, 0.0);
+            for k in (0..nx * ny).filter(|&k| seen[k] && !before[k]) {
+                n += 1;
+                sx += ((k % nx) as f64 + 0.5) * self.dx;
+                sy += ((k / nx) as f64 + 0.5) * self.dy;
+                open += self.cell_open_share(c, k) * self.dx * self.dy;
+            }
+            if open > 0.0 {
+                let x = sx / n as f64;
+                return Some(ClosedOff {
+                    area_m2: n as f64 * self.dx * self.dy,
+                    x_m: if self.mirrored { self.length_m - x } else { x },
+                    y_m: sy / n as f64,
+                    open_floor_m2: open,
+                });
+            }
         }
-        let x = sx / n as f64;
-        Some(ClosedOff {
-            area_m2: n as f64 * self.dx * self.dy,
-            x_m: if self.mirrored { self.length_m - x } else { x },
-            y_m: sy / n as f64,
-        })
+        None
     }
 
     /// Mark every cell reachable from `starts` through faces no baffle blocks.
@@ -275,7 +293,7 @@ impl PlenumLayout {
     /// Check that this grid resolves every baffle and leaves the whole plenum open to the inlet: the container
     /// file is checked on a fine grid when it is read, but a gap narrower than the solve's plenum cells closes
     /// on them, and a baffle shorter than a cell or within half a cell of a wall vanishes from them.
-    pub fn check_resolved(&self) -> Result<(), InputError> {
+    pub fn check_resolved(&self, c: &Container) -> Result<(), InputError> {
         let grid = format!("{} × {} plenum cells", self.nx, self.ny);
         if let Some(n) = self.baffle_faces.iter().position(|&f| f == 0) {
             return Err(InputError::argument(
@@ -286,23 +304,68 @@ impl PlenumLayout {
                 ),
             ));
         }
-        if let Some(cut) = self.closed_off() {
+        if let Some(cut) = self.closed_off(c) {
             return Err(InputError::argument(
                 "plenum grid",
                 grid,
                 &format!(
-                    "closes a gap between baffles: {:.2} m² around x = {:.2} m, y = {:.2} m cannot be reached from the inlet; refine the grid (--nx/--ny or plenum.cells_per_column) or widen the gap",
-                    cut.area_m2, cut.x_m, cut.y_m
+                    "closes a gap between baffles: {:.2} m² around x = {:.2} m, y = {:.2} m, with {:.2} m² of open floor, cannot be reached from the inlet; refine the grid (--nx/--ny or plenum.cells_per_column) or widen the gap",
+                    cut.area_m2, cut.x_m, cut.y_m, cut.open_floor_m2
                 ),
             ));
         }
         Ok(())
     }
 
+    /// The open share (0–1) of each cell's floor: the part outside the container's `floor.blocked_areas`, exact
+    /// from the rectangles (`Container::open_floor_in_m2`). Less than 1e-12 of a cell counts as none, as
+    /// `Container::discretize` counts a column's.
+    pub fn floor_open_share(&self, c: &Container) -> Vec<f64> {
+        if c.floor.blocked_areas.is_empty() {
+            return vec![1.0; self.nx * self.ny];
+        }
+        (0..self.nx * self.ny)
+            .map(|k| self.cell_open_share(c, k))
+            .collect()
+    }
+
+    /// The open share of cell `k`'s floor (see [`PlenumLayout::floor_open_share`]).
+    fn cell_open_share(&self, c: &Container, k: usize) -> f64 {
+        if c.floor.blocked_areas.is_empty() {
+            return 1.0;
+        }
+        let (i, j) = (k % self.nx, k / self.nx);
+        let x0 = i as f64 * self.dx;
+        let x0 = if self.mirrored {
+            self.length_m - x0 - self.dx
+        } else {
+            x0
+        };
+        let y0 = j as f64 * self.dy;
+        let share = c.open_floor_in_m2(x0, x0 + self.dx, y0, y0 + self.dy) / (self.dx * self.dy);
+        if share < 1e-12 {
+            0.0
+        } else {
+            share.min(1.0)
+        }
+    }
+
     /// Put the depths, the blocked faces and the inlet's momentum factors into a closed box of the same size (the
-    /// inlet velocities are set per solve, from the inflow: [`InletFace::velocity_m_per_s`]).
+    /// inlet velocities are set per solve, from the inflow: [`InletFace::velocity_m_per_s`]). Every face of a cell
+    /// the inlet cannot reach (a closed pocket, accepted only with no open floor) is held at zero: no air moves
+    /// there, and the pressure correction leaves those cells out.
     pub fn apply(&self, d: &mut FlowDomain) {
         d.depth.copy_from_slice(&self.depth_m);
+        let nx = self.nx;
+        for (k, _) in self.reached().iter().enumerate().filter(|(_, r)| !**r) {
+            let (i, j) = (k % nx, k / nx);
+            for f in [j * (nx + 1) + i, j * (nx + 1) + i + 1] {
+                d.u_fixed[f] = Some(0.0);
+            }
+            for f in [j * nx + i, (j + 1) * nx + i] {
+                d.v_fixed[f] = Some(0.0);
+            }
+        }
         for (f, &b) in d.u_fixed.iter_mut().zip(&self.blocked_x) {
             if b {
                 *f = Some(0.0);
@@ -370,12 +433,52 @@ mod tests {
         };
         let l = PlenumLayout::new(&c, &[wall], 8, 4);
         assert_eq!(l.baffle_faces, vec![4]);
-        let cut = l.closed_off().expect("the last metre is cut off");
+        let cut = l.closed_off(&c).expect("the last metre is cut off");
         approx::assert_relative_eq!(cut.area_m2, 2.0, max_relative = 1e-12);
         approx::assert_relative_eq!(cut.x_m, 3.5, max_relative = 1e-12);
         // a gap of one cell keeps it open
         let short = Baffle { y1_m: 1.5, ..wall };
-        assert!(PlenumLayout::new(&c, &[short], 8, 4).closed_off().is_none());
+        assert!(PlenumLayout::new(&c, &[short], 8, 4)
+            .closed_off(&c)
+            .is_none());
+    }
+
+    #[test]
+    fn a_closed_pocket_under_blocked_floor_passes_and_is_held_at_rest() {
+        let mut c = box_container(InletWall::Front);
+        let wall = Baffle {
+            x0_m: 3.0,
+            y0_m: 0.0,
+            x1_m: 3.0,
+            y1_m: 2.0,
+        };
+        let blocked = |x0_m: f64| crate::airflow::geometry::FloorArea {
+            x0_m,
+            x1_m: 4.0,
+            y0_m: 0.0,
+            y1_m: 2.0,
+        };
+        // the floor behind the wall blocked but for a 0.1 m strip: that strip's air cannot come from anywhere
+        c.floor.blocked_areas = vec![blocked(3.1)];
+        let l = PlenumLayout::new(&c, &[wall], 8, 4);
+        let cut = l.closed_off(&c).expect("open floor in the pocket");
+        approx::assert_relative_eq!(cut.open_floor_m2, 0.2, max_relative = 1e-12);
+        // all of it blocked: nothing has to reach it
+        c.floor.blocked_areas = vec![blocked(3.0)];
+        assert!(l.closed_off(&c).is_none());
+        assert!(l.check_resolved(&c).is_ok());
+        let mut d = FlowDomain::closed_box(8, 4, l.dx, l.dy, 1.0);
+        l.apply(&mut d);
+        // the pocket is cells 6 and 7 of each row: all their faces held at zero, the rest of the plenum open
+        for j in 0..4 {
+            for i in 0..8 {
+                let held = [d.u_fixed[j * 9 + i], d.u_fixed[j * 9 + i + 1]]
+                    .into_iter()
+                    .chain([d.v_fixed[j * 8 + i], d.v_fixed[(j + 1) * 8 + i]])
+                    .all(|f| f == Some(0.0));
+                assert_eq!(held, i >= 6, "cell ({i}, {j})");
+            }
+        }
     }
 
     #[test]
@@ -389,7 +492,7 @@ mod tests {
             y1_m: 2.0,
         };
         let l = PlenumLayout::new(&c, &[diag], 16, 8);
-        assert!(l.closed_off().is_some());
+        assert!(l.closed_off(&c).is_some());
     }
 
     #[test]

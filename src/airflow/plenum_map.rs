@@ -16,7 +16,8 @@ pub struct PlenumMap {
     pub u_m_per_s: Array2<f64>,
     /// Depth-mean velocity across the width, m/s (positive toward y = width), [nx, ny].
     pub v_m_per_s: Array2<f64>,
-    /// Static pressure, Pa gauge, [nx, ny].
+    /// Static pressure, Pa gauge, [nx, ny]; NaN in a cell whose every face is held at zero (a closed pocket the
+    /// inlet's air cannot reach: no air moves there and nothing sets its pressure).
     pub pressure_pa: Array2<f64>,
 }
 
@@ -50,7 +51,12 @@ impl PlenumMap {
             u_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| sign * centre(i, j).0),
             v_m_per_s: Array2::from_shape_fn((nx, ny), |(i, j)| centre(i, j).1),
             pressure_pa: Array2::from_shape_fn((nx, ny), |(i, j)| {
-                frame.inlet_pa + frame.rho_kg_per_m3 * (s.p[j * nx + src(i)] - p_inlet_kinematic)
+                if enclosed(d, src(i), j) {
+                    f64::NAN
+                } else {
+                    frame.inlet_pa
+                        + frame.rho_kg_per_m3 * (s.p[j * nx + src(i)] - p_inlet_kinematic)
+                }
             }),
         }
     }
@@ -67,9 +73,7 @@ impl PlenumMap {
     /// of an even grid this is the mean of the two middle rows.
     pub fn pressure_along(&self, y_frac: f64) -> Vec<(f64, f64)> {
         let (nx, ny) = self.pressure_pa.dim();
-        let y = (y_frac.clamp(0.0, 1.0) * ny as f64 - 0.5).clamp(0.0, (ny - 1) as f64);
-        let (j0, j1) = (y.floor() as usize, y.ceil() as usize);
-        let w = y - j0 as f64;
+        let (j0, j1, w) = line_between(y_frac, ny);
         (0..nx)
             .map(|i| {
                 let p = &self.pressure_pa;
@@ -80,6 +84,41 @@ impl PlenumMap {
             })
             .collect()
     }
+
+    /// Static pressure along a line across the width at fraction `x_frac` of the length (0 = the front wall,
+    /// 1 = the rear wall): (distance from the y = 0 wall, m; Pa) per cell across the width, as
+    /// [`PlenumMap::pressure_along`] is along the length.
+    pub fn pressure_across(&self, x_frac: f64) -> Vec<(f64, f64)> {
+        let (nx, ny) = self.pressure_pa.dim();
+        let (i0, i1, w) = line_between(x_frac, nx);
+        (0..ny)
+            .map(|j| {
+                let p = &self.pressure_pa;
+                (
+                    (j as f64 + 0.5) * self.dy_m,
+                    (1.0 - w) * p[[i0, j]] + w * p[[i1, j]],
+                )
+            })
+            .collect()
+    }
+}
+
+/// True when every face of cell (i, j) of `d` is held at zero velocity (`airflow::plenum2d`'s face indices).
+fn enclosed(d: &FlowDomain, i: usize, j: usize) -> bool {
+    let nx = d.nx;
+    let held = |f: &Option<f64>| *f == Some(0.0);
+    held(&d.u_fixed[j * (nx + 1) + i])
+        && held(&d.u_fixed[j * (nx + 1) + i + 1])
+        && held(&d.v_fixed[j * nx + i])
+        && held(&d.v_fixed[(j + 1) * nx + i])
+}
+
+/// The two cell rows a line at fraction `frac` across `n` cells lies between, and the second's weight: a line
+/// through cell centres takes that cell alone; 0 and 1 take the cells along the walls.
+fn line_between(frac: f64, n: usize) -> (usize, usize, f64) {
+    let t = (frac.clamp(0.0, 1.0) * n as f64 - 0.5).clamp(0.0, (n - 1) as f64);
+    let (a, b) = (t.floor() as usize, t.ceil() as usize);
+    (a, b, t - a as f64)
 }
 
 #[cfg(test)]
@@ -145,5 +184,30 @@ mod tests {
         assert!(same(c[1].1, m.pressure_pa[[1, 1]]));
         assert!(same(m.pressure_along(0.0)[3].1, m.pressure_pa[[3, 0]]));
         assert!(same(m.pressure_along(1.0)[3].1, m.pressure_pa[[3, 2]]));
+    }
+
+    #[test]
+    fn a_line_across_the_width_runs_along_its_cell_column() {
+        let (d, s) = field();
+        let frame = MapFrame {
+            rho_kg_per_m3: 1.0,
+            inlet_pa: 0.0,
+            flip: false,
+        };
+        let m = PlenumMap::from_solver(&d, &s, 0.0, frame);
+        let same = |x: f64, y: f64| x.to_bits() == y.to_bits();
+        // the end walls: the first and last cells along the length, across all three cells of the width
+        let (front, rear) = (m.pressure_across(0.0), m.pressure_across(1.0));
+        assert_eq!(front.len(), 3);
+        assert!((front[2].0 - 1.0).abs() < 1e-12);
+        for j in 0..3 {
+            assert!(same(front[j].1, m.pressure_pa[[0, j]]));
+            assert!(same(rear[j].1, m.pressure_pa[[3, j]]));
+        }
+        // the middle of four cells along the length lies halfway between the second and the third
+        let mid = m.pressure_across(0.5);
+        assert!((mid[1].1 - 0.5 * (m.pressure_pa[[1, 1]] + m.pressure_pa[[2, 1]])).abs() < 1e-12);
+        // 0.625 of the length is the third cell's centre: that cell alone
+        assert!(same(m.pressure_across(0.625)[1].1, m.pressure_pa[[2, 1]]));
     }
 }

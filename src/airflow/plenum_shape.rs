@@ -6,7 +6,12 @@
 //! Column arrays are in the solver's orientation: index `i·ny + j`, i = 0 at the inlet wall.
 //!
 //! The 2-D plenum runs on a grid of its own, `cells_per_column`² cells under each column; the transfer is
-//! conservative: a column's outflow leaves evenly through its cells, and its δ is the mean over its cells. The
+//! conservative: a column's outflow leaves through its cells in proportion to the open share of each cell's floor
+//! (a cell under a blocked floor area passes none; a column with no open floor, which takes no air, spreads its
+//! zero evenly), and its δ is the mean over its cells with the same weights, the pressure under the floor the air
+//! leaves through. The leakage leaves evenly from the cells the inlet's air reaches. A pocket closed off by baffles
+//! is accepted only over blocked floor (`PlenumLayout::closed_off`); its air is held at rest and its pressure, which
+//! nothing sets, is left out of the map (NaN: no air there). The
 //! plenum's shape on that grid comes from `airflow::plenum_layout`: the depth of each cell (a taper), the faces
 //! baffles block, and the inlet, a set of boundary faces on its wall (an end wall or a side wall) covering the
 //! opening's width at its offset (partly covered faces carry their share); the jet fills `inlet height / plenum
@@ -155,6 +160,14 @@ pub struct Plenum2d {
     state: FlowState,
     grid: Grid,
     r: usize,
+    /// Share of its column's outflow leaving through each plenum cell (index `j·nx + i` of the plenum grid; the
+    /// shares of a column's cells sum to 1).
+    outflow_share: Vec<f64>,
+    /// Share of the leakage leaving through each plenum cell: even over the cells the inlet's air reaches, none in
+    /// a closed pocket.
+    leak_share: Vec<f64>,
+    /// The cells the inlet's air reaches (false in a closed pocket, whose air is at rest).
+    reached: Vec<bool>,
     /// The inlet's boundary faces with their shares of the inflow.
     inlet: Vec<InletFace>,
     /// Last solve's record.
@@ -172,6 +185,13 @@ impl Plenum2d {
         let layout = PlenumLayout::new(container, &container.baffles, nx, ny);
         let mut domain = FlowDomain::closed_box(nx, ny, layout.dx, layout.dy, 1.0);
         layout.apply(&mut domain);
+        let reached = layout.reached();
+        let outflow_share = outflow_shares(&layout.floor_open_share(container), &reached, grid, r);
+        let n_reached = reached.iter().filter(|r| **r).count() as f64;
+        let leak_share = reached
+            .iter()
+            .map(|&r| if r { 1.0 / n_reached } else { 0.0 })
+            .collect();
         let inlet = layout.inlet;
         let params = FlowParams {
             nu_m2_per_s: NU_AIR,
@@ -192,6 +212,9 @@ impl Plenum2d {
             state,
             grid,
             r,
+            outflow_share,
+            leak_share,
+            reached,
             inlet,
             last: None,
             total_iters: 0,
@@ -211,7 +234,10 @@ impl Plenum2d {
             .sum()
     }
 
-    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ.
+    /// δ per column of the kept flow field: the mean over each column's cells of P − P_inlet, times ρ, weighted
+    /// by each cell's share of the column's outflow. Cells in a closed pocket count for nothing: nothing sets the
+    /// pressure of air at rest in a sealed pocket, so a column wholly over one (no open floor, no air) reports the
+    /// inlet static pressure.
     fn shape_of_state(&self, rho: f64) -> Vec<f64> {
         let d = &self.domain;
         let (r, ny_c) = (self.r, self.grid.ny);
@@ -220,22 +246,53 @@ impl Plenum2d {
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let c = (ii / r) * ny_c + jj / r;
-                out[c] += rho * (self.state.p[jj * d.nx + ii] - p_in) / (r * r) as f64;
+                let k = jj * d.nx + ii;
+                if self.reached[k] {
+                    out[c] += rho * (self.state.p[k] - p_in) * self.outflow_share[k];
+                }
             }
         }
         out
     }
 }
 
+/// Each plenum cell's share of its column's outflow (plenum index `j·nx + i`, r × r cells per column of `grid`)
+/// from the open share of each cell's floor: in proportion to it; under a column with none open (which takes no
+/// air) evenly over its cells the inlet's air `reached`, or over all its cells if it lies wholly in a closed
+/// pocket. A closed pocket has no open floor (`PlenumLayout::closed_off`), so it gets no share of a column's air.
+fn outflow_shares(open: &[f64], reached: &[bool], grid: Grid, r: usize) -> Vec<f64> {
+    let nx = grid.nx * r;
+    let col = |k: usize| ((k % nx) / r) * grid.ny + (k / nx) / r;
+    let mut total = vec![0.0; grid.nx * grid.ny];
+    let mut n_reached = vec![0usize; grid.nx * grid.ny];
+    for (k, s) in open.iter().enumerate() {
+        total[col(k)] += s;
+        n_reached[col(k)] += usize::from(reached[k]);
+    }
+    open.iter()
+        .enumerate()
+        .map(|(k, s)| {
+            let (t, n) = (total[col(k)], n_reached[col(k)]);
+            if t > 0.0 {
+                s / t
+            } else if n > 0 {
+                f64::from(u8::from(reached[k])) / n as f64
+            } else {
+                1.0 / (r * r) as f64
+            }
+        })
+        .collect()
+}
+
 impl Plenum for Plenum2d {
     fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
         let d = &mut self.domain;
         let (r, ny_c) = (self.r, self.grid.ny);
-        let ncell = d.nx * d.ny;
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let c = (ii / r) * ny_c + jj / r;
-                d.sink_m3_per_s[jj * d.nx + ii] = q[c] / (r * r) as f64 + leak / ncell as f64;
+                let k = jj * d.nx + ii;
+                d.sink_m3_per_s[k] = q[c] * self.outflow_share[k] + leak * self.leak_share[k];
             }
         }
         let inflow: f64 = q.iter().sum::<f64>() + leak;
@@ -317,7 +374,7 @@ pub fn build(
         PlenumModel::TwoD(p) => {
             let r = p.cells_per_column.max(1);
             PlenumLayout::new(container, &container.baffles, grid.nx * r, grid.ny * r)
-                .check_resolved()?;
+                .check_resolved(container)?;
             Box::new(Plenum2d::new(container, grid, p))
         }
     })

@@ -219,31 +219,7 @@ pub fn airflow_outputs(
         overlays: overlays.clone(),
         notes: vec!["the plenum under the floor, seen from above".into()],
     });
-    let along = |a: &ndarray::Array2<f64>| -> Vec<(f64, f64)> {
-        (0..s.grid.nx)
-            .map(|i| {
-                (
-                    u.length_value((i as f64 + 0.5) * s.dx_m),
-                    u.pressure_value(a.row(i).mean().unwrap_or(f64::NAN)),
-                )
-            })
-            .collect()
-    };
-    let profile = line_chart(&LineChart {
-        title: format!("{}: pressure along the length", c.name),
-        x_label: "distance from front wall".into(),
-        x_unit: u.length_unit().into(),
-        y_label: "static pressure".into(),
-        y_unit: u.pressure_unit().into(),
-        series: plenum_lines(s, u)
-            .into_iter()
-            .chain([Series {
-                name: "bed bottom (above floor, mean across)".into(),
-                points: along(&s.bottom_pressure_pa),
-            }])
-            .collect(),
-        ..LineChart::default()
-    });
+    let profile = plenum_profile_svg(c, s, u);
     let mut set = OutputSet::new();
     set.add("columns.csv", csv_bytes);
     set.add("summary.json", json);
@@ -255,6 +231,96 @@ pub fn airflow_outputs(
         set.add("plenum.csv", plenum_csv(m));
     }
     set
+}
+
+/// True when the profile picture runs across the width: a side inlet's axis, with a plenum model that resolves
+/// the width (the 2-D plenum; the uniform plenum holds one pressure everywhere, so its line runs along the length).
+fn profile_across(c: &Container, s: &AirflowSolution) -> bool {
+    c.inlet.wall.is_side() && s.plenum_map.is_some()
+}
+
+/// What `plenum_profile.svg` shows, for the report's caption.
+fn profile_caption(c: &Container, s: &AirflowSolution) -> &'static str {
+    if profile_across(c, s) {
+        "Pressure across the width, along the axis of the side inlet"
+    } else {
+        "Pressure along the length"
+    }
+}
+
+/// `plenum_profile.svg`: the plenum pressure along the inlet's axis with the bed-bottom pressure beside it. For an
+/// end inlet (or a plenum that does not resolve the width) along the length, for a side inlet across the width.
+fn plenum_profile_svg(c: &Container, s: &AirflowSolution, u: UnitSystem) -> String {
+    let conv = |v: Vec<(f64, f64)>| -> Vec<(f64, f64)> {
+        v.into_iter()
+            .map(|(x, p)| (u.length_value(x), u.pressure_value(p)))
+            .collect()
+    };
+    let mean = |v: ndarray::ArrayView1<f64>| v.mean().unwrap_or(f64::NAN);
+    let b = &s.bottom_pressure_pa;
+    let (title, x_label, lines, bed) = match &s.plenum_map {
+        Some(m) if profile_across(c, s) => {
+            let (x0, x1) = c.inlet_span_m();
+            let centre = 0.5 * (x0 + x1);
+            let lines = vec![
+                Series {
+                    name: format!(
+                        "plenum, through the inlet centre ({} from front wall)",
+                        u.length(centre)
+                    ),
+                    points: conv(m.pressure_across(centre / c.length_m)),
+                },
+                Series {
+                    name: "plenum, along the front wall".into(),
+                    points: conv(m.pressure_across(0.0)),
+                },
+                Series {
+                    name: "plenum, along the rear wall".into(),
+                    points: conv(m.pressure_across(1.0)),
+                },
+            ];
+            let bed = Series {
+                name: "bed bottom (above floor, mean along the length)".into(),
+                points: conv(
+                    (0..s.grid.ny)
+                        .map(|j| ((j as f64 + 0.5) * s.dy_m, mean(b.column(j))))
+                        .collect(),
+                ),
+            };
+            (
+                "pressure across the width",
+                "distance from left wall",
+                lines,
+                bed,
+            )
+        }
+        _ => {
+            let bed = Series {
+                name: "bed bottom (above floor, mean across)".into(),
+                points: conv(
+                    (0..s.grid.nx)
+                        .map(|i| ((i as f64 + 0.5) * s.dx_m, mean(b.row(i))))
+                        .collect(),
+                ),
+            };
+            let lines = plenum_lines(s, u);
+            (
+                "pressure along the length",
+                "distance from front wall",
+                lines,
+                bed,
+            )
+        }
+    };
+    line_chart(&LineChart {
+        title: format!("{}: {title}", c.name),
+        x_label: x_label.into(),
+        x_unit: u.length_unit().into(),
+        y_label: "static pressure".into(),
+        y_unit: u.pressure_unit().into(),
+        series: lines.into_iter().chain([bed]).collect(),
+        ..LineChart::default()
+    })
 }
 
 /// The plenum pressure along the length: on the centre line and along both side walls when the plenum model
@@ -452,7 +518,7 @@ pub fn airflow_page(
             Block::Heading("Pictures".into()),
             pic("top_airflow.svg", "Air leaving the top surface"),
             pic("plenum_pressure.svg", "Static pressure in the plenum"),
-            pic("plenum_profile.svg", "Pressure along the length"),
+            pic("plenum_profile.svg", profile_caption(c, s)),
         ]
         .into_iter()
         .chain(
