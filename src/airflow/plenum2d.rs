@@ -10,7 +10,8 @@
 //! Eddy viscosity (our closure, stated): `ν_e = ν + (κ/6)·h·u* + (c_m·h)²·|S|`, u* = √(c_f/2)·|u|, κ = 0.41:
 //! the first turbulent term is the depth mean of the parabolic eddy viscosity used in depth-averaged river models
 //! (Elder 1959, from memory), the second a Prandtl mixing length tied to the plenum height for the jet's shear
-//! layers (c_m = 0.1 by default, our choice within the 0.07–0.1 range of DOMAIN.md §13; from memory), bounded by
+//! layers (DOMAIN.md §13 gives c_m ≈ 0.07–0.1, from memory; the coupled plenum's default is 0.3, a numerical choice
+//! explained at `plenum_shape::Plenum2dParams`), bounded by
 //! κ times the distance to the nearest wall: a side wall or a baffle (a blocked interior face).
 //!
 //! Numerics: a staggered (MAC) grid of finite volumes — pressure at cell centres, u on the x-faces, v on the
