@@ -15,16 +15,13 @@
 //! burner holding the crop's 35 °C plenum cap (the usual cap), wagon level 1.3 m at 10 m³/min per m³, 20 → 10 %.
 //! At a held plenum temperature the burner's rate is set by the weather, so propane per tonne measures how fast the
 //! load dries on that heat: one number, so fit one constant.
-use std::path::Path;
 use std::sync::Arc;
 
-use chrono::{FixedOffset, TimeZone};
 use dryfront::calibrate::fit::{levenberg_marquardt, FitSettings, ParamSpec};
 use dryfront::calibrate::rates::Constant;
-use dryfront::calibrate::wagon::{median, WagonCase};
+use dryfront::calibrate::wagon::{median, september_starts};
 use dryfront::crop::Crop;
-use dryfront::input::scenario::read_container;
-use dryfront::weather::series::ReadOptions;
+use dryfront::input::wagon::published_wagon_case;
 
 const TARGET_L_PER_T: f64 = 0.5 * (26.5 + 29.2);
 const SIGMA_L_PER_T: f64 = 0.5 * (29.2 - 26.5);
@@ -50,18 +47,8 @@ fn main() {
         })
         .collect();
     let crop = Crop::load_named(&crop_name).expect("crop");
-    let opts = ReadOptions {
-        year: Some(2026),
-        ..ReadOptions::default()
-    };
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
-    let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("weather");
-    let (container, _) = read_container(None, "wagon-4m", "container").expect("container");
-    let case = WagonCase::published(container, Arc::new(weather));
-    let tz = FixedOffset::west_opt(5 * 3600).unwrap();
-    let starts: Vec<_> = (0..10)
-        .map(|i| tz.with_ymd_and_hms(2026, 9, 5, 15, 0, 0).unwrap() + chrono::Duration::days(6 * i))
-        .collect();
+    let case = published_wagon_case().expect("wagon case");
+    let starts = september_starts(5, 10, 6);
     let params: Vec<ParamSpec> = constants
         .iter()
         .map(|c| {

@@ -3,18 +3,15 @@
 //!
 //! Run: `cargo run --release --example wagon_study -- [crop] [first-day-of-september] [count] [every-days]
 //! [k_h k_kh Ea_h Ea_k]`
-use std::path::Path;
 use std::sync::Arc;
 
-use chrono::{FixedOffset, TimeZone};
-use dryfront::calibrate::wagon::{median, WagonCase};
+use dryfront::calibrate::wagon::{median, september_starts};
 use dryfront::crop::Crop;
 use dryfront::drying::bed::BedState;
 use dryfront::drying::material::CropMaterial;
 use dryfront::drying::run::{RunObserver, StepReport};
-use dryfront::input::scenario::read_container;
+use dryfront::input::wagon::published_wagon_case;
 use dryfront::props::thin_layer::{PodModel, ThinLayer};
-use dryfront::weather::series::ReadOptions;
 
 fn set(model: &mut PodModel, k: [f64; 4]) {
     if let PodModel::TwoCompartment { hull, kernel, .. } = model {
@@ -62,19 +59,8 @@ fn main() {
         set(&mut crop.moisture, [k[0], k[1], k[2], k[3]]);
     }
     let crop = Arc::new(crop);
-    let opts = ReadOptions {
-        year: Some(2026),
-        ..ReadOptions::default()
-    };
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
-    let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("weather");
-    let (container, _) = read_container(None, "wagon-4m", "container").expect("container");
-    let case = WagonCase::published(container, Arc::new(weather));
-    let tz = FixedOffset::west_opt(5 * 3600).unwrap();
-    let day0 = tz.with_ymd_and_hms(2026, 9, 1, 15, 0, 0).unwrap();
-    let starts: Vec<_> = (0..count)
-        .map(|i| day0 + chrono::Duration::days((first - 1 + i * every) as i64))
-        .collect();
+    let case = published_wagon_case().expect("wagon case");
+    let starts = september_starts(first, count, every);
     for h in ["plenum=35", "rise=8"] {
         let t0 = std::time::Instant::now();
         let r = case

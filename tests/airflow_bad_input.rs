@@ -4,7 +4,6 @@
 mod common;
 
 use std::path::Path;
-use std::process::Command;
 
 use dryfront::airflow::{Container, FanCurve, Grid};
 
@@ -112,18 +111,6 @@ fn zero_grid_is_rejected() {
     assert_eq!(e, "--nx: 0 must be between 1 and 4096");
 }
 
-fn dryfront(args: &[&str], dir: &Path) -> (i32, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
 #[test]
 fn binary_exits_2_names_the_file_and_writes_nothing() {
     let dir = tempfile::tempdir().unwrap();
@@ -131,7 +118,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
     v["floor"]["open_area_fraction"] = 0.0.into();
     std::fs::write(dir.path().join("bad.json"), v.to_string()).unwrap();
     let crop = common::root().join("models/crops/peanut-inshell.json");
-    let (code, err) = dryfront(
+    let (code, _, err) = common::dryfront(
         &[
             "airflow",
             "--container",
@@ -159,7 +146,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
     )
     .unwrap();
     let c = common::root().join("models/containers/trailer-6m.json");
-    let (code, err) = dryfront(
+    let (code, _, err) = common::dryfront(
         &[
             "airflow",
             "--container",
@@ -185,7 +172,7 @@ fn binary_exits_2_names_the_file_and_writes_nothing() {
 fn binary_writes_all_outputs_for_a_good_run() {
     let dir = tempfile::tempdir().unwrap();
     let crop = common::root().join("models/crops/peanut-inshell.json");
-    let (code, err) = dryfront(
+    let (code, _, err) = common::dryfront(
         &[
             "airflow",
             "--container",

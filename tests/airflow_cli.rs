@@ -221,12 +221,9 @@ fn an_airflow_far_below_practice_is_named_not_passed_over() {
             "6",
         ];
         args.extend_from_slice(extra);
-        let o = std::process::Command::new(env!("CARGO_BIN_EXE_dryfront"))
-            .args(&args)
-            .output()
-            .unwrap();
-        assert!(o.status.success());
-        String::from_utf8_lossy(&o.stdout).into_owned()
+        let (code, out, err) = common::dryfront(&args, &common::root());
+        assert_eq!(code, 0, "{err}");
+        out
     };
     let low = run(&["--flow-m3-min", "1"]);
     assert!(

@@ -3,31 +3,19 @@
 //! to now plus the printed hours, P10 ≤ P50 ≤ P90 and inside the members' own spread, no load on a dryer before its
 //! present load is off, waits equal to start minus arrival and flagged against the limit, no load over its dryer's
 //! capacity.
+mod common;
+
 use std::collections::BTreeMap;
-use std::path::{Path, PathBuf};
-use std::process::Command;
+use std::path::Path;
 
 use chrono::{DateTime, FixedOffset};
-
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
+use common::root;
 
 fn run_ok(args: &[&str], out: &Path) -> String {
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .arg("--out")
-        .arg(out)
-        .current_dir(root())
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-    String::from_utf8(o.stdout).unwrap()
+    let args = [args, &["--out", out.to_str().unwrap()]].concat();
+    let (code, stdout, err) = common::dryfront(&args, &root());
+    assert_eq!(code, 0, "{args:?}: {err}");
+    stdout
 }
 
 fn names(dir: &Path) -> Vec<String> {

@@ -1,21 +1,17 @@
 //! `dryfront calibrate` as a user runs it (the README's example): it fits, prints intervals and residuals, and
 //! writes a crop file that loads, with the fitted constants marked "calibrated"; a bad `--fit` name is one line,
 //! exit 2.
-use std::process::Command;
+mod common;
 
+use common::root;
 use dryfront::crop::{Crop, Status};
-
-fn root() -> std::path::PathBuf {
-    std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
 
 #[test]
 fn readme_example_writes_a_calibrated_crop() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("calibrated");
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .current_dir(root())
-        .args([
+    let (code, stdout, err) = common::dryfront(
+        &[
             "calibrate",
             "--load",
             "examples/calibration/bf-load-23.json",
@@ -23,12 +19,11 @@ fn readme_example_writes_a_calibrated_crop() {
             "--fit",
             "hull-rate,kernel-rate",
             "--out",
-        ])
-        .arg(&out)
-        .output()
-        .unwrap();
-    let stdout = String::from_utf8_lossy(&o.stdout);
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            out.to_str().unwrap(),
+        ],
+        &root(),
+    );
+    assert_eq!(code, 0, "{err}");
     assert!(stdout.contains("95 % interval"), "{stdout}");
     assert!(stdout.contains("rms residual"), "{stdout}");
     let crop = Crop::load_named(out.join("peanut-inshell-calibrated.json").to_str().unwrap())
@@ -53,20 +48,18 @@ fn readme_example_writes_a_calibrated_crop() {
 
 #[test]
 fn unknown_constant_is_refused_in_one_line() {
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .current_dir(root())
-        .args([
+    let (code, _, err) = common::dryfront(
+        &[
             "calibrate",
             "--load",
             "examples/calibration/bf-load-23.json",
             "examples/calibration/bf-load-23-samples.csv",
             "--fit",
             "oil-content",
-        ])
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(2));
+        ],
+        &root(),
+    );
+    assert_eq!(code, 2);
     assert_eq!(err.lines().count(), 1, "{err}");
     assert!(
         err.contains("--fit") && err.contains("oil-content"),

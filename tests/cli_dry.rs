@@ -2,15 +2,15 @@
 //! an unknown strategy, a set-point above the crop's safe limit (refused unless forced), a start outside the weather
 //! record, a target not below the initial moisture, a malformed scenario — exits 2 with one clear line and writes
 //! nothing.
+mod common;
+
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_dryfront"))
-}
+use common::root;
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+/// `p` as a command-line argument (temporary folders have UTF-8 names).
+fn arg(p: &Path) -> &str {
+    p.to_str().unwrap()
 }
 
 /// The demo scenario rewritten with `edit` into `dir`, weather path made absolute.
@@ -32,16 +32,9 @@ fn scenario_with(dir: &Path, edit: impl Fn(&mut serde_json::Value)) -> PathBuf {
 fn fails(args: &[&str], scenario: &Path, want: &str) {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("out");
-    let o = bin()
-        .args(args)
-        .arg("--scenario")
-        .arg(scenario)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(2), "{stderr}");
+    let args = [args, &["--scenario", arg(scenario), "--out", arg(&out)]].concat();
+    let (code, _, stderr) = common::dryfront(&args, &root());
+    assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains(want), "wanted {want:?} in {stderr}");
     // Every error is one line, option errors from the parser included.
     assert!(stderr.starts_with("dryfront: error:"), "{stderr}");
@@ -54,15 +47,11 @@ fn dry_writes_every_output_whole() {
     let dir = tempfile::tempdir().unwrap();
     let scenario = scenario_with(dir.path(), |_| {});
     let out = dir.path().join("out");
-    let o = bin()
-        .args(["dry", "--scenario"])
-        .arg(&scenario)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+    let (code, stdout, stderr) = common::dryfront(
+        &["dry", "--scenario", arg(&scenario), "--out", arg(&out)],
+        &root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     for want in [
         "mean kernel moisture at 10.0 % w.b.: ",
         "95 % of the load at or below 10.0 % w.b.",
@@ -103,13 +92,17 @@ fn dry_writes_every_output_whole() {
 fn compare_marks_the_best_of_each_column() {
     let dir = tempfile::tempdir().unwrap();
     let scenario = scenario_with(dir.path(), |_| {});
-    let o = bin()
-        .args(["compare", "--strategies", "none;rise=6", "--scenario"])
-        .arg(&scenario)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+    let (code, stdout, stderr) = common::dryfront(
+        &[
+            "compare",
+            "--strategies",
+            "none;rise=6",
+            "--scenario",
+            arg(&scenario),
+        ],
+        &root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert!(
         stdout.contains("none") && stdout.contains("rise=6") && stdout.contains('*'),
         "{stdout}"
@@ -161,13 +154,18 @@ fn bad_load_input_exits_2_with_one_line_and_no_output() {
 fn forced_set_point_runs_with_a_warning() {
     let dir = tempfile::tempdir().unwrap();
     let scenario = scenario_with(dir.path(), |v| v["max_hours"] = 6.0.into());
-    let o = bin()
-        .args(["dry", "--strategy", "plenum=40", "--force", "--scenario"])
-        .arg(&scenario)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stderr = String::from_utf8_lossy(&o.stderr);
+    let (code, _, stderr) = common::dryfront(
+        &[
+            "dry",
+            "--strategy",
+            "plenum=40",
+            "--force",
+            "--scenario",
+            arg(&scenario),
+        ],
+        &root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert!(
         stderr.contains("warning") && stderr.contains("--force"),
         "{stderr}"

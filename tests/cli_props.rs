@@ -3,23 +3,9 @@
 //! field; the demo writes its table whole.
 #![deny(clippy::float_cmp)]
 
+mod common;
+
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn dryfront(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .output()
-        .expect("binary runs")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stdout).into_owned()
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
 
 /// The number after `label` on its output line.
 fn value(out: &str, label: &str) -> f64 {
@@ -35,20 +21,15 @@ fn value(out: &str, label: &str) -> f64 {
 }
 
 fn ok(args: &[&str]) -> String {
-    let o = dryfront(args);
-    assert!(o.status.success(), "{args:?} failed: {}", stderr(&o));
-    stdout(&o)
+    let (code, out, err) = common::dryfront(args, &common::root());
+    assert_eq!(code, 0, "{args:?} failed: {err}");
+    out
 }
 
 fn fails(args: &[&str]) -> String {
-    let o = dryfront(args);
-    assert_eq!(
-        o.status.code(),
-        Some(2),
-        "{args:?} should exit 2; stdout {}",
-        stdout(&o)
-    );
-    stderr(&o)
+    let (code, out, err) = common::dryfront(args, &common::root());
+    assert_eq!(code, 2, "{args:?} should exit 2; stdout {out}");
+    err
 }
 
 #[test]

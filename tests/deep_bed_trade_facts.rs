@@ -8,36 +8,21 @@
 //! (`examples/calibrate_wagon.rs` fitted the rates on the dates 3 days before each of these). Checked as medians
 //! over those dates: hours under 24 and propane 20–33 L per tonne (the window around 26.5 L/ton, which is
 //! 26.5–29.2 L/t for a metric or a short ton). The spread is printed for the record.
-use std::path::Path;
 use std::sync::Arc;
 
-use chrono::{FixedOffset, TimeZone};
 use dryfront::airflow::geometry::PlenumChoice;
-use dryfront::calibrate::wagon::{median, WagonCase};
+use dryfront::calibrate::wagon::{median, september_starts};
 use dryfront::crop::Crop;
-use dryfront::input::scenario::read_container;
-use dryfront::weather::series::ReadOptions;
-
-fn case(plenum: PlenumChoice) -> WagonCase {
-    let opts = ReadOptions {
-        year: Some(2026),
-        ..ReadOptions::default()
-    };
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("weather-samples/723170TYA.CSV");
-    let (weather, _) = dryfront::weather::read(&path, None, &opts).expect("bundled TMY3");
-    let (mut container, _) = read_container(None, "wagon-4m", "container").expect("bundled wagon");
-    container.plenum = plenum;
-    WagonCase::published(container, Arc::new(weather))
-}
+use dryfront::input::wagon::published_wagon_case;
 
 /// Median hours and litres per tonne over the unfitted dates, each date printed; checks every date reaches 10 %.
 fn medians(plenum: PlenumChoice) -> (f64, f64) {
-    let case = case(plenum);
+    let mut case = published_wagon_case().expect("bundled wagon and TMY3");
+    let mut container = (*case.container).clone();
+    container.plenum = plenum;
+    case.container = Arc::new(container);
     let crop = Arc::new(Crop::load_named("peanut-inshell").expect("bundled peanut"));
-    let tz = FixedOffset::west_opt(5 * 3600).unwrap();
-    let starts: Vec<_> = (0..9)
-        .map(|i| tz.with_ymd_and_hms(2026, 9, 8, 15, 0, 0).unwrap() + chrono::Duration::days(6 * i))
-        .collect();
+    let starts = september_starts(8, 9, 6);
     let r = case
         .run_all(&crop, &starts, "plenum=35".parse().unwrap())
         .expect("runs");

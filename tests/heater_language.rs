@@ -5,8 +5,11 @@
 //! refuse it in all four with exit code 2 and the same message: the library's `HeaterSpecError` text, after each
 //! command's own context (the option, or the file and `dryers[0].heater`). Strings that parse but pass the crop
 //! file's safety limits are refused everywhere without `--force` and accepted everywhere with it.
+mod common;
+
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+
+use common::root;
 
 use dryfront::crop::Crop;
 use dryfront::drying::heater::{HeaterSpecError, SafetyLimits, StrategySpec};
@@ -62,14 +65,6 @@ const TABLE: &[&str] = &[
     "plenum=40@20-6",
 ];
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_dryfront"))
-}
-
 /// The demo load on a coarse grid for 2 h (the heater check happens before the run; the run only has to finish).
 fn load_scenario(dir: &Path) -> PathBuf {
     let text = std::fs::read_to_string(root().join("models/scenarios/demo-load.json")).unwrap();
@@ -98,54 +93,80 @@ fn buying_point(dir: &Path, heater: &str) -> PathBuf {
     p
 }
 
-/// What each command did: its name, the context its error shows before the message, and the output.
+/// What each command did: its name, the context its error shows before the message, its exit code, stdout and
+/// stderr.
 struct Run {
     place: &'static str,
     context: &'static str,
-    out: Output,
+    code: i32,
+    stdout: String,
+    stderr: String,
 }
 
 fn run_everywhere(s: &str, force: bool, dir: &Path) -> Vec<Run> {
     let load = load_scenario(dir);
     let bp = buying_point(dir, s);
-    let forced = |c: &mut Command| {
-        if force {
-            c.arg("--force");
-        }
-    };
-    let mut dry = bin();
-    dry.args(["dry", "--strategy", s, "--scenario"]).arg(&load);
-    let mut compare = bin();
-    compare
-        .args(["compare", "--strategies", s, "--scenario"])
-        .arg(&load);
-    let mut season = bin();
-    season
-        .args(["season", "run", "--drier", "rate-rule", "--generate"])
-        .args(["--loads", "4", "--scenario"])
-        .arg(&bp)
-        .arg("--out")
-        .arg(dir.join("run"));
-    let mut sweep = bin();
-    sweep
-        .args(["season", "sweep", "--drier", "rate-rule", "--heaters", s])
-        .args(["--dryers", "3", "--policies", "fcfs", "--seasons", "1"])
-        .args(["--loads", "4", "--scenario"])
-        .arg(root().join("models/buying-points/wrenfield.json"))
-        .arg("--out")
-        .arg(dir.join("sweep"));
+    let (run_out, sweep_out) = (dir.join("run"), dir.join("sweep"));
+    let wrenfield = root().join("models/buying-points/wrenfield.json");
+    let arg = |p: &Path| p.to_str().unwrap().to_string();
+    let dry = vec!["dry", "--strategy", s, "--scenario"];
+    let compare = vec!["compare", "--strategies", s, "--scenario"];
+    let season = vec![
+        "season",
+        "run",
+        "--drier",
+        "rate-rule",
+        "--generate",
+        "--loads",
+        "4",
+        "--scenario",
+    ];
+    let sweep = vec![
+        "season",
+        "sweep",
+        "--drier",
+        "rate-rule",
+        "--heaters",
+        s,
+        "--dryers",
+        "3",
+        "--policies",
+        "fcfs",
+        "--seasons",
+        "1",
+        "--loads",
+        "4",
+        "--scenario",
+    ];
     let mut runs = Vec::new();
-    for (place, context, mut c) in [
-        ("dry", "--strategy", dry),
-        ("compare", "--strategies", compare),
-        ("season run", "\"dryers[0].heater\"", season),
-        ("season sweep", "--heaters", sweep),
+    for (place, context, head, tail) in [
+        ("dry", "--strategy", dry, vec![arg(&load)]),
+        ("compare", "--strategies", compare, vec![arg(&load)]),
+        (
+            "season run",
+            "\"dryers[0].heater\"",
+            season,
+            vec![arg(&bp), "--out".into(), arg(&run_out)],
+        ),
+        (
+            "season sweep",
+            "--heaters",
+            sweep,
+            vec![arg(&wrenfield), "--out".into(), arg(&sweep_out)],
+        ),
     ] {
-        forced(&mut c);
+        let mut args = head;
+        args.extend(tail.iter().map(String::as_str));
+        if force {
+            args.push("--force");
+        }
+        let (code, stdout, stderr) = common::dryfront(&args, &root());
         runs.push(Run {
             place,
             context,
-            out: c.output().unwrap(),
+            code,
+            stdout,
+            stderr,
         });
     }
     runs
@@ -166,12 +187,11 @@ fn check(s: &str, force: bool, limits: &SafetyLimits) -> Result<StrategySpec, He
     let dir = tempfile::tempdir().unwrap();
     let verdict = library_verdict(s, limits, force);
     for r in run_everywhere(s, force, dir.path()) {
-        let stdout = String::from_utf8_lossy(&r.out.stdout);
-        let stderr = String::from_utf8_lossy(&r.out.stderr);
+        let (stdout, stderr) = (&r.stdout, &r.stderr);
         let at = format!("{:?} (force {force}) in {}", s, r.place);
         match &verdict {
             Ok(spec) => {
-                assert!(r.out.status.success(), "{at}: refused: {stderr}");
+                assert_eq!(r.code, 0, "{at}: refused: {stderr}");
                 let shown = match r.place {
                     "dry" => format!("— {spec}\n"),
                     "compare" => format!("\n{spec} "),
@@ -184,7 +204,7 @@ fn check(s: &str, force: bool, limits: &SafetyLimits) -> Result<StrategySpec, He
                 );
             }
             Err(e) => {
-                assert_eq!(r.out.status.code(), Some(2), "{at}: {stdout}{stderr}");
+                assert_eq!(r.code, 2, "{at}: {stdout}{stderr}");
                 let first = stderr.lines().next().unwrap_or("");
                 let message = e.to_string();
                 let (prefix, rest) = first

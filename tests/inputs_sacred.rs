@@ -1,13 +1,12 @@
 //! Inputs are sacred: every command with an output refuses, with one line and exit 2, an output that is, holds or
 //! lies inside a file it reads — named directly, through a symbolic link or through `..` — and every input is
 //! byte-identical afterwards, after a refusal and after a whole run.
+mod common;
+
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
+use common::root;
 
 /// Copies of the files the commands read, in `dir/in`.
 fn inputs(dir: &Path) -> PathBuf {
@@ -205,15 +204,16 @@ fn commands(d: &Path) -> Vec<(&'static str, Vec<String>)> {
     ]
 }
 
+/// The binary on `args --out out`: (exit code, stdout, stderr).
+fn run_with_out(args: &[String], out: &Path) -> (i32, String, String) {
+    let mut all: Vec<&str> = args.iter().map(String::as_str).collect();
+    all.extend(["--out", out.to_str().unwrap()]);
+    common::dryfront(&all, &root())
+}
+
 fn refused(args: &[String], out: &Path, what: &str) {
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .arg("--out")
-        .arg(out)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(2), "{what}: {err}");
+    let (code, _, err) = run_with_out(args, out);
+    assert_eq!(code, 2, "{what}: {err}");
     assert_eq!(err.lines().count(), 1, "{what}: one line: {err}");
     assert!(
         err.starts_with("dryfront: error: refusing"),
@@ -287,19 +287,15 @@ fn no_command_writes_over_what_it_reads() {
     summary(d.join("sub/../weather.csv"));
     // Its warnings list sits beside it: `weather.warnings.txt` from `--out weather.txt` must not hit an input.
     std::fs::copy(d.join("weather.csv"), d.join("weather.warnings.txt")).unwrap();
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(["weather", "summary"])
-        .arg(d.join("weather.warnings.txt"))
-        .arg("--out")
-        .arg(d.join("weather.txt"))
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(2),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    let args = [
+        "weather".to_string(),
+        "summary".into(),
+        d.join("weather.warnings.txt")
+            .to_string_lossy()
+            .into_owned(),
+    ];
+    let (code, _, err) = run_with_out(&args, &d.join("weather.txt"));
+    assert_eq!(code, 2, "{err}");
     std::fs::remove_file(d.join("weather.warnings.txt")).unwrap();
     assert_eq!(bytes(&d), before, "inputs unchanged");
 }
@@ -315,17 +311,8 @@ fn the_newest_commands_leave_their_inputs_as_they_were() {
         .filter(|(n, _)| ["status", "board", "calibrate", "airflow fit"].contains(n))
     {
         let out = dir.path().join(format!("out-{}", name.replace(' ', "-")));
-        let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-            .args(&args)
-            .arg("--out")
-            .arg(&out)
-            .output()
-            .unwrap();
-        assert!(
-            o.status.success(),
-            "{name}: {}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        let (code, _, err) = run_with_out(&args, &out);
+        assert_eq!(code, 0, "{name}: {err}");
         assert!(out.join("report.html").is_file(), "{name}: no report.html");
         assert_eq!(bytes(&d), before, "{name}: inputs unchanged after a run");
     }

@@ -2,12 +2,11 @@
 //! container and fan as well as its weather, and a status file's scenario as well as its weather. (Before, the
 //! weather was taken from beside the file but the models and the status file's scenario from the working folder,
 //! so a folder of files that names its own files worked from one working folder and not from another.)
-use std::path::{Path, PathBuf};
-use std::process::Command;
+mod common;
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
+use std::path::{Path, PathBuf};
+
+use common::root;
 
 /// A folder `in/` holding a scenario that names its own crop, container, fan and weather by relative path, and a
 /// status file naming that scenario by relative path.
@@ -40,25 +39,13 @@ fn folder(dir: &Path) -> PathBuf {
     d
 }
 
-fn run(args: &[&str], cwd: &Path) -> (i32, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(cwd)
-        .output()
-        .unwrap();
-    (
-        o.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&o.stderr).into_owned(),
-    )
-}
-
 #[test]
 fn files_named_in_a_file_are_found_beside_it_from_any_working_folder() {
     let dir = tempfile::tempdir().unwrap();
     let d = folder(dir.path());
     for cwd in [dir.path().to_path_buf(), d.clone()] {
         let sc = d.join("load.json");
-        let (code, err) = run(
+        let (code, _, err) = common::dryfront(
             &[
                 "dry",
                 "--scenario",
@@ -70,7 +57,8 @@ fn files_named_in_a_file_are_found_beside_it_from_any_working_folder() {
         );
         assert_eq!(code, 0, "dry from {}: {err}", cwd.display());
         let st = d.join("status.json");
-        let (code, err) = run(&["status", st.to_str().unwrap(), "--members", "2"], &cwd);
+        let (code, _, err) =
+            common::dryfront(&["status", st.to_str().unwrap(), "--members", "2"], &cwd);
         assert_eq!(code, 0, "status from {}: {err}", cwd.display());
     }
 }
@@ -81,7 +69,7 @@ fn a_missing_named_file_is_named_in_the_error() {
     let d = folder(dir.path());
     std::fs::remove_file(d.join("box.json")).unwrap();
     let sc = d.join("load.json");
-    let (code, err) = run(&["dry", "--scenario", sc.to_str().unwrap()], dir.path());
+    let (code, _, err) = common::dryfront(&["dry", "--scenario", sc.to_str().unwrap()], dir.path());
     assert_eq!(code, 2);
     assert_eq!(err.trim().lines().count(), 1, "{err}");
     assert!(

@@ -2,19 +2,15 @@
 //! its memory estimate and the limit, exit code 2, within a second (they used to end in an allocation abort with a
 //! backtrace). The largest peak resident memory of the refused processes is read back from the kernel
 //! (`getrusage(RUSAGE_CHILDREN)`, Linux reports kilobytes) and must stay under 64 MiB.
-use std::process::Command;
+mod common;
+
 use std::time::{Duration, Instant};
 
 fn refused(args: &[&str]) -> String {
     let t = Instant::now();
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap();
+    let (code, _, stderr) = common::dryfront(args, &common::root());
     let took = t.elapsed();
-    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
-    assert_eq!(out.status.code(), Some(2), "{args:?}: {stderr}");
+    assert_eq!(code, 2, "{args:?}: {stderr}");
     assert_eq!(stderr.trim_end().lines().count(), 1, "{args:?}: {stderr}");
     assert!(
         stderr.contains("needs about") && stderr.contains("limit is"),

@@ -1,11 +1,13 @@
 //! The real binary: `season run` and `season sweep` write their outputs and a short summary; bad input exits
 //! non-zero with one line naming the file, line and field, and leaves no output behind.
 
-use std::path::Path;
-use std::process::Command;
+mod common;
 
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_dryfront"))
+use std::path::Path;
+
+/// `p` as a command-line argument (temporary folders have UTF-8 names).
+fn arg(p: &Path) -> &str {
+    p.to_str().unwrap()
 }
 
 fn scenario() -> String {
@@ -19,8 +21,8 @@ fn scenario() -> String {
 fn run_with_generated_arrivals_writes_every_output() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("out");
-    let o = bin()
-        .args([
+    let (code, stdout, stderr) = common::dryfront(
+        &[
             "season",
             "run",
             "--scenario",
@@ -30,13 +32,14 @@ fn run_with_generated_arrivals_writes_every_output() {
             "4",
             "--loads",
             "80",
-        ])
-        .args(["--policy", "wettest", "--out"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+            "--policy",
+            "wettest",
+            "--out",
+            arg(&out),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert!(stdout.contains("drier: deep-bed model"), "{stdout}");
     assert!(stdout.contains("80 arrived"), "{stdout}");
     for f in [
@@ -54,8 +57,8 @@ fn run_with_generated_arrivals_writes_every_output() {
     assert_eq!(schedule.lines().count(), 81, "header + one row per load");
     // The written arrivals read back and give the same schedule.
     let out2 = dir.path().join("again");
-    let o = bin()
-        .args([
+    let (code, _, stderr) = common::dryfront(
+        &[
             "season",
             "run",
             "--scenario",
@@ -63,13 +66,13 @@ fn run_with_generated_arrivals_writes_every_output() {
             "--policy",
             "wettest",
             "--arrivals",
-        ])
-        .arg(out.join("arrivals.csv"))
-        .arg("--out")
-        .arg(&out2)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            arg(&out.join("arrivals.csv")),
+            "--out",
+            arg(&out2),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert_eq!(
         std::fs::read_to_string(out2.join("schedule.csv")).unwrap(),
         schedule
@@ -79,16 +82,18 @@ fn run_with_generated_arrivals_writes_every_output() {
 fn fails_cleanly(args: &[&str], arrivals: Option<(&str, &str)>, want: &str) {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("out");
-    let mut cmd = bin();
-    cmd.args(args);
-    if let Some((name, text)) = arrivals {
+    let file = arrivals.map(|(name, text)| {
         let p = dir.path().join(name);
         std::fs::write(&p, text).unwrap();
-        cmd.arg("--arrivals").arg(&p);
+        p
+    });
+    let mut all = args.to_vec();
+    if let Some(p) = &file {
+        all.extend(["--arrivals", arg(p)]);
     }
-    let o = cmd.arg("--out").arg(&out).output().unwrap();
-    assert_eq!(o.status.code(), Some(2));
-    let stderr = String::from_utf8_lossy(&o.stderr);
+    all.extend(["--out", arg(&out)]);
+    let (code, _, stderr) = common::dryfront(&all, &common::root());
+    assert_eq!(code, 2);
     assert!(stderr.contains(want), "{stderr}");
     assert_eq!(stderr.lines().count(), 1, "{stderr}");
     assert!(!Path::new(&out).exists(), "no partial output");
@@ -162,8 +167,8 @@ fn bad_scenario_and_bad_options_exit_non_zero() {
 fn sweep_writes_its_table_and_names_the_smallest_count() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("sw");
-    let o = bin()
-        .args([
+    let (code, stdout, stderr) = common::dryfront(
+        &[
             "season",
             "sweep",
             "--scenario",
@@ -172,14 +177,20 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
             "2..8",
             "--policies",
             "fcfs,wait-limit",
-        ])
-        .args(["--drier", "rate-rule"])
-        .args(["--seasons", "6", "--loads", "100", "--seed", "3", "--out"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+            "--drier",
+            "rate-rule",
+            "--seasons",
+            "6",
+            "--loads",
+            "100",
+            "--seed",
+            "3",
+            "--out",
+            arg(&out),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert!(
         stdout.contains("policy fcfs") && stdout.contains("policy wait-limit"),
         "{stdout}"
@@ -191,22 +202,32 @@ fn sweep_writes_its_table_and_names_the_smallest_count() {
 
 /// A rate-rule sweep of Wrenfield (3 wagons in the file; the count is swept) over `dryers`, 120 loads a season.
 fn sweep_stdout(dir: &Path, dryers: &str) -> String {
-    let o = bin()
-        .args([
+    let out = dir.join(dryers.replace('.', "_"));
+    let (code, stdout, stderr) = common::dryfront(
+        &[
             "season",
             "sweep",
             "--scenario",
             &scenario(),
             "--dryers",
             dryers,
-        ])
-        .args(["--drier", "rate-rule", "--policies", "fcfs"])
-        .args(["--seasons", "3", "--loads", "120", "--seed", "3", "--out"])
-        .arg(dir.join(dryers.replace('.', "_")))
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    String::from_utf8(o.stdout).unwrap()
+            "--drier",
+            "rate-rule",
+            "--policies",
+            "fcfs",
+            "--seasons",
+            "3",
+            "--loads",
+            "120",
+            "--seed",
+            "3",
+            "--out",
+            arg(&out),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
+    stdout
 }
 
 #[test]
@@ -247,8 +268,8 @@ fn sweep_answers_on_screen_and_says_which_way_to_widen() {
 fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("sw");
-    let o = bin()
-        .args([
+    let (code, stdout, stderr) = common::dryfront(
+        &[
             "season",
             "sweep",
             "--scenario",
@@ -257,13 +278,18 @@ fn deep_bed_sweep_draws_weather_per_season_and_is_labelled() {
             "2..3",
             "--policies",
             "fcfs",
-        ])
-        .args(["--seasons", "2", "--loads", "25", "--seed", "9", "--out"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+            "--seasons",
+            "2",
+            "--loads",
+            "25",
+            "--seed",
+            "9",
+            "--out",
+            arg(&out),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
     assert!(stdout.contains("drier: deep-bed model"), "{stdout}");
     let table = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
     assert!(table.lines().count() > 2, "{table}");
@@ -288,17 +314,22 @@ fn arrival_outside_the_weather_record_names_file_line_and_field() {
     )
     .unwrap();
     let out = dir.path().join("out");
-    let o = bin()
-        .args(["season", "run", "--scenario", &scenario(), "--weather"])
-        .arg(&wpath)
-        .arg("--arrivals")
-        .arg(&apath)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(2));
-    let stderr = String::from_utf8_lossy(&o.stderr);
+    let (code, _, stderr) = common::dryfront(
+        &[
+            "season",
+            "run",
+            "--scenario",
+            &scenario(),
+            "--weather",
+            arg(&wpath),
+            "--arrivals",
+            arg(&apath),
+            "--out",
+            arg(&out),
+        ],
+        &common::root(),
+    );
+    assert_eq!(code, 2);
     assert!(stderr.contains("late.csv:3: field \"arrival\""), "{stderr}");
     assert!(!out.exists(), "no partial output");
 }

@@ -7,7 +7,7 @@
 //! `dryfront::units` (NIST SP 811) and compared within half a unit in the last printed digit of each side. For the
 //! commands of a load on air, the board, calibration and airflow fit the same is checked on `report.html` (its
 //! text without pictures), and every SVG they write is checked for SI units.
-use std::process::Command;
+mod common;
 
 use dryfront::units::{
     J_PER_BTU, KG_PER_LB, KG_PER_SHORT_TON, L_PER_GAL, M3_PER_FT3, MM_PER_IN, M_PER_FT,
@@ -15,17 +15,9 @@ use dryfront::units::{
 };
 
 fn run(args: &[&str], _dir: &std::path::Path) -> String {
-    let o = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap();
-    assert!(
-        o.status.success(),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-    String::from_utf8(o.stdout).unwrap()
+    let (code, out, err) = common::dryfront(args, &common::root());
+    assert_eq!(code, 0, "{args:?}: {err}");
+    out
 }
 
 /// Tokens that name an SI unit; none may appear in a US output.

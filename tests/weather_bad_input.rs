@@ -3,8 +3,9 @@
 //! harmless variations (UTF-8 byte-order mark, CRLF line ends, a dew point a hair above the dry bulb) are accepted.
 //! A semicolon-delimited CSV is refused with a message saying that commas are expected. Random and mutated files
 //! never panic any reader (proptest).
+mod common;
+
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 use dryfront::weather::{self, ReadOptions};
 use proptest::prelude::*;
@@ -151,15 +152,17 @@ fn the_binary_exits_2_with_the_message_and_no_panic() {
     for (name, bytes, want) in bad_cases() {
         let p = write_case(dir.path(), name, &bytes);
         let out_csv = dir.path().join(format!("{name}.out.csv"));
-        let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-            .args(["weather", "summary"])
-            .arg(&p)
-            .arg("--out")
-            .arg(&out_csv)
-            .output()
-            .unwrap();
-        let err = String::from_utf8_lossy(&out.stderr);
-        assert_eq!(out.status.code(), Some(2), "{name}: {err}");
+        let (code, _, err) = common::dryfront(
+            &[
+                "weather",
+                "summary",
+                p.to_str().unwrap(),
+                "--out",
+                out_csv.to_str().unwrap(),
+            ],
+            &common::root(),
+        );
+        assert_eq!(code, 2, "{name}: {err}");
         assert!(!err.contains("panicked"), "{name}: {err}");
         assert!(err.starts_with("dryfront: error: "), "{name}: {err}");
         assert_eq!(err.lines().count(), 1, "{name}: one line expected: {err}");
@@ -227,15 +230,12 @@ fn the_binary_refuses_to_overwrite_its_input() {
         format!("{HDR}{}", rows(3)).as_bytes(),
     );
     let before = std::fs::read(&p).unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_dryfront"))
-        .args(["weather", "summary"])
-        .arg(&p)
-        .arg("--out")
-        .arg(&p)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(2));
-    let err = String::from_utf8_lossy(&out.stderr);
+    let file = p.to_str().unwrap();
+    let (code, _, err) = common::dryfront(
+        &["weather", "summary", file, "--out", file],
+        &common::root(),
+    );
+    assert_eq!(code, 2);
     assert!(
         err.contains("refusing to write") && err.contains("it is the input file"),
         "{err}"

@@ -1,7 +1,9 @@
 //! Newton–Krylov for the coupled airflow: the bed's pressures, the speeds its resistivities are evaluated at, the
 //! floor speeds and the inlet static pressure solved together, so that the outer iteration converges
 //! quadratically near the solution instead of linearly as Picard does. A warm start from the last solution
-//! (a re-solve for slightly different air or bed) then takes one or two outer steps.
+//! (a re-solve for slightly different air or bed) then takes 3 or 4 outer steps on the bundled trailer for air
+//! 3 K warmer (measured: `tests/airflow_newton.rs` and the `airflow` bench in DEVELOPERS.md; the target was one or
+//! two): the first step from the old solution moves the pressures too little.
 //!
 //! Unknowns `x = (p, ln s, ln s_floor, p_in)`; residuals, each made dimensionless with scales fixed for one step:
 //! the flux balance of every cell `A(s)·p − b(s, p_in + δ)` over the cell's diagonal and the largest pressure

@@ -833,10 +833,16 @@ fn solve_coupled(
         }
         sys.assemble();
     }
+    // The last step's change, not rel_change(&p, &prev): `prev` was set to `p` at the end of that step.
     Err(AirflowError::NotConverged {
         iters: settings.max_outer_iters,
-        residual: rel_change(&p, &prev),
+        residual: last_outer_change(&changes),
     })
+}
+
+/// The last outer step's relative pressure change, for `NotConverged` (infinite if no step was taken).
+fn last_outer_change(changes: &[f64]) -> f64 {
+    changes.last().copied().unwrap_or(f64::INFINITY)
 }
 
 /// Start the Picard iteration from a previous solution: its speeds (assembled), pressures and plenum shape.
@@ -1051,9 +1057,10 @@ fn newton_outer(
             return newton_finish(sys, closure, it, converged, (outer.changes, residuals), ctx);
         }
     }
+    // The Picard steps' changes included: a hand-over on the last allowed step takes no Newton step.
     Err(AirflowError::NotConverged {
         iters: settings.max_outer_iters,
-        residual: prev_change,
+        residual: last_outer_change(&outer.changes),
     })
 }
 
@@ -1130,6 +1137,77 @@ fn newton_finish(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::airflow::fan::FanCurve;
+    use crate::airflow::ResistanceLaw;
+    use crate::props::resistance::Shedd;
+    use std::path::Path;
+
+    /// The bundled 6.4 m trailer and its fan on a small grid, as the outer-iteration tests load them.
+    fn trailer() -> (Container, FlowSpec) {
+        let c = include_str!("../../models/containers/trailer-6m.json");
+        let f = include_str!("../../models/fans/vane-3kw.json");
+        (
+            Container::from_json_str(c, Path::new("trailer-6m.json")).unwrap(),
+            FlowSpec::Fan(FanCurve::from_json_str(f, Path::new("vane-3kw.json")).unwrap()),
+        )
+    }
+
+    #[test]
+    fn not_converged_reports_the_last_outer_change() {
+        let (container, flow) = trailer();
+        // Shedd constants for in-shell peanuts, DOMAIN.md §1.1 (from memory), packing 1.5.
+        let law = BedLaw {
+            law: ResistanceLaw::Shedd(Shedd {
+                a: 3.80e3,
+                b: 111.0,
+            }),
+            packing_factor: 1.5,
+            horizontal_ratio: 1.0,
+        };
+        let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
+        // 1 to 6 outer steps cover every way out: Picard's and Anderson's loop, and Newton's before its hand-over
+        // from Picard, on the step of the hand-over (no Newton step; the third on this grid) and after Newton
+        // steps. None is enough for the 1e-8 tolerance (8 to 19 steps here).
+        for method in [
+            OuterMethod::Picard,
+            OuterMethod::Anderson,
+            OuterMethod::Newton,
+        ] {
+            let settings = SolverSettings {
+                grid: Grid {
+                    nx: 12,
+                    ny: 5,
+                    nz: 6,
+                },
+                method,
+                ..SolverSettings::default()
+            };
+            let whole = solve(&container, &flow, &law, &air, &settings).unwrap();
+            for max_outer_iters in 1..=6 {
+                let cut = SolverSettings {
+                    max_outer_iters,
+                    ..settings
+                };
+                match solve(&container, &flow, &law, &air, &cut) {
+                    Err(AirflowError::NotConverged { iters, residual }) => {
+                        assert_eq!(iters, max_outer_iters);
+                        assert!(
+                            residual.is_finite() && residual > settings.tolerance,
+                            "{method:?}, {max_outer_iters} steps: residual {residual:e}"
+                        );
+                        // The same steps as the whole solve's first ones, so its change at the last step taken.
+                        let last = whole.changes[max_outer_iters as usize - 1];
+                        assert_eq!(
+                            residual.to_bits(),
+                            last.to_bits(),
+                            "{method:?}, {max_outer_iters} steps: {residual:e} against {last:e}"
+                        );
+                    }
+                    other => panic!("{method:?}, {max_outer_iters} steps: {other:?}"),
+                }
+            }
+        }
+    }
 
     /// The closed form meets its equation to round-off on both branches (leaks taking air or not), over bed
     /// conductances, shapes and leakage coefficients that span the bundled containers' and beyond.

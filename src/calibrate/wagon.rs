@@ -6,7 +6,7 @@
 
 use std::sync::Arc;
 
-use chrono::{DateTime, FixedOffset};
+use chrono::{DateTime, FixedOffset, TimeZone};
 use rayon::prelude::*;
 
 use crate::airflow::fan::FlowSpec;
@@ -162,6 +162,23 @@ impl WagonCase {
             .map(|s| self.run(crop, *s, heater))
             .collect()
     }
+}
+
+/// `count` start dates `every_days` apart from day `first_day` of September 2026 (counted on past its end), air on
+/// at 3 pm in UTC−5: the bundled TMY3 station's standard time, its year placed in 2026 by `input::wagon`.
+pub fn september_starts(first_day: u32, count: u32, every_days: u32) -> Vec<DateTime<FixedOffset>> {
+    let tz = FixedOffset::west_opt(5 * 3600).expect("5 h is a valid offset");
+    let sep1 = tz
+        .with_ymd_and_hms(2026, 9, 1, 15, 0, 0)
+        .single()
+        .expect("1 September 2026 exists");
+    (0..count)
+        .map(|i| {
+            sep1 + chrono::Duration::days(
+                i64::from(first_day) - 1 + i64::from(i) * i64::from(every_days),
+            )
+        })
+        .collect()
 }
 
 /// Median of finite values (NaN if none); NaN entries (never reached target) count as above every finite value.

@@ -9,7 +9,6 @@ use crate::report::output::check_target;
 use crate::season::dispatch::{DispatchPolicy, MoistureRatePredictor};
 use crate::season::drier::DeepBedDrier;
 use crate::units::UnitSystem;
-use crate::weather::ensemble::Spread;
 
 /// Arguments of `dryfront board`.
 #[derive(Debug, clap::Args)]
@@ -51,7 +50,7 @@ pub fn run(a: BoardArgs) -> anyhow::Result<()> {
     }
     let horizon = crate::error::check_range("--horizon-h", a.horizon_h, 1.0, 240.0, "h")?;
     crate::error::check_range("--members", a.members as f64, 0.0, 200.0, "")?;
-    let e = crate::error::check_range("--forecast-error-k", a.forecast_error_k, 0.0, 10.0, "K")?;
+    let spread = super::status::forecast_spread(a.forecast_error_k, None, a.seed)?;
     let policy = match &a.policy {
         Some(s) => DispatchPolicy::from_name(s).ok_or_else(|| {
             anyhow::anyhow!(
@@ -59,11 +58,6 @@ pub fn run(a: BoardArgs) -> anyhow::Result<()> {
             )
         })?,
         None => b.policy,
-    };
-    let spread = Spread {
-        t_sigma_24h_k: e,
-        dew_sigma_24h_k: e,
-        seed: a.seed,
     };
     let current = current_loads(&b.bp, &b.on_dryers, &spread, a.members)?;
     let drier = DeepBedDrier {

@@ -54,6 +54,25 @@ pub struct StatusArgs {
     pub replace: bool,
 }
 
+/// The weather members' spread from `--forecast-error-k`, the dew point's error (as the dry bulb's if `None`) and
+/// `--seed`, each error checked: `status` and `board` read them alike.
+pub(super) fn forecast_spread(
+    forecast_error_k: f64,
+    dew_error_k: Option<f64>,
+    seed: u64,
+) -> anyhow::Result<Spread> {
+    let t = crate::error::check_range("--forecast-error-k", forecast_error_k, 0.0, 10.0, "K")?;
+    let dew = match dew_error_k {
+        Some(d) => crate::error::check_range("--dew-error-k", d, 0.0, 10.0, "K")?,
+        None => t,
+    };
+    Ok(Spread {
+        t_sigma_24h_k: t,
+        dew_sigma_24h_k: dew,
+        seed,
+    })
+}
+
 /// `dryfront status`.
 pub fn run(a: StatusArgs) -> anyhow::Result<()> {
     let input = read_status(&a.file)?;
@@ -62,11 +81,7 @@ pub fn run(a: StatusArgs) -> anyhow::Result<()> {
     }
     let spec = &input.status.spec;
     crate::error::check_range("--members", a.members as f64, 0.0, 1000.0, "")?;
-    let t = crate::error::check_range("--forecast-error-k", a.forecast_error_k, 0.0, 10.0, "K")?;
-    let dew = match a.dew_error_k {
-        Some(d) => crate::error::check_range("--dew-error-k", d, 0.0, 10.0, "K")?,
-        None => t,
-    };
+    let spread = forecast_spread(a.forecast_error_k, a.dew_error_k, a.seed)?;
     let own = spec.heater.spec;
     let choices = match &a.what_if {
         Some(s) => s
@@ -116,11 +131,7 @@ pub fn run(a: StatusArgs) -> anyhow::Result<()> {
     }
     let settings = ForecastSettings {
         members: a.members,
-        spread: Spread {
-            t_sigma_24h_k: t,
-            dew_sigma_24h_k: dew,
-            seed: a.seed,
-        },
+        spread,
         what_if,
     };
     let f = forecast(&input.status, &settings)?;

@@ -1,7 +1,8 @@
 //! The input layer: the only place that turns files into the program's validated, unit-converted specifications.
 //! `models` resolves names to bundled files (the one resolver); `read` is the one bounded reader every file goes
 //! through; this module holds the one set of validation helpers every reader uses; `scenario` builds a [`crate::load::LoadSpec`] from a single-load
-//! scenario file; `season` loads what a buying point's dryers name; `survey` reads a top-surface airflow survey.
+//! scenario file; `season` loads what a buying point's dryers name; `survey` reads a top-surface airflow survey;
+//! `wagon` reads the published wagon case's inputs.
 
 pub mod board;
 pub mod design;
@@ -12,6 +13,7 @@ pub mod scenario;
 pub mod season;
 pub mod status;
 pub mod survey;
+pub mod wagon;
 
 pub use read::*;
 

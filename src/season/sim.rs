@@ -147,15 +147,8 @@ pub fn simulate_from(
     season_end: DateTime<FixedOffset>,
     from: Option<&PlanStart>,
 ) -> Result<SeasonRun, SeasonError> {
-    let season = Season {
-        bp,
-        loads,
-        policy,
-        predictor,
-        season_end,
-        from,
-    };
-    season.run(drier, rayon::current_num_threads() > 1)
+    Season::new(bp, loads, policy, predictor, season_end, from)
+        .run(drier, rayon::current_num_threads() > 1)
 }
 
 /// The season's inputs as [`simulate`] requires them.
@@ -222,15 +215,7 @@ pub fn simulate_with(
     season_end: DateTime<FixedOffset>,
     ahead: bool,
 ) -> Result<SeasonRun, SeasonError> {
-    let season = Season {
-        bp,
-        loads,
-        policy,
-        predictor,
-        season_end,
-        from: None,
-    };
-    season.run(drier, ahead)
+    Season::new(bp, loads, policy, predictor, season_end, None).run(drier, ahead)
 }
 
 /// What a pass of the event loop is told about one load's drying.
@@ -256,7 +241,26 @@ struct Season<'a> {
     from: Option<&'a PlanStart>,
 }
 
-impl Season<'_> {
+impl<'a> Season<'a> {
+    /// The one way a season is set up, for [`simulate_from`] and [`simulate_with`].
+    fn new(
+        bp: &'a BuyingPoint,
+        loads: &'a [Load],
+        policy: DispatchPolicy,
+        predictor: &'a dyn Predictor,
+        season_end: DateTime<FixedOffset>,
+        from: Option<&'a PlanStart>,
+    ) -> Self {
+        Season {
+            bp,
+            loads,
+            policy,
+            predictor,
+            season_end,
+            from,
+        }
+    }
+
     /// The season, its loads dried in order on this thread or (`ahead`) several at once on the pool.
     fn run(&self, drier: &dyn LoadDrier, ahead: bool) -> Result<SeasonRun, SeasonError> {
         check_season(self.bp, self.loads, self.season_end, self.from)?;
