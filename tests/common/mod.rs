@@ -48,9 +48,15 @@ pub fn dryfront(args: &[&str], dir: &Path) -> (i32, String, String) {
         .current_dir(dir)
         .output()
         .unwrap();
+    // Everything dryfront prints is UTF-8 (units, °C, m³): a test fails on anything else rather than reading it
+    // with replacement characters.
+    let text = |b: Vec<u8>, which: &str| {
+        String::from_utf8(b)
+            .unwrap_or_else(|e| panic!("dryfront {args:?}: {which} is not UTF-8: {e}"))
+    };
     (
         out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
+        text(out.stdout, "standard output"),
+        text(out.stderr, "standard error"),
     )
 }
