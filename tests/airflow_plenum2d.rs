@@ -108,7 +108,7 @@ fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
     let settings = SolverSettings {
         grid,
         plenum: two_d(),
-        // the default 300 outer iterations leave room: the 6.4 m trailer takes 31 at 32 × 12 × 10 (the trade test)
+        // the default 300 outer iterations leave room for the 6.4 m trailer at 32 × 12 × 10 (the trade test)
         max_outer_iters: 300,
         ..SolverSettings::default()
     };
