@@ -155,8 +155,9 @@ fn bench_fit(c: &mut Criterion) {
 /// column side: a 128 × 48 plenum grid), cold (plenum at rest) and warm (a re-solve from the held plenum's last
 /// field after the air warmed by 5 K, as in a drying run). Targets: cold under 0.5 s median, warm under a fifth of
 /// cold. Each pass prints the outer (bed–plenum) iterations and the plenum's SIMPLEC and pressure-CG iterations.
-/// Measured 2026-12-03 (once, by the same set-up outside criterion; see DEVELOPERS.md): about 26–31 s of CPU per
-/// solve, cold 150 outer / 2 980 SIMPLEC iterations, warm 129 / 2 560 — targets not met, and this group takes many
+/// Measured 2026-12-03 (once, by the same set-up outside criterion; see DEVELOPERS.md): with the floor outflow
+/// answering the plenum pressure, cold 105 outer / 2 080 SIMPLEC iterations and about 21 s of CPU, warm 90 / 1 780
+/// and 18 s (main before it: 186 / 3 700, 39 s; 122 / 2 420, 28 s) — targets not met, and this group takes many
 /// minutes under criterion.
 fn bench_plenum2d(c: &mut Criterion) {
     use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};

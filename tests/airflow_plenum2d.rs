@@ -3,7 +3,8 @@
 //! 1-D duct's trend) and the trade's picture of a 6.4 m trailer.
 mod common;
 
-use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
+use dryfront::airflow::plenum2d::FlowError;
+use dryfront::airflow::plenum_shape::{FloorResponse, Plenum, Plenum2d, Plenum2dParams};
 use dryfront::airflow::solve::solve_with_plenum;
 use dryfront::airflow::{
     solve, AirPath, AirflowSolution, Container, FlowSpec, Grid, PlenumModel, SolverSettings,
@@ -107,7 +108,7 @@ fn run_held(c: &Container, grid: Grid) -> (AirflowSolution, Plenum2d) {
     let settings = SolverSettings {
         grid,
         plenum: two_d(),
-        // the default 300 outer iterations leave room: the 6.4 m trailer takes 31 at 32 × 12 × 10 (the trade test)
+        // the default 300 outer iterations leave room for the 6.4 m trailer at 32 × 12 × 10 (the trade test)
         max_outer_iters: 300,
         ..SolverSettings::default()
     };
@@ -337,4 +338,90 @@ fn a_taller_plenum_evens_the_column_flow() {
         100.0 * (cb / ca - 1.0)
     );
     assert!(cb < ca);
+}
+
+/// A 2-D plenum driven as before the floor outflow answered the plenum pressure: every call hands the plenum the
+/// bed's outflow as a fixed sink (no `FloorResponse`).
+struct FixedSink(Plenum2d);
+
+impl Plenum for FixedSink {
+    fn shape_pa(
+        &mut self,
+        q: &[f64],
+        leak: f64,
+        rho: f64,
+        _: Option<FloorResponse<'_>>,
+    ) -> Result<Vec<f64>, FlowError> {
+        self.0.shape_pa(q, leak, rho, None)
+    }
+    fn converged(&self) -> bool {
+        self.0.converged()
+    }
+    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
+        self.0.kept_shape_pa(rho)
+    }
+}
+
+/// The floor response (the outflow implicit in the plenum pressure inside the plenum's iterations) changes how the
+/// coupled loop gets there, not where: plenum pressures, column velocities and the fan flow agree with the
+/// fixed-sink loop to the solvers' tolerances (outer 1e-8 on pressure, plenum 1e-7 on velocity change per
+/// iteration; the bounds are 1e-7 of the largest value), and mass balances to 1e-9 in both.
+#[test]
+fn the_floor_response_changes_the_path_not_the_answer() {
+    let c = plain_trailer();
+    let grid = Grid {
+        nx: 16,
+        ny: 6,
+        nz: 8,
+    };
+    let settings = SolverSettings {
+        grid,
+        plenum: two_d(),
+        ..SolverSettings::default()
+    };
+    let disc = c.discretize(grid).unwrap();
+    let fan = common::fan("vane-trailer");
+    let run = |p: &mut dyn Plenum| {
+        solve_with_plenum(
+            &c,
+            &disc,
+            &FlowSpec::Fan(fan.clone()),
+            &common::peanut(1.5),
+            &AirPath::same(common::air()),
+            &settings,
+            p,
+        )
+        .unwrap()
+    };
+    let a = run(&mut Plenum2d::new(&c, grid, &Plenum2dParams::default()));
+    let b = run(&mut FixedSink(Plenum2d::new(
+        &c,
+        grid,
+        &Plenum2dParams::default(),
+    )));
+    let rel = |x: &ndarray::Array2<f64>, y: &ndarray::Array2<f64>| {
+        let m = x.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
+        x.iter()
+            .zip(y)
+            .fold(0.0_f64, |w, (p, q)| w.max((p - q).abs()))
+            / m
+    };
+    let dp = rel(&a.plenum_pressure_pa, &b.plenum_pressure_pa);
+    let dv = rel(&a.top_velocity_m_per_s, &b.top_velocity_m_per_s);
+    let (fa, fb) = (
+        a.operating_point.fan_flow_m3_per_s,
+        b.operating_point.fan_flow_m3_per_s,
+    );
+    eprintln!(
+        "floor response: {} outer iterations against {} with a fixed sink; plenum pressure {dp:.2e}, column velocity {dv:.2e}, fan flow {:.2e} relative",
+        a.converged.iters,
+        b.converged.iters,
+        (fa - fb).abs() / fb
+    );
+    assert!(dp < 1e-7 && dv < 1e-7 && (fa - fb).abs() < 1e-7 * fb);
+    for s in [&a, &b] {
+        let m = &s.summary;
+        let gap = m.plenum_flow_m3_per_s - m.bed_flow_m3_per_s - m.leakage_m3_per_s;
+        assert!(gap.abs() < 1e-9 * m.plenum_flow_m3_per_s);
+    }
 }

@@ -9,7 +9,9 @@ mod common;
 
 use dryfront::airflow::geometry::{Baffle, FloorArea, InletWall};
 use dryfront::airflow::plenum2d::FlowError;
-use dryfront::airflow::plenum_shape::{Plenum, Plenum2d, Plenum2dParams, UniformPlenum};
+use dryfront::airflow::plenum_shape::{
+    FloorResponse, Plenum, Plenum2d, Plenum2dParams, UniformPlenum,
+};
 use dryfront::airflow::solve::solve_with_plenum;
 use dryfront::airflow::{
     solve, AirPath, AirflowError, AirflowSolution, Container, FlowSpec, Grid, PlenumModel,
@@ -147,10 +149,16 @@ impl<'a> Recording<'a> {
 }
 
 impl Plenum for Recording<'_> {
-    fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
+    fn shape_pa(
+        &mut self,
+        q: &[f64],
+        leak: f64,
+        rho: f64,
+        response: Option<FloorResponse<'_>>,
+    ) -> Result<Vec<f64>, FlowError> {
         self.outflows.push(q.to_vec());
         self.leakage.push(leak);
-        self.inner.shape_pa(q, leak, rho)
+        self.inner.shape_pa(q, leak, rho, response)
     }
 }
 

@@ -2,7 +2,7 @@
 //! solutions: the lid-driven square cavity (Ghia, Ghia & Shin 1982, J. Comput. Phys. 48:387–411, Tables I and II:
 //! u on the vertical and v on the horizontal centre line) and plane Poiseuille flow (exact).
 use dryfront::airflow::plenum2d::{
-    solve_flow, FlowDomain, FlowParams, FlowState, FlowStats, Scheme,
+    mass_imbalance, solve_flow, FlowDomain, FlowParams, FlowState, FlowStats, Scheme,
 };
 
 /// Ghia, Ghia & Shin (1982), Table I: y and u(0.5, y) for Re = 100, 400, 1000.
@@ -218,4 +218,42 @@ fn cavity_observed_order() {
         f[0], f[1], f[2]
     );
     assert!(p > 1.0);
+}
+
+/// A sink that answers its pressure, `w₀ + g·(P − P₀)` (the 2-D plenum's floor outflow): the pressure level is no
+/// longer free but the one at which the sinks take the inflow. Flow enters through the x = 0 wall of a closed box
+/// and the sinks at P = P₀ = 0 take 90 % of it, so the converged field must stand at a mean P of 0.1·Q/Σg, with
+/// every cell balanced at its own pressure. A correction that removed its mean or pinned a cell (as for fixed
+/// sinks) would leave the mean near zero and the balance 10 % short. The bound is the iteration's tolerance.
+#[test]
+fn pressure_dependent_sinks_set_the_pressure_level() {
+    let (nx, ny, h, um, g) = (16, 8, 0.1, 0.1, 2e-3);
+    let mut d = FlowDomain::closed_box(nx, ny, h, h, 0.3);
+    for j in 0..ny {
+        d.u_fixed[j * (nx + 1)] = Some(um);
+    }
+    let q_in = um * 0.3 * h * ny as f64;
+    let n = (nx * ny) as f64;
+    d.sink_m3_per_s = vec![0.9 * q_in / n; nx * ny];
+    d.sink_conductance = vec![g; nx * ny];
+    let prm = FlowParams {
+        tolerance: 1e-11,
+        ..FlowParams::laminar(0.01)
+    };
+    let mut s = FlowState::at_rest(&d);
+    let st = solve_flow(&d, &prm, &mut s).unwrap();
+    let mean_p = s.p.iter().sum::<f64>() / n;
+    let expected = 0.1 * q_in / (g * n);
+    let out: f64 = (0..nx * ny).map(|k| d.outflow(&s, k)).sum();
+    let worst = mass_imbalance(&d, &s)
+        .iter()
+        .fold(0.0_f64, |m, r| m.max(r.abs()));
+    eprintln!(
+        "pressure-dependent sinks: mean P {mean_p:.9e} (expected {expected:.9e}), outflow/inflow − 1 {:.2e}, worst cell imbalance {worst:.2e} m³/s; {} iterations",
+        out / q_in - 1.0,
+        st.iters
+    );
+    assert!((mean_p - expected).abs() < 1e-8 * expected);
+    assert!((out / q_in - 1.0).abs() < 1e-9);
+    assert!(worst < 1e-11 * q_in);
 }

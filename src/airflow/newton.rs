@@ -239,7 +239,7 @@ impl<'a> System<'a> {
         self.probe = probe;
         let shape = if self.manifold {
             self.plenum
-                .shape_pa(&outflow, leak, self.closure.rho)
+                .shape_pa(&outflow, leak, self.closure.rho, None)
                 .unwrap_or_else(|_| vec![f64::NAN; nc])
         } else {
             vec![0.0; nc]

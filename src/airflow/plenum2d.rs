@@ -29,6 +29,12 @@
 //! Gauss–Seidel and 2 × 2 aggregation; the all-Neumann problem is consistent because inflow equals outflow, its
 //! mean is removed and one cell is pinned, see `PressureWork::assemble`).
 //!
+//! Sinks may answer the local pressure (a porous outflow, as through a floor and a bed): the outflow of a cell is
+//! `w₀ + g·(P − P₀)`, linear about a reference state, and the pressure correction carries g on its diagonal (a
+//! pressure-dependent mass source linearised as Patankar 1980 linearises source terms, S = S_C + S_P·φ; from
+//! memory). The correction equation is then definite and the pressure level is no longer free: it is the one at
+//! which the sinks take the prescribed inflow.
+//!
 //! Two drivers: [`solve_flow`] iterates plain SIMPLEC to the tolerance (the cavity and Poiseuille checks use it);
 //! [`advance_flow`] does a fixed number of SIMPLEC iterations with Anderson acceleration, continuing from the kept
 //! state, for the coupled plenum–bed loop, which changes the sinks between calls.
@@ -124,8 +130,13 @@ pub struct FlowDomain {
     pub v_momentum_factor: Vec<f64>,
     /// Speed of the y = ny·dy wall along x (the cavity lid), m/s.
     pub lid_speed: f64,
-    /// Outflow from each cell, m³/s (≥ 0 leaves the plenum).
+    /// Outflow from each cell at its reference pressure, m³/s (≥ 0 leaves the plenum).
     pub sink_m3_per_s: Vec<f64>,
+    /// How each cell's outflow answers its own pressure, m³/s per m²/s² of kinematic pressure (0: a fixed sink):
+    /// the outflow is `sink_m3_per_s + sink_conductance·(P − sink_reference_p)` (see [`FlowDomain::outflow`]).
+    pub sink_conductance: Vec<f64>,
+    /// Kinematic pressure at which each cell's outflow is `sink_m3_per_s`, m²/s².
+    pub sink_reference_p: Vec<f64>,
 }
 
 impl FlowDomain {
@@ -153,7 +164,15 @@ impl FlowDomain {
             v_fixed,
             lid_speed: 0.0,
             sink_m3_per_s: vec![0.0; nx * ny],
+            sink_conductance: vec![0.0; nx * ny],
+            sink_reference_p: vec![0.0; nx * ny],
         }
+    }
+
+    /// Outflow from cell `k` at the pressures of `s`, m³/s: the sink, implicit in the cell's pressure where it
+    /// has a conductance.
+    pub fn outflow(&self, s: &FlowState, k: usize) -> f64 {
+        self.sink_m3_per_s[k] + self.sink_conductance[k] * (s.p[k] - self.sink_reference_p[k])
     }
 
     fn iu(&self, i: usize, j: usize) -> usize {
@@ -477,7 +496,7 @@ fn assemble_u(
             let fw = 0.5 * (qu[d.iu(i - 1, j)] + qu[d.iu(i, j)]);
             let fnn = 0.5 * (qv[d.iv(i - 1, j + 1)] + qv[d.iv(i, j + 1)]);
             let fs = 0.5 * (qv[d.iv(i - 1, j)] + qv[d.iv(i, j)]);
-            let sink = 0.5 * (d.sink_m3_per_s[d.ic(i - 1, j)] + d.sink_m3_per_s[d.ic(i, j)]);
+            let sink = 0.5 * (d.outflow(s, d.ic(i - 1, j)) + d.outflow(s, d.ic(i, j)));
             let de = gam(i, j) * dy / dx;
             let dw = gam(i - 1, j) * dy / dx;
             let mut b = 0.0;
@@ -620,7 +639,7 @@ fn assemble_v(
             let fs = 0.5 * (qv[d.iv(i, j - 1)] + qv[d.iv(i, j)]);
             let fe = 0.5 * (qu[d.iu(i + 1, j - 1)] + qu[d.iu(i + 1, j)]);
             let fw = 0.5 * (qu[d.iu(i, j - 1)] + qu[d.iu(i, j)]);
-            let sink = 0.5 * (d.sink_m3_per_s[d.ic(i, j - 1)] + d.sink_m3_per_s[d.ic(i, j)]);
+            let sink = 0.5 * (d.outflow(s, d.ic(i, j - 1)) + d.outflow(s, d.ic(i, j)));
             let dn = gam(i, j) * dx / dy;
             let ds = gam(i, j - 1) * dx / dy;
             let mut b = 0.0;
@@ -769,6 +788,8 @@ struct PressureWork {
     z: Vec<f64>,
     pdir: Vec<f64>,
     q: Vec<f64>,
+    /// True when some sink answers its pressure: the operator is then definite, with no mean to remove.
+    definite: bool,
 }
 
 impl PressureWork {
@@ -785,6 +806,7 @@ impl PressureWork {
             z: vec![0.0; n],
             pdir: vec![0.0; n],
             q: vec![0.0; n],
+            definite: false,
         }
     }
 
@@ -792,7 +814,9 @@ impl PressureWork {
     /// face, with cell 0 pinned (a Dirichlet coupling equal to its own diagonal). The pin makes the all-Neumann
     /// operator definite without changing the answer: for a right-hand side of zero sum, summing the rows of
     /// (A + pin)·x = r gives x₀ = 0, so x solves A·x = r. A cell with no open face (enclosed by baffles) is
-    /// decoupled by a unit Dirichlet coupling.
+    /// decoupled by a unit Dirichlet coupling. A sink that answers its pressure adds its conductance to its cell's
+    /// diagonal (the change of the outflow with the correction); with any such sink A is definite and nothing is
+    /// pinned: the pressure level is then the one at which the sinks take the inflow.
     fn assemble(&mut self, d: &FlowDomain, cu: &Coeffs, cv: &Coeffs) {
         let (nx, ny) = (d.nx, d.ny);
         let op = &mut self.op;
@@ -809,7 +833,7 @@ impl PressureWork {
                 } else {
                     0.0
                 };
-                op.dir[k] = 0.0;
+                op.dir[k] = d.sink_conductance[k];
             }
         }
         op.finish();
@@ -818,7 +842,8 @@ impl PressureWork {
                 op.dir[k] = 1.0;
             }
         }
-        if op.diag[0] > 0.0 {
+        self.definite = d.sink_conductance.iter().any(|&g| g > 0.0);
+        if !self.definite && op.diag[0] > 0.0 {
             op.dir[0] = op.diag[0];
         }
         op.finish();
@@ -826,10 +851,15 @@ impl PressureWork {
     }
 
     /// Solve A·x = r − mean(r) to `tol` relative by conjugate gradients preconditioned with one multigrid
-    /// V-cycle, then remove the mean of x. Returns the iterations.
+    /// V-cycle, then remove the mean of x (for a definite A: A·x = r as it is). Returns the iterations.
     fn solve(&mut self, r: &[f64], tol: f64, x: &mut [f64]) -> u32 {
         let n = r.len();
-        let mean = r.iter().sum::<f64>() / n as f64;
+        let singular = !self.definite;
+        let mean = if singular {
+            r.iter().sum::<f64>() / n as f64
+        } else {
+            0.0
+        };
         let res = &mut self.r;
         for (a, b) in res.iter_mut().zip(r) {
             *a = b - mean;
@@ -866,8 +896,10 @@ impl PressureWork {
                 *p = z + beta * *p;
             }
         }
-        let m = x.iter().sum::<f64>() / n as f64;
-        x.iter_mut().for_each(|v| *v -= m);
+        if singular {
+            let m = x.iter().sum::<f64>() / n as f64;
+            x.iter_mut().for_each(|v| *v -= m);
+        }
         it
     }
 }
@@ -887,9 +919,17 @@ fn check_domain(d: &FlowDomain) -> Result<(), FlowError> {
     if d.depth.len() != d.nx * d.ny || d.depth.iter().any(|h| !(h.is_finite() && *h > 0.0)) {
         return bad("depth must be positive on every cell");
     }
+    if d.sink_conductance
+        .iter()
+        .any(|g| !(g.is_finite() && *g >= 0.0))
+    {
+        return bad("sink conductances must be finite and not negative");
+    }
     if d.u_fixed.len() != (d.nx + 1) * d.ny
         || d.v_fixed.len() != d.nx * (d.ny + 1)
         || d.sink_m3_per_s.len() != d.nx * d.ny
+        || d.sink_conductance.len() != d.nx * d.ny
+        || d.sink_reference_p.len() != d.nx * d.ny
         || d.u_momentum_factor.len() != d.u_fixed.len()
         || d.v_momentum_factor.len() != d.v_fixed.len()
     {
@@ -908,7 +948,8 @@ fn check_domain(d: &FlowDomain) -> Result<(), FlowError> {
     Ok(())
 }
 
-/// Net volumetric imbalance per cell (outflow − inflow + sink), m³/s; zero when continuity holds.
+/// Net volumetric imbalance per cell (outflow − inflow + sink at the cell's pressure), m³/s; zero when continuity
+/// holds.
 pub fn mass_imbalance(d: &FlowDomain, s: &FlowState) -> Vec<f64> {
     let mut r = vec![0.0; d.nx * d.ny];
     for j in 0..d.ny {
@@ -917,7 +958,7 @@ pub fn mass_imbalance(d: &FlowDomain, s: &FlowState) -> Vec<f64> {
                 - d.hu(i, j) * s.u[d.iu(i, j)] * d.dy
                 + d.hv(i, j + 1) * s.v[d.iv(i, j + 1)] * d.dx
                 - d.hv(i, j) * s.v[d.iv(i, j)] * d.dx;
-            r[d.ic(i, j)] = out + d.sink_m3_per_s[d.ic(i, j)];
+            r[d.ic(i, j)] = out + d.outflow(s, d.ic(i, j));
         }
     }
     r
@@ -997,6 +1038,8 @@ struct Anderson {
     depth: usize,
     df: Vec<Vec<f64>>,
     dg: Vec<Vec<f64>>,
+    /// Inner products of the kept `df`, `gram[i][j] = df[i]·df[j]`, updated as differences come and go.
+    gram: Vec<Vec<f64>>,
     last: Option<(Vec<f64>, Vec<f64>)>,
 }
 
@@ -1006,14 +1049,20 @@ impl Anderson {
             depth,
             df: Vec::new(),
             dg: Vec::new(),
+            gram: Vec::new(),
             last: None,
         }
     }
 
     fn reset(&mut self) {
+        self.clear_history();
+        self.last = None;
+    }
+
+    fn clear_history(&mut self) {
         self.df.clear();
         self.dg.clear();
-        self.last = None;
+        self.gram.clear();
     }
 
     /// `x` is the iterate before the step, `s` holds G(x) on entry and the accelerated iterate on exit.
@@ -1034,9 +1083,19 @@ impl Anderson {
             if self.df.len() == self.depth {
                 self.df.remove(0);
                 self.dg.remove(0);
+                self.gram.remove(0);
+                self.gram.iter_mut().for_each(|row| {
+                    row.remove(0);
+                });
             }
-            self.df
-                .push(f.iter().zip(&f0).map(|(a, b)| a - b).collect());
+            let new: Vec<f64> = f.iter().zip(&f0).map(|(a, b)| a - b).collect();
+            let mut row: Vec<f64> = self.df.iter().map(|d| dot(d, &new)).collect();
+            row.push(dot(&new, &new));
+            for (r, v) in self.gram.iter_mut().zip(&row) {
+                r.push(*v);
+            }
+            self.gram.push(row);
+            self.df.push(new);
             self.dg
                 .push(g.iter().zip(&g0).map(|(a, b)| a - b).collect());
         }
@@ -1047,11 +1106,7 @@ impl Anderson {
             let mut a = vec![0.0; m * m];
             let mut rhs = vec![0.0; m];
             for i in 0..m {
-                for j in 0..=i {
-                    let v = dot(&self.df[i], &self.df[j]);
-                    a[i * m + j] = v;
-                    a[j * m + i] = v;
-                }
+                a[i * m..(i + 1) * m].copy_from_slice(&self.gram[i]);
                 rhs[i] = dot(&self.df[i], &f);
             }
             let tr = (0..m).map(|i| a[i * m + i]).sum::<f64>() / m as f64;
@@ -1066,10 +1121,7 @@ impl Anderson {
                         }
                     }
                 }
-                None => {
-                    self.df.clear();
-                    self.dg.clear();
-                }
+                None => self.clear_history(),
             }
         }
         if out.iter().all(|v| v.is_finite()) {
@@ -1077,8 +1129,7 @@ impl Anderson {
             s.v.copy_from_slice(&out[nu..nu + nv]);
             s.p.copy_from_slice(&out[nu + nv..]);
         } else {
-            self.df.clear();
-            self.dg.clear();
+            self.clear_history();
         }
         self.last = Some((f, g));
     }

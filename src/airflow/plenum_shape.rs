@@ -19,8 +19,15 @@
 //! static pressure is the mean over the cells along the opening.
 //!
 //! Status: the coupled loop calls the 2-D plenum inexactly: 20 Anderson-accelerated SIMPLEC iterations per call
-//! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`), and stops only when the bed has settled
-//! and the plenum meets its own tolerance ([`Plenum::converged`]). With the default mixing length c_m = 0.3 (see
+//! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`, `ANDERSON_DEPTH`), and stops only when the bed has
+//! settled and the plenum meets its own tolerance ([`Plenum::converged`]). Within a call the floor outflow answers
+//! the plenum pressure through each column's conductance to the bed ([`FloorResponse`]), so the plenum's pressure
+//! distribution meets the bed's resistance inside the plenum's own iterations rather than only from one outer step
+//! to the next; the coupled fixed point is unchanged. Measured 2026-12-03 (bench set-up, load average 5–8), against
+//! the fixed sink of before: at 32 × 12 × 10, 20 outer / 380 SIMPLEC iterations and about 0.5 s of CPU (34 / 660,
+//! 0.9–1.4 s before); at 64 × 24 × 32, 105 / 2 080 and 20 s (186 / 3 700, 30 s before) — still far from the
+//! issue's 0.5 s: the plenum's own SIMPLEC convergence, not the coupling, is now the limit. The earlier record
+//! follows. With the default mixing length c_m = 0.3 (see
 //! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
 //! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
 //! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
@@ -50,7 +57,10 @@ const NU_AIR: f64 = 1.6e-5;
 const SIMPLEC_PER_CALL: u32 = 20;
 
 /// Differences kept by the Anderson acceleration of the plenum's SIMPLEC iterations (`plenum2d::advance_flow`).
-const ANDERSON_DEPTH: usize = 5;
+/// Measured on the 6.4 m trailer at 32 × 12 × 10 with the floor response on (2026-12-03, the bench's set-up): 5
+/// differences took 28 outer / 540 SIMPLEC iterations, 10 took 20 / 380, 20 also 20 / 380 at a higher cost per
+/// iteration. Keeping the differences from one call to the next instead of starting each call afresh diverged.
+const ANDERSON_DEPTH: usize = 10;
 
 /// Momentum relaxation of the accelerated inexact solve, in place of the 0.5 that [`Plenum2d::new`] sets for a
 /// plain SIMPLEC solve. Measured on the 6.4 m trailer at 32 × 12 × 10 with 20 iterations per call (2026-12-03):
@@ -91,15 +101,31 @@ impl Default for Plenum2dParams {
     }
 }
 
+/// How the bed's inflow answers the plenum pressure near the state the coupled loop last solved: column c takes
+/// `outflow[c] + conductance[c]·(p_c − p_in − shape[c])` when its plenum pressure p_c moves (p_in: the inlet
+/// static pressure, held). A plenum solved iteratively (the 2-D flow) can then let its floor outflow answer its
+/// own pressure within its iterations instead of only between outer steps; the answer at the coupled fixed point
+/// is the same, where every column's pressure is the one its outflow was computed at.
+#[derive(Debug, Clone, Copy)]
+pub struct FloorResponse<'a> {
+    /// Change of each column's floor outflow per pascal of its plenum pressure, m³/(s·Pa).
+    pub conductance_m3_per_s_per_pa: &'a [f64],
+    /// The plenum shape δ per column (Pa) the outflow was computed with.
+    pub shape_pa: &'a [f64],
+}
+
 /// The plenum's one job in the coupled loop.
 pub trait Plenum {
     /// Plenum static pressure minus inlet static pressure under each column, Pa, for the floor outflow of each
-    /// column (m³/s) and the leakage (m³/s, spread evenly over the plenum), at plenum air density `rho`.
+    /// column (m³/s) and the leakage (m³/s, spread evenly over the plenum), at plenum air density `rho`; with
+    /// `response`, how that outflow answers the plenum pressure (a plenum may ignore it: the uniform and the duct
+    /// plenums, which are solved directly, do).
     fn shape_pa(
         &mut self,
         outflow_m3_per_s: &[f64],
         leakage_m3_per_s: f64,
         rho_kg_per_m3: f64,
+        response: Option<FloorResponse<'_>>,
     ) -> Result<Vec<f64>, FlowError>;
     /// True if δ is always zero (then the coupled loop needs no shape solve).
     fn is_uniform(&self) -> bool {
@@ -126,7 +152,13 @@ pub trait Plenum {
 pub struct UniformPlenum;
 
 impl Plenum for UniformPlenum {
-    fn shape_pa(&mut self, q: &[f64], _: f64, _: f64) -> Result<Vec<f64>, FlowError> {
+    fn shape_pa(
+        &mut self,
+        q: &[f64],
+        _: f64,
+        _: f64,
+        _: Option<FloorResponse<'_>>,
+    ) -> Result<Vec<f64>, FlowError> {
         Ok(vec![0.0; q.len()])
     }
     fn is_uniform(&self) -> bool {
@@ -142,7 +174,13 @@ pub struct DuctPlenum {
 }
 
 impl Plenum for DuctPlenum {
-    fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
+    fn shape_pa(
+        &mut self,
+        q: &[f64],
+        leak: f64,
+        rho: f64,
+        _: Option<FloorResponse<'_>>,
+    ) -> Result<Vec<f64>, FlowError> {
         let nx = q.len() / self.ny;
         let mut rows = vec![leak / nx as f64; nx];
         for (c, v) in q.iter().enumerate() {
@@ -254,6 +292,27 @@ impl Plenum2d {
         }
         out
     }
+
+    /// Let each plenum cell's outflow answer its pressure as `response` says, a column's conductance divided
+    /// evenly over its cells (kinematic: ρ·g), about the state the outflow was computed at: the kept field, shifted
+    /// under each column by the difference between the shape the bed saw and the kept field's. Without a
+    /// response the sinks are fixed.
+    fn set_response(&mut self, response: Option<FloorResponse<'_>>, rho: f64) {
+        let now = self.shape_of_state(rho);
+        let d = &mut self.domain;
+        let (r, ny_c) = (self.r, self.grid.ny);
+        let share = 1.0 / (r * r) as f64;
+        for jj in 0..d.ny {
+            for ii in 0..d.nx {
+                let (c, k) = ((ii / r) * ny_c + jj / r, jj * d.nx + ii);
+                let (g, at) = response.map_or((0.0, now[c]), |f| {
+                    (f.conductance_m3_per_s_per_pa[c], f.shape_pa[c])
+                });
+                d.sink_conductance[k] = rho * g.max(0.0) * share;
+                d.sink_reference_p[k] = self.state.p[k] + (at - now[c]) / rho;
+            }
+        }
+    }
 }
 
 /// Each plenum cell's share of its column's outflow (plenum index `j·nx + i`, r × r cells per column of `grid`)
@@ -285,7 +344,14 @@ fn outflow_shares(open: &[f64], reached: &[bool], grid: Grid, r: usize) -> Vec<f
 }
 
 impl Plenum for Plenum2d {
-    fn shape_pa(&mut self, q: &[f64], leak: f64, rho: f64) -> Result<Vec<f64>, FlowError> {
+    fn shape_pa(
+        &mut self,
+        q: &[f64],
+        leak: f64,
+        rho: f64,
+        response: Option<FloorResponse<'_>>,
+    ) -> Result<Vec<f64>, FlowError> {
+        self.set_response(response, rho);
         let d = &mut self.domain;
         let (r, ny_c) = (self.r, self.grid.ny);
         for jj in 0..d.ny {

@@ -34,7 +34,7 @@ use super::path::AirPath;
 use super::plenum::PlenumModel;
 use super::plenum2d::FlowError;
 use super::plenum_map::{MapFrame, PlenumMap};
-use super::plenum_shape::{build, Plenum};
+use super::plenum_shape::{build, FloorResponse, Plenum};
 use crate::error::InputError;
 use crate::props::psychro::AirState;
 
@@ -685,7 +685,10 @@ fn solve_coupled(
             sys.rhs(&ones, &mut b);
             linear(&mut sys, &b, &mut phi1, settings_lin, &mut linear_total)?;
         }
-        let g1: f64 = sys.bottom_flow_m3_per_s(&phi1, &ones).iter().sum();
+        // each column's inflow per pascal of a uniform plenum: the total for the closure, and per column how the
+        // floor outflow answers the plenum pressure, which an iterative plenum solves with (`FloorResponse`)
+        let g_col = sys.bottom_flow_m3_per_s(&phi1, &ones);
+        let g1: f64 = g_col.iter().sum();
         let gd: f64 = if manifold {
             // Solve once for the whole plenum field at the previous inlet pressure, warm-started from the last
             // pressures, and split off the inlet-pressure part: φ_δ = p_s − p_in,prev·φ₁.
@@ -825,7 +828,11 @@ fn solve_coupled(
         prev.copy_from_slice(&p);
         let state = accel.as_ref().map(|_| outer_state(&sys, &delta_col));
         if manifold {
-            delta_col = plenum.shape_pa(&bottom, leak, rho)?;
+            let response = FloorResponse {
+                conductance_m3_per_s_per_pa: &g_col,
+                shape_pa: &delta_col,
+            };
+            delta_col = plenum.shape_pa(&bottom, leak, rho, Some(response))?;
         }
         sys.update_speeds(&p, &p_pl);
         if let (Some(acc), Some(y)) = (accel.as_mut(), state) {
