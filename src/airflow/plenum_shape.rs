@@ -294,21 +294,21 @@ impl Plenum2d {
     }
 
     /// Let each plenum cell's outflow answer its pressure as `response` says, a column's conductance divided
-    /// evenly over its cells (kinematic: ρ·g), about the state the outflow was computed at: the kept field, shifted
+    /// over its cells as its outflow is (kinematic: ρ·g), about the state the outflow was computed at: the kept field, shifted
     /// under each column by the difference between the shape the bed saw and the kept field's. Without a
     /// response the sinks are fixed.
     fn set_response(&mut self, response: Option<FloorResponse<'_>>, rho: f64) {
         let now = self.shape_of_state(rho);
         let d = &mut self.domain;
         let (r, ny_c) = (self.r, self.grid.ny);
-        let share = 1.0 / (r * r) as f64;
         for jj in 0..d.ny {
             for ii in 0..d.nx {
                 let (c, k) = ((ii / r) * ny_c + jj / r, jj * d.nx + ii);
                 let (g, at) = response.map_or((0.0, now[c]), |f| {
                     (f.conductance_m3_per_s_per_pa[c], f.shape_pa[c])
                 });
-                d.sink_conductance[k] = rho * g.max(0.0) * share;
+                // the column's conductance over its plenum cells as its air is: through the open floor
+                d.sink_conductance[k] = rho * g.max(0.0) * self.outflow_share[k];
                 d.sink_reference_p[k] = self.state.p[k] + (at - now[c]) / rho;
             }
         }
