@@ -7,7 +7,7 @@
 //! coarse for the baffles is refused. Grids are small: the coupled 2-D solve is slow today.
 mod common;
 
-use dryfront::airflow::geometry::{Baffle, FloorArea, InletWall};
+use dryfront::airflow::geometry::{Baffle, DiscreteContainer, FloorArea, InletWall};
 use dryfront::airflow::plenum2d::FlowError;
 use dryfront::airflow::plenum_shape::{
     FloorResponse, Plenum, Plenum2d, Plenum2dParams, UniformPlenum,
@@ -162,6 +162,28 @@ impl Plenum for Recording<'_> {
     }
 }
 
+/// The fixed-flow solve through a recording plenum (the settings name the uniform model; the plenum given is the
+/// one solved with).
+fn recorded(
+    c: &Container,
+    disc: &DiscreteContainer,
+    grid: Grid,
+    rec: &mut Recording<'_>,
+) -> AirflowSolution {
+    solve_with_plenum(
+        c,
+        disc,
+        &FlowSpec::Fixed {
+            total_m3_per_s: FLOW_M3_PER_S,
+        },
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings(PlenumModel::Uniform, grid),
+        rec,
+    )
+    .unwrap()
+}
+
 #[test]
 fn blocked_floor_passes_no_air_under_every_plenum_model() {
     let mut c = trailer();
@@ -199,18 +221,7 @@ fn blocked_floor_passes_no_air_under_every_plenum_model() {
     ];
     for (name, inner) in inners {
         let mut rec = Recording::new(inner);
-        let s = solve_with_plenum(
-            &c,
-            &disc,
-            &FlowSpec::Fixed {
-                total_m3_per_s: FLOW_M3_PER_S,
-            },
-            &common::peanut(1.5),
-            &AirPath::same(common::air()),
-            &settings(PlenumModel::Uniform, grid),
-            &mut rec,
-        )
-        .unwrap();
+        let s = recorded(&c, &disc, grid, &mut rec);
         let worst = rec
             .outflows
             .iter()
@@ -252,18 +263,7 @@ fn a_partly_blocked_column_passes_its_air_through_its_open_part() {
     let disc = c.discretize(grid).unwrap();
     let mut plane = Plenum2d::new(&c, grid, &Plenum2dParams::default());
     let mut rec = Recording::new(&mut plane);
-    let s = solve_with_plenum(
-        &c,
-        &disc,
-        &FlowSpec::Fixed {
-            total_m3_per_s: FLOW_M3_PER_S,
-        },
-        &common::peanut(1.5),
-        &AirPath::same(common::air()),
-        &settings(PlenumModel::Uniform, grid),
-        &mut rec,
-    )
-    .unwrap();
+    let s = recorded(&c, &disc, grid, &mut rec);
     let (q, leak) = (rec.outflows.pop().unwrap(), rec.leakage.pop().unwrap());
     let sinks = &plane.field().0.sink_m3_per_s;
     let (nx, ny) = (2 * grid.nx, 2 * grid.ny);
