@@ -419,16 +419,21 @@ fn wall_distance(d: &FlowDomain, cutoff_m: f64) -> Vec<f64> {
     dist
 }
 
-fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams) -> Vec<f64> {
+/// The wall distances the mixing length's bound needs on `d` ([`wall_distance`] searched only as far as the largest
+/// mixing length over κ): geometry alone, computed once per solve call, not per iteration.
+fn wall_bound(d: &FlowDomain, prm: &FlowParams) -> Vec<f64> {
+    let h_max = d.depth.iter().fold(0.0_f64, |m, h| m.max(*h));
+    wall_distance(d, prm.mixing_length_ratio * h_max / KAPPA)
+}
+
+/// Effective viscosity per cell; `wall` from [`wall_bound`] on the same domain.
+fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams, wall: &[f64]) -> Vec<f64> {
     let (nx, ny) = (d.nx, d.ny);
     let mut nu = vec![prm.nu_m2_per_s; nx * ny];
     if prm.depth_eddy_coefficient == 0.0 && prm.mixing_length_ratio == 0.0 {
         return nu;
     }
     let cu = |i: usize, j: usize| s.centre_velocity(d, i, j);
-    // only distances below the largest mixing length over κ can bound it
-    let h_max = d.depth.iter().fold(0.0_f64, |m, h| m.max(*h));
-    let wall = wall_distance(d, prm.mixing_length_ratio * h_max / KAPPA);
     for j in 0..ny {
         for i in 0..nx {
             let h = d.depth[d.ic(i, j)];
@@ -966,6 +971,8 @@ pub fn mass_imbalance(d: &FlowDomain, s: &FlowState) -> Vec<f64> {
 
 /// Work space of the SIMPLEC iteration, kept across the iterations of one call.
 struct Work {
+    /// Distance of each cell to the nearest wall or baffle, m ([`wall_bound`]).
+    wall: Vec<f64>,
     cu: Coeffs,
     cv: Coeffs,
     pc: Vec<f64>,
@@ -982,12 +989,13 @@ fn simplec_step(
     w: &mut Work,
 ) -> (f64, f64, u32) {
     let Work {
+        wall,
         cu,
         cv,
         pc,
         pressure,
     } = w;
-    let nu = eddy_viscosity(d, state, prm);
+    let nu = eddy_viscosity(d, state, prm, wall);
     let (qu, qv) = fluxes(d, state);
     assemble_u(d, state, prm, &nu, &qu, &qv, cu);
     assemble_v(d, state, prm, &nu, &qu, &qv, cv);
@@ -1180,6 +1188,7 @@ fn iterate(
     }
     state.apply_fixed(d);
     let mut w = Work {
+        wall: wall_bound(d, prm),
         cu: Coeffs::new(state.u.len()),
         cv: Coeffs::new(state.v.len()),
         pc: vec![0.0; d.nx * d.ny],
@@ -1287,7 +1296,7 @@ mod tests {
             mixing_length_ratio: 0.3,
             ..FlowParams::laminar(1e-5)
         };
-        let nu = eddy_viscosity(&d, &s, &prm);
+        let nu = eddy_viscosity(&d, &s, &prm, &wall_bound(&d, &prm));
         let lm = |c: usize| ((nu[c] - 1e-5) / a).sqrt();
         // cell (20, 20) sits on the baffle, 2 m from every side wall: l_m = κ·dy/2, not c_m·h = 0.3 m
         approx::assert_relative_eq!(lm(20 * n + 20), KAPPA * 0.05, max_relative = 1e-12);
