@@ -74,15 +74,7 @@ impl PlenumMap {
     pub fn pressure_along(&self, y_frac: f64) -> Vec<(f64, f64)> {
         let (nx, ny) = self.pressure_pa.dim();
         let (j0, j1, w) = line_between(y_frac, ny);
-        (0..nx)
-            .map(|i| {
-                let p = &self.pressure_pa;
-                (
-                    (i as f64 + 0.5) * self.dx_m,
-                    (1.0 - w) * p[[i, j0]] + w * p[[i, j1]],
-                )
-            })
-            .collect()
+        self.profile(nx, self.dx_m, w, |i| ([i, j0], [i, j1]))
     }
 
     /// Static pressure along a line across the width at fraction `x_frac` of the length (0 = the front wall,
@@ -91,13 +83,23 @@ impl PlenumMap {
     pub fn pressure_across(&self, x_frac: f64) -> Vec<(f64, f64)> {
         let (nx, ny) = self.pressure_pa.dim();
         let (i0, i1, w) = line_between(x_frac, nx);
-        (0..ny)
-            .map(|j| {
-                let p = &self.pressure_pa;
-                (
-                    (j as f64 + 0.5) * self.dy_m,
-                    (1.0 - w) * p[[i0, j]] + w * p[[i1, j]],
-                )
+        self.profile(ny, self.dy_m, w, |j| ([i0, j], [i1, j]))
+    }
+
+    /// (cell-centre distance, m; Pa) for `n` cells `step_m` apart, each the pressure at the pair of cells `at`
+    /// gives, weighted `1 − w` and `w`: one line between two rows or columns of cells.
+    fn profile(
+        &self,
+        n: usize,
+        step_m: f64,
+        w: f64,
+        at: impl Fn(usize) -> ([usize; 2], [usize; 2]),
+    ) -> Vec<(f64, f64)> {
+        let p = &self.pressure_pa;
+        (0..n)
+            .map(|k| {
+                let (a, b) = at(k);
+                ((k as f64 + 0.5) * step_m, (1.0 - w) * p[a] + w * p[b])
             })
             .collect()
     }
