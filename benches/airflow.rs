@@ -151,17 +151,14 @@ fn bench_fit(c: &mut Criterion) {
     g.finish();
 }
 
-/// The coupled 2-D plenum + 3-D bed solve of the same trailer at 64 × 24 columns × 32 layers (2 plenum cells per
-/// column side: a 128 × 48 plenum grid), cold (plenum at rest) and warm (a re-solve from the held plenum's last
-/// field after the air warmed by 5 K, as in a drying run). Targets: cold under 0.5 s median, warm under a fifth of
-/// cold. Each pass prints the outer (bed–plenum) iterations and the plenum's SIMPLEC and pressure-CG iterations.
-/// Measured 2026-12-03 (once, by the same set-up outside criterion; see DEVELOPERS.md): with the floor outflow
-/// answering the plenum pressure, cold 105 outer / 2 080 SIMPLEC iterations and about 21 s of CPU, warm 90 / 1 780
-/// and 18 s (main before it: 186 / 3 700, 39 s; 122 / 2 420, 28 s) — targets not met, and this group takes many
-/// minutes under criterion.
+/// The coupled 2-D plenum + 3-D bed solve of the same trailer at 64 × 24 columns × 32 layers (the plenum's
+/// default resolution there: one plenum cell per 0.1 m column, a 64 × 24 plenum grid), cold (plenum at rest) and
+/// warm (a re-solve after the air warmed by 5 K from the last solution and the held plenum's field, as a drying run
+/// does). Targets: cold under 0.5 s median, warm under a fifth of cold. Each pass prints the outer (bed–plenum)
+/// iterations and the plenum's SIMPLEC iterations. Figures: DEVELOPERS.md.
 fn bench_plenum2d(c: &mut Criterion) {
     use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
-    use dryfront::airflow::solve::solve_with_plenum;
+    use dryfront::airflow::solve::{solve_with_plenum_from, AirflowSolution};
     use dryfront::airflow::PlenumModel;
     let (container, fan) = load();
     let flow = FlowSpec::Fan(fan);
@@ -187,13 +184,14 @@ fn bench_plenum2d(c: &mut Criterion) {
         ..SolverSettings::default()
     };
     let disc = container.discretize(grid).unwrap();
-    let solve_on = |pl: &mut Plenum2d, a: &AirPath| {
-        solve_with_plenum(&container, &disc, &flow, &law, a, &settings, pl).unwrap()
+    let solve_on = |pl: &mut Plenum2d, a: &AirPath, from: Option<&AirflowSolution>| {
+        let warm = from.map(|s| &s.warm);
+        solve_with_plenum_from(&container, &disc, &flow, &law, a, &settings, pl, warm).unwrap()
     };
     let mut pl = Plenum2d::new(&container, grid, &p2);
-    let s = solve_on(&mut pl, &air);
+    let s = solve_on(&mut pl, &air, None);
     let cold_simplec = pl.total_iters;
-    let w = solve_on(&mut pl, &warm_air);
+    let w = solve_on(&mut pl, &warm_air, Some(&s));
     eprintln!(
         "2-D plenum 64x24x32: cold {} outer iterations, {} SIMPLEC; warm {} outer, {} SIMPLEC",
         s.converged.iters,
@@ -206,17 +204,17 @@ fn bench_plenum2d(c: &mut Criterion) {
     g.bench_function("trailer-6m 64x24x32 cold", |b| {
         b.iter(|| {
             let mut pl = Plenum2d::new(&container, grid, &p2);
-            solve_on(&mut pl, &air)
+            solve_on(&mut pl, &air, None)
         })
     });
     g.bench_function("trailer-6m 64x24x32 warm re-solve", |b| {
         b.iter_batched(
             || {
                 let mut pl = Plenum2d::new(&container, grid, &p2);
-                solve_on(&mut pl, &air);
-                pl
+                let s = solve_on(&mut pl, &air, None);
+                (pl, s)
             },
-            |mut pl| solve_on(&mut pl, &warm_air),
+            |(mut pl, s)| solve_on(&mut pl, &warm_air, Some(&s)),
             criterion::BatchSize::PerIteration,
         )
     });

@@ -240,6 +240,51 @@ fn narrow_plenum_follows_the_duct() {
 /// row-mean trends differ by at most 0.12 Pa over the duct's 7.27 Pa rise (1.6 %); bound 5 % of the rise.
 const NARROW_TOLERANCE_FRACTION: f64 = 0.05;
 
+/// Without a choice in the file, the plenum gets 2 cells per column side, or 1 where 2 would make its cells
+/// narrower than a quarter of its lowest height (0.1 m under the trailer's 0.4 m plenum); a file's own choice wins.
+#[test]
+fn plenum_cells_follow_the_column_size() {
+    let c = plain_trailer();
+    let auto = Plenum2dParams::default();
+    let on = |nx, ny| auto.cells_per_column_on(&c, Grid { nx, ny, nz: 8 });
+    // 0.4 m and 0.2 m columns (the latter exactly at the bound): halved
+    assert_eq!(on(16, 6), 2);
+    assert_eq!(on(32, 12), 2);
+    // 0.1 m columns, and 0.2 m along the length but 0.1 m across: kept whole
+    assert_eq!(on(64, 24), 1);
+    assert_eq!(on(32, 24), 1);
+    let fixed = Plenum2dParams {
+        cells_per_column: Some(3),
+        ..auto
+    };
+    assert_eq!(
+        fixed.cells_per_column_on(
+            &c,
+            Grid {
+                nx: 64,
+                ny: 24,
+                nz: 8
+            }
+        ),
+        3
+    );
+    // a lower plenum allows finer cells: 0.2 m high, 0.05 m cells from 0.1 m columns
+    let mut low = c.clone();
+    low.plenum_height_m = 0.2;
+    low.inlet.height_m = 0.2;
+    assert_eq!(
+        auto.cells_per_column_on(
+            &low,
+            Grid {
+                nx: 64,
+                ny: 24,
+                nz: 8
+            }
+        ),
+        2
+    );
+}
+
 /// The container file chooses the plenum model; the default is the 1-D duct.
 #[test]
 fn the_container_file_chooses_the_plenum_model() {
@@ -259,7 +304,7 @@ fn the_container_file_chooses_the_plenum_model() {
     let c = Container::from_json_str(&with, path).unwrap();
     match c.plenum_model() {
         PlenumModel::TwoD(p) => {
-            assert_eq!(p.cells_per_column, 3);
+            assert_eq!(p.cells_per_column, Some(3));
             assert_eq!(
                 p.friction_coefficient,
                 Plenum2dParams::default().friction_coefficient

@@ -774,7 +774,7 @@ impl Container {
             } => {
                 let d = Plenum2dParams::default();
                 PlenumModel::TwoD(Plenum2dParams {
-                    cells_per_column: cells_per_column.unwrap_or(d.cells_per_column),
+                    cells_per_column: cells_per_column.or(d.cells_per_column),
                     mixing_length_ratio: mixing_length_ratio.unwrap_or(d.mixing_length_ratio),
                     ..d
                 })

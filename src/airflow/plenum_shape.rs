@@ -26,8 +26,12 @@
 //! to the next; the coupled fixed point is unchanged. Measured 2026-12-03 (bench set-up, load average 5–8), against
 //! the fixed sink of before: at 32 × 12 × 10, 20 outer / 380 SIMPLEC iterations and about 0.5 s of CPU (34 / 660,
 //! 0.9–1.4 s before); at 64 × 24 × 32, 105 / 2 080 and 20 s (186 / 3 700, 30 s before) — still far from the
-//! issue's 0.5 s: the plenum's own SIMPLEC convergence, not the coupling, is now the limit. The earlier record
-//! follows. With the default mixing length c_m = 0.3 (see
+//! issue's 0.5 s: the plenum's own SIMPLEC convergence, not the coupling, is now the limit; it needs many more
+//! iterations on a finer plenum grid. Those figures are for 2 plenum cells per column side (a 128 × 48 plenum
+//! grid of 0.05 m cells); the default now keeps plenum cells no narrower than a quarter of the plenum's height
+//! ([`Plenum2dParams::cells_per_column_on`]), one per 0.1 m column there: 20 outer / 380 SIMPLEC iterations, 0.90 s
+//! median cold and 0.64 s for a warm re-solve (`benches/airflow.rs`, 2026-12-03, load average 2.4). The earlier
+//! record follows. With the default mixing length c_m = 0.3 (see
 //! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
 //! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
 //! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
@@ -72,8 +76,9 @@ const RELAX_ACCELERATED: f64 = 0.85;
 /// Settings of the 2-D plenum (numerical-model settings with documented defaults).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Plenum2dParams {
-    /// Plenum cells along each side of a bed column.
-    pub cells_per_column: usize,
+    /// Plenum cells along each side of a bed column; `None`: chosen from the columns' size
+    /// ([`Plenum2dParams::cells_per_column_on`]).
+    pub cells_per_column: Option<usize>,
     /// Skin-friction coefficient c_f of the floor sheet and of the plenum bottom, each.
     pub friction_coefficient: f64,
     /// Mixing length over plenum height, c_m.
@@ -85,18 +90,47 @@ pub struct Plenum2dParams {
 }
 
 impl Default for Plenum2dParams {
-    /// 2 cells per column side; c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one
+    /// Plenum cells per column side chosen from the bed grid (see [`Plenum2dParams::cells_per_column_on`]); c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one
     /// wall friction; κ/6 = 0.41/6 (DOMAIN.md §13, from memory); β = 1 as in the duct. c_m = 0.3, three times
     /// the top of DOMAIN.md §13's 0.07–0.1: with 0.1 the trailer's jet gives no steady solution (SIMPLEC limit
     /// cycle of 0.3–3.5 % velocity change per iteration), with 0.3 it converges. This is a numerical choice,
     /// not a calibrated one.
     fn default() -> Self {
         Plenum2dParams {
-            cells_per_column: 2,
+            cells_per_column: None,
             friction_coefficient: 0.0075,
             mixing_length_ratio: 0.3,
             depth_eddy_coefficient: 0.41 / 6.0,
             outflow_momentum_fraction: 1.0,
+        }
+    }
+}
+
+/// Plenum cells no narrower than this fraction of the plenum's height, where the bed's columns allow
+/// ([`Plenum2dParams::cells_per_column_on`]).
+const FINEST_CELL_PER_HEIGHT: f64 = 0.25;
+
+impl Plenum2dParams {
+    /// Plenum cells along each side of a column of `grid` on `container`: the file's own choice, else 2, or 1 where
+    /// 2 would make plenum cells narrower than a quarter of the plenum's lowest height. A depth-averaged model
+    /// does not resolve horizontal features much smaller than its depth, and finer plenum cells cost many more
+    /// SIMPLEC iterations for little change (our own numerical choice). Measured on the 6.4 m trailer with its
+    /// 0.4 m plenum and fan `vane-3kw` at 32 × 12 × 10 columns (2026-12-03): plenum cells of 0.2, 0.1 and 0.05 m
+    /// gave a column-flow CV of 0.0831, 0.0858 and 0.0865, and top-surface velocities at most 1.6 % and 0.37 % of
+    /// the mean from the 0.05 m cells' (the 0.1 m cells are this rule's choice there); the 0.05 m cells took 109
+    /// outer / 2 160 SIMPLEC iterations and 19 s of CPU against 20 / 380 and 0.7 s.
+    pub fn cells_per_column_on(&self, container: &Container, grid: Grid) -> usize {
+        if let Some(r) = self.cells_per_column {
+            return r.max(1);
+        }
+        let h = container
+            .plenum_height_at_m(0.0)
+            .min(container.plenum_height_at_m(container.length_m));
+        let column = (container.length_m / grid.nx as f64).min(container.width_m / grid.ny as f64);
+        if column / 2.0 >= FINEST_CELL_PER_HEIGHT * h * (1.0 - 1e-9) {
+            2
+        } else {
+            1
         }
     }
 }
@@ -218,7 +252,7 @@ impl Plenum2d {
     /// Build the plenum grid under `grid`'s columns of `container` (inlet at x = 0 of the solver orientation for
     /// an end inlet; see `airflow::plenum_layout`). [`build`] checks first that the grid resolves the baffles.
     pub fn new(container: &Container, grid: Grid, p: &Plenum2dParams) -> Self {
-        let r = p.cells_per_column.max(1);
+        let r = p.cells_per_column_on(container, grid);
         let (nx, ny) = (grid.nx * r, grid.ny * r);
         let layout = PlenumLayout::new(container, &container.baffles, nx, ny);
         let mut domain = FlowDomain::closed_box(nx, ny, layout.dx, layout.dy, 1.0);
@@ -438,7 +472,7 @@ pub fn build(
             })
         }
         PlenumModel::TwoD(p) => {
-            let r = p.cells_per_column.max(1);
+            let r = p.cells_per_column_on(container, grid);
             PlenumLayout::new(container, &container.baffles, grid.nx * r, grid.ny * r)
                 .check_resolved(container)?;
             Box::new(Plenum2d::new(container, grid, p))

@@ -6,22 +6,24 @@ use super::html::{Block, InputRecord, KeyFigure, Page};
 use super::output::OutputSet;
 use super::svg::{heat_map, line_chart, HeatMap, LineChart, Overlay, Series};
 use crate::airflow::plenum_map::PlenumMap;
-use crate::airflow::{AirflowSolution, BedLaw, Container, FlowSpec, PlenumModel, SolverSettings};
+use crate::airflow::{
+    AirflowSolution, BedLaw, Container, FlowSpec, Grid, PlenumModel, SolverSettings,
+};
 use crate::units::UnitSystem;
 
 const MEMORY: &str = "writing to memory cannot fail";
 
 /// What the container's plenum model is, in a few words.
-pub fn plenum_model_text(c: &Container) -> String {
+pub fn plenum_model_text(c: &Container, grid: Grid) -> String {
     match c.plenum_model() {
         PlenumModel::Uniform => "uniform (one pressure under the whole floor)".into(),
         PlenumModel::Manifold(_) => {
             "duct (1-D along the length, one pressure across the width)".into()
         }
-        PlenumModel::TwoD(p) => format!(
-            "2d (depth-averaged flow, {} × {} plenum cells under each column)",
-            p.cells_per_column, p.cells_per_column
-        ),
+        PlenumModel::TwoD(p) => {
+            let r = p.cells_per_column_on(c, grid);
+            format!("2d (depth-averaged flow, {r} × {r} plenum cells under each column)")
+        }
     }
 }
 
@@ -52,7 +54,7 @@ pub fn human_summary(c: &Container, flow: &FlowSpec, s: &AirflowSolution, u: Uni
         g.ny,
         g.nz
     );
-    let _ = writeln!(o, "plenum model: {}", plenum_model_text(c));
+    let _ = writeln!(o, "plenum model: {}", plenum_model_text(c, s.grid));
     let _ = writeln!(
         o,
         "{source} ({}); into the plenum {} at the plenum air ({}), {} of dry air",
