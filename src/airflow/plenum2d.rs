@@ -798,10 +798,12 @@ struct PressureWork {
 }
 
 impl PressureWork {
-    /// For the grid of `d`: the operator is laid out with the plenum's rows (j) as the multigrid's slow index and
-    /// its columns (i) as the fast one, so cell `j·nx + i` keeps its index.
+    /// For the grid of `d`: the operator is laid out as one layer of `ny` columns whose "vertical" lines run along
+    /// the plenum's x (cell `j·nx + i` keeps its index). The multigrid then relaxes whole rows along x by exact
+    /// line solves, red–black by row (zebra), and coarsens across the width only (semi-coarsening): rows of
+    /// `nx` cells, not lines of one cell each.
     fn new(d: &FlowDomain) -> Self {
-        let op = LineOp::zeros(d.ny, d.nx, 1);
+        let op = LineOp::zeros(1, d.ny, d.nx);
         let mg = Multigrid::new(&op, MgSettings::default());
         let n = d.nx * d.ny;
         PressureWork {
@@ -828,12 +830,12 @@ impl PressureWork {
         for j in 0..ny {
             for i in 0..nx {
                 let k = d.ic(i, j);
-                op.ty[k] = if i + 1 < nx {
+                op.tz[k] = if i + 1 < nx {
                     d.hu(i + 1, j) * d.dy * cu.d[d.iu(i + 1, j)]
                 } else {
                     0.0
                 };
-                op.tx[k] = if j + 1 < ny {
+                op.ty[k] = if j + 1 < ny {
                     d.hv(i, j + 1) * d.dx * cv.d[d.iv(i, j + 1)]
                 } else {
                     0.0
