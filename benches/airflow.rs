@@ -154,8 +154,9 @@ fn bench_fit(c: &mut Criterion) {
 /// The coupled 2-D plenum + 3-D bed solve of the same trailer at 64 × 24 columns × 32 layers (the plenum's
 /// default resolution there: one plenum cell per 0.1 m column, a 64 × 24 plenum grid), cold (plenum at rest) and
 /// warm (a re-solve after the air warmed by 5 K from the last solution and the held plenum's field, as a drying run
-/// does). Targets: cold under 0.5 s median, warm under a fifth of cold. Each pass prints the outer (bed–plenum)
-/// iterations and the plenum's SIMPLEC iterations. Figures: DEVELOPERS.md.
+/// does); and cold at 144 × 54 × 64 (497 664 cells; one plenum cell over 2 × 2 columns, a 72 × 27 plenum grid).
+/// Targets: cold under 0.5 s median and under 5 s at about 500 000 cells, warm under a fifth of cold. Each pass
+/// prints the outer (bed–plenum) iterations and the plenum's SIMPLEC iterations. Figures: DEVELOPERS.md.
 fn bench_plenum2d(c: &mut Criterion) {
     use dryfront::airflow::plenum_shape::{Plenum2d, Plenum2dParams};
     use dryfront::airflow::solve::{solve_with_plenum_from, AirflowSolution};
@@ -217,6 +218,32 @@ fn bench_plenum2d(c: &mut Criterion) {
             |(mut pl, s)| solve_on(&mut pl, &warm_air, Some(&s)),
             criterion::BatchSize::PerIteration,
         )
+    });
+    let big = Grid {
+        nx: 144,
+        ny: 54,
+        nz: 64,
+    };
+    let big_disc = container.discretize(big).unwrap();
+    let big_settings = SolverSettings {
+        grid: big,
+        ..settings
+    };
+    g.bench_function("trailer-6m 144x54x64 cold", |b| {
+        b.iter(|| {
+            let mut pl = Plenum2d::new(&container, big, &p2);
+            solve_with_plenum_from(
+                &container,
+                &big_disc,
+                &flow,
+                &law,
+                &air,
+                &big_settings,
+                &mut pl,
+                None,
+            )
+            .unwrap()
+        })
     });
     g.finish();
 }

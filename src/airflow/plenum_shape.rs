@@ -5,11 +5,14 @@
 //!
 //! Column arrays are in the solver's orientation: index `i·ny + j`, i = 0 at the inlet wall.
 //!
-//! The 2-D plenum runs on a grid of its own, `cells_per_column`² cells under each column; the transfer is
-//! conservative: a column's outflow leaves through its cells in proportion to the open share of each cell's floor
-//! (a cell under a blocked floor area passes none; a column with no open floor, which takes no air, spreads its
-//! zero evenly), and its δ is the mean over its cells with the same weights, the pressure under the floor the air
-//! leaves through. The leakage leaves evenly from the cells the inlet's air reaches. A pocket closed off by baffles
+//! The 2-D plenum runs on a grid of its own ([`Plenum2dParams::resolution_on`]): r × r cells under each column,
+//! or on very fine bed grids one cell under s × s columns. The transfer is conservative: a column's outflow leaves
+//! through its cells in proportion to the open share of each cell's floor (a cell under a blocked floor area passes
+//! none; a column with no open floor, which takes no air, spreads its zero evenly), and its δ is the mean over its
+//! cells with the same weights, the pressure under the floor the air leaves through; under a coarser plenum each
+//! column's air leaves through its one cell, and all the columns over a cell see its pressure (piecewise
+//! constant: on the trailer with a 0.8 m plenum, 2 × 2 columns of 0.1 m per cell gave a column-flow CV of 0.0298
+//! against 0.0246 on one cell per column). The leakage leaves evenly from the cells the inlet's air reaches. A pocket closed off by baffles
 //! is accepted only over blocked floor (`PlenumLayout::closed_off`); its air is held at rest and its pressure, which
 //! nothing sets, is left out of the map (NaN: no air there). The
 //! plenum's shape on that grid comes from `airflow::plenum_layout`: the depth of each cell (a taper), the faces
@@ -29,7 +32,7 @@
 //! issue's 0.5 s: the plenum's own SIMPLEC convergence, not the coupling, is now the limit; it needs many more
 //! iterations on a finer plenum grid. Those figures are for 2 plenum cells per column side (a 128 × 48 plenum
 //! grid of 0.05 m cells); the default now keeps plenum cells no narrower than a quarter of the plenum's height
-//! ([`Plenum2dParams::cells_per_column_on`]), one per 0.1 m column there: 20 outer / 380 SIMPLEC iterations, 0.90 s
+//! ([`Plenum2dParams::resolution_on`]), one per 0.1 m column there: 20 outer / 380 SIMPLEC iterations, 0.90 s
 //! median cold and 0.64 s for a warm re-solve (`benches/airflow.rs`, 2026-12-03, load average 2.4). The earlier
 //! record follows. With the default mixing length c_m = 0.3 (see
 //! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
@@ -77,7 +80,7 @@ const RELAX_ACCELERATED: f64 = 0.85;
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Plenum2dParams {
     /// Plenum cells along each side of a bed column; `None`: chosen from the columns' size
-    /// ([`Plenum2dParams::cells_per_column_on`]).
+    /// ([`Plenum2dParams::resolution_on`]).
     pub cells_per_column: Option<usize>,
     /// Skin-friction coefficient c_f of the floor sheet and of the plenum bottom, each.
     pub friction_coefficient: f64,
@@ -90,7 +93,7 @@ pub struct Plenum2dParams {
 }
 
 impl Default for Plenum2dParams {
-    /// Plenum cells per column side chosen from the bed grid (see [`Plenum2dParams::cells_per_column_on`]); c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one
+    /// Plenum cells per column side chosen from the bed grid (see [`Plenum2dParams::resolution_on`]); c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one
     /// wall friction; κ/6 = 0.41/6 (DOMAIN.md §13, from memory); β = 1 as in the duct. c_m = 0.3, three times
     /// the top of DOMAIN.md §13's 0.07–0.1: with 0.1 the trailer's jet gives no steady solution (SIMPLEC limit
     /// cycle of 0.3–3.5 % velocity change per iteration), with 0.3 it converges. This is a numerical choice,
@@ -106,31 +109,62 @@ impl Default for Plenum2dParams {
     }
 }
 
-/// Plenum cells no narrower than this fraction of the plenum's height, where the bed's columns allow
-/// ([`Plenum2dParams::cells_per_column_on`]).
+/// Plenum cells no narrower than about this fraction of the plenum's height, where the bed's columns allow
+/// ([`Plenum2dParams::resolution_on`]).
 const FINEST_CELL_PER_HEIGHT: f64 = 0.25;
 
+/// How the plenum's grid meets the bed's columns: `per_column` plenum cells along each side of a column, or one
+/// plenum cell over `columns_per_cell` columns along each side (one of the two is 1).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct PlenumResolution {
+    /// Plenum cells along each side of a column.
+    pub per_column: usize,
+    /// Columns along each side of a plenum cell.
+    pub columns_per_cell: usize,
+}
+
+impl PlenumResolution {
+    /// The plenum grid's size under `grid`'s columns.
+    pub fn plenum_cells(&self, grid: Grid) -> (usize, usize) {
+        let (r, s) = (self.per_column, self.columns_per_cell);
+        (grid.nx * r / s, grid.ny * r / s)
+    }
+}
+
 impl Plenum2dParams {
-    /// Plenum cells along each side of a column of `grid` on `container`: the file's own choice, else 2, or 1 where
-    /// 2 would make plenum cells narrower than a quarter of the plenum's lowest height. A depth-averaged model
-    /// does not resolve horizontal features much smaller than its depth, and finer plenum cells cost many more
-    /// SIMPLEC iterations for little change (our own numerical choice). Measured on the 6.4 m trailer with its
-    /// 0.4 m plenum and fan `vane-3kw` at 32 × 12 × 10 columns (2026-12-03): plenum cells of 0.2, 0.1 and 0.05 m
-    /// gave a column-flow CV of 0.0831, 0.0858 and 0.0865, and top-surface velocities at most 1.6 % and 0.37 % of
-    /// the mean from the 0.05 m cells' (the 0.1 m cells are this rule's choice there); the 0.05 m cells took 109
+    /// The plenum grid for `grid`'s columns on `container`: the file's own cells per column, else plenum cells
+    /// close to a quarter of the plenum's lowest height and no narrower where the columns allow: 2 per column
+    /// side, 1 where 2 would be narrower, and on columns narrower still one plenum cell over the most columns
+    /// (dividing the grid evenly) that keep it no wider than the quarter height. A depth-averaged model does not
+    /// resolve horizontal features much smaller than its depth, and finer plenum cells cost many more SIMPLEC
+    /// iterations for little change (our own numerical choice). Measured on the 6.4 m trailer with its 0.4 m
+    /// plenum and fan `vane-3kw` at 32 × 12 × 10 columns (2026-12-03): plenum cells of 0.2, 0.1 and 0.05 m gave a
+    /// column-flow CV of 0.0831, 0.0858 and 0.0865, and top-surface velocities at most 1.6 % and 0.37 % of the
+    /// mean from the 0.05 m cells' (the 0.1 m cells are this rule's choice there); the 0.05 m cells took 109
     /// outer / 2 160 SIMPLEC iterations and 19 s of CPU against 20 / 380 and 0.7 s.
-    pub fn cells_per_column_on(&self, container: &Container, grid: Grid) -> usize {
+    pub fn resolution_on(&self, container: &Container, grid: Grid) -> PlenumResolution {
+        let finer = |r: usize| PlenumResolution {
+            per_column: r,
+            columns_per_cell: 1,
+        };
         if let Some(r) = self.cells_per_column {
-            return r.max(1);
+            return finer(r.max(1));
         }
         let h = container
             .plenum_height_at_m(0.0)
             .min(container.plenum_height_at_m(container.length_m));
+        let quarter = FINEST_CELL_PER_HEIGHT * h;
         let column = (container.length_m / grid.nx as f64).min(container.width_m / grid.ny as f64);
-        if column / 2.0 >= FINEST_CELL_PER_HEIGHT * h * (1.0 - 1e-9) {
-            2
-        } else {
-            1
+        if column / 2.0 >= quarter * (1.0 - 1e-9) {
+            return finer(2);
+        }
+        let mut s = ((quarter / column) * (1.0 + 1e-9)).floor().max(1.0) as usize;
+        while !grid.nx.is_multiple_of(s) || !grid.ny.is_multiple_of(s) {
+            s -= 1;
+        }
+        PlenumResolution {
+            per_column: 1,
+            columns_per_cell: s,
         }
     }
 }
@@ -225,16 +259,24 @@ impl Plenum for DuctPlenum {
     }
 }
 
+/// A share of one column's outflow leaving through one plenum cell (index `j·nx + i` of the plenum grid; the
+/// shares of a column's links sum to 1). Finer plenum: each cell has one link, to its column; coarser: one per
+/// column under it.
+#[derive(Debug, Clone, Copy)]
+struct Link {
+    cell: usize,
+    column: usize,
+    share: f64,
+}
+
 /// The 2-D depth-averaged plenum, with its flow field kept between calls.
 pub struct Plenum2d {
     domain: FlowDomain,
     params: FlowParams,
     state: FlowState,
     grid: Grid,
-    r: usize,
-    /// Share of its column's outflow leaving through each plenum cell (index `j·nx + i` of the plenum grid; the
-    /// shares of a column's cells sum to 1).
-    outflow_share: Vec<f64>,
+    /// Where each column's outflow leaves the plenum, grouped by plenum cell (see [`Link`]).
+    links: Vec<Link>,
     /// Share of the leakage leaving through each plenum cell: even over the cells the inlet's air reaches, none in
     /// a closed pocket.
     leak_share: Vec<f64>,
@@ -252,13 +294,13 @@ impl Plenum2d {
     /// Build the plenum grid under `grid`'s columns of `container` (inlet at x = 0 of the solver orientation for
     /// an end inlet; see `airflow::plenum_layout`). [`build`] checks first that the grid resolves the baffles.
     pub fn new(container: &Container, grid: Grid, p: &Plenum2dParams) -> Self {
-        let r = p.cells_per_column_on(container, grid);
-        let (nx, ny) = (grid.nx * r, grid.ny * r);
+        let res = p.resolution_on(container, grid);
+        let (nx, ny) = res.plenum_cells(grid);
         let layout = PlenumLayout::new(container, &container.baffles, nx, ny);
         let mut domain = FlowDomain::closed_box(nx, ny, layout.dx, layout.dy, 1.0);
         layout.apply(&mut domain);
         let reached = layout.reached();
-        let outflow_share = outflow_shares(&layout.floor_open_share(container), &reached, grid, r);
+        let links = links(&layout.floor_open_share(container), &reached, grid, res);
         let n_reached = reached.iter().filter(|r| **r).count() as f64;
         let leak_share = reached
             .iter()
@@ -283,8 +325,7 @@ impl Plenum2d {
             params,
             state,
             grid,
-            r,
-            outflow_share,
+            links,
             leak_share,
             reached,
             inlet,
@@ -311,18 +352,10 @@ impl Plenum2d {
     /// pressure of air at rest in a sealed pocket, so a column wholly over one (no open floor, no air) reports the
     /// inlet static pressure.
     fn shape_of_state(&self, rho: f64) -> Vec<f64> {
-        let d = &self.domain;
-        let (r, ny_c) = (self.r, self.grid.ny);
         let p_in = self.inlet_kinematic();
-        let mut out = vec![0.0; self.grid.nx * ny_c];
-        for jj in 0..d.ny {
-            for ii in 0..d.nx {
-                let c = (ii / r) * ny_c + jj / r;
-                let k = jj * d.nx + ii;
-                if self.reached[k] {
-                    out[c] += rho * (self.state.p[k] - p_in) * self.outflow_share[k];
-                }
-            }
+        let mut out = vec![0.0; self.grid.nx * self.grid.ny];
+        for l in self.links.iter().filter(|l| self.reached[l.cell]) {
+            out[l.column] += rho * (self.state.p[l.cell] - p_in) * l.share;
         }
         out
     }
@@ -334,27 +367,57 @@ impl Plenum2d {
     fn set_response(&mut self, response: Option<FloorResponse<'_>>, rho: f64) {
         let now = self.shape_of_state(rho);
         let d = &mut self.domain;
-        let (r, ny_c) = (self.r, self.grid.ny);
-        for jj in 0..d.ny {
-            for ii in 0..d.nx {
-                let (c, k) = ((ii / r) * ny_c + jj / r, jj * d.nx + ii);
-                let (g, at) = response.map_or((0.0, now[c]), |f| {
-                    (f.conductance_m3_per_s_per_pa[c], f.shape_pa[c])
-                });
-                // the column's conductance over its plenum cells as its air is: through the open floor
-                d.sink_conductance[k] = rho * g.max(0.0) * self.outflow_share[k];
-                d.sink_reference_p[k] = self.state.p[k] + (at - now[c]) / rho;
-            }
+        // each link's conductance (its column's, divided over its plenum cells as its air is: through the open
+        // floor) and the plenum pressure its outflow was computed at
+        let link = |l: &Link| {
+            let (g, at) = response.map_or((0.0, now[l.column]), |f| {
+                (
+                    f.conductance_m3_per_s_per_pa[l.column],
+                    f.shape_pa[l.column],
+                )
+            });
+            let reference = self.state.p[l.cell] + (at - now[l.column]) / rho;
+            (rho * g.max(0.0) * l.share, reference)
+        };
+        for group in self.links.chunk_by(|a, b| a.cell == b.cell) {
+            let k = group[0].cell;
+            let (g, reference) = match group {
+                [one] => link(one),
+                // a cell over several columns: their summed conductance about their weighted reference
+                _ => {
+                    let (g, gp) = group
+                        .iter()
+                        .map(link)
+                        .fold((0.0, 0.0), |(g, gp), (gk, pk)| (g + gk, gp + gk * pk));
+                    (g, if g > 0.0 { gp / g } else { self.state.p[k] })
+                }
+            };
+            d.sink_conductance[k] = g;
+            d.sink_reference_p[k] = reference;
         }
     }
 }
 
-/// Each plenum cell's share of its column's outflow (plenum index `j·nx + i`, r × r cells per column of `grid`)
-/// from the open share of each cell's floor: in proportion to it; under a column with none open (which takes no
-/// air) evenly over its cells the inlet's air `reached`, or over all its cells if it lies wholly in a closed
-/// pocket. A closed pocket has no open floor (`PlenumLayout::closed_off`), so it gets no share of a column's air.
-fn outflow_shares(open: &[f64], reached: &[bool], grid: Grid, r: usize) -> Vec<f64> {
-    let nx = grid.nx * r;
+/// Where each column's outflow leaves the plenum, in plenum-cell order. A finer plenum (r × r cells per column):
+/// each cell's share of its column's outflow is in proportion to the open share of its floor; under a column with
+/// none open (which takes no air) evenly over its cells the inlet's air `reached`, or over all its cells if it
+/// lies wholly in a closed pocket. A closed pocket has no open floor (`PlenumLayout::closed_off`), so it gets no
+/// share of a column's air. A coarser plenum (one cell over s × s columns): each column's whole outflow leaves
+/// through its cell (a column's blocked floor is already in its outflow).
+fn links(open: &[f64], reached: &[bool], grid: Grid, res: PlenumResolution) -> Vec<Link> {
+    let (nx, _) = res.plenum_cells(grid);
+    let (r, s) = (res.per_column, res.columns_per_cell);
+    if s > 1 {
+        let column = |k: usize, a: usize, b: usize| (k % nx * s + a) * grid.ny + k / nx * s + b;
+        return (0..open.len())
+            .flat_map(|k| (0..s * s).map(move |ab| (k, ab / s, ab % s)))
+            .map(|(k, a, b)| Link {
+                cell: k,
+                column: column(k, a, b),
+                share: 1.0,
+            })
+            .collect();
+    }
     let col = |k: usize| ((k % nx) / r) * grid.ny + (k / nx) / r;
     let mut total = vec![0.0; grid.nx * grid.ny];
     let mut n_reached = vec![0usize; grid.nx * grid.ny];
@@ -366,12 +429,17 @@ fn outflow_shares(open: &[f64], reached: &[bool], grid: Grid, r: usize) -> Vec<f
         .enumerate()
         .map(|(k, s)| {
             let (t, n) = (total[col(k)], n_reached[col(k)]);
-            if t > 0.0 {
+            let share = if t > 0.0 {
                 s / t
             } else if n > 0 {
                 f64::from(u8::from(reached[k])) / n as f64
             } else {
                 1.0 / (r * r) as f64
+            };
+            Link {
+                cell: k,
+                column: col(k),
+                share,
             }
         })
         .collect()
@@ -387,13 +455,12 @@ impl Plenum for Plenum2d {
     ) -> Result<Vec<f64>, FlowError> {
         self.set_response(response, rho);
         let d = &mut self.domain;
-        let (r, ny_c) = (self.r, self.grid.ny);
-        for jj in 0..d.ny {
-            for ii in 0..d.nx {
-                let c = (ii / r) * ny_c + jj / r;
-                let k = jj * d.nx + ii;
-                d.sink_m3_per_s[k] = q[c] * self.outflow_share[k] + leak * self.leak_share[k];
-            }
+        d.sink_m3_per_s.fill(0.0);
+        for l in &self.links {
+            d.sink_m3_per_s[l.cell] += q[l.column] * l.share;
+        }
+        for (sink, share) in d.sink_m3_per_s.iter_mut().zip(&self.leak_share) {
+            *sink += leak * share;
         }
         let inflow: f64 = q.iter().sum::<f64>() + leak;
         for f in &self.inlet {
@@ -472,9 +539,8 @@ pub fn build(
             })
         }
         PlenumModel::TwoD(p) => {
-            let r = p.cells_per_column_on(container, grid);
-            PlenumLayout::new(container, &container.baffles, grid.nx * r, grid.ny * r)
-                .check_resolved(container)?;
+            let (nx, ny) = p.resolution_on(container, grid).plenum_cells(grid);
+            PlenumLayout::new(container, &container.baffles, nx, ny).check_resolved(container)?;
             Box::new(Plenum2d::new(container, grid, p))
         }
     })

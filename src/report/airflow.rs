@@ -21,8 +21,13 @@ pub fn plenum_model_text(c: &Container, grid: Grid) -> String {
             "duct (1-D along the length, one pressure across the width)".into()
         }
         PlenumModel::TwoD(p) => {
-            let r = p.cells_per_column_on(c, grid);
-            format!("2d (depth-averaged flow, {r} × {r} plenum cells under each column)")
+            let res = p.resolution_on(c, grid);
+            let (r, n) = (res.per_column, res.columns_per_cell);
+            if n > 1 {
+                format!("2d (depth-averaged flow, one plenum cell under each {n} × {n} columns)")
+            } else {
+                format!("2d (depth-averaged flow, {r} × {r} plenum cells under each column)")
+            }
         }
     }
 }
