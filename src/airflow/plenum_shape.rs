@@ -32,9 +32,9 @@
 //! issue's 0.5 s: the plenum's own SIMPLEC convergence, not the coupling, is now the limit; it needs many more
 //! iterations on a finer plenum grid. Those figures are for 2 plenum cells per column side (a 128 × 48 plenum
 //! grid of 0.05 m cells); the default now keeps plenum cells no narrower than a quarter of the plenum's height
-//! ([`Plenum2dParams::resolution_on`]), one per 0.1 m column there: 20 outer / 380 SIMPLEC iterations, 0.90 s
-//! median cold and 0.64 s for a warm re-solve (`benches/airflow.rs`, 2026-12-03, load average 2.4). The earlier
-//! record follows. With the default mixing length c_m = 0.3 (see
+//! ([`Plenum2dParams::resolution_on`]), one per 0.1 m column there, and the pressure correction relaxes whole
+//! rows: 21 outer / 400 SIMPLEC iterations and about 0.6 s of CPU cold, 16 / 300 warm (current figures:
+//! DEVELOPERS.md, bench `airflow 2-D plenum`). The earlier record follows. With the default mixing length c_m = 0.3 (see
 //! [`Plenum2dParams`]) it converges on the bundled trailer (12 m/s jet through a 0.8 × 0.4 m inlet into a 0.4 m
 //! plenum); with c_m = 0.1 plain SIMPLEC does not (limit cycle). Measured 2026-12-03 on the shared machine (load
 //! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
