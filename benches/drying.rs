@@ -2,7 +2,9 @@
 //! ≈ 50 000 cells) on 1 and 2 threads, in two phases of a load (the first hour from fresh, when about half the cells
 //! hit the equilibrium cap and cost most, and a whole 30-hour run, which brings the load from 21 % to about 10 %),
 //! and one full 48-hour load of the demo scenario at its default resolution (airflow solver included). Targets:
-//! ≥ 10 million cell-steps per second; a 48-hour load under 1 s.
+//! ≥ 10 million cell-steps per second; a 48-hour load under 1 s. The layer-step groups drive a whole `Run` on a fixed
+//! airflow, so they time the layer step with the run's per-step bookkeeping around it (bounds checks, column totals,
+//! accounts, stop rule, records); `perf` puts that bookkeeping at about 5 % of the whole 30-hour run.
 //! Run: `cargo bench --bench drying -- --warm-up-time 1 --measurement-time 5`.
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use ndarray::Array2;

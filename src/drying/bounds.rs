@@ -116,3 +116,68 @@ impl Bounds {
         None
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Each out-of-bounds value, put in one layer of an otherwise good column, is named with its layer and bound;
+    /// the good column passes.
+    #[test]
+    fn check_column_names_every_kind_of_violation() {
+        let b = Bounds::new(40.0, 0.5);
+        let totals = ColumnStepTotals {
+            max_rh_out: 0.9,
+            ..ColumnStepTotals::default()
+        };
+        let (hull, kernel, temp) = ([0.2; 4], [0.3; 4], [30.0; 4]);
+        assert_eq!(b.check_column(&hull, &kernel, &temp, &totals), None);
+        let cases: [(usize, f64, &str, f64); 10] = [
+            (0, f64::NAN, "hull moisture (d.b.)", f64::NAN),
+            (0, f64::INFINITY, "hull moisture (d.b.)", f64::NAN),
+            (0, -1e-12, "hull moisture (d.b.)", 0.0),
+            (0, 0.5 + 1e-12, "hull moisture (d.b.)", 0.5),
+            (1, f64::NEG_INFINITY, "kernel moisture (d.b.)", f64::NAN),
+            (1, -1e-12, "kernel moisture (d.b.)", 0.0),
+            (1, 0.6, "kernel moisture (d.b.)", 0.5),
+            (2, f64::NAN, "peanut temperature (°C)", f64::NAN),
+            (2, f64::NEG_INFINITY, "peanut temperature (°C)", f64::NAN),
+            (2, 40.0 + 2.0 * TEMP_TOL_K, "peanut temperature (°C)", 40.0),
+        ];
+        for (what, value, quantity, bound) in cases {
+            let (mut h, mut k, mut t) = (hull, kernel, temp);
+            [&mut h, &mut k, &mut t][what][3] = value;
+            let v = b
+                .check_column(&h, &k, &t, &totals)
+                .unwrap_or_else(|| panic!("{quantity} = {value} passed"));
+            assert_eq!((v.layer, v.quantity), (3, quantity), "{value}");
+            assert!(
+                v.bound.to_bits() == bound.to_bits(),
+                "{value}: bound {}",
+                v.bound
+            );
+        }
+        // At the hot bound within round-off: passes.
+        let mut t = temp;
+        t[3] = 40.0 + 0.5 * TEMP_TOL_K;
+        assert_eq!(b.check_column(&hull, &kernel, &t, &totals), None);
+        for rh in [f64::NAN, 1.0 + 2.0 * RH_TOL] {
+            let wet = ColumnStepTotals {
+                max_rh_out: rh,
+                ..totals
+            };
+            let v = b
+                .check_column(&hull, &kernel, &temp, &wet)
+                .expect("wet air");
+            assert_eq!(v.quantity, "air RH leaving a layer");
+        }
+        let cold = ColumnStepTotals {
+            below_floor: Some((1, 10.0, 12.0)),
+            ..totals
+        };
+        let v = b
+            .check_column(&hull, &kernel, &temp, &cold)
+            .expect("cold layer");
+        assert_eq!((v.layer, v.value, v.bound), (1, 10.0, 12.0));
+    }
+}

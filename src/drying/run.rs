@@ -362,7 +362,7 @@ struct ColumnResult {
     exhaust: LayerAir,
     dry_air_kg_per_m2: f64,
     after: ColumnTotals,
-    above_target_dm: f64,
+    below_target_dm: f64,
     violation: Option<Violation>,
 }
 
@@ -400,6 +400,8 @@ pub struct Run<'a, M: LayerMaterial + ?Sized> {
     bal: Balances,
     rate: RateWatch,
     start: StartFigures,
+    /// Dry matter of each column, kg/m² (it does not change over a run).
+    column_dm: Vec<f64>,
     water_kg: f64,
     levels: Levels,
     tally: Tally,
@@ -483,6 +485,11 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                 kernel_wb: initial_kernel_wb,
                 sensible_j: bed.sensible_heat_j(material),
             },
+            column_dm: (bed.dry_matter_kg_per_m2.as_slice())
+                .expect("bed arrays are in standard layout")
+                .chunks(bed.dim().2)
+                .map(|d| d.iter().sum())
+                .collect(),
             water_kg,
             levels,
             tally,
@@ -650,8 +657,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                     (&*t).into(),
                     d.into(),
                 ),
-                above_target_dm: d.iter().sum::<f64>()
-                    - column_mass_below((&*k).into(), d.into(), target_db),
+                below_target_dm: column_mass_below((&*k).into(), d.into(), target_db),
             }
         };
         if hull.len() < PARALLEL_MIN_CELLS {
@@ -779,10 +785,10 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
     /// Bed totals from the columns' results (summed in column order).
     fn update_totals(&mut self) {
         let (mut water, mut kernel_dm, mut above, mut peak) = (0.0, 0.0, 0.0, f64::MIN);
-        for r in &self.results {
+        for (r, dm) in self.results.iter().zip(&self.column_dm) {
             water += r.after.pod_water_kg_per_m2;
             kernel_dm += r.after.kernel_db_dm_kg_per_m2;
-            above += r.above_target_dm;
+            above += dm - r.below_target_dm;
             peak = f64::max(peak, r.after.max_temp_c);
         }
         self.water_kg = water * self.bed.column_area_m2;
