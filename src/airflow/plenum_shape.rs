@@ -5,21 +5,21 @@
 //!
 //! Column arrays are in the solver's orientation: index `i·ny + j`, i = 0 at the inlet wall.
 //!
-//! The 2-D plenum runs on a grid of its own ([`Plenum2dParams::resolution_on`]): r × r cells under each column,
-//! or on very fine bed grids one cell under s × s columns. The transfer is conservative: a column's outflow leaves
-//! through its cells in proportion to the open share of each cell's floor (a cell under a blocked floor area passes
-//! none; a column with no open floor, which takes no air, spreads its zero evenly), and its δ is the mean over its
-//! cells with the same weights, the pressure under the floor the air leaves through; under a coarser plenum each
-//! column's air leaves through its one cell, and all the columns over a cell see its pressure (piecewise
-//! constant: on the trailer with a 0.8 m plenum, 2 × 2 columns of 0.1 m per cell gave a column-flow CV of 0.0298
-//! against 0.0246 on one cell per column). The leakage leaves evenly from the cells the inlet's air reaches. A pocket closed off by baffles
-//! is accepted only over blocked floor (`PlenumLayout::closed_off`); its air is held at rest and its pressure, which
-//! nothing sets, is left out of the map (NaN: no air there). The
-//! plenum's shape on that grid comes from `airflow::plenum_layout`: the depth of each cell (a taper), the faces
-//! baffles block, and the inlet, a set of boundary faces on its wall (an end wall or a side wall) covering the
-//! opening's width at its offset (partly covered faces carry their share); the jet fills `inlet height / plenum
-//! height` of the depth, so it enters with a momentum flux of `h/h_inlet` times its depth-mean value. The inlet
-//! static pressure is the mean over the cells along the opening.
+//! The 2-D plenum runs on a grid of its own ([`Plenum2dParams::resolution_on`]): r × r cells under each column, or on
+//! very fine bed grids one cell under s × s columns. The transfer is conservative: a column's outflow leaves through
+//! its cells in proportion to the open share of each cell's floor (a cell under a blocked floor area passes none; a
+//! column with no open floor, which takes no air, spreads its zero evenly), and its δ is the mean over its cells with
+//! the same weights, the pressure under the floor the air leaves through; under a coarser plenum each column's air
+//! leaves through its one cell, and all the columns over a cell see its pressure (piecewise constant: on the trailer
+//! with a 0.8 m plenum, 2 × 2 columns of 0.1 m per cell gave a column-flow CV of 0.0298 against 0.0246 on one cell per
+//! column). The leakage leaves evenly from the cells the inlet's air reaches. A pocket closed off by baffles is
+//! accepted only over blocked floor (`PlenumLayout::closed_off`); its air is held at rest and its pressure, which
+//! nothing sets, is left out of the map (NaN: no air there). The plenum's shape on that grid comes from
+//! `airflow::plenum_layout`: the depth of each cell (a taper), the faces baffles block, and the inlet, a set of
+//! boundary faces on its wall (an end wall or a side wall) covering the opening's width at its offset (partly covered
+//! faces carry their share); the jet fills `inlet height / plenum height` of the depth, so it enters with a momentum
+//! flux of `h/h_inlet` times its depth-mean value. The inlet static pressure is the mean over the cells along the
+//! opening.
 //!
 //! Status: the coupled loop calls the 2-D plenum inexactly: 20 Anderson-accelerated SIMPLEC iterations per call
 //! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`, `ANDERSON_DEPTH`), and stops only when the bed has
@@ -93,11 +93,11 @@ pub struct Plenum2dParams {
 }
 
 impl Default for Plenum2dParams {
-    /// Plenum cells per column side chosen from the bed grid (see [`Plenum2dParams::resolution_on`]); c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one
-    /// wall friction; κ/6 = 0.41/6 (DOMAIN.md §13, from memory); β = 1 as in the duct. c_m = 0.3, three times
-    /// the top of DOMAIN.md §13's 0.07–0.1: with 0.1 the trailer's jet gives no steady solution (SIMPLEC limit
-    /// cycle of 0.3–3.5 % velocity change per iteration), with 0.3 it converges. This is a numerical choice,
-    /// not a calibrated one.
+    /// Plenum cells per column side chosen from the bed grid (see [`Plenum2dParams::resolution_on`]);
+    /// c_f = 0.0075, a quarter of the duct's Darcy factor 0.03 so both models share one wall friction; κ/6 =
+    /// 0.41/6 (DOMAIN.md §13, from memory); β = 1 as in the duct. c_m = 0.3, three times the top of DOMAIN.md
+    /// §13's 0.07–0.1: with 0.1 the trailer's jet gives no steady solution (SIMPLEC limit cycle of 0.3–3.5 %
+    /// velocity change per iteration), with 0.3 it converges. This is a numerical choice, not a calibrated one.
     fn default() -> Self {
         Plenum2dParams {
             cells_per_column: None,
