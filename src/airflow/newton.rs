@@ -13,7 +13,7 @@
 //! the plenum's shape, `δ − shape(floor outflows)` over the largest pressure, through the `Plenum` trait on every
 //! evaluation (lagging δ by one outer step, as Picard does, made Newton's steps overshoot and diverge on the
 //! bundled trailer's duct). The shape must then be a smooth function of the outflows: true of the uniform and
-//! 1-D plenums, not of the 2-D plenum's iterative solve, which keeps Picard or Anderson (`airflow::solve`).
+//! 1-D plenums, not of the 2-D plenum's iterative solve, which keeps Picard (`airflow::solve`).
 //!
 //! Each step solves `J·dx = −F` by right-preconditioned restarted GMRES to a forcing tolerance
 //! `η = min(0.1, ‖F‖)` (which keeps the order 2; Eisenstat & Walker's analysis, from memory), with `J·v` a forward

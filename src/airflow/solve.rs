@@ -110,8 +110,8 @@ pub enum OuterMethod {
     /// Picard: freeze the resistivities, solve the linear bed, update (linear convergence).
     Picard,
     /// Picard with Anderson acceleration (`airflow::anderson`) over the last few steps: the same fixed point in
-    /// fewer outer steps, each as cheap as Picard's. The default. With the 2-D plenum only the bed's speeds are
-    /// mixed (its shape is an iterative solve of its own, carrying its own state between outer steps).
+    /// fewer outer steps, each as cheap as Picard's. The default. The 2-D plenum keeps plain Picard (its shape is
+    /// an iterative solve of its own, carrying its own state between outer steps).
     #[default]
     Anderson,
     /// Newton–Krylov (`airflow::newton`) from a few Picard steps, or from a previous solution when given one:
@@ -632,7 +632,7 @@ fn solve_coupled(
         v_dry,
     };
     // The 2-D plenum's shape comes from an iterative solve of its own, not smooth enough for Newton's
-    // difference quotients (see `airflow::newton`): it keeps Picard (with Anderson on the bed's speeds).
+    // difference quotients (see `airflow::newton`): it keeps Picard.
     let two_d = matches!(settings.plenum, super::plenum::PlenumModel::TwoD(_));
     let newton = settings.method == OuterMethod::Newton && !two_d;
     if let Some(w) = warm.filter(|w| newton && w.fits(n, nc)) {
@@ -664,15 +664,12 @@ fn solve_coupled(
         prev.copy_from_slice(&p);
         p_in_prev = w.inlet_pa;
     }
-    // Anderson mixes the bed's speeds, and the plenum shape too unless the plenum keeps a field of its own (the 2-D
-    // flow), whose shape the next call must continue from as it is. Measured on the 6.4 m trailer with the 2-D
-    // plenum on 32 × 12 plenum cells (2026-12-03): cold 19 → 14 outer steps, warm 15 → 11; on 64 × 24 plenum cells
-    // 20 → 20 and 21 → 21 (the plenum's own SIMPLEC convergence sets the pace there), where the mixed steps'
-    // tighter linear solves (below) cost about 15 % more CPU. A hundredth instead of a thousandth for the 2-D
-    // plenum left the bed's inflow off the fan's by more than 1e-9 of the flow.
+    // Not with the 2-D plenum. Mixing only the bed's speeds (the plenum keeps its own field) was measured on the
+    // 6.4 m trailer (2026-12-03): on 32 × 12 plenum cells 19 → 14 outer steps and about 14 % less CPU in a
+    // `design` run, but on 64 × 24 and 72 × 27 plenum cells the same outer steps at 15–24 % and 46 % more CPU
+    // (the mixed steps need linear solves ten times tighter to keep the bed's inflow on the fan's within 1e-9).
     let mut accel =
-        (settings.method == OuterMethod::Anderson).then(|| Anderson::new(ANDERSON_DEPTH));
-    let mix_shape = !two_d;
+        (settings.method == OuterMethod::Anderson && !two_d).then(|| Anderson::new(ANDERSON_DEPTH));
     let mut changes = Vec::new();
     for it in 1..=settings.max_outer_iters {
         // Inexact Picard: solve each frozen linear problem only as well as the outer iteration can use it
@@ -843,7 +840,7 @@ fn solve_coupled(
         }
         sys.update_speeds(&p, &p_pl);
         if let (Some(acc), Some(y)) = (accel.as_mut(), state) {
-            accelerate(acc, &y, &mut sys, &mut delta_col, &p, mix_shape);
+            accelerate(acc, &y, &mut sys, &mut delta_col, &p);
         }
         sys.assemble();
     }
@@ -877,17 +874,9 @@ fn outer_state(sys: &BedSystem, delta: &[f64]) -> Vec<f64> {
     y
 }
 
-/// Replace the Picard step's new speeds, and with `mix_shape` its plenum shape, by their Anderson mix with the last
-/// steps (`y`: the state the step started from; weights as in `airflow::anderson`, pressures scaled by the largest
-/// of `p`).
-fn accelerate(
-    acc: &mut Anderson,
-    y: &[f64],
-    sys: &mut BedSystem,
-    delta: &mut [f64],
-    p: &[f64],
-    mix_shape: bool,
-) {
+/// Replace the Picard step's new speeds and plenum shape by their Anderson mix with the last steps (`y`: the
+/// state the step started from; weights as in `airflow::anderson`, pressures scaled by the largest of `p`).
+fn accelerate(acc: &mut Anderson, y: &[f64], sys: &mut BedSystem, delta: &mut [f64], p: &[f64]) {
     let (n, nc) = (sys.speed_for_k.len(), sys.floor_speed.len());
     let g = outer_state(sys, delta);
     let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len().max(1) as f64;
@@ -909,9 +898,7 @@ fn accelerate(
         for (s, v) in sys.floor_speed.iter_mut().zip(&next[n..n + nc]) {
             keep(s, *v);
         }
-        if mix_shape {
-            delta.copy_from_slice(&next[n + nc..]);
-        }
+        delta.copy_from_slice(&next[n + nc..]);
     }
 }
 
