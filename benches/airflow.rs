@@ -10,11 +10,18 @@ use criterion::{criterion_group, criterion_main, Criterion};
 use dryfront::airflow::fit::{fit_survey, FitSettings};
 use dryfront::airflow::{
     solve, solve_from, AirPath, BedLaw, Container, FanCurve, FlowSpec, Grid, OuterMethod,
-    ResistanceLaw, SolverSettings,
+    SolverSettings,
 };
+use dryfront::crop::Crop;
 use dryfront::input::survey::read_survey;
+use dryfront::load::bed_law;
 use dryfront::props::psychro::AirState;
-use dryfront::props::resistance::Shedd;
+
+/// The bundled in-shell peanut's bed law: Shedd constants and packing 1.5 from `models/crops/peanut-inshell.json`.
+fn peanut_law() -> BedLaw {
+    let p = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("models/crops/peanut-inshell.json");
+    bed_law(&Crop::load_named(p.to_str().unwrap()).unwrap())
+}
 
 fn load() -> (Container, FanCurve) {
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("models");
@@ -29,15 +36,7 @@ fn load() -> (Container, FanCurve) {
 fn bench(c: &mut Criterion) {
     let (container, fan) = load();
     let flow = FlowSpec::Fan(fan);
-    // Shedd constants for in-shell peanuts, DOMAIN.md §1.1 (from memory), packing 1.5.
-    let law = BedLaw {
-        law: ResistanceLaw::Shedd(Shedd {
-            a: 3.80e3,
-            b: 111.0,
-        }),
-        packing_factor: 1.5,
-        horizontal_ratio: 1.0,
-    };
+    let law = peanut_law();
     let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
     let mut g = c.benchmark_group("airflow");
     g.sample_size(10);
@@ -121,14 +120,7 @@ fn bench(c: &mut Criterion) {
 fn bench_fit(c: &mut Criterion) {
     let (container, fan) = load();
     let flow = FlowSpec::Fan(fan);
-    let law = BedLaw {
-        law: ResistanceLaw::Shedd(Shedd {
-            a: 3.80e3,
-            b: 111.0,
-        }),
-        packing_factor: 1.5,
-        horizontal_ratio: 1.0,
-    };
+    let law = peanut_law();
     let air = AirPath::same(AirState::from_rh(25.0, 0.7, 101_325.0));
     let settings = SolverSettings::default();
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -163,14 +155,7 @@ fn bench_plenum2d(c: &mut Criterion) {
     use dryfront::airflow::PlenumModel;
     let (container, fan) = load();
     let flow = FlowSpec::Fan(fan);
-    let law = BedLaw {
-        law: ResistanceLaw::Shedd(Shedd {
-            a: 3.80e3,
-            b: 111.0,
-        }),
-        packing_factor: 1.5,
-        horizontal_ratio: 1.0,
-    };
+    let law = peanut_law();
     let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
     let warm_air = AirPath::same(AirState::from_rh(35.0, 0.4, 101_325.0));
     let grid = Grid {

@@ -1149,8 +1149,6 @@ fn newton_finish(
 mod tests {
     use super::*;
     use crate::airflow::fan::FanCurve;
-    use crate::airflow::ResistanceLaw;
-    use crate::props::resistance::Shedd;
     use std::path::Path;
 
     /// The bundled 6.4 m trailer and its fan on a small grid, as the outer-iteration tests load them.
@@ -1166,15 +1164,8 @@ mod tests {
     #[test]
     fn not_converged_reports_the_last_outer_change() {
         let (container, flow) = trailer();
-        // Shedd constants for in-shell peanuts, DOMAIN.md §1.1 (from memory), packing 1.5.
-        let law = BedLaw {
-            law: ResistanceLaw::Shedd(Shedd {
-                a: 3.80e3,
-                b: 111.0,
-            }),
-            packing_factor: 1.5,
-            horizontal_ratio: 1.0,
-        };
+        // the bundled in-shell peanut's bed law (Shedd constants and packing 1.5 in its crop file)
+        let law = crate::load::bed_law(&crate::crop::Crop::load_named("peanut-inshell").unwrap());
         let air = AirPath::same(AirState::from_rh(30.0, 0.5, 101_325.0));
         // 1 to 6 outer steps cover every way out: Picard's and Anderson's loop, and Newton's before its hand-over
         // from Picard, on the step of the hand-over (no Newton step; the third on this grid) and after Newton

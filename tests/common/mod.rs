@@ -2,9 +2,9 @@
 #![allow(dead_code)]
 use std::path::{Path, PathBuf};
 
-use dryfront::airflow::{BedLaw, Container, FanCurve, ResistanceLaw};
+use dryfront::airflow::{BedLaw, Container, FanCurve};
+use dryfront::crop::Crop;
 use dryfront::props::psychro::AirState;
-use dryfront::props::resistance::Shedd;
 
 pub fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -20,15 +20,14 @@ pub fn fan(name: &str) -> FanCurve {
     FanCurve::from_json_str(&std::fs::read_to_string(&p).unwrap(), &p).unwrap()
 }
 
-/// Peanut in-shell Shedd constants a = 3.80e3, b = 111 (DOMAIN.md §1.1, from memory, unverified).
+/// The bundled in-shell peanut's bed law (its Shedd constants, with their source, are in
+/// `models/crops/peanut-inshell.json`) at packing factor `packing`.
 pub fn peanut(packing: f64) -> BedLaw {
+    let p = root().join("models/crops/peanut-inshell.json");
+    let crop = Crop::load_named(p.to_str().unwrap()).unwrap();
     BedLaw {
-        law: ResistanceLaw::Shedd(Shedd {
-            a: 3.80e3,
-            b: 111.0,
-        }),
         packing_factor: packing,
-        horizontal_ratio: 1.0,
+        ..dryfront::load::bed_law(&crop)
     }
 }
 
