@@ -17,7 +17,7 @@ use crate::airflow::solve::{AirflowError, AirflowSolution, SolverSettings};
 use crate::crop::Crop;
 use crate::drying::ambient::SeriesAmbient;
 use crate::drying::bed::{BedState, InitialMoisture};
-use crate::drying::flow::{FanEfficiency, SolvedFlow};
+use crate::drying::flow::{FanEfficiency, SolvedFlow, RESOLVE_TOLERANCE};
 use crate::drying::heater::{
     Fuel, Heater, HeaterSpecError, SafetyLimits, SafetyWarning, StrategySpec,
 };
@@ -270,6 +270,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
             plenum: container.plenum_model(),
             ..SolverSettings::default()
         },
+        resolve_tolerance: RESOLVE_TOLERANCE,
         efficiency: spec.efficiency,
         bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, BED_ERH_REFERENCE_C)),
         last: None,
