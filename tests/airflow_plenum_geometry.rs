@@ -495,6 +495,29 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
         AirflowError::Input(InputError::Argument { .. })
     ));
     assert!(msg.contains("cannot be reached from the inlet"), "{msg}");
+    assert!(msg.contains("--nx/--ny"), "{msg}");
+    // a 4 cm gap across a plenum cell face under the default plenum cells on a bed grid so fine that each plenum
+    // cell covers 2 × 2 columns
+    // (0.089 m, a quarter of the 0.4 m plenum at most): finer columns would not help, the file's setting would
+    let mut fine = c.clone();
+    fine.plenum = dryfront::airflow::PlenumChoice::TwoD {
+        cells_per_column: None,
+        mixing_length_ratio: None,
+    };
+    fine.baffles[0].y1_m = 1.225;
+    fine.baffles[1].y0_m = 1.265;
+    let text = serde_json::to_string(&fine).unwrap();
+    let fine = Container::from_json_str(&text, std::path::Path::new("gap.json")).unwrap();
+    let grid = Grid {
+        nx: 144,
+        ny: 54,
+        nz: 2,
+    };
+    let msg = try_run(&fine, fine.plenum_model(), grid)
+        .unwrap_err()
+        .to_string();
+    assert!(msg.contains("cannot be reached from the inlet"), "{msg}");
+    assert!(msg.contains("set plenum.cells_per_column"), "{msg}");
     // the same file with the whole plenum closed is refused when read, naming the baffle
     let mut closed = c.clone();
     closed.baffles[1].y0_m = 1.15;

@@ -292,15 +292,16 @@ impl PlenumLayout {
 
     /// Check that this grid resolves every baffle and leaves the whole plenum open to the inlet: the container
     /// file is checked on a fine grid when it is read, but a gap narrower than the solve's plenum cells closes
-    /// on them, and a baffle shorter than a cell or within half a cell of a wall vanishes from them.
-    pub fn check_resolved(&self, c: &Container) -> Result<(), InputError> {
+    /// on them, and a baffle shorter than a cell or within half a cell of a wall vanishes from them. `refine` says
+    /// how to get finer plenum cells (it depends on how the caller sized them).
+    pub fn check_resolved(&self, c: &Container, refine: &str) -> Result<(), InputError> {
         let grid = format!("{} × {} plenum cells", self.nx, self.ny);
         if let Some(n) = self.baffle_faces.iter().position(|&f| f == 0) {
             return Err(InputError::argument(
                 "plenum grid",
                 grid,
                 &format!(
-                    "does not resolve baffles[{n}] (shorter than a plenum cell or within half a cell of a wall): refine the grid (--nx/--ny or plenum.cells_per_column)"
+                    "does not resolve baffles[{n}] (shorter than a plenum cell or within half a cell of a wall): {refine}"
                 ),
             ));
         }
@@ -309,7 +310,7 @@ impl PlenumLayout {
                 "plenum grid",
                 grid,
                 &format!(
-                    "closes a gap between baffles: {:.2} m² around x = {:.2} m, y = {:.2} m, with {:.2} m² of open floor, cannot be reached from the inlet; refine the grid (--nx/--ny or plenum.cells_per_column) or widen the gap",
+                    "closes a gap between baffles: {:.2} m² around x = {:.2} m, y = {:.2} m, with {:.2} m² of open floor, cannot be reached from the inlet; {refine} or widen the gap",
                     cut.area_m2, cut.x_m, cut.y_m, cut.open_floor_m2
                 ),
             ));
@@ -466,7 +467,7 @@ mod tests {
         // all of it blocked: nothing has to reach it
         c.floor.blocked_areas = vec![blocked(3.0)];
         assert!(l.closed_off(&c).is_none());
-        assert!(l.check_resolved(&c).is_ok());
+        assert!(l.check_resolved(&c, "refine").is_ok());
         let mut d = FlowDomain::closed_box(8, 4, l.dx, l.dy, 1.0);
         l.apply(&mut d);
         // the pocket is cells 6 and 7 of each row: all their faces held at zero, the rest of the plenum open

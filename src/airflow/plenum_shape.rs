@@ -539,8 +539,17 @@ pub fn build(
             })
         }
         PlenumModel::TwoD(p) => {
-            let (nx, ny) = p.resolution_on(container, grid).plenum_cells(grid);
-            PlenumLayout::new(container, &container.baffles, nx, ny).check_resolved(container)?;
+            let res = p.resolution_on(container, grid);
+            let (nx, ny) = res.plenum_cells(grid);
+            // Finer columns do not refine a plenum already coarser than them: its cells keep to a quarter of the
+            // plenum's height unless the file sets them per column.
+            let refine = if res.columns_per_cell > 1 {
+                "set plenum.cells_per_column in the container file (finer --nx/--ny keep these plenum cells)"
+            } else {
+                "refine the grid (--nx/--ny or plenum.cells_per_column)"
+            };
+            PlenumLayout::new(container, &container.baffles, nx, ny)
+                .check_resolved(container, refine)?;
             Box::new(Plenum2d::new(container, grid, p))
         }
     })
