@@ -497,8 +497,8 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
     assert!(msg.contains("cannot be reached from the inlet"), "{msg}");
     assert!(msg.contains("--nx/--ny"), "{msg}");
     // a 4 cm gap across a plenum cell face under the default plenum cells on a bed grid so fine that each plenum
-    // cell covers 2 × 2 columns
-    // (0.089 m, a quarter of the 0.4 m plenum at most): finer columns would not help, the file's setting would
+    // cell covers 2 × 2 columns (0.089 m, a quarter of the 0.4 m plenum at most): finer columns would not help,
+    // the file's setting would
     let mut fine = c.clone();
     fine.plenum = dryfront::airflow::PlenumChoice::TwoD {
         cells_per_column: None,
