@@ -13,6 +13,7 @@ use dryfront::airflow::{
     SolverSettings,
 };
 use dryfront::crop::Crop;
+use dryfront::drying::flow::RESOLVE_TOLERANCE;
 use dryfront::input::survey::read_survey;
 use dryfront::load::bed_law;
 use dryfront::props::psychro::AirState;
@@ -147,6 +148,7 @@ fn bench_fit(c: &mut Criterion) {
 /// default resolution there: one plenum cell per 0.1 m column, a 64 × 24 plenum grid), cold (plenum at rest) and
 /// warm (a re-solve after the air warmed by 5 K from the last solution and the held plenum's field, as a drying run
 /// does); and cold at 144 × 54 × 64 (497 664 cells; one plenum cell over 2 × 2 columns, a 72 × 27 plenum grid).
+/// Also the same warm re-solve to the tolerance a drying run re-solves to (`drying::flow::RESOLVE_TOLERANCE`).
 /// Targets: cold under 0.5 s median and under 5 s at about 500 000 cells, warm under a fifth of cold. Each pass
 /// prints the outer (bed–plenum) iterations and the plenum's SIMPLEC iterations. Figures: DEVELOPERS.md.
 fn bench_plenum2d(c: &mut Criterion) {
@@ -170,19 +172,34 @@ fn bench_plenum2d(c: &mut Criterion) {
         ..SolverSettings::default()
     };
     let disc = container.discretize(grid).unwrap();
+    // A drying run re-solves to its own, looser tolerance (`drying::flow::RESOLVE_TOLERANCE`).
+    let run_settings = SolverSettings {
+        tolerance: RESOLVE_TOLERANCE,
+        ..settings
+    };
+    let solve_to =
+        |s: &SolverSettings, pl: &mut Plenum2d, a: &AirPath, from: Option<&AirflowSolution>| {
+            let warm = from.map(|s| &s.warm);
+            solve_with_plenum_from(&container, &disc, &flow, &law, a, s, pl, warm).unwrap()
+        };
     let solve_on = |pl: &mut Plenum2d, a: &AirPath, from: Option<&AirflowSolution>| {
-        let warm = from.map(|s| &s.warm);
-        solve_with_plenum_from(&container, &disc, &flow, &law, a, &settings, pl, warm).unwrap()
+        solve_to(&settings, pl, a, from)
     };
     let mut pl = Plenum2d::new(&container, grid, &p2);
     let s = solve_on(&mut pl, &air, None);
     let cold_simplec = pl.total_iters;
     let w = solve_on(&mut pl, &warm_air, Some(&s));
+    let warm_simplec = pl.total_iters - cold_simplec;
+    let mut pl = Plenum2d::new(&container, grid, &p2);
+    let s = solve_on(&mut pl, &air, None);
+    let r = solve_to(&run_settings, &mut pl, &warm_air, Some(&s));
     eprintln!(
-        "2-D plenum 64x24x32: cold {} outer iterations, {} SIMPLEC; warm {} outer, {} SIMPLEC",
+        "2-D plenum 64x24x32: cold {} outer iterations, {} SIMPLEC; warm {} outer, {} SIMPLEC; run's re-solve {} outer, {} SIMPLEC",
         s.converged.iters,
         cold_simplec,
         w.converged.iters,
+        warm_simplec,
+        r.converged.iters,
         pl.total_iters - cold_simplec
     );
     let mut g = c.benchmark_group("airflow 2-D plenum");
@@ -201,6 +218,17 @@ fn bench_plenum2d(c: &mut Criterion) {
                 (pl, s)
             },
             |(mut pl, s)| solve_on(&mut pl, &warm_air, Some(&s)),
+            criterion::BatchSize::PerIteration,
+        )
+    });
+    g.bench_function("trailer-6m 64x24x32 run's re-solve", |b| {
+        b.iter_batched(
+            || {
+                let mut pl = Plenum2d::new(&container, grid, &p2);
+                let s = solve_on(&mut pl, &air, None);
+                (pl, s)
+            },
+            |(mut pl, s)| solve_to(&run_settings, &mut pl, &warm_air, Some(&s)),
             criterion::BatchSize::PerIteration,
         )
     });
