@@ -6,7 +6,7 @@
 use crate::crop::Crop;
 use crate::drying::layer::{CellMoisture, LayerMaterial};
 use crate::props::thermal::bound_water_latent_heat_ratio;
-use crate::props::thin_layer::{PodModel, PodState};
+use crate::props::thin_layer::{PodModel, PodState, PodStepper};
 
 const T_MIN_C: f64 = -10.0;
 const T_STEP_K: f64 = 1.0;
@@ -19,6 +19,8 @@ const NM: usize = 240;
 #[derive(Debug, Clone)]
 pub struct CropMaterial {
     model: PodModel,
+    /// The model's thin-layer step with its constant parts worked out once (not per cell).
+    stepper: PodStepper,
     ceiling_db: f64,
     cp_dry_j_per_kg_k: f64,
     latent_ratio: Vec<f64>,
@@ -45,6 +47,7 @@ impl CropMaterial {
         }
         CropMaterial {
             ceiling_db: moisture_ceiling_db(&model),
+            stepper: PodStepper::new(&model),
             model,
             cp_dry_j_per_kg_k: cp,
             latent_ratio,
@@ -93,7 +96,7 @@ fn from_pod(s: PodState) -> CellMoisture {
 impl LayerMaterial for CropMaterial {
     #[inline]
     fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture {
-        from_pod(self.model.step(to_pod(m), t_c, rh, dt_s))
+        from_pod(self.stepper.step(to_pod(m), t_c, rh, dt_s))
     }
     #[inline]
     fn pod_db(&self, m: CellMoisture) -> f64 {

@@ -57,19 +57,47 @@ impl ArrheniusRate {
     /// Rate constant at air temperature `t_c` (°C) and relative humidity `rh` (decimal), per hour.
     #[inline]
     pub fn k_per_h(&self, t_c: f64, rh: f64) -> f64 {
-        let inv = 1.0 / (t_c + KELVIN) - 1.0 / (self.t_ref_c + KELVIN);
-        self.k_ref_per_h
-            * (-self.activation_energy_j_per_mol / R_GAS_J_PER_MOL_K * inv - self.rh_slope * rh)
-                .exp()
+        RateTerms::of(self).k_per_h(t_c, rh)
+    }
+}
+
+/// An [`ArrheniusRate`] with the parts that depend on its constants alone divided out once: a bed steps every cell
+/// with the same law, and these divisions would otherwise be repeated per cell. Each is the same expression the
+/// law is written in, so the rate is the same to the bit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct RateTerms {
+    k_ref_per_h: f64,
+    /// −E_a/R, K.
+    neg_ea_over_r: f64,
+    /// 1/(T_ref + 273.15), 1/K.
+    inv_t_ref: f64,
+    rh_slope: f64,
+}
+
+impl RateTerms {
+    #[inline]
+    fn of(rate: &ArrheniusRate) -> Self {
+        RateTerms {
+            k_ref_per_h: rate.k_ref_per_h,
+            neg_ea_over_r: -rate.activation_energy_j_per_mol / R_GAS_J_PER_MOL_K,
+            inv_t_ref: 1.0 / (rate.t_ref_c + KELVIN),
+            rh_slope: rate.rh_slope,
+        }
+    }
+
+    /// [`ArrheniusRate::k_per_h`].
+    #[inline]
+    fn k_per_h(&self, t_c: f64, rh: f64) -> f64 {
+        let inv = 1.0 / (t_c + KELVIN) - self.inv_t_ref;
+        self.k_ref_per_h * (self.neg_ea_over_r * inv - self.rh_slope * rh).exp()
     }
 }
 
 impl ArrheniusRate {
-    /// This law's rate at `t_c` and RH 0, given `other`'s rate `k_other` at the same `t_c` (and any RH): a ratio of
+    /// How this law's rate at RH 0 follows from `other`'s rate at the same temperature (and any RH): as a ratio of
     /// reference rates, with no second exponential, when both laws share activation energy and reference
     /// temperature and `other` has no RH factor; computed afresh otherwise.
-    #[inline]
-    fn k_per_h_beside(&self, other: &ArrheniusRate, k_other: f64, t_c: f64) -> f64 {
+    fn beside(&self, other: &ArrheniusRate) -> KernelRate {
         // Identical constants, bit for bit: only then is the ratio exactly the same law.
         let same = |a: f64, b: f64| a.to_bits() == b.to_bits();
         if same(
@@ -79,9 +107,9 @@ impl ArrheniusRate {
             && other.rh_slope == 0.0
             && other.k_ref_per_h > 0.0
         {
-            k_other * (self.k_ref_per_h / other.k_ref_per_h)
+            KernelRate::RatioToHull(self.k_ref_per_h / other.k_ref_per_h)
         } else {
-            self.k_per_h(t_c, 0.0)
+            KernelRate::Own(RateTerms::of(self))
         }
     }
 }
@@ -402,33 +430,138 @@ pub fn step_compartment(
 
 /// Advance a pod (or grain) by `dt_s` seconds in air at (t_c, rh). See the module docs for the equations.
 pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> PodState {
-    match model {
-        PodModel::Single(c) => {
-            let (m, start) = step_compartment(c, s.m_kernel_db, s.m_curve_start_db, t_c, rh, dt_s);
-            PodState {
-                m_hull_db: m,
-                m_kernel_db: m,
-                m_curve_start_db: start,
+    PodStepper::new(model).step(s, t_c, rh, dt_s)
+}
+
+/// [`step_pod`] for one model over many calls: what depends on the model's constants alone (rate-law divisions,
+/// the kernel-to-hull dry-matter ratio, which kernel rate applies) is worked out once, as the same expressions, so
+/// every step is the same to the bit as [`step_pod`]'s.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PodStepper {
+    /// One compartment (nothing to work out ahead).
+    Single(Compartment),
+    /// Hull and kernel with their model-only terms.
+    TwoCompartment {
+        /// The hull.
+        hull: Compartment,
+        /// The kernel.
+        kernel: Compartment,
+        /// What the step takes from the model alone.
+        terms: TwoCompartmentTerms,
+    },
+}
+
+/// The model-only part of a two-compartment step.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TwoCompartmentTerms {
+    /// Kernel over hull dry matter, (1 − f_h)/f_h.
+    r: f64,
+    /// The hull's rate law, if it is an Arrhenius law (else its own `k_per_h`).
+    hull_rate: Option<RateTerms>,
+    /// How the kernel's rate is found, if it does not depend on the RH inside the hull.
+    kernel_rate: Option<KernelRate>,
+    /// See [`TwoCompartmentStep::kernel_ratio`].
+    kernel_ratio: Option<f64>,
+}
+
+/// A kernel rate constant that does not depend on the RH inside the hull.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum KernelRate {
+    /// The hull's rate at the same temperature times this ratio of reference rates (same law otherwise).
+    RatioToHull(f64),
+    /// Its own law at RH 0.
+    Own(RateTerms),
+}
+
+impl KernelRate {
+    /// The kernel's rate at `t_c`, per hour, given the hull's rate `k_hull` there.
+    #[inline]
+    fn k_per_h(&self, k_hull: f64, t_c: f64) -> f64 {
+        match self {
+            KernelRate::RatioToHull(ratio) => k_hull * ratio,
+            KernelRate::Own(rate) => rate.k_per_h(t_c, 0.0),
+        }
+    }
+}
+
+impl PodStepper {
+    /// The stepper of `model`.
+    pub fn new(model: &PodModel) -> Self {
+        match *model {
+            PodModel::Single(c) => PodStepper::Single(c),
+            PodModel::TwoCompartment {
+                hull,
+                kernel,
+                hull_fraction,
+            } => {
+                let kernel_rate = match kernel.thin_layer {
+                    ThinLayer::Exponential { rate } | ThinLayer::HendersonPabis { rate, .. }
+                        if rate.rh_slope == 0.0 =>
+                    {
+                        Some(match hull.thin_layer.rate() {
+                            Some(hull_rate) => rate.beside(hull_rate),
+                            None => KernelRate::Own(RateTerms::of(&rate)),
+                        })
+                    }
+                    _ => None,
+                };
+                let kernel_ratio = match (hull.sorption.desorption, kernel.sorption.desorption) {
+                    (
+                        Isotherm::Cromarty {
+                            oil_content_db: d_h,
+                        },
+                        Isotherm::Cromarty {
+                            oil_content_db: d_k,
+                        },
+                    ) if kernel_rate.is_some() => Some((1.0 - d_k) / (1.0 - d_h)),
+                    _ => None,
+                };
+                let terms = TwoCompartmentTerms {
+                    r: (1.0 - hull_fraction) / hull_fraction,
+                    hull_rate: hull.thin_layer.rate().map(RateTerms::of),
+                    kernel_rate,
+                    kernel_ratio,
+                };
+                PodStepper::TwoCompartment {
+                    hull,
+                    kernel,
+                    terms,
+                }
             }
         }
-        PodModel::TwoCompartment {
-            hull,
-            kernel,
-            hull_fraction,
-        } => {
-            let step = TwoCompartmentStep::new(hull, kernel, *hull_fraction, s, t_c, rh, dt_s);
-            let lin = step.linearise(s.m_hull_db);
-            let first = step.solve(&lin);
-            if step.line_is_exact(&lin, first.m_hull_db) {
-                return first;
+    }
+
+    /// Advance a pod (or grain) by `dt_s` seconds in air at (t_c, rh), as [`step_pod`].
+    pub fn step(&self, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> PodState {
+        match self {
+            PodStepper::TwoCompartment {
+                hull,
+                kernel,
+                terms,
+            } => {
+                let step = TwoCompartmentStep::new(hull, kernel, terms, s, t_c, rh, dt_s);
+                let lin = step.linearise(s.m_hull_db);
+                let first = step.solve(&lin);
+                if step.line_is_exact(&lin, first.m_hull_db) {
+                    return first;
+                }
+                let mid = step.linearise(0.5 * (s.m_hull_db + first.m_hull_db));
+                if lin.same_line_as(&mid) {
+                    // M_k* is linear over the step (e.g. two Cromarty curves, whose temperature factors cancel):
+                    // the re-linearised pass would solve the same system.
+                    first
+                } else {
+                    step.solve(&mid)
+                }
             }
-            let mid = step.linearise(0.5 * (s.m_hull_db + first.m_hull_db));
-            if lin.same_line_as(&mid) {
-                // M_k* is linear over the step (e.g. two Cromarty curves, whose temperature factors cancel): the
-                // re-linearised pass would solve the same system.
-                first
-            } else {
-                step.solve(&mid)
+            PodStepper::Single(c) => {
+                let (m, start) =
+                    step_compartment(c, s.m_kernel_db, s.m_curve_start_db, t_c, rh, dt_s);
+                PodState {
+                    m_hull_db: m,
+                    m_kernel_db: m,
+                    m_curve_start_db: start,
+                }
             }
         }
     }
@@ -477,44 +610,25 @@ impl KernelLine {
 }
 
 impl<'a> TwoCompartmentStep<'a> {
-    #[allow(clippy::too_many_arguments)]
     fn new(
         hull: &'a Compartment,
         kernel: &'a Compartment,
-        f_h: f64,
+        terms: &TwoCompartmentTerms,
         s: PodState,
         t_c: f64,
         rh: f64,
         dt_s: f64,
     ) -> Self {
-        let k_h = hull.thin_layer.k_per_h(t_c, rh);
-        let k_kh_fixed = match kernel.thin_layer {
-            ThinLayer::Exponential { rate } | ThinLayer::HendersonPabis { rate, .. }
-                if rate.rh_slope == 0.0 =>
-            {
-                Some(match hull.thin_layer.rate() {
-                    Some(hull_rate) => rate.k_per_h_beside(hull_rate, k_h, t_c),
-                    None => rate.k_per_h(t_c, 0.0),
-                })
-            }
-            _ => None,
+        let k_h = match &terms.hull_rate {
+            Some(rate) => rate.k_per_h(t_c, rh),
+            None => hull.thin_layer.k_per_h(t_c, rh),
         };
-        let kernel_ratio = match (hull.sorption.desorption, kernel.sorption.desorption) {
-            (
-                Isotherm::Cromarty {
-                    oil_content_db: d_h,
-                },
-                Isotherm::Cromarty {
-                    oil_content_db: d_k,
-                },
-            ) if k_kh_fixed.is_some() => Some((1.0 - d_k) / (1.0 - d_h)),
-            _ => None,
-        };
+        let k_kh_fixed = terms.kernel_rate.map(|k| k.k_per_h(k_h, t_c));
         TwoCompartmentStep {
             hull,
             kernel,
-            kernel_ratio,
-            r: (1.0 - f_h) / f_h,
+            kernel_ratio: terms.kernel_ratio,
+            r: terms.r,
             s,
             t_c,
             dt_h: dt_s.max(0.0) / 3600.0,
@@ -660,7 +774,12 @@ mod tests {
     #[test]
     fn exact_kernel_line_skips_only_a_pass_that_changes_nothing() {
         let model = cromarty_pod(0.5, 0.09, 30_000.0);
-        let PodModel::TwoCompartment { hull, kernel, .. } = model else {
+        let PodStepper::TwoCompartment {
+            hull,
+            kernel,
+            terms,
+        } = PodStepper::new(&model)
+        else {
             unreachable!()
         };
         let mut shortcuts = 0;
@@ -676,7 +795,7 @@ mod tests {
                 m_kernel_db: m_k,
                 m_curve_start_db: m_k,
             };
-            let step = TwoCompartmentStep::new(&hull, &kernel, 0.25, s, t_c, rh, dt_s);
+            let step = TwoCompartmentStep::new(&hull, &kernel, &terms, s, t_c, rh, dt_s);
             if step.line_is_exact(
                 &step.linearise(m_h),
                 step.solve(&step.linearise(m_h)).m_hull_db,
@@ -686,7 +805,7 @@ mod tests {
             // The long way: the generic line through the isotherms (no closed form), solved twice.
             let generic = TwoCompartmentStep {
                 kernel_ratio: None,
-                ..TwoCompartmentStep::new(&hull, &kernel, 0.25, s, t_c, rh, dt_s)
+                ..TwoCompartmentStep::new(&hull, &kernel, &terms, s, t_c, rh, dt_s)
             };
             let first = generic.solve(&generic.linearise(m_h));
             let two_pass = generic.solve(&generic.linearise(0.5 * (m_h + first.m_hull_db)));
@@ -719,12 +838,47 @@ mod tests {
                 hull.thin_layer.rate().unwrap(),
                 kernel.thin_layer.rate().unwrap(),
             );
+            let rule = k.beside(h);
+            assert_eq!(
+                matches!(rule, KernelRate::RatioToHull(_)),
+                ea_kernel.to_bits() == h.activation_energy_j_per_mol.to_bits(),
+                "{ea_kernel} J/mol: {rule:?}"
+            );
             for t_c in [5.0, 25.0, 35.0, 50.0] {
-                let beside = k.k_per_h_beside(h, h.k_per_h(t_c, 0.6), t_c);
+                let beside = rule.k_per_h(h.k_per_h(t_c, 0.6), t_c);
                 let own = k.k_per_h(t_c, 0.0);
                 assert!(
                     (beside / own - 1.0).abs() < 1e-14,
                     "{ea_kernel} J/mol, {t_c} °C: {beside} vs {own}"
+                );
+            }
+        }
+    }
+
+    /// The rate law with its constant divisions worked out ahead gives the law as written, bit for bit (the layer
+    /// step's results must not move by this), over temperatures, RH factors and activation energies.
+    #[test]
+    fn rate_terms_give_the_arrhenius_law_to_the_bit() {
+        for (ea, t_ref, slope) in [
+            (21_200.0, 35.0, 0.0),
+            (30_000.0, 40.0, 0.7),
+            (0.0, 0.0, 0.0),
+        ] {
+            let rate = ArrheniusRate {
+                k_ref_per_h: 0.4851,
+                t_ref_c: t_ref,
+                activation_energy_j_per_mol: ea,
+                rh_slope: slope,
+            };
+            let terms = RateTerms::of(&rate);
+            for i in 0..400 {
+                let (t_c, rh) = (-10.0 + 0.2137 * f64::from(i), f64::from(i % 97) / 96.0);
+                let inv = 1.0 / (t_c + KELVIN) - 1.0 / (t_ref + KELVIN);
+                let written = 0.4851 * (-ea / R_GAS_J_PER_MOL_K * inv - slope * rh).exp();
+                assert_eq!(
+                    terms.k_per_h(t_c, rh).to_bits(),
+                    written.to_bits(),
+                    "{ea} J/mol, {t_c} °C, RH {rh}"
                 );
             }
         }
