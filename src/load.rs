@@ -275,6 +275,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, BED_ERH_REFERENCE_C)),
         last: None,
         first: None,
+        settled: false,
         last_key: None,
         plenum: None,
     }

@@ -46,8 +46,8 @@ pub struct SolvedFlow<'a> {
     pub law: BedLaw,
     /// Grid and solver settings (the load's first airflow, the one it reports, is solved to their tolerance).
     pub settings: SolverSettings,
-    /// Outer tolerance of the re-solves after that first airflow ([`RESOLVE_TOLERANCE`] in a load's run), or the
-    /// settings' own if tighter.
+    /// Outer tolerance of the re-solves once the run has settled its start ([`RESOLVE_TOLERANCE`] in a load's
+    /// run), or the settings' own if tighter.
     pub resolve_tolerance: f64,
     /// Fan and motor efficiency.
     pub efficiency: FanEfficiency,
@@ -55,8 +55,12 @@ pub struct SolvedFlow<'a> {
     pub bed_erh: Box<dyn Fn(f64) -> f64 + Send + Sync + 'a>,
     /// The last solution, for reports and as the next re-solve's starting point.
     pub last: Option<AirflowSolution>,
-    /// The first solution solved since this was last cleared (a load keeps the one for its start's plenum air).
+    /// The airflow the load starts with: the last solution asked for before the run settled its start (the one a
+    /// load reports; a load takes the one solved before its run for the bed's geometry).
     pub first: Option<AirflowSolution>,
+    /// Whether the run has settled its start ([`FlowProvider::start_settled`]); from then on `first` is kept and
+    /// re-solves stop at `resolve_tolerance`.
+    pub settled: bool,
     /// Ambient and plenum air density and D272 factor the last solution was solved for; a request with the same
     /// three reuses it.
     pub last_key: Option<(f64, f64, f64)>,
@@ -87,9 +91,9 @@ impl FlowProvider for SolvedFlow<'_> {
             // Same inputs to the bit: the solve would give the same answer.
             let same = |a: f64, b: f64| a.to_bits() == b.to_bits();
             if same(last.0, key.0) && same(last.1, key.1) && same(last.2, key.2) {
-                // A run's first request after a load's start solve, which the load took away as its geometry:
-                // the start's airflow again, and the one the load reports.
-                if self.first.is_none() {
+                // e.g. the run's first request after a load's start solve, which the load took away as its
+                // geometry: the start's airflow again
+                if !self.settled {
                     self.first = Some(sol.clone());
                 }
                 return Ok(field_from_solution(sol, self.efficiency));
@@ -97,12 +101,13 @@ impl FlowProvider for SolvedFlow<'_> {
         }
         law.packing_factor *= factor;
         let warm = self.last.as_ref().map(|s| &s.warm);
-        let settings = match self.first {
-            Some(_) => SolverSettings {
+        let settings = if self.settled {
+            SolverSettings {
                 tolerance: self.settings.tolerance.max(self.resolve_tolerance),
                 ..self.settings
-            },
-            None => self.settings,
+            }
+        } else {
+            self.settings
         };
         let sol = solve_keeping(
             self.container,
@@ -114,12 +119,16 @@ impl FlowProvider for SolvedFlow<'_> {
             warm,
         )?;
         let field = field_from_solution(&sol, self.efficiency);
-        if self.first.is_none() {
+        if !self.settled {
             self.first = Some(sol.clone());
         }
         self.last = Some(sol);
         self.last_key = Some(key);
         Ok(field)
+    }
+
+    fn start_settled(&mut self) {
+        self.settled = true;
     }
 }
 

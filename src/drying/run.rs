@@ -108,6 +108,9 @@ pub trait FlowProvider {
         plenum_air: &AirState,
         mean_pod_db: f64,
     ) -> Result<FlowField, AirflowError>;
+
+    /// The run has settled its start's airflow (`Run::new`): every later request is a re-solve during the run.
+    fn start_settled(&mut self) {}
 }
 
 /// A flow field that does not change.
@@ -505,6 +508,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             settings,
         };
         run.settle_start(&first)?;
+        run.provider.start_settled();
         let row = record(
             material,
             &run.bed,
