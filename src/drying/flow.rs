@@ -16,7 +16,7 @@ use crate::drying::run::{FlowField, FlowProvider};
 use crate::props::psychro::AirState;
 use crate::props::resistance::d272_moisture_factor;
 
-/// Outer tolerance (relative pressure change) of the re-solves a drying run asks for after its first airflow.
+/// Outer tolerance (relative pressure change) of the re-solves a drying run asks for once it has settled its start.
 /// The run keeps each airflow until the air's density has moved 1 % or the bed's moisture 0.01
 /// (`RunSettings::reflow_density_rel`, `reflow_moisture_db`), so between re-solves it already accepts flows that
 /// far from the solution; solving each re-solve to 1e-8, as a reported airflow is, bought nothing the run can see.
@@ -44,7 +44,8 @@ pub struct SolvedFlow<'a> {
     pub flow: FlowSpec,
     /// The bed's loose-fill law with packing.
     pub law: BedLaw,
-    /// Grid and solver settings (the load's first airflow, the one it reports, is solved to their tolerance).
+    /// Grid and solver settings (the airflow the load starts with, the one it reports, is solved to their
+    /// tolerance).
     pub settings: SolverSettings,
     /// Outer tolerance of the re-solves once the run has settled its start ([`RESOLVE_TOLERANCE`] in a load's
     /// run), or the settings' own if tighter.
