@@ -64,9 +64,7 @@ fn board_72h(c: &mut Criterion) {
     }
     yard.sort_by_key(|l| l.arrival);
     assert_eq!((b.bp.dryers.len(), yard.len()), (7, 10));
-    let drier = DeepBedDrier {
-        template: b.template.clone(),
-    };
+    let drier = DeepBedDrier::new(b.template.clone());
     let pred = MoistureRatePredictor {
         target_pct: b.bp.rules.target_kernel_pct,
         rate_pct_per_h: 0.5,

@@ -84,7 +84,7 @@ fn deep_bed(c: &mut Criterion) {
         &SeasonRunSettings::default(),
     )
     .unwrap();
-    let drier = DeepBedDrier { template };
+    let drier = DeepBedDrier::new(template);
     let pool = rayon::ThreadPoolBuilder::new().build().unwrap();
     let mut g = c.benchmark_group("season deep-bed 4x2x10");
     g.sample_size(10);

@@ -136,9 +136,7 @@ fn the_demo_board_matches_the_season_with_the_deep_bed_drier_from_an_empty_yard(
     let path =
         std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/at-the-dryer/board.json");
     let b = read_board(&path).unwrap();
-    let drier = DeepBedDrier {
-        template: b.template.clone(),
-    };
+    let drier = DeepBedDrier::new(b.template.clone());
     // The demo's yard, as arrivals after now, on an empty buying point.
     let yard: Vec<Load> = b
         .yard

@@ -37,7 +37,7 @@ fn drier(settings: SeasonRunSettings) -> (BuyingPoint, DeepBedDrier) {
         &settings,
     )
     .unwrap();
-    (bp, DeepBedDrier { template })
+    (bp, DeepBedDrier::new(template))
 }
 
 fn start() -> DateTime<FixedOffset> {
@@ -185,4 +185,41 @@ fn deep_bed_season_is_identical_on_one_and_two_threads() {
     assert_eq!(a, b);
     assert_eq!(a.schedule.len(), 4);
     assert!(a.schedule.iter().all(|r| r.result.finished));
+}
+
+#[test]
+fn a_drying_asked_again_is_answered_from_the_first_and_only_then() {
+    // A sweep's cases share each season's drier: a load put on the same kind of dryer at the same instant again
+    // (under another id, on a dryer of another id) is not dried again, and its answer is the one a fresh drier gives,
+    // to the bit. Any field the load's spec is built from makes it a new drying.
+    let (bp, d) = drier(SeasonRunSettings::default());
+    let (w1, w3) = (&bp.dryers[0], &bp.dryers[2]);
+    let l = load("L1", 0, 3000.0, 19.0);
+    let first = d.dry(&l, w1, l.arrival).unwrap();
+    assert_eq!(d.dryings(), 1);
+    let mut renamed = (load("other id", 0, 3000.0, 19.0), w1.clone());
+    renamed.1.id = "W9".into();
+    let again = d.dry(&renamed.0, &renamed.1, l.arrival).unwrap();
+    assert_eq!(
+        d.dryings(),
+        1,
+        "the same drying under other ids is asked again"
+    );
+    let (_, fresh) = drier(SeasonRunSettings::default());
+    let expected = fresh.dry(&l, w1, l.arrival).unwrap();
+    assert_eq!(format!("{first:?}"), format!("{expected:?}"));
+    assert_eq!(format!("{again:?}"), format!("{expected:?}"));
+    // Each of these is another drying: a later start, another mass, another moisture, an unheated dryer (W3 differs
+    // from W1 in its heater and burner only).
+    let later = l.arrival + Duration::hours(1);
+    let differs = [
+        d.dry(&l, w1, later).unwrap(),
+        d.dry(&load("L1", 0, 3100.0, 19.0), w1, l.arrival).unwrap(),
+        d.dry(&load("L1", 0, 3000.0, 19.5), w1, l.arrival).unwrap(),
+        d.dry(&l, w3, l.arrival).unwrap(),
+    ];
+    assert_eq!(d.dryings(), 5);
+    for r in differs {
+        assert_ne!(format!("{r:?}"), format!("{first:?}"));
+    }
 }

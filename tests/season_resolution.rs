@@ -25,16 +25,18 @@ fn coarse_season_grid_keeps_hours_to_target_within_three_percent() {
             .unwrap()
             .0
     };
-    let drier = |settings: SeasonRunSettings| DeepBedDrier {
-        template: season_template(
-            &bp,
-            std::path::Path::new("bp.json"),
-            "peanut-inshell",
-            Arc::new(weather()),
-            &settings,
+    let drier = |settings: SeasonRunSettings| {
+        DeepBedDrier::new(
+            season_template(
+                &bp,
+                std::path::Path::new("bp.json"),
+                "peanut-inshell",
+                Arc::new(weather()),
+                &settings,
+            )
+            .unwrap()
+            .0,
         )
-        .unwrap()
-        .0,
     };
     let coarse_drier = drier(SeasonRunSettings::default());
     let fine_drier = drier(SeasonRunSettings {

@@ -60,9 +60,7 @@ pub fn run(a: BoardArgs) -> anyhow::Result<()> {
         None => b.policy,
     };
     let current = current_loads(&b.bp, &b.on_dryers, &spread, a.members)?;
-    let drier = DeepBedDrier {
-        template: b.template.clone(),
-    };
+    let drier = DeepBedDrier::new(b.template.clone());
     let predictor = MoistureRatePredictor {
         target_pct: b.bp.rules.target_kernel_pct,
         rate_pct_per_h: 0.5,

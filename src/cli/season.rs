@@ -358,9 +358,7 @@ fn make_drier<'a>(
     template: Option<&'a LoadTemplate>,
 ) -> Box<dyn LoadDrier + 'a> {
     match (choice, template) {
-        (DrierChoice::DeepBed, Some(t)) => Box::new(DeepBedDrier {
-            template: t.clone(),
-        }),
+        (DrierChoice::DeepBed, Some(t)) => Box::new(DeepBedDrier::new(t.clone())),
         _ => Box::new(RateRuleDrier::new(bp.rules.target_kernel_pct)),
     }
 }

@@ -9,8 +9,8 @@
 //!
 //! Shrink by the dry-matter method (DOMAIN.md §7.3, Hellevang via NDSU).
 
-use std::collections::BTreeMap;
-use std::sync::Arc;
+use std::collections::{BTreeMap, HashMap};
+use std::sync::{Arc, Mutex};
 
 use chrono::{DateTime, FixedOffset};
 
@@ -265,11 +265,65 @@ impl LoadTemplate {
     }
 }
 
-/// The deep-bed model for each load, through the one load path.
-#[derive(Debug, Clone)]
+/// The deep-bed model for each load, through the one load path. A drying it has done once is not done again: a
+/// sweep's cases share each season's drier, and where two cases put the same load on the same kind of dryer at the
+/// same instant (every case before its queues part, or two policies that agree) the second is answered from the
+/// first, the same to the bit, since the result depends on nothing but [`DryingKey`].
+#[derive(Debug)]
 pub struct DeepBedDrier {
     /// What each load is built from.
     pub template: LoadTemplate,
+    /// Dryings done, by everything of the load and dryer that [`LoadTemplate::spec_for`] reads.
+    done: Mutex<HashMap<DryingKey, DryingResult>>,
+}
+
+/// What a deep-bed drying depends on besides its drier's template: exactly the fields of the load and the dryer
+/// that [`LoadTemplate::spec_for`] reads (not their ids, which name the run only), and the start. Floats by their
+/// bits, the heater by its text (which parses back to the same strategy, so equal texts are equal strategies).
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub struct DryingKey {
+    mass_kg: u64,
+    moisture_pct: u64,
+    container: String,
+    fan: String,
+    burner_kw: Option<u64>,
+    heater: String,
+    start: DateTime<FixedOffset>,
+}
+
+impl DryingKey {
+    /// The key of `load` on `dryer` from `start`.
+    pub fn of(load: &Load, dryer: &DryerUnit, start: DateTime<FixedOffset>) -> Self {
+        DryingKey {
+            mass_kg: load.mass_kg.to_bits(),
+            moisture_pct: load.moisture_pct.to_bits(),
+            container: dryer.container.clone(),
+            fan: dryer.fan.clone(),
+            burner_kw: dryer.burner_kw.map(f64::to_bits),
+            heater: dryer.heater.to_string(),
+            start,
+        }
+    }
+}
+
+impl DeepBedDrier {
+    /// A drier building every load from `template`, with nothing dried yet.
+    pub fn new(template: LoadTemplate) -> Self {
+        DeepBedDrier {
+            template,
+            done: Mutex::new(HashMap::new()),
+        }
+    }
+
+    /// How many different dryings it has done (each answered once, however often it was asked).
+    pub fn dryings(&self) -> usize {
+        self.remembered().len()
+    }
+
+    fn remembered(&self) -> std::sync::MutexGuard<'_, HashMap<DryingKey, DryingResult>> {
+        // A panic elsewhere cannot leave the map half-written (inserts are whole), so a poisoned lock is still good.
+        self.done.lock().unwrap_or_else(|p| p.into_inner())
+    }
 }
 
 /// A season's figures of a dried load.
@@ -290,6 +344,24 @@ pub fn drying_result(r: &LoadResult) -> DryingResult {
 
 impl LoadDrier for DeepBedDrier {
     fn dry(
+        &self,
+        load: &Load,
+        dryer: &DryerUnit,
+        start: DateTime<FixedOffset>,
+    ) -> Result<DryingResult, SeasonError> {
+        let key = DryingKey::of(load, dryer, start);
+        if let Some(r) = self.remembered().get(&key) {
+            return Ok(*r);
+        }
+        let result = self.dry_once(load, dryer, start)?;
+        self.remembered().insert(key, result);
+        Ok(result)
+    }
+}
+
+impl DeepBedDrier {
+    /// One drying through the load path (errors are not remembered: they name the load and dryer).
+    fn dry_once(
         &self,
         load: &Load,
         dryer: &DryerUnit,

@@ -192,12 +192,16 @@ pub fn sweep_shard<'a>(
             }
         })
         .collect();
-    let jobs: Vec<(usize, usize)> = (0..cases.len())
+    let mut jobs: Vec<(usize, usize)> = (0..cases.len())
         .flat_map(|c| (0..seasons).map(move |s| (c, s)))
         .enumerate()
         .filter(|&(j, _)| shard.holds(j))
         .map(|(_, job)| job)
         .collect();
+    // Run season by season: the pool splits the list into runs of neighbouring jobs, so one thread takes a
+    // season's cases one after another and each case after the first finds the dryings it shares with the others
+    // in the season's drier, done (run side by side, both would dry them).
+    jobs.sort_by_key(|&(c, s)| (s, c));
     let total = jobs.len();
     // Enough seasons to fill the pool: each dries its loads in order (looking ahead would only waste guesses).
     let ahead = total < rayon::current_num_threads();
@@ -222,7 +226,11 @@ pub fn sweep_shard<'a>(
                 kpis,
             })
         })
-        .collect()
+        .collect::<Result<Vec<_>, SeasonError>>()
+        .map(|mut runs| {
+            runs.sort_by_key(|r| (r.case, r.season));
+            runs
+        })
 }
 
 /// Every case's result from its runs (in any order); `None` unless every (case, season) of the grid is there once.
