@@ -238,6 +238,43 @@ impl LineOp {
         }
     }
 
+    /// Two vertical lines solved as [`LineOp::line_solve`] solves each, their steps interleaved so that the
+    /// processor overlaps the two chains of dependent operations.
+    #[inline]
+    fn line_solve_pair(
+        &self,
+        (base_a, va): (usize, &mut [f64]),
+        (base_b, vb): (usize, &mut [f64]),
+    ) {
+        let nz = self.nz;
+        let (va, vb) = (&mut va[..nz], &mut vb[..nz]);
+        let (tza, tzb) = (&self.tz[base_a..base_a + nz], &self.tz[base_b..base_b + nz]);
+        let (iva, ivb) = (
+            &self.inv_den[base_a..base_a + nz],
+            &self.inv_den[base_b..base_b + nz],
+        );
+        let (cpa, cpb) = (
+            &self.cprime[base_a..base_a + nz],
+            &self.cprime[base_b..base_b + nz],
+        );
+        let (mut pa, mut pb) = (0.0, 0.0);
+        for k in 0..nz {
+            let (la, lb) = if k > 0 {
+                (tza[k - 1], tzb[k - 1])
+            } else {
+                (0.0, 0.0)
+            };
+            pa = (va[k] + la * pa) * iva[k];
+            va[k] = pa;
+            pb = (vb[k] + lb * pb) * ivb[k];
+            vb[k] = pb;
+        }
+        for k in (0..nz - 1).rev() {
+            va[k] -= cpa[k] * va[k + 1];
+            vb[k] -= cpb[k] * vb[k + 1];
+        }
+    }
+
     /// One half-sweep of line Gauss–Seidel on the columns of `colour`: their lines are solved given the other
     /// colour's values. The new iterate is built in `tmp` (the other colour copied) and swapped into `x`.
     fn smooth(&self, b: &[f64], x: &mut Vec<f64>, tmp: &mut Vec<f64>, colour: usize) {
@@ -247,6 +284,7 @@ impl LineOp {
             let xr: &[f64] = x;
             for_blocks(tmp, cpb * nz, |blk, chunk| {
                 let c0 = blk * cpb;
+                let mut waiting: Option<(usize, &mut [f64])> = None;
                 for (ci, v) in chunk.chunks_mut(nz).enumerate() {
                     let c = c0 + ci;
                     let (i, j) = (c / ny, c % ny);
@@ -262,7 +300,14 @@ impl LineOp {
                     for vk in v.iter_mut() {
                         *vk = -*vk;
                     }
-                    self.line_solve(base, v);
+                    // lines are solved two at a time (the right-hand sides read only `x`, not the new lines)
+                    match waiting.take() {
+                        Some((base0, v0)) => self.line_solve_pair((base0, v0), (base, v)),
+                        None => waiting = Some((base, v)),
+                    }
+                }
+                if let Some((base0, v0)) = waiting {
+                    self.line_solve(base0, v0);
                 }
             });
         }

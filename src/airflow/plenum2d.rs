@@ -1066,27 +1066,23 @@ fn dot(a: &[f64], b: &[f64]) -> f64 {
 }
 
 /// `dot(v, x)` for every `v` of `vs`, each summed in index order as [`dot`] sums it (the same result to the
-/// bit), four at a time in one pass so that their additions overlap.
-fn dots(vs: &[Vec<f64>], x: &[f64]) -> Vec<f64> {
+/// bit), four at a time in one pass so that their additions overlap (a last group of fewer is padded with
+/// repeats whose sums are dropped).
+fn dots<'a>(vs: impl IntoIterator<Item = &'a [f64]>, x: &[f64]) -> Vec<f64> {
+    let vs: Vec<&[f64]> = vs.into_iter().collect();
     let mut out = Vec::with_capacity(vs.len());
-    let mut groups = vs.chunks_exact(4);
-    for g in &mut groups {
-        let (a, b, c, d) = (
-            &g[0][..x.len()],
-            &g[1][..x.len()],
-            &g[2][..x.len()],
-            &g[3][..x.len()],
-        );
+    for g in vs.chunks(4) {
+        let pick = |i: usize| g[i.min(g.len() - 1)];
+        let (a, b, c, d) = (pick(0), pick(1), pick(2), pick(3));
         let mut s = [-0.0_f64; 4];
-        for (k, xk) in x.iter().enumerate() {
-            s[0] += a[k] * xk;
-            s[1] += b[k] * xk;
-            s[2] += c[k] * xk;
-            s[3] += d[k] * xk;
+        for ((((xk, a), b), c), d) in x.iter().zip(a).zip(b).zip(c).zip(d) {
+            s[0] += a * xk;
+            s[1] += b * xk;
+            s[2] += c * xk;
+            s[3] += d * xk;
         }
-        out.extend(s);
+        out.extend_from_slice(&s[..g.len()]);
     }
-    out.extend(groups.remainder().iter().map(|v| dot(v, x)));
     out
 }
 
@@ -1323,15 +1319,15 @@ impl Anderson {
         }
         let (nu, nv) = (s.u.len(), s.v.len());
         let mut g = self.take();
-        g.extend(s.u.iter().chain(&s.v).chain(&s.p));
+        for part in [&s.u, &s.v, &s.p] {
+            g.extend_from_slice(part);
+        }
         let wp = 1.0 / vref.max(1e-300);
         let mut f = self.take();
-        f.extend(
-            g.iter()
-                .zip(x)
-                .enumerate()
-                .map(|(k, (a, b))| if k < nu + nv { a - b } else { (a - b) * wp }),
-        );
+        let (gv, gp) = g.split_at(nu + nv);
+        let (xv, xp) = x.split_at(nu + nv);
+        f.extend(gv.iter().zip(xv).map(|(a, b)| a - b));
+        f.extend(gp.iter().zip(xp).map(|(a, b)| (a - b) * wp));
         if let Some((mut f0, mut g0)) = self.last.take() {
             if self.df.len() == self.depth {
                 let (df, dg) = (self.df.remove(0), self.dg.remove(0));
@@ -1348,8 +1344,7 @@ impl Anderson {
             for (a, b) in g0.iter_mut().zip(&g) {
                 *a = b - *a;
             }
-            let mut row = dots(&self.df, &f0);
-            row.push(dot(&f0, &f0));
+            let row = dots(self.df.iter().chain([&f0]).map(|v| &v[..]), &f0);
             for (r, v) in self.gram.iter_mut().zip(&row) {
                 r.push(*v);
             }
@@ -1357,7 +1352,7 @@ impl Anderson {
             self.df.push(f0);
             self.dg.push(g0);
         }
-        let mut rhs = dots(&self.df, &f);
+        let mut rhs = dots(self.df.iter().map(|v| &v[..]), &f);
         let m = self.df.len();
         if m > 0 {
             // normal equations of the small least-squares problem, lightly regularised
@@ -1453,7 +1448,9 @@ fn iterate(
     for it in 1..=max {
         if anderson > 0 {
             x.clear();
-            x.extend(state.u.iter().chain(&state.v).chain(&state.p));
+            for part in [&state.u, &state.v, &state.p] {
+                x.extend_from_slice(part);
+            }
         }
         let (dv, dm, pi) = simplec_step(d, prm, state, &mut w);
         if !(dv.is_finite() && dm.is_finite()) {
