@@ -278,68 +278,111 @@ impl BedSystem {
 
     /// Resistivities, transmissibilities and the line operator (diagonal and Thomas factors included, coarse
     /// levels not) for cell speeds `speeds` and floor speeds `floor_speeds`: the one place faces are computed.
-    #[allow(clippy::needless_range_loop)] // c indexes depth, kv, ttop, tbot and the floor speeds together
+    /// Two passes over blocks of columns, in parallel: the resistivities, then each column's couplings (which read
+    /// its neighbours' resistivities); every value is computed on its own, the same on any thread count.
     fn fill_faces(&self, speeds: &[f64], floor_speeds: &[f64], f: &mut Faces) {
-        let (nx, ny, nz) = (self.nx, self.ny, self.nz);
+        let (ny, nz) = (self.ny, self.nz);
         let law = self.law;
-        for (kv, (&u, &m)) in f.kv.iter_mut().zip(speeds.iter().zip(&self.perm)) {
-            *kv = law.resistivity(u) / m;
-        }
+        let cpb = (BLOCK / nz).max(1);
+        f.kv.par_chunks_mut(cpb * nz)
+            .zip(speeds.par_chunks(cpb * nz))
+            .zip(self.perm.par_chunks(cpb * nz))
+            .for_each(|((kv, u), m)| {
+                for (kv, (&u, &m)) in kv.iter_mut().zip(u.iter().zip(m)) {
+                    *kv = law.resistivity(u) / m;
+                }
+            });
+        let kv = &f.kv;
+        let op = &mut f.op;
+        op.tz
+            .par_chunks_mut(cpb * nz)
+            .zip(op.tx.par_chunks_mut(cpb * nz))
+            .zip(op.ty.par_chunks_mut(cpb * nz))
+            .zip(op.dir.par_chunks_mut(cpb * nz))
+            .zip(f.ttop.par_chunks_mut(cpb))
+            .zip(f.tbot.par_chunks_mut(cpb))
+            .enumerate()
+            .for_each(|(blk, (((((tz, tx), ty), dir), ttop), tbot))| {
+                for ci in 0..ttop.len() {
+                    let c = blk * cpb + ci;
+                    let cols = ci * nz..(ci + 1) * nz;
+                    let (tt, tb) = self.column_faces(c, kv, floor_speeds, &mut tz[cols.clone()]);
+                    ttop[ci] = tt;
+                    tbot[ci] = tb;
+                    self.side_faces(
+                        c / ny,
+                        c % ny,
+                        kv,
+                        &mut tx[cols.clone()],
+                        &mut ty[cols.clone()],
+                    );
+                    let dir = &mut dir[cols];
+                    dir.iter_mut().for_each(|v| *v = 0.0);
+                    dir[0] += tb;
+                    dir[nz - 1] += tt;
+                }
+            });
+        f.op.finish();
+    }
+
+    /// Column `c`'s vertical couplings into `tz` (0 above the top cell), and its top and floor
+    /// transmissibilities.
+    fn column_faces(
+        &self,
+        c: usize,
+        kv: &[f64],
+        floor_speeds: &[f64],
+        tz: &mut [f64],
+    ) -> (f64, f64) {
+        let nz = self.nz;
         let axy = self.dx_m * self.dy_m;
-        let rh = law.horizontal_ratio;
-        for c in 0..nx * ny {
-            let dz = self.depth_m[c] / nz as f64;
-            let base = c * nz;
-            for k in 0..nz {
-                let idx = base + k;
-                f.op.tz[idx] = if k + 1 < nz {
-                    axy / (0.5 * dz * (f.kv[idx] + f.kv[idx + 1]))
-                } else {
-                    0.0
-                };
-            }
-            f.ttop[c] = axy / (0.5 * dz * f.kv[base + nz - 1]);
-            let open = self.floor_open[c];
-            f.tbot[c] = if open > 0.0 {
-                let r_floor =
-                    self.rho * floor_speeds[c].abs() / (2.0 * self.floor_c2 * open * open);
-                axy / (0.5 * dz * f.kv[base] + r_floor)
+        let dz = self.depth_m[c] / nz as f64;
+        let base = c * nz;
+        for (k, tz) in tz.iter_mut().enumerate() {
+            let idx = base + k;
+            *tz = if k + 1 < nz {
+                axy / (0.5 * dz * (kv[idx] + kv[idx + 1]))
             } else {
                 0.0
             };
         }
-        for i in 0..nx {
-            for j in 0..ny {
-                let c = i * ny + j;
-                let dz_a = self.depth_m[c] / nz as f64;
-                for k in 0..nz {
-                    let idx = c * nz + k;
-                    f.op.tx[idx] = if i + 1 < nx {
-                        let cb = c + ny;
-                        let dz_b = self.depth_m[cb] / nz as f64;
-                        let area = self.dy_m * 0.5 * (dz_a + dz_b);
-                        area / (0.5 * self.dx_m * rh * (f.kv[idx] + f.kv[cb * nz + k]))
-                    } else {
-                        0.0
-                    };
-                    f.op.ty[idx] = if j + 1 < ny {
-                        let cb = c + 1;
-                        let dz_b = self.depth_m[cb] / nz as f64;
-                        let area = self.dx_m * 0.5 * (dz_a + dz_b);
-                        area / (0.5 * self.dy_m * rh * (f.kv[idx] + f.kv[cb * nz + k]))
-                    } else {
-                        0.0
-                    };
-                }
-            }
+        let ttop = axy / (0.5 * dz * kv[base + nz - 1]);
+        let open = self.floor_open[c];
+        let tbot = if open > 0.0 {
+            let r_floor = self.rho * floor_speeds[c].abs() / (2.0 * self.floor_c2 * open * open);
+            axy / (0.5 * dz * kv[base] + r_floor)
+        } else {
+            0.0
+        };
+        (ttop, tbot)
+    }
+
+    /// The couplings of column (i, j) to its neighbours at i + 1 and j + 1, layer by layer, into `tx` and `ty`
+    /// (0 on the last row).
+    fn side_faces(&self, i: usize, j: usize, kv: &[f64], tx: &mut [f64], ty: &mut [f64]) {
+        let (nx, ny, nz) = (self.nx, self.ny, self.nz);
+        let rh = self.law.horizontal_ratio;
+        let c = i * ny + j;
+        let dz_a = self.depth_m[c] / nz as f64;
+        for k in 0..nz {
+            let idx = c * nz + k;
+            tx[k] = if i + 1 < nx {
+                let cb = c + ny;
+                let dz_b = self.depth_m[cb] / nz as f64;
+                let area = self.dy_m * 0.5 * (dz_a + dz_b);
+                area / (0.5 * self.dx_m * rh * (kv[idx] + kv[cb * nz + k]))
+            } else {
+                0.0
+            };
+            ty[k] = if j + 1 < ny {
+                let cb = c + 1;
+                let dz_b = self.depth_m[cb] / nz as f64;
+                let area = self.dx_m * 0.5 * (dz_a + dz_b);
+                area / (0.5 * self.dy_m * rh * (kv[idx] + kv[cb * nz + k]))
+            } else {
+                0.0
+            };
         }
-        for c in 0..nx * ny {
-            let base = c * nz;
-            f.op.dir[base..base + nz].iter_mut().for_each(|v| *v = 0.0);
-            f.op.dir[base] += f.tbot[c];
-            f.op.dir[base + nz - 1] += f.ttop[c];
-        }
-        f.op.finish();
     }
 
     /// Faces for cell speeds `speeds` and floor speeds `floor_speeds` (m/s), leaving the solver's own untouched.

@@ -27,6 +27,24 @@ use rayon::prelude::*;
 /// Fixed number of elements per parallel block (results independent of thread count).
 pub(crate) const BLOCK: usize = 8192;
 
+/// `f(block, chunk)` on the chunks of `data` of `size` elements: in parallel when there are several, on this
+/// thread when there is one, so that a small level (the coarse ones, the 2-D plenum's pressure correction) is not
+/// handed to the pool and back (see DEVELOPERS.md, "Threads"). Each chunk is computed the same way either way.
+fn for_blocks<F>(data: &mut [f64], size: usize, f: F)
+where
+    F: Fn(usize, &mut [f64]) + Sync + Send,
+{
+    if data.len() <= size {
+        if !data.is_empty() {
+            f(0, data);
+        }
+    } else {
+        data.par_chunks_mut(size)
+            .enumerate()
+            .for_each(|(blk, chunk)| f(blk, chunk));
+    }
+}
+
 /// Red columns are those with i + j even.
 const RED: usize = 0;
 /// Black columns are those with i + j odd.
@@ -78,73 +96,101 @@ impl LineOp {
         (BLOCK / self.nz).max(1)
     }
 
+    /// The diagonal of cell `idx` from the couplings, as [`LineOp::finish`] sets it.
+    pub fn diagonal(&self, idx: usize) -> f64 {
+        let (ny, nz) = (self.ny, self.nz);
+        let c = idx / nz;
+        let (i, j, k) = (c / ny, c % ny, idx % nz);
+        let mut d = self.dir[idx] + self.tx[idx] + self.ty[idx] + self.tz[idx];
+        if i > 0 {
+            d += self.tx[idx - ny * nz];
+        }
+        if j > 0 {
+            d += self.ty[idx - nz];
+        }
+        if k > 0 {
+            d += self.tz[idx - 1];
+        }
+        d
+    }
+
     /// Diagonal from the couplings, then the Thomas factors of every vertical line.
     pub fn finish(&mut self) {
         let (ny, nz) = (self.ny, self.nz);
         let nyz = ny * nz;
         let cpb = self.cols_per_block();
         let (tx, ty, tz, dir) = (&self.tx, &self.ty, &self.tz, &self.dir);
-        self.diag
-            .par_chunks_mut(cpb * nz)
-            .zip(self.cprime.par_chunks_mut(cpb * nz))
-            .zip(self.inv_den.par_chunks_mut(cpb * nz))
-            .enumerate()
-            .for_each(|(blk, ((dg, cp), iv))| {
-                let c0 = blk * cpb;
-                for ci in 0..dg.len() / nz {
-                    let c = c0 + ci;
-                    let (i, j) = (c / ny, c % ny);
-                    let base = c * nz;
-                    let mut cp_prev = 0.0;
-                    for k in 0..nz {
-                        let idx = base + k;
-                        let mut d = dir[idx] + tx[idx] + ty[idx] + tz[idx];
-                        if i > 0 {
-                            d += tx[idx - nyz];
-                        }
-                        if j > 0 {
-                            d += ty[idx - nz];
-                        }
-                        if k > 0 {
-                            d += tz[idx - 1];
-                        }
-                        let l = ci * nz + k;
-                        dg[l] = d;
-                        let den = if k > 0 { d + tz[idx - 1] * cp_prev } else { d };
-                        let inv = 1.0 / den;
-                        iv[l] = inv;
-                        cp_prev = -tz[idx] * inv;
-                        cp[l] = cp_prev;
+        let factor = |blk: usize, ((dg, cp), iv): ((&mut [f64], &mut [f64]), &mut [f64])| {
+            let c0 = blk * cpb;
+            for ci in 0..dg.len() / nz {
+                let c = c0 + ci;
+                let (i, j) = (c / ny, c % ny);
+                let base = c * nz;
+                let mut cp_prev = 0.0;
+                for k in 0..nz {
+                    let idx = base + k;
+                    let mut d = dir[idx] + tx[idx] + ty[idx] + tz[idx];
+                    if i > 0 {
+                        d += tx[idx - nyz];
                     }
+                    if j > 0 {
+                        d += ty[idx - nz];
+                    }
+                    if k > 0 {
+                        d += tz[idx - 1];
+                    }
+                    let l = ci * nz + k;
+                    dg[l] = d;
+                    let den = if k > 0 { d + tz[idx - 1] * cp_prev } else { d };
+                    let inv = 1.0 / den;
+                    iv[l] = inv;
+                    cp_prev = -tz[idx] * inv;
+                    cp[l] = cp_prev;
                 }
-            });
+            }
+        };
+        let size = cpb * nz;
+        if self.diag.len() <= size {
+            factor(
+                0,
+                (
+                    (&mut self.diag[..], &mut self.cprime[..]),
+                    &mut self.inv_den[..],
+                ),
+            );
+        } else {
+            self.diag
+                .par_chunks_mut(size)
+                .zip(self.cprime.par_chunks_mut(size))
+                .zip(self.inv_den.par_chunks_mut(size))
+                .enumerate()
+                .for_each(|(blk, parts)| factor(blk, parts));
+        }
     }
 
     /// y = A·x.
     pub fn matvec(&self, x: &[f64], y: &mut [f64]) {
         let (ny, nz) = (self.ny, self.nz);
         let cpb = self.cols_per_block();
-        y.par_chunks_mut(cpb * nz)
-            .enumerate()
-            .for_each(|(blk, chunk)| {
-                let c0 = blk * cpb;
-                for (ci, yc) in chunk.chunks_mut(nz).enumerate() {
-                    let c = c0 + ci;
-                    let (i, j) = (c / ny, c % ny);
-                    let base = c * nz;
-                    let xs = &x[base..base + nz];
-                    let d = &self.diag[base..base + nz];
-                    for k in 0..nz {
-                        yc[k] = d[k] * xs[k];
-                    }
-                    self.sub_neighbours(i, j, base, x, yc);
-                    let tz = &self.tz[base..base + nz];
-                    for k in 0..nz - 1 {
-                        yc[k] -= tz[k] * xs[k + 1];
-                        yc[k + 1] -= tz[k] * xs[k];
-                    }
+        for_blocks(y, cpb * nz, |blk, chunk| {
+            let c0 = blk * cpb;
+            for (ci, yc) in chunk.chunks_mut(nz).enumerate() {
+                let c = c0 + ci;
+                let (i, j) = (c / ny, c % ny);
+                let base = c * nz;
+                let xs = &x[base..base + nz];
+                let d = &self.diag[base..base + nz];
+                for k in 0..nz {
+                    yc[k] = d[k] * xs[k];
                 }
-            });
+                self.sub_neighbours(i, j, base, x, yc);
+                let tz = &self.tz[base..base + nz];
+                for k in 0..nz - 1 {
+                    yc[k] -= tz[k] * xs[k + 1];
+                    yc[k + 1] -= tz[k] * xs[k];
+                }
+            }
+        });
     }
 
     /// out −= Σ (horizontal coupling · neighbour value) for the column at (i, j) starting at `base`.
@@ -192,6 +238,43 @@ impl LineOp {
         }
     }
 
+    /// Two vertical lines solved as [`LineOp::line_solve`] solves each, their steps interleaved so that the
+    /// processor overlaps the two chains of dependent operations.
+    #[inline]
+    fn line_solve_pair(
+        &self,
+        (base_a, va): (usize, &mut [f64]),
+        (base_b, vb): (usize, &mut [f64]),
+    ) {
+        let nz = self.nz;
+        let (va, vb) = (&mut va[..nz], &mut vb[..nz]);
+        let (tza, tzb) = (&self.tz[base_a..base_a + nz], &self.tz[base_b..base_b + nz]);
+        let (iva, ivb) = (
+            &self.inv_den[base_a..base_a + nz],
+            &self.inv_den[base_b..base_b + nz],
+        );
+        let (cpa, cpb) = (
+            &self.cprime[base_a..base_a + nz],
+            &self.cprime[base_b..base_b + nz],
+        );
+        let (mut pa, mut pb) = (0.0, 0.0);
+        for k in 0..nz {
+            let (la, lb) = if k > 0 {
+                (tza[k - 1], tzb[k - 1])
+            } else {
+                (0.0, 0.0)
+            };
+            pa = (va[k] + la * pa) * iva[k];
+            va[k] = pa;
+            pb = (vb[k] + lb * pb) * ivb[k];
+            vb[k] = pb;
+        }
+        for k in (0..nz - 1).rev() {
+            va[k] -= cpa[k] * va[k + 1];
+            vb[k] -= cpb[k] * vb[k + 1];
+        }
+    }
+
     /// One half-sweep of line Gauss–Seidel on the columns of `colour`: their lines are solved given the other
     /// colour's values. The new iterate is built in `tmp` (the other colour copied) and swapped into `x`.
     fn smooth(&self, b: &[f64], x: &mut Vec<f64>, tmp: &mut Vec<f64>, colour: usize) {
@@ -199,28 +282,34 @@ impl LineOp {
         let cpb = self.cols_per_block();
         {
             let xr: &[f64] = x;
-            tmp.par_chunks_mut(cpb * nz)
-                .enumerate()
-                .for_each(|(blk, chunk)| {
-                    let c0 = blk * cpb;
-                    for (ci, v) in chunk.chunks_mut(nz).enumerate() {
-                        let c = c0 + ci;
-                        let (i, j) = (c / ny, c % ny);
-                        let base = c * nz;
-                        if (i + j) % 2 != colour {
-                            v.copy_from_slice(&xr[base..base + nz]);
-                            continue;
-                        }
-                        for (vk, bk) in v.iter_mut().zip(&b[base..base + nz]) {
-                            *vk = -bk;
-                        }
-                        self.sub_neighbours(i, j, base, xr, v);
-                        for vk in v.iter_mut() {
-                            *vk = -*vk;
-                        }
-                        self.line_solve(base, v);
+            for_blocks(tmp, cpb * nz, |blk, chunk| {
+                let c0 = blk * cpb;
+                let mut waiting: Option<(usize, &mut [f64])> = None;
+                for (ci, v) in chunk.chunks_mut(nz).enumerate() {
+                    let c = c0 + ci;
+                    let (i, j) = (c / ny, c % ny);
+                    let base = c * nz;
+                    if (i + j) % 2 != colour {
+                        v.copy_from_slice(&xr[base..base + nz]);
+                        continue;
                     }
-                });
+                    for (vk, bk) in v.iter_mut().zip(&b[base..base + nz]) {
+                        *vk = -bk;
+                    }
+                    self.sub_neighbours(i, j, base, xr, v);
+                    for vk in v.iter_mut() {
+                        *vk = -*vk;
+                    }
+                    // lines are solved two at a time (the right-hand sides read only `x`, not the new lines)
+                    match waiting.take() {
+                        Some((base0, v0)) => self.line_solve_pair((base0, v0), (base, v)),
+                        None => waiting = Some((base, v)),
+                    }
+                }
+                if let Some((base0, v0)) = waiting {
+                    self.line_solve(base0, v0);
+                }
+            });
         }
         std::mem::swap(x, tmp);
     }
@@ -229,34 +318,32 @@ impl LineOp {
     fn residual_on(&self, b: &[f64], x: &[f64], r: &mut [f64], colour: usize) {
         let (ny, nz) = (self.ny, self.nz);
         let cpb = self.cols_per_block();
-        r.par_chunks_mut(cpb * nz)
-            .enumerate()
-            .for_each(|(blk, chunk)| {
-                let c0 = blk * cpb;
-                for (ci, rc) in chunk.chunks_mut(nz).enumerate() {
-                    let c = c0 + ci;
-                    let (i, j) = (c / ny, c % ny);
-                    let base = c * nz;
-                    if (i + j) % 2 != colour {
-                        rc.iter_mut().for_each(|v| *v = 0.0);
-                        continue;
-                    }
-                    let xs = &x[base..base + nz];
-                    let d = &self.diag[base..base + nz];
-                    let bs = &b[base..base + nz];
-                    // −r = A·x − b, built like the matrix-vector product
-                    for k in 0..nz {
-                        rc[k] = d[k] * xs[k] - bs[k];
-                    }
-                    self.sub_neighbours(i, j, base, x, rc);
-                    let tz = &self.tz[base..base + nz];
-                    for k in 0..nz - 1 {
-                        rc[k] -= tz[k] * xs[k + 1];
-                        rc[k + 1] -= tz[k] * xs[k];
-                    }
-                    rc.iter_mut().for_each(|v| *v = -*v);
+        for_blocks(r, cpb * nz, |blk, chunk| {
+            let c0 = blk * cpb;
+            for (ci, rc) in chunk.chunks_mut(nz).enumerate() {
+                let c = c0 + ci;
+                let (i, j) = (c / ny, c % ny);
+                let base = c * nz;
+                if (i + j) % 2 != colour {
+                    rc.iter_mut().for_each(|v| *v = 0.0);
+                    continue;
                 }
-            });
+                let xs = &x[base..base + nz];
+                let d = &self.diag[base..base + nz];
+                let bs = &b[base..base + nz];
+                // −r = A·x − b, built like the matrix-vector product
+                for k in 0..nz {
+                    rc[k] = d[k] * xs[k] - bs[k];
+                }
+                self.sub_neighbours(i, j, base, x, rc);
+                let tz = &self.tz[base..base + nz];
+                for k in 0..nz - 1 {
+                    rc[k] -= tz[k] * xs[k + 1];
+                    rc[k + 1] -= tz[k] * xs[k];
+                }
+                rc.iter_mut().for_each(|v| *v = -*v);
+            }
+        });
     }
 
     /// Size of the coarse level that aggregates 2 × 2 columns.
@@ -271,60 +358,74 @@ impl LineOp {
         let (nxc, nyc) = (coarse.nx, coarse.ny);
         let cpb = coarse.cols_per_block();
         let fine = |i: usize, j: usize| (i * ny + j) * nz;
-        coarse
-            .tx
-            .par_chunks_mut(cpb * nz)
-            .zip(coarse.ty.par_chunks_mut(cpb * nz))
-            .zip(coarse.tz.par_chunks_mut(cpb * nz))
-            .zip(coarse.dir.par_chunks_mut(cpb * nz))
-            .enumerate()
-            .for_each(|(blk, (((cx, cy), cz), cd))| {
-                let c0 = blk * cpb;
-                for ci in 0..cx.len() / nz {
-                    let cc = c0 + ci;
-                    let (ic, jc) = (cc / nyc, cc % nyc);
-                    let is = 2 * ic..(2 * ic + 2).min(nx);
-                    let js = 2 * jc..(2 * jc + 2).min(ny);
-                    let out = ci * nz..(ci + 1) * nz;
-                    let (cx, cy, cz, cd) = (
-                        &mut cx[out.clone()],
-                        &mut cy[out.clone()],
-                        &mut cz[out.clone()],
-                        &mut cd[out],
-                    );
-                    cz.iter_mut().for_each(|v| *v = 0.0);
-                    cd.iter_mut().for_each(|v| *v = 0.0);
-                    for i in is.clone() {
-                        for j in js.clone() {
-                            let b = fine(i, j);
-                            for k in 0..nz {
-                                cz[k] += self.tz[b + k];
-                                cd[k] += self.dir[b + k];
-                            }
+        type Parts<'a> = (
+            ((&'a mut [f64], &'a mut [f64]), &'a mut [f64]),
+            &'a mut [f64],
+        );
+        let sum = |blk: usize, (((cx, cy), cz), cd): Parts<'_>| {
+            let c0 = blk * cpb;
+            for ci in 0..cx.len() / nz {
+                let cc = c0 + ci;
+                let (ic, jc) = (cc / nyc, cc % nyc);
+                let is = 2 * ic..(2 * ic + 2).min(nx);
+                let js = 2 * jc..(2 * jc + 2).min(ny);
+                let out = ci * nz..(ci + 1) * nz;
+                let (cx, cy, cz, cd) = (
+                    &mut cx[out.clone()],
+                    &mut cy[out.clone()],
+                    &mut cz[out.clone()],
+                    &mut cd[out],
+                );
+                cz.iter_mut().for_each(|v| *v = 0.0);
+                cd.iter_mut().for_each(|v| *v = 0.0);
+                for i in is.clone() {
+                    for j in js.clone() {
+                        let b = fine(i, j);
+                        for k in 0..nz {
+                            cz[k] += self.tz[b + k];
+                            cd[k] += self.dir[b + k];
                         }
-                    }
-                    cx.iter_mut().for_each(|v| *v = 0.0);
-                    if ic + 1 < nxc {
-                        for j in js.clone() {
-                            let b = fine(2 * ic + 1, j);
-                            for (o, t) in cx.iter_mut().zip(&self.tx[b..b + nz]) {
-                                *o += t;
-                            }
-                        }
-                        cx.iter_mut().for_each(|v| *v *= h_scale);
-                    }
-                    cy.iter_mut().for_each(|v| *v = 0.0);
-                    if jc + 1 < nyc {
-                        for i in is.clone() {
-                            let b = fine(i, 2 * jc + 1);
-                            for (o, t) in cy.iter_mut().zip(&self.ty[b..b + nz]) {
-                                *o += t;
-                            }
-                        }
-                        cy.iter_mut().for_each(|v| *v *= h_scale);
                     }
                 }
-            });
+                cx.iter_mut().for_each(|v| *v = 0.0);
+                if ic + 1 < nxc {
+                    for j in js.clone() {
+                        let b = fine(2 * ic + 1, j);
+                        for (o, t) in cx.iter_mut().zip(&self.tx[b..b + nz]) {
+                            *o += t;
+                        }
+                    }
+                    cx.iter_mut().for_each(|v| *v *= h_scale);
+                }
+                cy.iter_mut().for_each(|v| *v = 0.0);
+                if jc + 1 < nyc {
+                    for i in is.clone() {
+                        let b = fine(i, 2 * jc + 1);
+                        for (o, t) in cy.iter_mut().zip(&self.ty[b..b + nz]) {
+                            *o += t;
+                        }
+                    }
+                    cy.iter_mut().for_each(|v| *v *= h_scale);
+                }
+            }
+        };
+        let size = cpb * nz;
+        if coarse.tx.len() <= size {
+            let parts = (
+                ((&mut coarse.tx[..], &mut coarse.ty[..]), &mut coarse.tz[..]),
+                &mut coarse.dir[..],
+            );
+            sum(0, parts);
+        } else {
+            coarse
+                .tx
+                .par_chunks_mut(size)
+                .zip(coarse.ty.par_chunks_mut(size))
+                .zip(coarse.tz.par_chunks_mut(size))
+                .zip(coarse.dir.par_chunks_mut(size))
+                .enumerate()
+                .for_each(|(blk, parts)| sum(blk, parts));
+        }
         coarse.finish();
     }
 
@@ -333,24 +434,22 @@ impl LineOp {
         let (nx, ny, nz) = (self.nx, self.ny, self.nz);
         let nyc = coarse.ny;
         let cpb = coarse.cols_per_block();
-        bc.par_chunks_mut(cpb * nz)
-            .enumerate()
-            .for_each(|(blk, chunk)| {
-                let c0 = blk * cpb;
-                for (ci, out) in chunk.chunks_mut(nz).enumerate() {
-                    let cc = c0 + ci;
-                    let (ic, jc) = (cc / nyc, cc % nyc);
-                    out.iter_mut().for_each(|v| *v = 0.0);
-                    for i in 2 * ic..(2 * ic + 2).min(nx) {
-                        for j in 2 * jc..(2 * jc + 2).min(ny) {
-                            let b = (i * ny + j) * nz;
-                            for (o, v) in out.iter_mut().zip(&r[b..b + nz]) {
-                                *o += v;
-                            }
+        for_blocks(bc, cpb * nz, |blk, chunk| {
+            let c0 = blk * cpb;
+            for (ci, out) in chunk.chunks_mut(nz).enumerate() {
+                let cc = c0 + ci;
+                let (ic, jc) = (cc / nyc, cc % nyc);
+                out.iter_mut().for_each(|v| *v = 0.0);
+                for i in 2 * ic..(2 * ic + 2).min(nx) {
+                    for j in 2 * jc..(2 * jc + 2).min(ny) {
+                        let b = (i * ny + j) * nz;
+                        for (o, v) in out.iter_mut().zip(&r[b..b + nz]) {
+                            *o += v;
                         }
                     }
                 }
-            });
+            }
+        });
     }
 
     /// x += P·x_c: each fine cell takes its aggregate's value in the same layer.
@@ -358,19 +457,17 @@ impl LineOp {
         let (ny, nz) = (self.ny, self.nz);
         let nyc = coarse.ny;
         let cpb = self.cols_per_block();
-        x.par_chunks_mut(cpb * nz)
-            .enumerate()
-            .for_each(|(blk, chunk)| {
-                let c0 = blk * cpb;
-                for (ci, out) in chunk.chunks_mut(nz).enumerate() {
-                    let c = c0 + ci;
-                    let (i, j) = (c / ny, c % ny);
-                    let b = ((i / 2) * nyc + j / 2) * nz;
-                    for (o, v) in out.iter_mut().zip(&xc[b..b + nz]) {
-                        *o += v;
-                    }
+        for_blocks(x, cpb * nz, |blk, chunk| {
+            let c0 = blk * cpb;
+            for (ci, out) in chunk.chunks_mut(nz).enumerate() {
+                let c = c0 + ci;
+                let (i, j) = (c / ny, c % ny);
+                let b = ((i / 2) * nyc + j / 2) * nz;
+                for (o, v) in out.iter_mut().zip(&xc[b..b + nz]) {
+                    *o += v;
                 }
-            });
+            }
+        });
     }
 }
 

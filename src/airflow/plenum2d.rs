@@ -426,126 +426,276 @@ fn wall_bound(d: &FlowDomain, prm: &FlowParams) -> Vec<f64> {
     wall_distance(d, prm.mixing_length_ratio * h_max / KAPPA)
 }
 
+/// The fixed geometry one call of [`iterate`] works on (the domain does not change within a call), gathered once
+/// so that the iterations do not recompute it per face: the depth on every face, which lines bounding a face's
+/// control volume are walls, and each cell's squared mixing length.
+struct Geom {
+    /// Depth on each x-face ([`FlowDomain::hu`]), index `j·(nx+1) + i`.
+    hu: Vec<f64>,
+    /// Depth on each y-face ([`FlowDomain::hv`]), index `j·nx + i`.
+    hv: Vec<f64>,
+    /// For an interior x-face (i, j): the line north of its control volume is a wall ([`FlowDomain::wall_y`]
+    /// at (i, j + 1)); false on the boundary faces, which are never assembled.
+    wall_n: Vec<bool>,
+    /// For an interior x-face (i, j): the line south of its control volume is a wall (`wall_y` at (i, j)).
+    wall_s: Vec<bool>,
+    /// For an interior y-face (i, j): the line east of its control volume is a wall ([`FlowDomain::wall_x`] at
+    /// (i + 1, j)).
+    wall_e: Vec<bool>,
+    /// For an interior y-face (i, j): the line west of its control volume is a wall (`wall_x` at (i, j)).
+    wall_w: Vec<bool>,
+    /// Each cell's mixing length squared: `min(c_m·h, κ·wall distance)²` ([`wall_bound`]).
+    lm2: Vec<f64>,
+    /// Largest depth, m.
+    h_max: f64,
+}
+
+impl Geom {
+    fn new(d: &FlowDomain, prm: &FlowParams) -> Self {
+        let (nx, ny) = (d.nx, d.ny);
+        let mut hu = vec![0.0; (nx + 1) * ny];
+        let (mut wall_n, mut wall_s) = (vec![false; hu.len()], vec![false; hu.len()]);
+        for j in 0..ny {
+            for i in 0..=nx {
+                let k = d.iu(i, j);
+                hu[k] = d.hu(i, j);
+                if i > 0 && i < nx {
+                    wall_n[k] = d.wall_y(i, j + 1);
+                    wall_s[k] = d.wall_y(i, j);
+                }
+            }
+        }
+        let mut hv = vec![0.0; nx * (ny + 1)];
+        let (mut wall_e, mut wall_w) = (vec![false; hv.len()], vec![false; hv.len()]);
+        for j in 0..=ny {
+            for i in 0..nx {
+                let k = d.iv(i, j);
+                hv[k] = d.hv(i, j);
+                if j > 0 && j < ny {
+                    wall_e[k] = d.wall_x(i + 1, j);
+                    wall_w[k] = d.wall_x(i, j);
+                }
+            }
+        }
+        let wall = wall_bound(d, prm);
+        let lm2 = d
+            .depth
+            .iter()
+            .zip(&wall)
+            .map(|(h, w)| {
+                // the mixing length is also bounded by κ × the distance to the nearest wall, side wall or baffle
+                // (Prandtl's wall law)
+                let lm = (prm.mixing_length_ratio * h).min(KAPPA * w);
+                lm * lm
+            })
+            .collect();
+        Geom {
+            hu,
+            hv,
+            wall_n,
+            wall_s,
+            wall_e,
+            wall_w,
+            lm2,
+            h_max: d.depth.iter().fold(0.0_f64, |m, x| m.max(*x)),
+        }
+    }
+}
+
+/// The fields one SIMPLEC iteration assembles from, refilled in place every iteration: effective viscosity ν_e and
+/// Γ = ν_e·h per cell, each cell's outflow at the current pressure, the face fluxes, and the cell-centre velocity.
+struct Fields {
+    nu: Vec<f64>,
+    gam: Vec<f64>,
+    out: Vec<f64>,
+    qu: Vec<f64>,
+    qv: Vec<f64>,
+    uc: Vec<f64>,
+    vc: Vec<f64>,
+}
+
+impl Fields {
+    fn new(d: &FlowDomain) -> Self {
+        let n = d.nx * d.ny;
+        Fields {
+            nu: vec![0.0; n],
+            gam: vec![0.0; n],
+            out: vec![0.0; n],
+            qu: vec![0.0; (d.nx + 1) * d.ny],
+            qv: vec![0.0; d.nx * (d.ny + 1)],
+            uc: vec![0.0; n],
+            vc: vec![0.0; n],
+        }
+    }
+
+    /// All of them at the state `s`.
+    fn fill(&mut self, d: &FlowDomain, s: &FlowState, prm: &FlowParams, geo: &Geom) {
+        eddy_viscosity_into(d, s, prm, &geo.lm2, self);
+        for (g, (nu, h)) in self.gam.iter_mut().zip(self.nu.iter().zip(&d.depth)) {
+            *g = nu * h;
+        }
+        for (k, o) in self.out.iter_mut().enumerate() {
+            *o = d.outflow(s, k);
+        }
+        for ((q, h), u) in self.qu.iter_mut().zip(&geo.hu).zip(&s.u) {
+            *q = h * u * d.dy;
+        }
+        for ((q, h), v) in self.qv.iter_mut().zip(&geo.hv).zip(&s.v) {
+            *q = h * v * d.dx;
+        }
+    }
+}
+
 /// Effective viscosity per cell; `wall` from [`wall_bound`] on the same domain.
+#[cfg(test)]
 fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams, wall: &[f64]) -> Vec<f64> {
+    let lm2: Vec<f64> = d
+        .depth
+        .iter()
+        .zip(wall)
+        .map(|(h, w)| {
+            let lm = (prm.mixing_length_ratio * h).min(KAPPA * w);
+            lm * lm
+        })
+        .collect();
+    let mut f = Fields::new(d);
+    eddy_viscosity_into(d, s, prm, &lm2, &mut f);
+    f.nu
+}
+
+/// Effective viscosity per cell into `f.nu` (and the cell-centre velocities into `f.uc`, `f.vc`), with `lm2` the
+/// squared mixing lengths of [`Geom`].
+fn eddy_viscosity_into(
+    d: &FlowDomain,
+    s: &FlowState,
+    prm: &FlowParams,
+    lm2: &[f64],
+    f: &mut Fields,
+) {
     let (nx, ny) = (d.nx, d.ny);
-    let mut nu = vec![prm.nu_m2_per_s; nx * ny];
+    f.nu.fill(prm.nu_m2_per_s);
     if prm.depth_eddy_coefficient == 0.0 && prm.mixing_length_ratio == 0.0 {
-        return nu;
+        return;
     }
-    let cu = |i: usize, j: usize| s.centre_velocity(d, i, j);
+    let (u, v) = (&s.u[..], &s.v[..]);
     for j in 0..ny {
+        let (ur, vr) = (
+            &u[j * (nx + 1)..(j + 1) * (nx + 1)],
+            &v[j * nx..(j + 2) * nx],
+        );
+        for (i, (uc, vc)) in f.uc[j * nx..(j + 1) * nx]
+            .iter_mut()
+            .zip(&mut f.vc[j * nx..(j + 1) * nx])
+            .enumerate()
+        {
+            *uc = 0.5 * (ur[i] + ur[i + 1]);
+            *vc = 0.5 * (vr[i] + vr[i + nx]);
+        }
+    }
+    let (uc, vc) = (&f.uc[..], &f.vc[..]);
+    let ustar_per_speed = (0.5 * prm.friction_coefficient).sqrt();
+    for j in 0..ny {
+        let (jl, jh) = (j.saturating_sub(1), (j + 1).min(ny - 1));
+        let dy_span = (jh - jl).max(1) as f64 * d.dy;
         for i in 0..nx {
-            let h = d.depth[d.ic(i, j)];
-            let (uc, vc) = cu(i, j);
-            let speed = (uc * uc + vc * vc).sqrt();
-            let ustar = (0.5 * prm.friction_coefficient).sqrt() * speed;
-            let dudx = (s.u[d.iu(i + 1, j)] - s.u[d.iu(i, j)]) / d.dx;
-            let dvdy = (s.v[d.iv(i, j + 1)] - s.v[d.iv(i, j)]) / d.dy;
-            let (jl, jh) = (j.saturating_sub(1), (j + 1).min(ny - 1));
+            let c = j * nx + i;
+            let ku = j * (nx + 1) + i;
+            let h = d.depth[c];
+            let speed = (uc[c] * uc[c] + vc[c] * vc[c]).sqrt();
+            let ustar = ustar_per_speed * speed;
+            let dudx = (u[ku + 1] - u[ku]) / d.dx;
+            let dvdy = (v[c + nx] - v[c]) / d.dy;
             let (il, ih) = (i.saturating_sub(1), (i + 1).min(nx - 1));
-            let dudy = (cu(i, jh).0 - cu(i, jl).0) / ((jh - jl).max(1) as f64 * d.dy);
-            let dvdx = (cu(ih, j).1 - cu(il, j).1) / ((ih - il).max(1) as f64 * d.dx);
+            let dudy = (uc[jh * nx + i] - uc[jl * nx + i]) / dy_span;
+            let dvdx = (vc[j * nx + ih] - vc[j * nx + il]) / ((ih - il).max(1) as f64 * d.dx);
             let shear = (2.0 * (dudx * dudx + dvdy * dvdy) + (dudy + dvdx).powi(2)).sqrt();
-            // the mixing length is also bounded by κ × the distance to the nearest wall, side wall or baffle
-            // (Prandtl's wall law)
-            let lm = (prm.mixing_length_ratio * h).min(KAPPA * wall[d.ic(i, j)]);
-            nu[d.ic(i, j)] += prm.depth_eddy_coefficient * h * ustar + lm * lm * shear;
+            f.nu[c] += prm.depth_eddy_coefficient * h * ustar + lm2[c] * shear;
         }
     }
-    nu
 }
 
-/// Volumetric fluxes h·u·dy on x-faces and h·v·dx on y-faces.
-fn fluxes(d: &FlowDomain, s: &FlowState) -> (Vec<f64>, Vec<f64>) {
-    let mut qu = vec![0.0; s.u.len()];
-    let mut qv = vec![0.0; s.v.len()];
-    for j in 0..d.ny {
-        for i in 0..=d.nx {
-            let k = d.iu(i, j);
-            qu[k] = d.hu(i, j) * s.u[k] * d.dy;
-        }
+/// A laminar no-slip wall beside a face with coupling `g`: 8/3·g on the face's diagonal, the wall's speed `uw`
+/// (a moving lid) on its right-hand side when given, and the deferred g/3·(u₁ − u₂) of the second-order one-sided
+/// gradient when there is a second face `u2` inside.
+#[inline(always)]
+fn no_slip_wall(g: f64, uw: Option<f64>, u1: f64, u2: Option<f64>, b: &mut f64, ap_wall: &mut f64) {
+    *ap_wall += 8.0 / 3.0 * g;
+    if let Some(uw) = uw {
+        *b += 8.0 / 3.0 * g * uw;
     }
-    for j in 0..=d.ny {
-        for i in 0..d.nx {
-            let k = d.iv(i, j);
-            qv[k] = d.hv(i, j) * s.v[k] * d.dx;
-        }
+    if let Some(u2) = u2 {
+        *b -= g / 3.0 * (u1 - u2);
     }
-    (qu, qv)
 }
 
-/// Assemble the u-momentum equations on interior, unblocked x-faces.
+/// Assemble the u-momentum equations on interior, unblocked x-faces, from the fields `f` at the state `s`.
 fn assemble_u(
     d: &FlowDomain,
     s: &FlowState,
     prm: &FlowParams,
-    nu: &[f64],
-    qu: &[f64],
-    qv: &[f64],
+    geo: &Geom,
+    f: &Fields,
     c: &mut Coeffs,
 ) {
     let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let rl = nx + 1;
     let turbulent = prm.is_turbulent();
-    let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
-    let u = |i: usize, j: usize| s.u[d.iu(i, j)];
+    let (gam, out, qu, qv) = (&f.gam[..], &f.out[..], &f.qu[..], &f.qv[..]);
+    let (u, v, p) = (&s.u[..], &s.v[..], &s.p[..]);
+    let alpha = prm.relax_velocity;
     for j in 0..ny {
         for i in 1..nx {
-            let k = d.iu(i, j);
+            let k = j * rl + i;
             if d.u_fixed[k].is_some() {
                 c.d[k] = 0.0;
                 continue;
             }
-            let hf = d.hu(i, j);
-            let fe = 0.5 * (qu[d.iu(i, j)] + qu[d.iu(i + 1, j)]);
-            let fw = 0.5 * (qu[d.iu(i - 1, j)] + qu[d.iu(i, j)]);
-            let fnn = 0.5 * (qv[d.iv(i - 1, j + 1)] + qv[d.iv(i, j + 1)]);
-            let fs = 0.5 * (qv[d.iv(i - 1, j)] + qv[d.iv(i, j)]);
-            let sink = 0.5 * (d.outflow(s, d.ic(i - 1, j)) + d.outflow(s, d.ic(i, j)));
-            let de = gam(i, j) * dy / dx;
-            let dw = gam(i - 1, j) * dy / dx;
+            // cell (i, j) east of the face, (i − 1, j) west; its index is also that of y-face (i, j)
+            let cc = j * nx + i;
+            let uk = u[k];
+            let hf = geo.hu[k];
+            let fe = 0.5 * (qu[k] + qu[k + 1]);
+            let fw = 0.5 * (qu[k - 1] + qu[k]);
+            let fnn = 0.5 * (qv[cc - 1 + nx] + qv[cc + nx]);
+            let fs = 0.5 * (qv[cc - 1] + qv[cc]);
+            let sink = 0.5 * (out[cc - 1] + out[cc]);
+            let de = gam[cc] * dy / dx;
+            let dw = gam[cc - 1] * dy / dx;
             let mut b = 0.0;
             let mut ap_wall = 0.0;
-            // north / south: interior shear or a no-slip wall with a second-order one-sided gradient
-            let mut side = |up: bool| -> f64 {
-                let jf = if up { j + 1 } else { j };
-                if d.wall_y(i, jf) && turbulent {
-                    // wall law: the side wall's skin friction, as on the floor sheet (see the module docs)
-                    ap_wall += 0.5 * prm.friction_coefficient * u(i, j).abs() * hf * dx;
-                    0.0
-                } else if d.wall_y(i, jf) {
-                    let g = 0.5 * (gam(i - 1, j) + gam(i, j)) * dx / dy;
-                    let uw = if up && jf == ny { d.lid_speed } else { 0.0 };
-                    // τ·A = g·(9u₁ − u₂ − 8u_w)/3: implicit 8/3·g on u₁ − u_w, deferred g/3·(u₁ − u₂)
-                    let j2 = if up {
-                        j.checked_sub(1)
-                    } else {
-                        Some(j + 1).filter(|&x| x < ny)
-                    };
-                    ap_wall += 8.0 / 3.0 * g;
-                    b += 8.0 / 3.0 * g * uw;
-                    if let Some(j2) = j2 {
-                        b -= g / 3.0 * (u(i, j) - u(i, j2));
-                    }
-                    0.0
-                } else {
-                    let jo = if up { j + 1 } else { j - 1 };
-                    0.25 * (gam(i - 1, j) + gam(i, j) + gam(i - 1, jo) + gam(i, jo)) * dx / dy
-                }
+            // north / south: interior shear, or a wall: in turbulent flow the wall law (the side wall's skin
+            // friction, as on the floor sheet; see the module docs), in laminar flow no slip with a second-order
+            // one-sided gradient, τ·A = g·(9u₁ − u₂ − 8u_w)/3: implicit 8/3·g on u₁ − u_w, deferred g/3·(u₁ − u₂)
+            let wall_law = || 0.5 * prm.friction_coefficient * uk.abs() * hf * dx;
+            let g_wall = || 0.5 * (gam[cc - 1] + gam[cc]) * dx / dy;
+            let dn = if !geo.wall_n[k] {
+                0.25 * (gam[cc - 1] + gam[cc] + gam[cc + nx - 1] + gam[cc + nx]) * dx / dy
+            } else if turbulent {
+                ap_wall += wall_law();
+                0.0
+            } else {
+                let uw = if j + 1 == ny { d.lid_speed } else { 0.0 };
+                let u2 = j.checked_sub(1).map(|j2| u[j2 * rl + i]);
+                no_slip_wall(g_wall(), Some(uw), uk, u2, &mut b, &mut ap_wall);
+                0.0
             };
-            let dn = side(true);
-            let ds = side(false);
+            let ds = if !geo.wall_s[k] {
+                0.25 * (gam[cc - 1] + gam[cc] + gam[cc - nx - 1] + gam[cc - nx]) * dx / dy
+            } else if turbulent {
+                ap_wall += wall_law();
+                0.0
+            } else {
+                let u2 = (j + 1 < ny).then(|| u[(j + 1) * rl + i]);
+                no_slip_wall(g_wall(), Some(0.0), uk, u2, &mut b, &mut ap_wall);
+                0.0
+            };
             let ae = de + (-fe).max(0.0);
             let aw = dw + fw.max(0.0);
             let an = dn + (-fnn).max(0.0);
             let as_ = ds + fs.max(0.0);
             let net = fe - fw + fnn - fs;
-            let vbar = 0.25
-                * (s.v[d.iv(i - 1, j)]
-                    + s.v[d.iv(i, j)]
-                    + s.v[d.iv(i - 1, j + 1)]
-                    + s.v[d.iv(i, j + 1)]);
-            let speed = (u(i, j).powi(2) + vbar * vbar).sqrt();
+            let vbar = 0.25 * (v[cc - 1] + v[cc] + v[cc - 1 + nx] + v[cc + nx]);
+            let speed = (uk.powi(2) + vbar * vbar).sqrt();
             let fric = prm.friction_coefficient * speed * dx * dy;
             let ap = ae
                 + aw
@@ -554,61 +704,43 @@ fn assemble_u(
                 + ap_wall
                 + (net + prm.outflow_momentum_fraction * sink).max(0.0)
                 + fric;
-            // deferred corrections to the chosen convection scheme
-            let g = |ii: isize, jj: isize| -> Option<f64> {
-                (ii >= 0 && ii <= nx as isize && jj >= 0 && jj < ny as isize)
-                    .then(|| u(ii as usize, jj as usize))
-            };
-            let (ii, jj) = (i as isize, j as isize);
-            b -= dc(
-                prm.scheme,
-                fe,
-                g(ii - 1, jj),
-                u(i, j),
-                u(i + 1, j),
-                g(ii + 2, jj),
-            );
+            // deferred corrections to the chosen convection scheme; a far-upwind value beyond the grid is None
+            let sc = prm.scheme;
+            let at = |ok: bool, kk: usize| ok.then(|| u[kk]);
+            b -= dc(sc, fe, Some(u[k - 1]), uk, u[k + 1], at(i + 2 <= nx, k + 2));
             b += dc(
-                prm.scheme,
+                sc,
                 fw,
-                g(ii - 2, jj),
-                u(i - 1, j),
-                u(i, j),
-                g(ii + 1, jj),
+                at(i >= 2, k.wrapping_sub(2)),
+                u[k - 1],
+                uk,
+                Some(u[k + 1]),
             );
-            if !d.wall_y(i, j + 1) {
-                b -= dc(
-                    prm.scheme,
-                    fnn,
-                    g(ii, jj - 1),
-                    u(i, j),
-                    u(i, j + 1),
-                    g(ii, jj + 2),
-                );
+            if !geo.wall_n[k] {
+                let south = at(j >= 1, k.wrapping_sub(rl));
+                b -= dc(sc, fnn, south, uk, u[k + rl], at(j + 2 < ny, k + 2 * rl));
             }
-            if !d.wall_y(i, j) {
+            if !geo.wall_s[k] {
+                let north = at(j + 1 < ny, k + rl);
                 b += dc(
-                    prm.scheme,
+                    sc,
                     fs,
-                    g(ii, jj - 2),
-                    u(i, j - 1),
-                    u(i, j),
-                    g(ii, jj + 1),
+                    at(j >= 2, k.wrapping_sub(2 * rl)),
+                    u[k - rl],
+                    uk,
+                    north,
                 );
             }
             // a jet filling part of the depth brings factor × its depth-mean momentum flux
             if i == 1 {
-                b += fw.max(0.0) * (d.u_momentum_factor[d.iu(0, j)] - 1.0) * u(0, j);
+                b += fw.max(0.0) * (d.u_momentum_factor[k - 1] - 1.0) * u[k - 1];
             }
             if i == nx - 1 {
-                b += (-fe).max(0.0) * (d.u_momentum_factor[d.iu(nx, j)] - 1.0) * u(nx, j);
+                b += (-fe).max(0.0) * (d.u_momentum_factor[k + 1] - 1.0) * u[k + 1];
             }
-            let pw = s.p[d.ic(i - 1, j)];
-            let pe = s.p[d.ic(i, j)];
-            b += hf * dy * (pw - pe);
-            let alpha = prm.relax_velocity;
+            b += hf * dy * (p[cc - 1] - p[cc]);
             c.ap[k] = ap / alpha;
-            c.b[k] = b + (1.0 - alpha) / alpha * ap * u(i, j);
+            c.b[k] = b + (1.0 - alpha) / alpha * ap * uk;
             c.ae[k] = ae;
             c.aw[k] = aw;
             c.an[k] = an;
@@ -618,72 +750,71 @@ fn assemble_u(
     }
 }
 
-/// Assemble the v-momentum equations on interior, unblocked y-faces.
+/// Assemble the v-momentum equations on interior, unblocked y-faces, from the fields `f` at the state `s`.
 fn assemble_v(
     d: &FlowDomain,
     s: &FlowState,
     prm: &FlowParams,
-    nu: &[f64],
-    qu: &[f64],
-    qv: &[f64],
+    geo: &Geom,
+    f: &Fields,
     c: &mut Coeffs,
 ) {
     let (nx, ny, dx, dy) = (d.nx, d.ny, d.dx, d.dy);
+    let rl = nx + 1;
     let turbulent = prm.is_turbulent();
-    let gam = |i: usize, j: usize| nu[d.ic(i, j)] * d.depth[d.ic(i, j)];
-    let v = |i: usize, j: usize| s.v[d.iv(i, j)];
+    let (gam, out, qu, qv) = (&f.gam[..], &f.out[..], &f.qu[..], &f.qv[..]);
+    let (u, v, p) = (&s.u[..], &s.v[..], &s.p[..]);
+    let alpha = prm.relax_velocity;
     for j in 1..ny {
         for i in 0..nx {
-            let k = d.iv(i, j);
+            // face (i, j): cell (i, j) north of it has the same index, cell (i, j − 1) south is k − nx
+            let k = j * nx + i;
             if d.v_fixed[k].is_some() {
                 c.d[k] = 0.0;
                 continue;
             }
-            let hf = d.hv(i, j);
-            let fnn = 0.5 * (qv[d.iv(i, j)] + qv[d.iv(i, j + 1)]);
-            let fs = 0.5 * (qv[d.iv(i, j - 1)] + qv[d.iv(i, j)]);
-            let fe = 0.5 * (qu[d.iu(i + 1, j - 1)] + qu[d.iu(i + 1, j)]);
-            let fw = 0.5 * (qu[d.iu(i, j - 1)] + qu[d.iu(i, j)]);
-            let sink = 0.5 * (d.outflow(s, d.ic(i, j - 1)) + d.outflow(s, d.ic(i, j)));
-            let dn = gam(i, j) * dx / dy;
-            let ds = gam(i, j - 1) * dx / dy;
+            let ku = j * rl + i;
+            let vk = v[k];
+            let hf = geo.hv[k];
+            let fnn = 0.5 * (qv[k] + qv[k + nx]);
+            let fs = 0.5 * (qv[k - nx] + qv[k]);
+            let fe = 0.5 * (qu[ku + 1 - rl] + qu[ku + 1]);
+            let fw = 0.5 * (qu[ku - rl] + qu[ku]);
+            let sink = 0.5 * (out[k - nx] + out[k]);
+            let dn = gam[k] * dx / dy;
+            let ds = gam[k - nx] * dx / dy;
             let mut b = 0.0;
             let mut ap_wall = 0.0;
-            let mut side = |up: bool| -> f64 {
-                let iface = if up { i + 1 } else { i };
-                if d.wall_x(iface, j) && turbulent {
-                    ap_wall += 0.5 * prm.friction_coefficient * v(i, j).abs() * hf * dy;
-                    0.0
-                } else if d.wall_x(iface, j) {
-                    let g = 0.5 * (gam(i, j - 1) + gam(i, j)) * dy / dx;
-                    let i2 = if up {
-                        i.checked_sub(1)
-                    } else {
-                        Some(i + 1).filter(|&x| x < nx)
-                    };
-                    ap_wall += 8.0 / 3.0 * g;
-                    if let Some(i2) = i2 {
-                        b -= g / 3.0 * (v(i, j) - v(i2, j));
-                    }
-                    0.0
-                } else {
-                    let io = if up { i + 1 } else { i - 1 };
-                    0.25 * (gam(i, j - 1) + gam(i, j) + gam(io, j - 1) + gam(io, j)) * dy / dx
-                }
+            // east / west, as north / south for u (no moving wall here)
+            let wall_law = || 0.5 * prm.friction_coefficient * vk.abs() * hf * dy;
+            let g_wall = || 0.5 * (gam[k - nx] + gam[k]) * dy / dx;
+            let de = if !geo.wall_e[k] {
+                0.25 * (gam[k - nx] + gam[k] + gam[k + 1 - nx] + gam[k + 1]) * dy / dx
+            } else if turbulent {
+                ap_wall += wall_law();
+                0.0
+            } else {
+                let v2 = (i >= 1).then(|| v[k - 1]);
+                no_slip_wall(g_wall(), None, vk, v2, &mut b, &mut ap_wall);
+                0.0
             };
-            let de = side(true);
-            let dw = side(false);
+            let dw = if !geo.wall_w[k] {
+                0.25 * (gam[k - nx] + gam[k] + gam[k - 1 - nx] + gam[k - 1]) * dy / dx
+            } else if turbulent {
+                ap_wall += wall_law();
+                0.0
+            } else {
+                let v2 = (i + 1 < nx).then(|| v[k + 1]);
+                no_slip_wall(g_wall(), None, vk, v2, &mut b, &mut ap_wall);
+                0.0
+            };
             let ae = de + (-fe).max(0.0);
             let aw = dw + fw.max(0.0);
             let an = dn + (-fnn).max(0.0);
             let as_ = ds + fs.max(0.0);
             let net = fe - fw + fnn - fs;
-            let ubar = 0.25
-                * (s.u[d.iu(i, j - 1)]
-                    + s.u[d.iu(i + 1, j - 1)]
-                    + s.u[d.iu(i, j)]
-                    + s.u[d.iu(i + 1, j)]);
-            let speed = (v(i, j).powi(2) + ubar * ubar).sqrt();
+            let ubar = 0.25 * (u[ku - rl] + u[ku + 1 - rl] + u[ku] + u[ku + 1]);
+            let speed = (vk.powi(2) + ubar * ubar).sqrt();
             let fric = prm.friction_coefficient * speed * dx * dy;
             let ap = ae
                 + aw
@@ -692,57 +823,41 @@ fn assemble_v(
                 + ap_wall
                 + (net + prm.outflow_momentum_fraction * sink).max(0.0)
                 + fric;
-            let g = |ii: isize, jj: isize| -> Option<f64> {
-                (ii >= 0 && ii < nx as isize && jj >= 0 && jj <= ny as isize)
-                    .then(|| v(ii as usize, jj as usize))
-            };
-            let (ii, jj) = (i as isize, j as isize);
+            let sc = prm.scheme;
+            let at = |ok: bool, kk: usize| ok.then(|| v[kk]);
             b -= dc(
-                prm.scheme,
+                sc,
                 fnn,
-                g(ii, jj - 1),
-                v(i, j),
-                v(i, j + 1),
-                g(ii, jj + 2),
+                Some(v[k - nx]),
+                vk,
+                v[k + nx],
+                at(j + 2 <= ny, k + 2 * nx),
             );
             b += dc(
-                prm.scheme,
+                sc,
                 fs,
-                g(ii, jj - 2),
-                v(i, j - 1),
-                v(i, j),
-                g(ii, jj + 1),
+                at(j >= 2, k.wrapping_sub(2 * nx)),
+                v[k - nx],
+                vk,
+                Some(v[k + nx]),
             );
-            if !d.wall_x(i + 1, j) {
-                b -= dc(
-                    prm.scheme,
-                    fe,
-                    g(ii - 1, jj),
-                    v(i, j),
-                    v(i + 1, j),
-                    g(ii + 2, jj),
-                );
+            if !geo.wall_e[k] {
+                let west = at(i >= 1, k.wrapping_sub(1));
+                b -= dc(sc, fe, west, vk, v[k + 1], at(i + 2 < nx, k + 2));
             }
-            if !d.wall_x(i, j) {
-                b += dc(
-                    prm.scheme,
-                    fw,
-                    g(ii - 2, jj),
-                    v(i - 1, j),
-                    v(i, j),
-                    g(ii + 1, jj),
-                );
+            if !geo.wall_w[k] {
+                let east = at(i + 1 < nx, k + 1);
+                b += dc(sc, fw, at(i >= 2, k.wrapping_sub(2)), v[k - 1], vk, east);
             }
             if j == 1 {
-                b += fs.max(0.0) * (d.v_momentum_factor[d.iv(i, 0)] - 1.0) * v(i, 0);
+                b += fs.max(0.0) * (d.v_momentum_factor[k - nx] - 1.0) * v[k - nx];
             }
             if j == ny - 1 {
-                b += (-fnn).max(0.0) * (d.v_momentum_factor[d.iv(i, ny)] - 1.0) * v(i, ny);
+                b += (-fnn).max(0.0) * (d.v_momentum_factor[k + nx] - 1.0) * v[k + nx];
             }
-            b += hf * dx * (s.p[d.ic(i, j - 1)] - s.p[d.ic(i, j)]);
-            let alpha = prm.relax_velocity;
+            b += hf * dx * (p[k - nx] - p[k]);
             c.ap[k] = ap / alpha;
-            c.b[k] = b + (1.0 - alpha) / alpha * ap * v(i, j);
+            c.b[k] = b + (1.0 - alpha) / alpha * ap * vk;
             c.ae[k] = ae;
             c.aw[k] = aw;
             c.an[k] = an;
@@ -752,13 +867,24 @@ fn assemble_v(
     }
 }
 
-/// Symmetric Gauss–Seidel sweeps on a face field of row length `rl` and `rows` rows; fixed faces stay.
-fn sweep(phi: &mut [f64], c: &Coeffs, fixed: &[Option<f64>], rl: usize, rows: usize, n: usize) {
-    let upd = |phi: &mut [f64], k: usize| {
-        if fixed[k].is_some() || c.ap[k] == 0.0 {
+/// One momentum component's face field for [`sweep_pair`]: values, coefficients, fixed faces, row length and rows.
+struct SweepField<'a> {
+    phi: &'a mut [f64],
+    c: &'a Coeffs,
+    fixed: &'a [Option<f64>],
+    rl: usize,
+    rows: usize,
+}
+
+impl SweepField<'_> {
+    /// Gauss–Seidel update of face (i, j) from its neighbours' current values.
+    #[inline(always)]
+    fn update(&mut self, i: usize, j: usize) {
+        let (rl, k) = (self.rl, j * self.rl + i);
+        let (c, phi) = (self.c, &mut *self.phi);
+        if self.fixed[k].is_some() || c.ap[k] == 0.0 {
             return;
         }
-        let (i, j) = (k % rl, k / rl);
         let mut s = c.b[k];
         if i + 1 < rl {
             s += c.ae[k] * phi[k + 1];
@@ -766,20 +892,42 @@ fn sweep(phi: &mut [f64], c: &Coeffs, fixed: &[Option<f64>], rl: usize, rows: us
         if i > 0 {
             s += c.aw[k] * phi[k - 1];
         }
-        if j + 1 < rows {
+        if j + 1 < self.rows {
             s += c.an[k] * phi[k + rl];
         }
         if j > 0 {
             s += c.as_[k] * phi[k - rl];
         }
         phi[k] = s / c.ap[k];
-    };
-    for _ in 0..n {
-        for k in 0..phi.len() {
-            upd(phi, k);
+    }
+
+    /// Face `i` of row `r` of a forward sweep (rows, then faces along a row, in increasing order), or of a
+    /// backward sweep (both decreasing); nothing outside the field.
+    #[inline(always)]
+    fn step(&mut self, r: usize, i: usize, backward: bool) {
+        if r < self.rows && i < self.rl {
+            if backward {
+                self.update(self.rl - 1 - i, self.rows - 1 - r);
+            } else {
+                self.update(i, r);
+            }
         }
-        for k in (0..phi.len()).rev() {
-            upd(phi, k);
+    }
+}
+
+/// `n` symmetric Gauss–Seidel sweeps on each of two face fields, fixed faces kept: each field's faces are updated
+/// in exactly the order of sweeping it alone, the two fields' updates interleaved so that the processor overlaps
+/// their chains of dependent operations (each update waits for its neighbour's).
+fn sweep_pair(a: &mut SweepField<'_>, b: &mut SweepField<'_>, n: usize) {
+    let (rows, rl) = (a.rows.max(b.rows), a.rl.max(b.rl));
+    for _ in 0..n {
+        for backward in [false, true] {
+            for r in 0..rows {
+                for i in 0..rl {
+                    a.step(r, i, backward);
+                    b.step(r, i, backward);
+                }
+            }
         }
     }
 }
@@ -824,34 +972,36 @@ impl PressureWork {
     /// decoupled by a unit Dirichlet coupling. A sink that answers its pressure adds its conductance to its cell's
     /// diagonal (the change of the outflow with the correction); with any such sink A is definite and nothing is
     /// pinned: the pressure level is then the one at which the sinks take the inflow.
-    fn assemble(&mut self, d: &FlowDomain, cu: &Coeffs, cv: &Coeffs) {
+    fn assemble(&mut self, d: &FlowDomain, geo: &Geom, cu: &Coeffs, cv: &Coeffs) {
         let (nx, ny) = (d.nx, d.ny);
         let op = &mut self.op;
         for j in 0..ny {
             for i in 0..nx {
                 let k = d.ic(i, j);
                 op.tz[k] = if i + 1 < nx {
-                    d.hu(i + 1, j) * d.dy * cu.d[d.iu(i + 1, j)]
+                    let f = d.iu(i + 1, j);
+                    geo.hu[f] * d.dy * cu.d[f]
                 } else {
                     0.0
                 };
                 op.ty[k] = if j + 1 < ny {
-                    d.hv(i, j + 1) * d.dx * cv.d[d.iv(i, j + 1)]
+                    let f = d.iv(i, j + 1);
+                    geo.hv[f] * d.dx * cv.d[f]
                 } else {
                     0.0
                 };
                 op.dir[k] = d.sink_conductance[k];
             }
         }
-        op.finish();
+        let d0 = op.diagonal(0);
         for k in 0..nx * ny {
-            if op.diag[k] <= 0.0 {
+            if op.diagonal(k) <= 0.0 {
                 op.dir[k] = 1.0;
             }
         }
         self.definite = d.sink_conductance.iter().any(|&g| g > 0.0);
-        if !self.definite && op.diag[0] > 0.0 {
-            op.dir[0] = op.diag[0];
+        if !self.definite && d0 > 0.0 {
+            op.dir[0] = d0;
         }
         op.finish();
         self.mg.rebuild(&self.op);
@@ -915,6 +1065,27 @@ fn dot(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| x * y).sum()
 }
 
+/// `dot(v, x)` for every `v` of `vs`, each summed in index order as [`dot`] sums it (the same result to the
+/// bit), four at a time in one pass so that their additions overlap (a last group of fewer is padded with
+/// repeats whose sums are dropped).
+fn dots<'a>(vs: impl IntoIterator<Item = &'a [f64]>, x: &[f64]) -> Vec<f64> {
+    let vs: Vec<&[f64]> = vs.into_iter().collect();
+    let mut out = Vec::with_capacity(vs.len());
+    for g in vs.chunks(4) {
+        let pick = |i: usize| g[i.min(g.len() - 1)];
+        let (a, b, c, d) = (pick(0), pick(1), pick(2), pick(3));
+        let mut s = [-0.0_f64; 4];
+        for ((((xk, a), b), c), d) in x.iter().zip(a).zip(b).zip(c).zip(d) {
+            s[0] += a * xk;
+            s[1] += b * xk;
+            s[2] += c * xk;
+            s[3] += d * xk;
+        }
+        out.extend_from_slice(&s[..g.len()]);
+    }
+    out
+}
+
 fn check_domain(d: &FlowDomain) -> Result<(), FlowError> {
     let bad = |m: &str| Err(FlowError::Domain(m.to_string()));
     if d.nx < 2 || d.ny < 2 {
@@ -971,14 +1142,51 @@ pub fn mass_imbalance(d: &FlowDomain, s: &FlowState) -> Vec<f64> {
     r
 }
 
+/// Net volumetric imbalance per cell as [`mass_imbalance`], on the face depths of `geo`, into `r`.
+fn mass_imbalance_into(d: &FlowDomain, geo: &Geom, s: &FlowState, r: &mut [f64]) {
+    let (nx, rl) = (d.nx, d.nx + 1);
+    let (hu, hv, u, v) = (&geo.hu[..], &geo.hv[..], &s.u[..], &s.v[..]);
+    for j in 0..d.ny {
+        for i in 0..nx {
+            let (c, ku) = (j * nx + i, j * rl + i);
+            let out = hu[ku + 1] * u[ku + 1] * d.dy - hu[ku] * u[ku] * d.dy
+                + hv[c + nx] * v[c + nx] * d.dx
+                - hv[c] * v[c] * d.dx;
+            r[c] = out + d.outflow(s, c);
+        }
+    }
+}
+
 /// Work space of the SIMPLEC iteration, kept across the iterations of one call.
 struct Work {
-    /// Distance of each cell to the nearest wall or baffle, m ([`wall_bound`]).
-    wall: Vec<f64>,
+    geo: Geom,
+    fields: Fields,
     cu: Coeffs,
     cv: Coeffs,
     pc: Vec<f64>,
+    /// The mass imbalance (negated: the pressure correction's right-hand side), then the one after the step.
+    r: Vec<f64>,
+    /// The velocities before the step.
+    u0: Vec<f64>,
+    v0: Vec<f64>,
     pressure: PressureWork,
+}
+
+impl Work {
+    fn new(d: &FlowDomain, prm: &FlowParams) -> Self {
+        let (nu, nv) = ((d.nx + 1) * d.ny, d.nx * (d.ny + 1));
+        Work {
+            geo: Geom::new(d, prm),
+            fields: Fields::new(d),
+            cu: Coeffs::new(nu),
+            cv: Coeffs::new(nv),
+            pc: vec![0.0; d.nx * d.ny],
+            r: vec![0.0; d.nx * d.ny],
+            u0: vec![0.0; nu],
+            v0: vec![0.0; nv],
+            pressure: PressureWork::new(d),
+        }
+    }
 }
 
 /// One SIMPLEC iteration on `state`: momentum assembled at the current field and relaxed, the pressure correction
@@ -991,22 +1199,40 @@ fn simplec_step(
     w: &mut Work,
 ) -> (f64, f64, u32) {
     let Work {
-        wall,
+        geo,
+        fields,
         cu,
         cv,
         pc,
+        r,
+        u0,
+        v0,
         pressure,
     } = w;
-    let nu = eddy_viscosity(d, state, prm, wall);
-    let (qu, qv) = fluxes(d, state);
-    assemble_u(d, state, prm, &nu, &qu, &qv, cu);
-    assemble_v(d, state, prm, &nu, &qu, &qv, cv);
-    let (u0, v0) = (state.u.clone(), state.v.clone());
-    sweep(&mut state.u, cu, &d.u_fixed, d.nx + 1, d.ny, 2);
-    sweep(&mut state.v, cv, &d.v_fixed, d.nx, d.ny + 1, 2);
-    let r: Vec<f64> = mass_imbalance(d, state).iter().map(|x| -x).collect();
-    pressure.assemble(d, cu, cv);
-    let pressure_iters = pressure.solve(&r, 0.05, pc);
+    fields.fill(d, state, prm, geo);
+    assemble_u(d, state, prm, geo, fields, cu);
+    assemble_v(d, state, prm, geo, fields, cv);
+    u0.copy_from_slice(&state.u);
+    v0.copy_from_slice(&state.v);
+    let mut su = SweepField {
+        phi: &mut state.u,
+        c: cu,
+        fixed: &d.u_fixed,
+        rl: d.nx + 1,
+        rows: d.ny,
+    };
+    let mut sv = SweepField {
+        phi: &mut state.v,
+        c: cv,
+        fixed: &d.v_fixed,
+        rl: d.nx,
+        rows: d.ny + 1,
+    };
+    sweep_pair(&mut su, &mut sv, 2);
+    mass_imbalance_into(d, geo, state, r);
+    r.iter_mut().for_each(|x| *x = -*x);
+    pressure.assemble(d, geo, cu, cv);
+    let pressure_iters = pressure.solve(r, 0.05, pc);
     for j in 0..d.ny {
         for i in 1..d.nx {
             let k = d.iu(i, j);
@@ -1028,14 +1254,12 @@ fn simplec_step(
         .chain(&state.v)
         .fold(d.lid_speed.abs(), |m, x| m.max(x.abs()))
         .max(1e-300);
-    let du = state.u.iter().zip(&u0).map(|(a, b)| (a - b).abs());
-    let dvv = state.v.iter().zip(&v0).map(|(a, b)| (a - b).abs());
+    let du = state.u.iter().zip(u0.iter()).map(|(a, b)| (a - b).abs());
+    let dvv = state.v.iter().zip(v0.iter()).map(|(a, b)| (a - b).abs());
     let dv = du.chain(dvv).fold(0.0, f64::max) / vref;
-    let qref = vref * d.depth.iter().fold(0.0_f64, |m, x| m.max(*x)) * d.dx.max(d.dy);
-    let dm = mass_imbalance(d, state)
-        .iter()
-        .fold(0.0_f64, |m, x| m.max(x.abs()))
-        / qref;
+    let qref = vref * geo.h_max * d.dx.max(d.dy);
+    mass_imbalance_into(d, geo, state, r);
+    let dm = r.iter().fold(0.0_f64, |m, x| m.max(x.abs())) / qref;
     (dv, dm, pressure_iters)
 }
 
@@ -1051,6 +1275,8 @@ struct Anderson {
     /// Inner products of the kept `df`, `gram[i][j] = df[i]·df[j]`, updated as differences come and go.
     gram: Vec<Vec<f64>>,
     last: Option<(Vec<f64>, Vec<f64>)>,
+    /// Vectors no longer in use, filled again instead of allocating new ones.
+    spare: Vec<Vec<f64>>,
 }
 
 impl Anderson {
@@ -1061,63 +1287,78 @@ impl Anderson {
             dg: Vec::new(),
             gram: Vec::new(),
             last: None,
+            spare: Vec::new(),
         }
     }
 
     fn reset(&mut self) {
         self.clear_history();
-        self.last = None;
+        if let Some((f, g)) = self.last.take() {
+            self.spare.extend([f, g]);
+        }
     }
 
     fn clear_history(&mut self) {
-        self.df.clear();
-        self.dg.clear();
+        self.spare.append(&mut self.df);
+        self.spare.append(&mut self.dg);
         self.gram.clear();
     }
 
-    /// `x` is the iterate before the step, `s` holds G(x) on entry and the accelerated iterate on exit.
+    /// An empty vector, a spare one when there is one.
+    fn take(&mut self) -> Vec<f64> {
+        let mut v = self.spare.pop().unwrap_or_default();
+        v.clear();
+        v
+    }
+
+    /// `x` is the iterate before the step, `s` holds G(x) on entry and the accelerated iterate on exit. The inner
+    /// products are summed element by element in index order, as [`dot`] sums them, several at once in one pass.
     fn mix(&mut self, x: &[f64], s: &mut FlowState, vref: f64) {
         if self.depth == 0 {
             return;
         }
         let (nu, nv) = (s.u.len(), s.v.len());
-        let g: Vec<f64> = s.u.iter().chain(&s.v).chain(&s.p).copied().collect();
+        let mut g = self.take();
+        for part in [&s.u, &s.v, &s.p] {
+            g.extend_from_slice(part);
+        }
         let wp = 1.0 / vref.max(1e-300);
-        let f: Vec<f64> = g
-            .iter()
-            .zip(x)
-            .enumerate()
-            .map(|(k, (a, b))| if k < nu + nv { a - b } else { (a - b) * wp })
-            .collect();
-        if let Some((f0, g0)) = self.last.take() {
+        let mut f = self.take();
+        let (gv, gp) = g.split_at(nu + nv);
+        let (xv, xp) = x.split_at(nu + nv);
+        f.extend(gv.iter().zip(xv).map(|(a, b)| a - b));
+        f.extend(gp.iter().zip(xp).map(|(a, b)| (a - b) * wp));
+        if let Some((mut f0, mut g0)) = self.last.take() {
             if self.df.len() == self.depth {
-                self.df.remove(0);
-                self.dg.remove(0);
+                let (df, dg) = (self.df.remove(0), self.dg.remove(0));
+                self.spare.extend([df, dg]);
                 self.gram.remove(0);
                 self.gram.iter_mut().for_each(|row| {
                     row.remove(0);
                 });
             }
-            let new: Vec<f64> = f.iter().zip(&f0).map(|(a, b)| a - b).collect();
-            let mut row: Vec<f64> = self.df.iter().map(|d| dot(d, &new)).collect();
-            row.push(dot(&new, &new));
+            // f0 and g0 become the new differences f − f0 and g − g0
+            for (a, b) in f0.iter_mut().zip(&f) {
+                *a = b - *a;
+            }
+            for (a, b) in g0.iter_mut().zip(&g) {
+                *a = b - *a;
+            }
+            let row = dots(self.df.iter().chain([&f0]).map(|v| &v[..]), &f0);
             for (r, v) in self.gram.iter_mut().zip(&row) {
                 r.push(*v);
             }
             self.gram.push(row);
-            self.df.push(new);
-            self.dg
-                .push(g.iter().zip(&g0).map(|(a, b)| a - b).collect());
+            self.df.push(f0);
+            self.dg.push(g0);
         }
+        let mut rhs = dots(self.df.iter().map(|v| &v[..]), &f);
         let m = self.df.len();
-        let mut out = g.clone();
         if m > 0 {
             // normal equations of the small least-squares problem, lightly regularised
             let mut a = vec![0.0; m * m];
-            let mut rhs = vec![0.0; m];
             for i in 0..m {
                 a[i * m..(i + 1) * m].copy_from_slice(&self.gram[i]);
-                rhs[i] = dot(&self.df[i], &f);
             }
             let tr = (0..m).map(|i| a[i * m + i]).sum::<f64>() / m as f64;
             for i in 0..m {
@@ -1125,21 +1366,26 @@ impl Anderson {
             }
             match solve_small(&mut a, &mut rhs, m) {
                 Some(gamma) => {
+                    // G(x) − ΔG·γ, written over s (which holds G(x)), or G(x) kept if that is not finite
                     for (gj, dgj) in gamma.iter().zip(&self.dg) {
-                        for (o, d) in out.iter_mut().zip(dgj) {
-                            *o -= gj * d;
+                        let (du, rest) = dgj.split_at(nu);
+                        let (dv, dp) = rest.split_at(nv);
+                        for (part, d) in [(&mut s.u, du), (&mut s.v, dv), (&mut s.p, dp)] {
+                            for (o, d) in part.iter_mut().zip(d) {
+                                *o -= gj * d;
+                            }
                         }
+                    }
+                    let finite = |v: &[f64]| v.iter().all(|x| x.is_finite());
+                    if !(finite(&s.u) && finite(&s.v) && finite(&s.p)) {
+                        s.u.copy_from_slice(&g[..nu]);
+                        s.v.copy_from_slice(&g[nu..nu + nv]);
+                        s.p.copy_from_slice(&g[nu + nv..]);
+                        self.clear_history();
                     }
                 }
                 None => self.clear_history(),
             }
-        }
-        if out.iter().all(|v| v.is_finite()) {
-            s.u.copy_from_slice(&out[..nu]);
-            s.v.copy_from_slice(&out[nu..nu + nv]);
-            s.p.copy_from_slice(&out[nu + nv..]);
-        } else {
-            self.clear_history();
         }
         self.last = Some((f, g));
     }
@@ -1189,13 +1435,7 @@ fn iterate(
         *state = FlowState::at_rest(d);
     }
     state.apply_fixed(d);
-    let mut w = Work {
-        wall: wall_bound(d, prm),
-        cu: Coeffs::new(state.u.len()),
-        cv: Coeffs::new(state.v.len()),
-        pc: vec![0.0; d.nx * d.ny],
-        pressure: PressureWork::new(d),
-    };
+    let mut w = Work::new(d, prm);
     let mut acc = Anderson::new(anderson);
     let mut stats = FlowStats {
         iters: 0,
@@ -1208,7 +1448,9 @@ fn iterate(
     for it in 1..=max {
         if anderson > 0 {
             x.clear();
-            x.extend(state.u.iter().chain(&state.v).chain(&state.p));
+            for part in [&state.u, &state.v, &state.p] {
+                x.extend_from_slice(part);
+            }
         }
         let (dv, dm, pi) = simplec_step(d, prm, state, &mut w);
         if !(dv.is_finite() && dm.is_finite()) {
