@@ -320,6 +320,35 @@ impl DeepBedDrier {
         self.remembered().len()
     }
 
+    /// One drying through the load path (errors are not remembered: they name the load and dryer).
+    fn dry_once(
+        &self,
+        load: &Load,
+        dryer: &DryerUnit,
+        start: DateTime<FixedOffset>,
+    ) -> Result<DryingResult, SeasonError> {
+        let spec = self.template.spec_for(load, dryer, start)?;
+        match run_load(&spec, &mut ()) {
+            Ok(r) => Ok(drying_result(&r)),
+            // Already at or below target: nothing to dry; it still takes its slot for the turnaround.
+            Err(LoadError::Run(RunError::TargetNotBelowInitial { .. })) => Ok(DryingResult {
+                hours: 0.0,
+                fuel_l: 0.0,
+                kwh: 0.0,
+                moisture_out_pct: load.moisture_pct,
+                over_dried_kg: 0.0,
+                shrink_kg: 0.0,
+                finished: true,
+                air_per_m3: None,
+            }),
+            Err(e) => Err(SeasonError::Drying {
+                load: load.id.clone(),
+                dryer: dryer.id.clone(),
+                failure: DryingFailure::Load(Box::new(e)),
+            }),
+        }
+    }
+
     fn remembered(&self) -> std::sync::MutexGuard<'_, HashMap<DryingKey, DryingResult>> {
         // A panic elsewhere cannot leave the map half-written (inserts are whole), so a poisoned lock is still good.
         self.done.lock().unwrap_or_else(|p| p.into_inner())
@@ -356,37 +385,6 @@ impl LoadDrier for DeepBedDrier {
         let result = self.dry_once(load, dryer, start)?;
         self.remembered().insert(key, result);
         Ok(result)
-    }
-}
-
-impl DeepBedDrier {
-    /// One drying through the load path (errors are not remembered: they name the load and dryer).
-    fn dry_once(
-        &self,
-        load: &Load,
-        dryer: &DryerUnit,
-        start: DateTime<FixedOffset>,
-    ) -> Result<DryingResult, SeasonError> {
-        let spec = self.template.spec_for(load, dryer, start)?;
-        match run_load(&spec, &mut ()) {
-            Ok(r) => Ok(drying_result(&r)),
-            // Already at or below target: nothing to dry; it still takes its slot for the turnaround.
-            Err(LoadError::Run(RunError::TargetNotBelowInitial { .. })) => Ok(DryingResult {
-                hours: 0.0,
-                fuel_l: 0.0,
-                kwh: 0.0,
-                moisture_out_pct: load.moisture_pct,
-                over_dried_kg: 0.0,
-                shrink_kg: 0.0,
-                finished: true,
-                air_per_m3: None,
-            }),
-            Err(e) => Err(SeasonError::Drying {
-                load: load.id.clone(),
-                dryer: dryer.id.clone(),
-                failure: DryingFailure::Load(Box::new(e)),
-            }),
-        }
     }
 }
 
