@@ -177,10 +177,15 @@ fn bench_plenum2d(c: &mut Criterion) {
         tolerance: RESOLVE_TOLERANCE,
         ..settings
     };
+    // Inside one pool entered once, as `cli::run` runs every command: a loop too small to split stays on its pool
+    // thread instead of being handed from the bench's thread to the pool and back.
+    let pool = rayon::ThreadPoolBuilder::new().build().unwrap();
     let solve_to =
         |s: &SolverSettings, pl: &mut Plenum2d, a: &AirPath, from: Option<&AirflowSolution>| {
             let warm = from.map(|s| &s.warm);
-            solve_with_plenum_from(&container, &disc, &flow, &law, a, s, pl, warm).unwrap()
+            pool.install(|| {
+                solve_with_plenum_from(&container, &disc, &flow, &law, a, s, pl, warm).unwrap()
+            })
         };
     let solve_on = |pl: &mut Plenum2d, a: &AirPath, from: Option<&AirflowSolution>| {
         solve_to(&settings, pl, a, from)

@@ -27,22 +27,15 @@ use rayon::prelude::*;
 /// Fixed number of elements per parallel block (results independent of thread count).
 pub(crate) const BLOCK: usize = 8192;
 
-/// `f(block, chunk)` on the chunks of `data` of `size` elements: in parallel when there are several, on this
-/// thread when there is one, so that a small level (the coarse ones, the 2-D plenum's pressure correction) is not
-/// handed to the pool and back (see DEVELOPERS.md, "Threads"). Each chunk is computed the same way either way.
+/// `f(block, chunk)` on the chunks of `data` of `size` elements, in parallel (a loop of one chunk stays on the
+/// calling pool thread: the program runs inside one pool, see DEVELOPERS.md, "Threads").
 fn for_blocks<F>(data: &mut [f64], size: usize, f: F)
 where
     F: Fn(usize, &mut [f64]) + Sync + Send,
 {
-    if data.len() <= size {
-        if !data.is_empty() {
-            f(0, data);
-        }
-    } else {
-        data.par_chunks_mut(size)
-            .enumerate()
-            .for_each(|(blk, chunk)| f(blk, chunk));
-    }
+    data.par_chunks_mut(size)
+        .enumerate()
+        .for_each(|(blk, chunk)| f(blk, chunk));
 }
 
 /// Red columns are those with i + j even.
@@ -150,22 +143,12 @@ impl LineOp {
             }
         };
         let size = cpb * nz;
-        if self.diag.len() <= size {
-            factor(
-                0,
-                (
-                    (&mut self.diag[..], &mut self.cprime[..]),
-                    &mut self.inv_den[..],
-                ),
-            );
-        } else {
-            self.diag
-                .par_chunks_mut(size)
-                .zip(self.cprime.par_chunks_mut(size))
-                .zip(self.inv_den.par_chunks_mut(size))
-                .enumerate()
-                .for_each(|(blk, parts)| factor(blk, parts));
-        }
+        self.diag
+            .par_chunks_mut(size)
+            .zip(self.cprime.par_chunks_mut(size))
+            .zip(self.inv_den.par_chunks_mut(size))
+            .enumerate()
+            .for_each(|(blk, parts)| factor(blk, parts));
     }
 
     /// y = A·x.
@@ -410,22 +393,14 @@ impl LineOp {
             }
         };
         let size = cpb * nz;
-        if coarse.tx.len() <= size {
-            let parts = (
-                ((&mut coarse.tx[..], &mut coarse.ty[..]), &mut coarse.tz[..]),
-                &mut coarse.dir[..],
-            );
-            sum(0, parts);
-        } else {
-            coarse
-                .tx
-                .par_chunks_mut(size)
-                .zip(coarse.ty.par_chunks_mut(size))
-                .zip(coarse.tz.par_chunks_mut(size))
-                .zip(coarse.dir.par_chunks_mut(size))
-                .enumerate()
-                .for_each(|(blk, parts)| sum(blk, parts));
-        }
+        coarse
+            .tx
+            .par_chunks_mut(size)
+            .zip(coarse.ty.par_chunks_mut(size))
+            .zip(coarse.tz.par_chunks_mut(size))
+            .zip(coarse.dir.par_chunks_mut(size))
+            .enumerate()
+            .for_each(|(blk, parts)| sum(blk, parts));
         coarse.finish();
     }
 
