@@ -38,6 +38,33 @@ where
         .for_each(|(blk, chunk)| f(blk, chunk));
 }
 
+/// A cell's diagonal: its boundary term and its couplings to the six neighbours (those at i + 1, j + 1, k + 1 stored
+/// at the cell, the others at the neighbour), for cell (i, j, k) at flat index `idx`.
+#[allow(clippy::too_many_arguments)]
+#[inline]
+fn diagonal_at(
+    tx: &[f64],
+    ty: &[f64],
+    tz: &[f64],
+    dir: &[f64],
+    ny: usize,
+    nz: usize,
+    (i, j, k): (usize, usize, usize),
+    idx: usize,
+) -> f64 {
+    let mut d = dir[idx] + tx[idx] + ty[idx] + tz[idx];
+    if i > 0 {
+        d += tx[idx - ny * nz];
+    }
+    if j > 0 {
+        d += ty[idx - nz];
+    }
+    if k > 0 {
+        d += tz[idx - 1];
+    }
+    d
+}
+
 /// Red columns are those with i + j even.
 const RED: usize = 0;
 /// Black columns are those with i + j odd.
@@ -91,26 +118,16 @@ impl LineOp {
 
     /// The diagonal of cell `idx` from the couplings, as [`LineOp::finish`] sets it.
     pub fn diagonal(&self, idx: usize) -> f64 {
-        let (ny, nz) = (self.ny, self.nz);
-        let c = idx / nz;
-        let (i, j, k) = (c / ny, c % ny, idx % nz);
-        let mut d = self.dir[idx] + self.tx[idx] + self.ty[idx] + self.tz[idx];
-        if i > 0 {
-            d += self.tx[idx - ny * nz];
-        }
-        if j > 0 {
-            d += self.ty[idx - nz];
-        }
-        if k > 0 {
-            d += self.tz[idx - 1];
-        }
-        d
+        let c = idx / self.nz;
+        let at = (c / self.ny, c % self.ny, idx % self.nz);
+        diagonal_at(
+            &self.tx, &self.ty, &self.tz, &self.dir, self.ny, self.nz, at, idx,
+        )
     }
 
     /// Diagonal from the couplings, then the Thomas factors of every vertical line.
     pub fn finish(&mut self) {
         let (ny, nz) = (self.ny, self.nz);
-        let nyz = ny * nz;
         let cpb = self.cols_per_block();
         let (tx, ty, tz, dir) = (&self.tx, &self.ty, &self.tz, &self.dir);
         let factor = |blk: usize, ((dg, cp), iv): ((&mut [f64], &mut [f64]), &mut [f64])| {
@@ -122,16 +139,7 @@ impl LineOp {
                 let mut cp_prev = 0.0;
                 for k in 0..nz {
                     let idx = base + k;
-                    let mut d = dir[idx] + tx[idx] + ty[idx] + tz[idx];
-                    if i > 0 {
-                        d += tx[idx - nyz];
-                    }
-                    if j > 0 {
-                        d += ty[idx - nz];
-                    }
-                    if k > 0 {
-                        d += tz[idx - 1];
-                    }
+                    let d = diagonal_at(tx, ty, tz, dir, ny, nz, (i, j, k), idx);
                     let l = ci * nz + k;
                     dg[l] = d;
                     let den = if k > 0 { d + tz[idx - 1] * cp_prev } else { d };
