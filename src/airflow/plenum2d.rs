@@ -477,18 +477,7 @@ impl Geom {
                 }
             }
         }
-        let wall = wall_bound(d, prm);
-        let lm2 = d
-            .depth
-            .iter()
-            .zip(&wall)
-            .map(|(h, w)| {
-                // the mixing length is also bounded by κ × the distance to the nearest wall, side wall or baffle
-                // (Prandtl's wall law)
-                let lm = (prm.mixing_length_ratio * h).min(KAPPA * w);
-                lm * lm
-            })
-            .collect();
+        let lm2 = mixing_lengths_sq(d, prm, &wall_bound(d, prm));
         Geom {
             hu,
             hv,
@@ -500,6 +489,19 @@ impl Geom {
             h_max: d.depth.iter().fold(0.0_f64, |m, x| m.max(*x)),
         }
     }
+}
+
+/// Each cell's mixing length squared, `min(c_m·h, κ·wall)²`, with `wall` from [`wall_bound`]: the mixing length is
+/// also bounded by κ × the distance to the nearest wall, side wall or baffle (Prandtl's wall law).
+fn mixing_lengths_sq(d: &FlowDomain, prm: &FlowParams, wall: &[f64]) -> Vec<f64> {
+    d.depth
+        .iter()
+        .zip(wall)
+        .map(|(h, w)| {
+            let lm = (prm.mixing_length_ratio * h).min(KAPPA * w);
+            lm * lm
+        })
+        .collect()
 }
 
 /// The fields one SIMPLEC iteration assembles from, refilled in place every iteration: effective viscosity ν_e and
@@ -549,17 +551,8 @@ impl Fields {
 /// Effective viscosity per cell; `wall` from [`wall_bound`] on the same domain.
 #[cfg(test)]
 fn eddy_viscosity(d: &FlowDomain, s: &FlowState, prm: &FlowParams, wall: &[f64]) -> Vec<f64> {
-    let lm2: Vec<f64> = d
-        .depth
-        .iter()
-        .zip(wall)
-        .map(|(h, w)| {
-            let lm = (prm.mixing_length_ratio * h).min(KAPPA * w);
-            lm * lm
-        })
-        .collect();
     let mut f = Fields::new(d);
-    eddy_viscosity_into(d, s, prm, &lm2, &mut f);
+    eddy_viscosity_into(d, s, prm, &mixing_lengths_sq(d, prm, wall), &mut f);
     f.nu
 }
 
