@@ -267,7 +267,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         law: bed_law(&spec.crop),
         settings: SolverSettings {
             grid: spec.grid,
-            plenum: container.plenum_model(),
+            plenum: container.plenum_model_on(spec.grid),
             ..SolverSettings::default()
         },
         resolve_tolerance: RESOLVE_TOLERANCE,

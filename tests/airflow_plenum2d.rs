@@ -366,24 +366,43 @@ fn a_plenum_coarser_than_the_columns_conserves_and_agrees() {
     assert!(worst < COARSE_PLENUM_COLUMN_TOLERANCE);
 }
 
-/// The container file chooses the plenum model; the default is the 1-D duct.
+/// The container file chooses the plenum model. Where it names none, the 2-D plenum is the default on a grid that
+/// gives it at least `DEFAULT_TWO_D_MIN_CELLS` (8) cells across the inlet's wall, and the 1-D duct on coarser
+/// grids, unless the geometry needs the 2-D plenum (a side inlet, baffles), which it then gets on any grid.
 #[test]
 fn the_container_file_chooses_the_plenum_model() {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/models/containers/trailer-6m.json"
-    ))
-    .unwrap();
+    let grid = |nx, ny| Grid { nx, ny, nz: 4 };
+    let read = |name: &str| {
+        let path = format!("{}/models/containers/{name}", env!("CARGO_MANIFEST_DIR"));
+        std::fs::read_to_string(path).unwrap()
+    };
+    let text = read("trailer-6m.json");
     let path = std::path::Path::new("trailer-6m.json");
     let plain = Container::from_json_str(&text, path).unwrap();
-    assert_eq!(plain.plenum_model(), PlenumModel::default());
+    assert!(plain.named_plenum_model().is_none());
+    // a season's 4 × 2 grid: 2 plenum cells per 0.6 m column, 4 across the 2.4 m width
+    assert_eq!(plain.plenum_model_on(grid(4, 2)), PlenumModel::default());
+    // 3 columns across: 6 plenum cells, still the duct; 4 columns across: 8, the 2-D plenum
+    assert_eq!(plain.plenum_model_on(grid(8, 3)), PlenumModel::default());
+    assert_eq!(
+        plain.plenum_model_on(grid(8, 4)),
+        PlenumModel::TwoD(Plenum2dParams::default())
+    );
+    // the scenario's 16 × 6 grid (12 across)
+    assert_eq!(plain.plenum_model_on(grid(16, 6)).name(), "2d");
+    // a side inlet needs the 2-D plenum, named or not, on any grid
+    let side =
+        read("trailer-6m-side.json").replacen(",\n  \"plenum\": { \"model\": \"2d\" }", "", 1);
+    let side = Container::from_json_str(&side, std::path::Path::new("side.json")).unwrap();
+    assert!(side.named_plenum_model().is_none());
+    assert_eq!(side.plenum_model_on(grid(4, 2)).name(), "2d");
     let with = text.replacen(
         "\"leakage_m3_per_s_per_sqrt_pa\"",
         "\"plenum\": { \"model\": \"2d\", \"cells_per_column\": 3 },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
         1,
     );
     let c = Container::from_json_str(&with, path).unwrap();
-    match c.plenum_model() {
+    match c.plenum_model_on(grid(4, 2)) {
         PlenumModel::TwoD(p) => {
             assert_eq!(p.cells_per_column, Some(3));
             assert_eq!(
@@ -393,13 +412,20 @@ fn the_container_file_chooses_the_plenum_model() {
         }
         m => panic!("expected the 2-D model, got {m:?}"),
     }
-    let uniform = text.replacen(
-        "\"leakage_m3_per_s_per_sqrt_pa\"",
-        "\"plenum\": { \"model\": \"uniform\" },\n  \"leakage_m3_per_s_per_sqrt_pa\"",
-        1,
-    );
-    let c = Container::from_json_str(&uniform, path).unwrap();
-    assert_eq!(c.plenum_model(), PlenumModel::Uniform);
+    for (name, model) in [
+        ("uniform", PlenumModel::Uniform),
+        ("duct", PlenumModel::default()),
+    ] {
+        let named = text.replacen(
+            "\"leakage_m3_per_s_per_sqrt_pa\"",
+            &format!(
+                "\"plenum\": {{ \"model\": \"{name}\" }},\n  \"leakage_m3_per_s_per_sqrt_pa\""
+            ),
+            1,
+        );
+        let c = Container::from_json_str(&named, path).unwrap();
+        assert_eq!(c.plenum_model_on(grid(64, 24)), model, "{name}");
+    }
 }
 
 /// The bundled 6.4 m trailer with its centred 0.8 × 0.4 m end inlet at 230 m³/min, packing factor 1.5 (the

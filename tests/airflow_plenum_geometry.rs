@@ -487,7 +487,7 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
         ny: 6,
         nz: 4,
     };
-    let err = try_run(&c, c.plenum_model(), grid).unwrap_err();
+    let err = try_run(&c, c.plenum_model_on(grid), grid).unwrap_err();
     let msg = err.to_string();
     eprintln!("{msg}");
     assert!(matches!(
@@ -513,7 +513,7 @@ fn a_grid_too_coarse_for_a_gap_between_baffles_is_refused() {
         ny: 54,
         nz: 2,
     };
-    let msg = try_run(&fine, fine.plenum_model(), grid)
+    let msg = try_run(&fine, fine.plenum_model_on(grid), grid)
         .unwrap_err()
         .to_string();
     assert!(msg.contains("cannot be reached from the inlet"), "{msg}");

@@ -161,9 +161,10 @@ fn side_inlet_profile_runs_across_the_width() {
 #[test]
 fn duct_plenum_writes_no_field_and_one_line() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, out, err) = common::dryfront(&args(&["--out", "o"]), dir.path());
+    let (code, out, err) = common::dryfront(&args(&["--plenum", "duct", "--out", "o"]), dir.path());
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("plenum model: duct"), "{out}");
+    assert!(!out.contains("the default for this grid"), "{out}");
     let o = dir.path().join("o");
     assert!(!o.join("plenum.csv").exists());
     assert!(!o.join("plenum_flow.svg").exists());

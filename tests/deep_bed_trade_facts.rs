@@ -63,7 +63,7 @@ fn wagon_on_harvest_weather_meets_the_published_result_on_unfitted_dates() {
 /// moves air between columns. The bound is 0.5 %, not round-off, because the two plenums do move air differently.
 #[test]
 fn the_published_wagon_result_holds_under_the_2d_plenum() {
-    let (dh, dl) = medians(PlenumChoice::default());
+    let (dh, dl) = medians(PlenumChoice::Duct {});
     let (mh, ml) = medians(PlenumChoice::TwoD {
         cells_per_column: None,
         mixing_length_ratio: None,

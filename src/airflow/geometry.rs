@@ -168,14 +168,19 @@ pub struct Permeability {
     pub blocks: Vec<PermeabilityBlock>,
 }
 
-/// Which plenum model the container's air is solved with (the container file's `"plenum"` object; the 1-D duct
-/// when it is absent). The 2-D model's numerical settings may be given; the rest keep
+/// Which plenum model the container's air is solved with (the container file's `"plenum"` object; when it is
+/// absent, [`PlenumChoice::Default`]: the 2-D plenum wherever the bed grid resolves it, see
+/// [`Container::plenum_model_on`]). The 2-D model's numerical settings may be given; the rest keep
 /// [`Plenum2dParams`]'s documented defaults.
 /// (`Duct {}` and `Uniform {}` are empty struct variants rather than unit ones so that a stray field beside their
 /// `model` is refused: serde ignores extra fields of an internally tagged unit variant.)
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "model", deny_unknown_fields)]
 pub enum PlenumChoice {
+    /// No model named: the 2-D plenum where the grid resolves it, else the duct ([`Container::plenum_model_on`]).
+    /// Not a name a file can give; left out of written files.
+    #[serde(skip)]
+    Default,
     /// The 1-D dividing-flow duct along the length (`airflow::plenum`).
     #[serde(rename = "duct")]
     Duct {},
@@ -196,14 +201,14 @@ pub enum PlenumChoice {
 
 impl Default for PlenumChoice {
     fn default() -> Self {
-        PlenumChoice::Duct {}
+        PlenumChoice::Default
     }
 }
 
 impl PlenumChoice {
-    /// True for the default, the 1-D duct.
-    pub fn is_duct(&self) -> bool {
-        *self == PlenumChoice::Duct {}
+    /// True when the file names no model.
+    pub fn is_default(&self) -> bool {
+        *self == PlenumChoice::Default
     }
 
     /// The model named `name` (`duct`, `uniform` or `2d`, as in the container file) with its default settings,
@@ -227,6 +232,13 @@ impl PlenumChoice {
         )
     }
 }
+
+/// Plenum cells across the inlet's wall from which a container whose file names no plenum model gets the 2-D
+/// plenum (fewer: the 1-D duct). With eight, the 0.8 m jet of the bundled 2.4 m trailer spans about three cells
+/// and each inlet-wall corner beside it about three: the fewest that still let a jet and its corner eddies be
+/// told apart (our own numerical choice). A season's 4 × 2 grid gives 4 and keeps the duct; the scenario's 16 × 6
+/// gives 12.
+pub const DEFAULT_TWO_D_MIN_CELLS: usize = 8;
 
 /// The plenum model names, as the container file and the command line spell them.
 pub const PLENUM_MODEL_NAMES: &str = "duct, uniform or 2d";
@@ -266,8 +278,9 @@ pub struct Container {
     /// Leakage from the plenum (doors, seams): Q = C·√p, C in m³/(s·Pa^0.5); 0 = tight.
     #[serde(default)]
     pub leakage_m3_per_s_per_sqrt_pa: f64,
-    /// Plenum model (default: the 1-D duct; left out of written files when it is the default, so they read as before).
-    #[serde(default, skip_serializing_if = "PlenumChoice::is_duct")]
+    /// Plenum model (by default chosen for the grid: [`Container::plenum_model_on`]; left out of written files
+    /// when not named, so they read as before).
+    #[serde(default, skip_serializing_if = "PlenumChoice::is_default")]
     pub plenum: PlenumChoice,
 }
 
@@ -738,8 +751,11 @@ impl Container {
     }
 
     fn validate_plenum(&self, path: &Path) -> Result<(), InputError> {
-        if let Some((field, message)) = self.plenum_model_limit(&self.plenum_model()) {
-            return Err(model_err(path, field, message));
+        // a named model only: the default takes the 2-D plenum wherever the geometry needs it
+        if let Some(model) = self.named_plenum_model() {
+            if let Some((field, message)) = self.plenum_model_limit(&model) {
+                return Err(model_err(path, field, message));
+            }
         }
         if let PlenumChoice::TwoD {
             cells_per_column,
@@ -763,9 +779,29 @@ impl Container {
         self.inlet.wall == InletWall::Rear
     }
 
-    /// The plenum model the container file asks for.
-    pub fn plenum_model(&self) -> PlenumModel {
-        match self.plenum {
+    /// The plenum model the container's air is solved with on `grid`: the one its file names, else the default
+    /// model for the grid. The default is the 2-D plenum where the plenum grid the bed's columns give
+    /// ([`Plenum2dParams::resolution_on`]) has at least [`DEFAULT_TWO_D_MIN_CELLS`] cells across the inlet's
+    /// wall, and wherever the geometry needs it (a side inlet, baffles); the 1-D duct on coarser grids, where a
+    /// jet and the eddies beside it cannot be told apart (a season's coarse grid).
+    pub fn plenum_model_on(&self, grid: Grid) -> PlenumModel {
+        self.named_plenum_model().unwrap_or_else(|| {
+            let two_d = Plenum2dParams::default();
+            let (nx, ny) = two_d.resolution_on(self, grid).plenum_cells(grid);
+            let across = if self.inlet.wall.is_side() { nx } else { ny };
+            let needs = self.plenum_model_limit(&PlenumModel::default()).is_some();
+            if needs || across >= DEFAULT_TWO_D_MIN_CELLS {
+                PlenumModel::TwoD(two_d)
+            } else {
+                PlenumModel::default()
+            }
+        })
+    }
+
+    /// The plenum model the container file names, if it names one.
+    pub fn named_plenum_model(&self) -> Option<PlenumModel> {
+        Some(match self.plenum {
+            PlenumChoice::Default => return None,
             PlenumChoice::Duct {} => PlenumModel::default(),
             PlenumChoice::Uniform {} => PlenumModel::Uniform,
             PlenumChoice::TwoD {
@@ -779,7 +815,7 @@ impl Container {
                     ..d
                 })
             }
-        }
+        })
     }
 
     /// Footprint area, m².

@@ -64,6 +64,17 @@ pub enum PlenumModel {
     TwoD(super::plenum_shape::Plenum2dParams),
 }
 
+impl PlenumModel {
+    /// The model's name as the container file and the command line spell it (`duct`, `uniform`, `2d`).
+    pub fn name(&self) -> &'static str {
+        match self {
+            PlenumModel::Uniform => "uniform",
+            PlenumModel::Manifold(_) => "duct",
+            PlenumModel::TwoD(_) => "2d",
+        }
+    }
+}
+
 impl Default for PlenumModel {
     fn default() -> Self {
         PlenumModel::Manifold(ManifoldParams::default())

@@ -278,13 +278,14 @@ pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
     let air = air_path(args)?;
     let bed = BedMoisture::new(&crop, args.bed_kernel_moisture_pct, air.ambient.t_c)?;
     law.packing_factor *= bed.d272_wet_factor;
+    let grid = Grid {
+        nx: args.nx,
+        ny: args.ny,
+        nz: args.nz,
+    };
     let settings = SolverSettings {
-        grid: Grid {
-            nx: args.nx,
-            ny: args.ny,
-            nz: args.nz,
-        },
-        plenum: container.plenum_model(),
+        grid,
+        plenum: container.plenum_model_on(grid),
         ..SolverSettings::default()
     };
     let used = Used::new(&air, &flow, bed);

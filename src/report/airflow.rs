@@ -13,9 +13,9 @@ use crate::units::UnitSystem;
 
 const MEMORY: &str = "writing to memory cannot fail";
 
-/// What the container's plenum model is, in a few words.
+/// What the container's plenum model is on `grid`, in a few words, and whether the file chose it.
 pub fn plenum_model_text(c: &Container, grid: Grid) -> String {
-    match c.plenum_model() {
+    let model = match c.plenum_model_on(grid) {
         PlenumModel::Uniform => "uniform (one pressure under the whole floor)".into(),
         PlenumModel::Manifold(_) => {
             "duct (1-D along the length, one pressure across the width)".into()
@@ -29,6 +29,11 @@ pub fn plenum_model_text(c: &Container, grid: Grid) -> String {
                 format!("2d (depth-averaged flow, {r} × {r} plenum cells under each column)")
             }
         }
+    };
+    if c.plenum.is_default() {
+        format!("{model}, the default for this grid (the container file names no model)")
+    } else {
+        model
     }
 }
 

@@ -51,12 +51,14 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
     );
     let _ = writeln!(
         s,
-        "  airflow: {} through the bed ({} of peanuts), plenum {} mean, column flow CV {:.1} %, lowest/mean {:.2}",
+        "  airflow: {} through the bed ({} of peanuts), plenum {} mean, column flow CV {:.1} %, lowest/mean {:.2}; {} plenum model{}",
         units.flow(a.bed_flow_m3_per_s),
         units.specific_airflow(a.specific_airflow_m3_per_min_per_m3),
         units.pressure(a.mean_plenum_pressure_pa),
         a.column_flow_cv * 100.0,
-        a.min_over_mean
+        a.min_over_mean,
+        spec.container.plenum_model_on(spec.grid).name(),
+        if spec.container.plenum.is_default() { " (the default for this grid)" } else { "" },
     );
     let reason = match o.stop_reason {
         StopReason::RuleMet => format!("stop rule {} met", o.stop_rule),
