@@ -1,7 +1,8 @@
 //! Deep-bed drying speed: cell-steps per second of the layer step on a realistic load (64 × 24 columns × 32 layers,
 //! ≈ 50 000 cells) on 1 and 2 threads, in two phases of a load (the first hour from fresh, when about half the cells
 //! hit the equilibrium cap and cost most, and a whole 30-hour run, which brings the load from 21 % to about 10 %),
-//! and one full 48-hour load of the demo scenario at its default resolution (airflow solver included). Targets:
+//! and one full 48-hour load of the demo scenario at its default resolution (airflow solver included; with its
+//! default 2-D plenum and again with the 1-D duct). Targets:
 //! ≥ 10 million cell-steps per second; a 48-hour load under 1 s. The layer-step groups drive a whole `Run` on a fixed
 //! airflow, so they time the layer step with the run's per-step bookkeeping around it (bounds checks, column totals,
 //! accounts, stop rule, records); `perf` puts that bookkeeping at about 5 % of the whole 30-hour run.
@@ -9,6 +10,7 @@
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use ndarray::Array2;
 
+use dryfront::airflow::PlenumChoice;
 use dryfront::crop::Crop;
 use dryfront::drying::bed::{BedState, InitialMoisture};
 use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
@@ -105,6 +107,14 @@ fn full_load(c: &mut Criterion) {
         "demo load, 48 h, 16x6x20 grid, airflow re-solves included",
         |b| b.iter(|| run_load(&sc.spec, &mut ()).unwrap()),
     );
+    // the same load on the 1-D duct plenum, the demo's default before the 2-D plenum became it
+    let mut duct = sc.spec.clone();
+    let mut container = (*duct.container).clone();
+    container.plenum = PlenumChoice::Duct {};
+    duct.container = container.into();
+    g.bench_function("demo load, 48 h, 16x6x20 grid, duct plenum", |b| {
+        b.iter(|| run_load(&duct, &mut ()).unwrap())
+    });
     g.finish();
 }
 
