@@ -562,6 +562,7 @@ fn solve_coupled(
     warm: Option<&WarmStart>,
 ) -> Result<AirflowSolution, AirflowError> {
     let Grid { nx, ny, nz } = disc.grid;
+    plenum.set_outer_tolerance(settings.tolerance);
     // Plenum air: inlet transition, plenum, floor, leakage and bed. Fan air: the fan curve.
     let (rho, v_dry) = air_props(&air.plenum, "plenum air density (kg/m³)")?;
     let (rho_fan, v_fan) = air_props(air.source_air(flow), "fan air density (kg/m³)")?;
