@@ -174,11 +174,12 @@ pub struct Permeability {
 /// [`Plenum2dParams`]'s documented defaults.
 /// (`Duct {}` and `Uniform {}` are empty struct variants rather than unit ones so that a stray field beside their
 /// `model` is refused: serde ignores extra fields of an internally tagged unit variant.)
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
 #[serde(tag = "model", deny_unknown_fields)]
 pub enum PlenumChoice {
     /// No model named: the 2-D plenum where the grid resolves it, else the duct ([`Container::plenum_model_on`]).
     /// Not a name a file can give; left out of written files.
+    #[default]
     #[serde(skip)]
     Default,
     /// The 1-D dividing-flow duct along the length (`airflow::plenum`).
@@ -197,12 +198,6 @@ pub enum PlenumChoice {
         #[serde(default)]
         mixing_length_ratio: Option<f64>,
     },
-}
-
-impl Default for PlenumChoice {
-    fn default() -> Self {
-        PlenumChoice::Default
-    }
 }
 
 impl PlenumChoice {
