@@ -1493,7 +1493,8 @@ pub fn solve_flow(
 
 /// `iters` SIMPLEC iterations from `state`, Anderson-accelerated over the last `anderson` differences (0: plain):
 /// an inexact solve for an outer iteration that changes the sinks between calls and continues from the kept
-/// field. All `iters` are done even when the tolerance is met earlier: stopping after one iteration once the
+/// field. `(min, max)`: at least `min` iterations and at most `max`, ending between once the tolerance is met.
+/// A coupled solve to a tight tolerance does all of them (`min == max`): stopping after one iteration once the
 /// per-iteration change is below the tolerance left the coupled loop creeping along the plenum's slowest mode
 /// (measured on the 6.4 m trailer: 44 outer iterations against 31 when every call does 20). Never fails for want
 /// of convergence (the caller reads [`FlowStats::converged`]); fails only on a malformed domain or a non-finite
@@ -1502,11 +1503,11 @@ pub fn advance_flow(
     d: &FlowDomain,
     prm: &FlowParams,
     state: &mut FlowState,
-    iters: u32,
+    (min, max): (u32, u32),
     anderson: usize,
 ) -> Result<FlowStats, FlowError> {
-    let n = iters.max(1);
-    iterate(d, prm, state, (n, n), anderson)
+    let max = max.max(1);
+    iterate(d, prm, state, (min.clamp(1, max), max), anderson)
 }
 
 #[cfg(test)]
