@@ -582,6 +582,21 @@ fn a_closed_pocket_over_blocked_floor_is_accepted_and_holds_still_air() {
         s.plenum_pressure_pa.iter().copied().fold(f64::INFINITY, f64::min),
         s.plenum_pressure_pa.iter().copied().fold(f64::NEG_INFINITY, f64::max),
     );
+    // the columns wholly over the pocket (the last two of 16 along the length, 0.4 m each) have no plenum pressure:
+    // out of the column map and of the summary's mean and range, which are those of the others
+    let pl = &s.plenum_pressure_pa;
+    let fed: Vec<f64> = (0..grid.nx - 2)
+        .flat_map(|i| (0..grid.ny).map(move |j| pl[[i, j]]))
+        .collect();
+    assert!((14..16).all(|i| (0..grid.ny).all(|j| pl[[i, j]].is_nan())));
+    assert!(fed.iter().all(|p| p.is_finite()));
+    let (lo, hi) = (
+        fed.iter().copied().fold(f64::INFINITY, f64::min),
+        fed.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    );
+    // the same values summed in the same order (the inlet is at the front: no mirroring)
+    assert!((s.summary.mean_plenum_pressure_pa - mean(fed.iter().copied())).abs() < 1e-12 * hi);
+    assert_eq!(s.summary.plenum_pressure_range_pa, hi - lo);
     // the pocket's faces are held at zero: its air is exactly at rest
     assert!(still == 0.0);
     assert!(imbalance(&s) < 1e-9);

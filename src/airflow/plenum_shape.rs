@@ -222,6 +222,11 @@ pub trait Plenum {
     fn converged(&self) -> bool {
         true
     }
+    /// Per column (in the solver's order), true when the column lies wholly over a closed pocket of the plenum,
+    /// whose air the inlet's does not reach; empty when there is none (every model but the 2-D plenum).
+    fn pocket_columns(&self) -> Vec<bool> {
+        Vec::new()
+    }
     /// Let a plenum solved iteratively meet a tolerance in proportion to the coupled loop's `outer` tolerance,
     /// and in a loose re-solve end its calls once it does (a direct model ignores it).
     fn set_outer_tolerance(&mut self, _outer: f64) {}
@@ -502,6 +507,14 @@ impl Plenum for Plenum2d {
 
     fn converged(&self) -> bool {
         self.last.is_some_and(|s| s.converged)
+    }
+
+    fn pocket_columns(&self) -> Vec<bool> {
+        let mut reached = vec![false; self.grid.nx * self.grid.ny];
+        for l in self.links.iter().filter(|l| self.reached[l.cell]) {
+            reached[l.column] = true;
+        }
+        reached.iter().map(|r| !r).collect()
     }
 
     fn set_outer_tolerance(&mut self, outer: f64) {

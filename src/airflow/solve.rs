@@ -811,6 +811,7 @@ fn solve_coupled(
                     top: &top,
                     bfp: &bfp,
                     p_pl: &p_pl,
+                    pocket: &plenum.pocket_columns(),
                     p: &p,
                     q_total,
                     leak,
@@ -907,6 +908,8 @@ struct FinishInputs<'a> {
     top: &'a [f64],
     bfp: &'a [f64],
     p_pl: &'a [f64],
+    /// Columns wholly over a closed pocket of the plenum, whose air the inlet's does not reach (empty: none).
+    pocket: &'a [bool],
     p: &'a [f64],
     q_total: f64,
     leak: f64,
@@ -957,9 +960,16 @@ fn finish(
     let max = vel.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let bed_flow: f64 = f.top.iter().sum();
     let volume: f64 = depth.iter().sum::<f64>() * area;
-    let pmean = f.p_pl.iter().sum::<f64>() / n;
-    let pmin = f.p_pl.iter().copied().fold(f64::INFINITY, f64::min);
-    let pmax = f.p_pl.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    // the plenum pressure under a column over a closed pocket is not defined (its air is held at rest, apart from
+    // the inlet's): left out of the map (NaN) and of its mean and range
+    let open = |c: usize| !f.pocket.get(c).copied().unwrap_or(false);
+    let p_pl: Vec<f64> = (f.p_pl.iter().enumerate())
+        .map(|(c, &p)| if open(c) { p } else { f64::NAN })
+        .collect();
+    let fed = p_pl.iter().copied().filter(|p| !p.is_nan());
+    let pmean = fed.clone().sum::<f64>() / fed.clone().count() as f64;
+    let pmin = fed.clone().fold(f64::INFINITY, f64::min);
+    let pmax = fed.fold(f64::NEG_INFINITY, f64::max);
     let pressure = Array3::from_shape_fn((nx, ny, nz), |(i, j, k)| f.p[(src(i) * ny + j) * nz + k]);
     Ok(AirflowSolution {
         grid: disc.grid,
@@ -969,7 +979,7 @@ fn finish(
         mass_flux_kg_per_m2_s: mass_flux,
         top_velocity_m_per_s: top_velocity,
         bottom_pressure_pa: col(f.bfp),
-        plenum_pressure_pa: col(f.p_pl),
+        plenum_pressure_pa: col(&p_pl),
         pressure_pa: pressure,
         operating_point: OperatingPoint {
             fan_flow_m3_per_s: f.q_total * f.to_fan,
@@ -1130,6 +1140,8 @@ fn newton_finish(
             top: &top,
             bfp: &bfp,
             p_pl: &p_pl,
+            // the Newton outer loop is not for the 2-D plenum, the one model with closed pockets
+            pocket: &[],
             p: &it.p,
             q_total,
             leak,

@@ -168,7 +168,10 @@ pub fn airflow_outputs(
             format!("{v:.6}"),
             format!("{:.6}", s.mass_flux_kg_per_m2_s[[i, j]]),
             format!("{:.3}", s.bottom_pressure_pa[[i, j]]),
-            format!("{:.3}", s.plenum_pressure_pa[[i, j]]),
+            // none over a closed pocket of the plenum (NaN in the solution)
+            Some(s.plenum_pressure_pa[[i, j]])
+                .filter(|p| !p.is_nan())
+                .map_or_else(String::new, |p| format!("{p:.3}")),
         ])
         .expect(MEMORY);
     }
