@@ -88,6 +88,31 @@ fn dry_writes_every_output_whole() {
     assert!(svg.starts_with("<svg") && svg.contains("% w.b."));
 }
 
+/// On a grid that resolves it (8 × 4 columns: 8 plenum cells across the width), the trailer's default plenum is
+/// the 2-D one: the summary says so, and the load's files add the plenum's own flow map, which the report shows.
+/// On the 4 × 2 grid above the default is the duct and the map is not written.
+#[test]
+fn dry_on_the_2d_plenum_writes_its_plenum_map() {
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = scenario_with(dir.path(), |v| {
+        v["grid"] = serde_json::json!({"nx": 8, "ny": 4, "nz": 6});
+    });
+    let out = dir.path().join("out");
+    let (code, stdout, stderr) = common::dryfront(
+        &["dry", "--scenario", arg(&scenario), "--out", arg(&out)],
+        &root(),
+    );
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stdout.contains("2d plenum model (the default for this grid)"),
+        "{stdout}"
+    );
+    let svg = std::fs::read_to_string(out.join("plenum_flow.svg")).unwrap();
+    assert!(svg.starts_with("<svg") && svg.contains("m/s"), "{svg}");
+    let page = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(page.contains("Air in the plenum at the start"));
+}
+
 #[test]
 fn compare_marks_the_best_of_each_column() {
     let dir = tempfile::tempdir().unwrap();

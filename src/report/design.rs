@@ -4,13 +4,9 @@
 //! every variant on one colour scale.
 use std::fmt::Write as _;
 
-use super::airflow::plenum_flow_svg;
 use super::html::{Block, InputRecord, KeyFigure, Page, Table};
-use super::load::{
-    compare_curves_svg, load_outputs, top_overlays, CompareRow, MapScales, CAUTIONS,
-};
+use super::load::{compare_curves_svg, load_outputs, CompareRow, MapScales, CAUTIONS};
 use super::output::OutputSet;
-use super::svg::finite_range;
 use crate::load::{LoadResult, LoadSpec};
 use crate::units::UnitSystem;
 
@@ -206,25 +202,12 @@ pub fn design_csv(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
 /// variant's plenum model has one.
 pub fn design_outputs(specs: &[LoadSpec], rows: &[CompareRow<'_>], u: UnitSystem) -> OutputSet {
     let scales = MapScales::across(rows.iter().map(|r| r.result));
-    let plenum_range = {
-        let (lo, hi) = finite_range(
-            rows.iter()
-                .filter_map(|r| r.result.airflow.plenum_map.as_ref())
-                .flat_map(|m| m.speed_m_per_s().into_iter().map(|v| u.speed_value(v))),
-        );
-        (lo.is_finite() && hi.is_finite()).then_some((lo, hi))
-    };
     let mut set = OutputSet::new();
     for (spec, row) in specs.iter().zip(rows) {
-        let mut sub = load_outputs(spec, &row.label, row.result, u, &scales);
-        if let Some(m) = &row.result.airflow.plenum_map {
-            let c = &spec.container;
-            sub.add(
-                "plenum_flow.svg",
-                plenum_flow_svg(c, m, u, top_overlays(c), plenum_range),
-            );
-        }
-        set.add_set(row.folder.clone(), sub);
+        set.add_set(
+            row.folder.clone(),
+            load_outputs(spec, &row.label, row.result, u, &scales),
+        );
     }
     set
 }

@@ -8,6 +8,7 @@ use ndarray::Array2;
 
 use chrono::{DateTime, FixedOffset};
 
+use super::airflow::plenum_flow_svg;
 use super::html::{Block, InputRecord, KeyFigure, Page, Table};
 use super::output::OutputSet;
 use super::svg::{
@@ -239,6 +240,8 @@ pub struct MapScales {
     pub side: Option<(f64, f64)>,
     /// Air leaving the top, m/s.
     pub air: Option<(f64, f64)>,
+    /// Air speed in the plenum (runs with a 2-D plenum), m/s.
+    pub plenum: Option<(f64, f64)>,
 }
 
 impl MapScales {
@@ -258,6 +261,10 @@ impl MapScales {
             top: span(&|r| finite_range(r.zones.top_kernel_pct.iter().copied())),
             side: span(&|r| finite_range(r.zones.side_kernel_pct.iter().copied())),
             air: span(&|r| finite_range(r.airflow.top_velocity_m_per_s.iter().copied())),
+            plenum: span(&|r| match &r.airflow.plenum_map {
+                Some(m) => finite_range(m.speed_m_per_s().iter().copied()),
+                None => (f64::INFINITY, f64::NEG_INFINITY),
+            }),
         }
     }
 }
@@ -646,6 +653,14 @@ pub fn load_outputs(
         "airflow_top.svg",
         airflow_top_svg(spec, r, units, scales.air),
     );
+    if let Some(m) = &r.airflow.plenum_map {
+        let c = &spec.container;
+        let range = (scales.plenum).map(|(lo, hi)| (units.speed_value(lo), units.speed_value(hi)));
+        set.add(
+            "plenum_flow.svg",
+            plenum_flow_svg(c, m, units, top_overlays(c), range),
+        );
+    }
     set
 }
 
@@ -845,10 +860,17 @@ pub fn load_page(
             picture(set, "final_moisture_top.svg", "Final kernel moisture seen from above"),
             picture(set, "final_moisture_side.svg", "Final kernel moisture in a side section"),
             picture(set, "airflow_top.svg", "Air leaving the top surface at the start"),
+        ]
+        .into_iter()
+        .chain(set.has("plenum_flow.svg").then(|| {
+            picture(set, "plenum_flow.svg", "Air in the plenum at the start: speed and direction")
+        }))
+        .chain([
             Block::Heading("Figures".into()),
             Block::Table(crossings_table(spec, r, units)),
             Block::Para(MEANING.into()),
-        ],
+        ])
+        .collect(),
         summary: Some(summary_text(spec, label, r, units)),
         inputs,
         cautions: CAUTIONS.into(),
