@@ -492,25 +492,31 @@ fn a_taller_plenum_evens_the_column_flow() {
     assert!(cb < ca);
 }
 
-/// A 2-D plenum driven as before the floor outflow answered the plenum pressure: every call hands the plenum the
-/// bed's outflow as a fixed sink (no `FloorResponse`).
-struct FixedSink(Plenum2d);
+/// A 2-D plenum driven as an earlier coupled loop drove it. It never hears the outer tolerance
+/// (`Plenum::set_outer_tolerance` keeps its default), so it holds its own 1e-7 and does all 20 SIMPLEC iterations
+/// of every call; with `fixed_sink` every call also hands it the bed's outflow as a fixed sink (no
+/// `FloorResponse`), as before the floor outflow answered the plenum pressure.
+struct AsBefore {
+    plenum: Plenum2d,
+    fixed_sink: bool,
+}
 
-impl Plenum for FixedSink {
+impl Plenum for AsBefore {
     fn shape_pa(
         &mut self,
         q: &[f64],
         leak: f64,
         rho: f64,
-        _: Option<FloorResponse<'_>>,
+        response: Option<FloorResponse<'_>>,
     ) -> Result<Vec<f64>, FlowError> {
-        self.0.shape_pa(q, leak, rho, None)
+        let response = if self.fixed_sink { None } else { response };
+        self.plenum.shape_pa(q, leak, rho, response)
     }
     fn converged(&self) -> bool {
-        self.0.converged()
+        self.plenum.converged()
     }
     fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
-        self.0.kept_shape_pa(rho)
+        self.plenum.kept_shape_pa(rho)
     }
 }
 
@@ -546,11 +552,10 @@ fn the_floor_response_changes_the_path_not_the_answer() {
         .unwrap()
     };
     let a = run(&mut Plenum2d::new(&c, grid, &Plenum2dParams::default()));
-    let b = run(&mut FixedSink(Plenum2d::new(
-        &c,
-        grid,
-        &Plenum2dParams::default(),
-    )));
+    let b = run(&mut AsBefore {
+        plenum: Plenum2d::new(&c, grid, &Plenum2dParams::default()),
+        fixed_sink: true,
+    });
     let rel = |x: &ndarray::Array2<f64>, y: &ndarray::Array2<f64>| {
         let m = x.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
         x.iter()
@@ -575,28 +580,6 @@ fn the_floor_response_changes_the_path_not_the_answer() {
         let m = &s.summary;
         let gap = m.plenum_flow_m3_per_s - m.bed_flow_m3_per_s - m.leakage_m3_per_s;
         assert!(gap.abs() < 1e-9 * m.plenum_flow_m3_per_s);
-    }
-}
-
-/// A 2-D plenum that keeps its own tolerance at the 1e-7 it is built with and does all 20 SIMPLEC iterations of
-/// every call, whatever the coupled loop asks for (as before `Plenum::set_outer_tolerance`).
-struct HeldTolerance(Plenum2d);
-
-impl Plenum for HeldTolerance {
-    fn shape_pa(
-        &mut self,
-        q: &[f64],
-        leak: f64,
-        rho: f64,
-        response: Option<FloorResponse<'_>>,
-    ) -> Result<Vec<f64>, FlowError> {
-        self.0.shape_pa(q, leak, rho, response)
-    }
-    fn converged(&self) -> bool {
-        self.0.converged()
-    }
-    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
-        self.0.kept_shape_pa(rho)
     }
 }
 
@@ -652,11 +635,14 @@ fn a_run_re_solve_stops_at_the_run_tolerance_with_the_plenum_following() {
     let cold_iters = following.total_iters;
     let run = solve(&mut following, &later, RESOLVE_TOLERANCE, Some(&cold));
     let run_simplec = following.total_iters - cold_iters;
-    let mut held = HeldTolerance(Plenum2d::new(&c, grid, &params));
+    let mut held = AsBefore {
+        plenum: Plenum2d::new(&c, grid, &params),
+        fixed_sink: false,
+    };
     let cold_held = solve(&mut held, &start, 1e-8, None);
-    let cold_held_iters = held.0.total_iters;
+    let cold_held_iters = held.plenum.total_iters;
     let run_held = solve(&mut held, &later, RESOLVE_TOLERANCE, Some(&cold_held));
-    let held_simplec = held.0.total_iters - cold_held_iters;
+    let held_simplec = held.plenum.total_iters - cold_held_iters;
     let tight = solve(&mut Plenum2d::new(&c, grid, &params), &later, 1e-11, None);
     let rel = |x: &ndarray::Array2<f64>, y: &ndarray::Array2<f64>| {
         let m = y.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
