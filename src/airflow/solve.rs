@@ -960,8 +960,8 @@ fn finish(
     let max = vel.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let bed_flow: f64 = f.top.iter().sum();
     let volume: f64 = depth.iter().sum::<f64>() * area;
-    // the plenum pressure under a column over a closed pocket is not defined (its air is held at rest, apart from
-    // the inlet's): left out of the map (NaN) and of its mean and range
+    // the plenum pressure under a column wholly over a closed pocket is not defined (its air is held at rest, cut
+    // off from the inlet's): left out of the map (NaN) and of its mean and range
     let open = |c: usize| !f.pocket.get(c).copied().unwrap_or(false);
     let p_pl: Vec<f64> = (f.p_pl.iter().enumerate())
         .map(|(c, &p)| if open(c) { p } else { f64::NAN })

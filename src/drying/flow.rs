@@ -26,7 +26,8 @@ use crate::props::resistance::d272_moisture_factor;
 /// call): with the 2-D plenum, hours to the mean and to the 95 % rule within 2e-6 relative, zone masses within
 /// 1e-5, the shrink at the mean target (a sum over the cells below the over-dry line, which moves by whole cells)
 /// 81.75 → 81.72 kg, 188 of the 864 cells of `series.csv` moved in their last printed digits; 145 outer steps in
-/// 28 solves against 255 at the former 1e-6, and the whole command 0.37 → 0.21 s. With the 1-D duct `summary.txt`
+/// 28 solves against 255 at the former 1e-6 (before the plenum's calls ended early), and the whole command
+/// 0.37 → 0.21 s. With the 1-D duct `summary.txt`
 /// unchanged and `outcome.json` within 4.4e-5. A season's output is byte-identical: it solves once per load.
 /// History: 1e-8 until 2026-12-03, then 1e-6.
 pub const RESOLVE_TOLERANCE: f64 = 1e-4;
