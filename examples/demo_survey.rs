@@ -6,7 +6,9 @@
 //!
 //! The map: a trash-packed patch at the front left (× 0.5), a loose strip along the wall at y = 2.4 m (× 1.4), a
 //! wet, packed spot at the rear middle (× 0.7), 1 elsewhere. Fan `vane-3kw`, unheated air at 25 °C and 70 % RH (the
-//! `dryfront airflow` defaults), the default 32 × 12 × 16 grid, the bundled peanut law.
+//! `dryfront airflow` defaults), the default 32 × 12 × 16 grid and the trailer's default plenum model on it (the
+//! 2-D plenum; the survey was made on the 1-D duct before that became the default, 2026-12-04), the bundled
+//! peanut law.
 use std::path::PathBuf;
 
 use dryfront::airflow::fit::{block_columns, block_velocities, fitted_container, SurveyBlock};
@@ -60,7 +62,13 @@ fn main() {
         }
     }
     let m: Vec<f64> = blocks.iter().map(truth).collect();
-    let settings = SolverSettings::default();
+    // the plenum model `dryfront airflow` uses on this grid by default (the 2-D plenum), so the default fit
+    // models the survey with the model that made it
+    let grid = SolverSettings::default().grid;
+    let settings = SolverSettings {
+        plenum: c.plenum_model_on(grid),
+        ..SolverSettings::default()
+    };
     let air = AirPath::same(AirState::from_rh(25.0, 0.70, 101_325.0));
     let law = dryfront::load::bed_law(&crop);
     let sol = solve(
