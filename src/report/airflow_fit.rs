@@ -78,10 +78,11 @@ pub fn fit_human(r: &FitReport<'_>, u: UnitSystem) -> String {
     let mut o = String::new();
     let _ = writeln!(
         o,
-        "fitted {} blocks of survey {} on {}: {} iterations ({} airflow solves){}",
+        "fitted {} blocks of survey {} on {}, plenum model {}: {} iterations ({} airflow solves){}",
         f.blocks.len(),
         r.survey_name,
         r.fitted.name,
+        super::airflow::plenum_model_text(r.fitted, r.sol().grid),
         f.iterations,
         f.solves,
         if f.converged {
