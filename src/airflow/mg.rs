@@ -161,27 +161,36 @@ impl LineOp {
 
     /// y = A·x.
     pub fn matvec(&self, x: &[f64], y: &mut [f64]) {
-        let (ny, nz) = (self.ny, self.nz);
-        let cpb = self.cols_per_block();
+        let (cpb, nz) = (self.cols_per_block(), self.nz);
         for_blocks(y, cpb * nz, |blk, chunk| {
-            let c0 = blk * cpb;
             for (ci, yc) in chunk.chunks_mut(nz).enumerate() {
-                let c = c0 + ci;
-                let (i, j) = (c / ny, c % ny);
-                let base = c * nz;
-                let xs = &x[base..base + nz];
-                let d = &self.diag[base..base + nz];
-                for k in 0..nz {
-                    yc[k] = d[k] * xs[k];
-                }
-                self.sub_neighbours(i, j, base, x, yc);
-                let tz = &self.tz[base..base + nz];
-                for k in 0..nz - 1 {
-                    yc[k] -= tz[k] * xs[k + 1];
-                    yc[k + 1] -= tz[k] * xs[k];
-                }
+                self.column_product(blk * cpb + ci, x, None, yc);
             }
         });
+    }
+
+    /// out = (A·x)_c, or (A·x − b)_c with `minus` = b, for column `c`: one expression for the matrix-vector
+    /// product and the residual.
+    #[inline]
+    fn column_product(&self, c: usize, x: &[f64], minus: Option<&[f64]>, out: &mut [f64]) {
+        let (ny, nz) = (self.ny, self.nz);
+        let (i, j) = (c / ny, c % ny);
+        let base = c * nz;
+        let xs = &x[base..base + nz];
+        let d = &self.diag[base..base + nz];
+        match minus {
+            None => (0..nz).for_each(|k| out[k] = d[k] * xs[k]),
+            Some(b) => {
+                let bs = &b[base..base + nz];
+                (0..nz).for_each(|k| out[k] = d[k] * xs[k] - bs[k]);
+            }
+        }
+        self.sub_neighbours(i, j, base, x, out);
+        let tz = &self.tz[base..base + nz];
+        for k in 0..nz - 1 {
+            out[k] -= tz[k] * xs[k + 1];
+            out[k + 1] -= tz[k] * xs[k];
+        }
     }
 
     /// out −= Σ (horizontal coupling · neighbour value) for the column at (i, j) starting at `base`.
@@ -310,28 +319,14 @@ impl LineOp {
         let (ny, nz) = (self.ny, self.nz);
         let cpb = self.cols_per_block();
         for_blocks(r, cpb * nz, |blk, chunk| {
-            let c0 = blk * cpb;
             for (ci, rc) in chunk.chunks_mut(nz).enumerate() {
-                let c = c0 + ci;
-                let (i, j) = (c / ny, c % ny);
-                let base = c * nz;
-                if (i + j) % 2 != colour {
+                let c = blk * cpb + ci;
+                if (c / ny + c % ny) % 2 != colour {
                     rc.iter_mut().for_each(|v| *v = 0.0);
                     continue;
                 }
-                let xs = &x[base..base + nz];
-                let d = &self.diag[base..base + nz];
-                let bs = &b[base..base + nz];
-                // −r = A·x − b, built like the matrix-vector product
-                for k in 0..nz {
-                    rc[k] = d[k] * xs[k] - bs[k];
-                }
-                self.sub_neighbours(i, j, base, x, rc);
-                let tz = &self.tz[base..base + nz];
-                for k in 0..nz - 1 {
-                    rc[k] -= tz[k] * xs[k + 1];
-                    rc[k + 1] -= tz[k] * xs[k];
-                }
+                // −r = A·x − b, then negated
+                self.column_product(c, x, Some(b), rc);
                 rc.iter_mut().for_each(|v| *v = -*v);
             }
         });
