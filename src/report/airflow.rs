@@ -30,10 +30,15 @@ pub fn plenum_model_text(c: &Container, grid: Grid) -> String {
             }
         }
     };
+    format!("{model}{}", default_note(c))
+}
+
+/// Said after a plenum model the container file did not name: the grid's default.
+pub fn default_note(c: &Container) -> &'static str {
     if c.plenum.is_default() {
-        format!("{model}, the default for this grid (the container file names no model)")
+        " (the default for this grid)"
     } else {
-        model
+        ""
     }
 }
 

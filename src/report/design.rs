@@ -198,8 +198,8 @@ pub fn design_csv(spec: &LoadSpec, rows: &[CompareRow<'_>]) -> String {
         .expect("CSV of UTF-8 text")
 }
 
-/// Every variant's files, on shared colour scales: its load set in its folder, and its plenum map when the
-/// variant's plenum model has one.
+/// Every variant's files, on shared colour scales: its load set in its folder (with its plenum map when the
+/// variant's plenum model has one).
 pub fn design_outputs(specs: &[LoadSpec], rows: &[CompareRow<'_>], u: UnitSystem) -> OutputSet {
     let scales = MapScales::across(rows.iter().map(|r| r.result));
     let mut set = OutputSet::new();

@@ -59,7 +59,7 @@ pub fn summary_text(spec: &LoadSpec, label: &str, r: &LoadResult, units: UnitSys
         a.column_flow_cv * 100.0,
         a.min_over_mean,
         spec.container.plenum_model_on(spec.grid).name(),
-        if spec.container.plenum.is_default() { " (the default for this grid)" } else { "" },
+        super::airflow::default_note(&spec.container),
     );
     let reason = match o.stop_reason {
         StopReason::RuleMet => format!("stop rule {} met", o.stop_rule),
