@@ -2,7 +2,9 @@
 //! packed block, leakage, fan `vane-3kw`, manifold plenum) at about 50 000 and 500 000 cells. Targets: under 0.5 s
 //! and under 5 s median on the 2-core development machine. At 64×24×32 the default outer iteration (Picard with
 //! Anderson acceleration), plain Picard, Newton–Krylov and warm re-solves (plenum air 3 K warmer, from the last
-//! solution) by the default iteration and by Newton run side by side. Run quickly with
+//! solution) by the default iteration and by Newton run side by side, and a drying run's re-solve at its own
+//! tolerance after the air drifted 1.5 K twice, from the last solution and from the secant prediction through the
+//! last two (`drying::flow`; target: one or two outer steps). Run quickly with
 //! `cargo bench --bench airflow -- --warm-up-time 1 --measurement-time 2`.
 use std::path::PathBuf;
 
@@ -69,11 +71,27 @@ fn bench(c: &mut Criterion) {
             let warmer = AirPath::same(AirState::from_rh(33.0, 0.45, 101_325.0));
             let w = solve_from(&container, &flow, &law, &warmer, &settings, Some(&s.warm)).unwrap();
             let wn = solve_from(&container, &flow, &law, &warmer, &newton, Some(&n.warm)).unwrap();
+            // A drying run's re-solve along a drift of the air, at the run's tolerance: the air 1.5 K warmer at each
+            // solve, from the last solution as it is and from the secant prediction through the last two (as
+            // `drying::flow` starts it).
+            let run = SolverSettings {
+                tolerance: RESOLVE_TOLERANCE,
+                ..settings
+            };
+            let mid = AirPath::same(AirState::from_rh(31.5, 0.475, 101_325.0));
+            let m = solve_from(&container, &flow, &law, &mid, &run, Some(&s.warm)).unwrap();
+            let predicted = m.warm.predicted(&[(&s.warm, 1.0)]).unwrap();
+            let run_last =
+                solve_from(&container, &flow, &law, &warmer, &run, Some(&m.warm)).unwrap();
+            let run_predicted =
+                solve_from(&container, &flow, &law, &warmer, &run, Some(&predicted)).unwrap();
             for (what, r) in [
                 ("Picard", &p),
                 ("Newton", &n),
                 ("warm re-solve", &w),
                 ("warm Newton re-solve", &wn),
+                ("run's re-solve from the last solution", &run_last),
+                ("run's re-solve from the prediction", &run_predicted),
             ] {
                 eprintln!(
                     "64x24x32 {what}: {} outer / {} linear (CG or GMRES) iterations",
@@ -96,6 +114,20 @@ fn bench(c: &mut Criterion) {
                     solve_from(&container, &flow, &law, &warmer, &newton, Some(&n.warm)).unwrap()
                 })
             });
+            g.bench_function("trailer-6m 64x24x32 run's re-solve from the last", |b| {
+                b.iter(|| {
+                    solve_from(&container, &flow, &law, &warmer, &run, Some(&m.warm)).unwrap()
+                })
+            });
+            g.bench_function(
+                "trailer-6m 64x24x32 run's re-solve from the prediction",
+                |b| {
+                    b.iter(|| {
+                        solve_from(&container, &flow, &law, &warmer, &run, Some(&predicted))
+                            .unwrap()
+                    })
+                },
+            );
         }
         eprintln!(
             "{}x{}x{} = {} cells (default, Anderson): {} outer, {} linear iterations, residual {:.1e}",

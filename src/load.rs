@@ -277,6 +277,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         first: None,
         settled: false,
         last_key: None,
+        earlier: Vec::new(),
         plenum: None,
     }
 }

@@ -183,6 +183,7 @@ fn run_flow(c: &Container, s: SolverSettings) -> SolvedFlow<'_> {
         first: None,
         settled: false,
         last_key: None,
+        earlier: Vec::new(),
         plenum: None,
     }
 }
@@ -326,4 +327,74 @@ fn a_run_reports_its_start_airflow_and_resolves_to_its_own_tolerance() {
     // the error is about that change again (measured 2026-12-04 at 1e-4: 1.1e-5, 5 outer steps against 11;
     // 2026-12-03 at 1e-6: 1.8e-7, 8 against 11)
     assert!(d < RESOLVE_TOLERANCE, "{d:e}");
+}
+
+/// A drying run's air drifts, and its re-solves follow the drift: from the third solve on, a re-solve starts from
+/// the secant prediction through the last solutions (`drying::flow`, `WarmStart::predicted`) instead of the last
+/// solution as it is. Along a drift of plenum and ambient air together, and one of the plenum air alone (a heater
+/// that cuts in), each predicted re-solve takes the two outer steps that are the loop's least (it stops on the
+/// change between two steps) where the same re-solve from the last solution takes more, and lands as close to a
+/// tight solve.
+#[test]
+fn re_solves_along_a_drift_start_from_the_secant_prediction() {
+    let c = trailer();
+    let base = settings(OuterMethod::Anderson, PlenumModel::default(), 1e-8);
+    let ambient = |k: f64| AirState::from_rh(30.0 + 0.6 * k, 0.50 - 0.01 * k, 101_325.0);
+    // six re-solves with plenum and ambient air 0.6 K warmer each, then four of the plenum air alone 1 K warmer
+    let drift: Vec<(AirState, AirState)> = (1..=6)
+        .map(|k| (ambient(k as f64), ambient(k as f64)))
+        .chain((1..=4).map(|k| {
+            let a = ambient(6.0);
+            (a, a.heated_by(k as f64))
+        }))
+        .collect();
+    let mut runs = [run_flow(&c, base), run_flow(&c, base)];
+    for flow in runs.iter_mut() {
+        flow.resolve_tolerance = RESOLVE_TOLERANCE;
+        let a = ambient(0.0);
+        flow.flow(&a, &a, 0.25).unwrap();
+        flow.start_settled();
+    }
+    let mut iters = (Vec::new(), Vec::new());
+    for (k, (a, p)) in drift.iter().enumerate() {
+        // the second run forgets its earlier solutions: each re-solve starts from the last as it is
+        runs[1].earlier.clear();
+        runs[0].flow(a, p, 0.25).unwrap();
+        runs[1].flow(a, p, 0.25).unwrap();
+        let (predicted, last) = (
+            runs[0].last.as_ref().unwrap(),
+            runs[1].last.as_ref().unwrap(),
+        );
+        let exact = solve(
+            &c,
+            &fan(),
+            &common::peanut(1.5),
+            &AirPath {
+                ambient: *a,
+                plenum: *p,
+            },
+            &settings(OuterMethod::Picard, PlenumModel::default(), 1e-12),
+        )
+        .unwrap();
+        let (d, d_last) = (max_rel_diff(predicted, &exact), max_rel_diff(last, &exact));
+        eprintln!(
+            "re-solve {k}: predicted start {} outer ({d:.1e} from a 1e-12 solve), last solution {} outer ({d_last:.1e}); changes {:?}",
+            predicted.converged.iters, last.converged.iters, predicted.changes
+        );
+        // both stop on a change under the tolerance (see the test above)
+        assert!(
+            d < RESOLVE_TOLERANCE && d_last < RESOLVE_TOLERANCE,
+            "{k}: {d:e}, {d_last:e}"
+        );
+        iters.0.push(predicted.converged.iters);
+        iters.1.push(last.converged.iters);
+    }
+    // The first re-solve has only the start before it: the same start both ways.
+    assert_eq!(iters.0[0], iters.1[0]);
+    // The turn from drifting together to the plenum alone leaves the line of the first drift: the re-solve at the
+    // turn starts from the last solution (no earlier change spans it), the ones after from the prediction again.
+    for k in (1..drift.len()).filter(|&k| k != 6) {
+        assert_eq!(iters.0[k], 2, "re-solve {k}: {iters:?}");
+        assert!(iters.1[k] > 2, "re-solve {k}: {iters:?}");
+    }
 }

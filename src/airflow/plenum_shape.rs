@@ -235,6 +235,14 @@ pub trait Plenum {
     fn kept_shape_pa(&self, _rho_kg_per_m3: f64) -> Option<Vec<f64>> {
         None
     }
+    /// The state the plenum keeps between calls, flattened, or empty if it keeps none (a direct model): with
+    /// [`Plenum::set_kept_state`], how a re-solve's predicted start (`WarmStart::predicted`) reaches the 2-D flow.
+    fn kept_state(&self) -> Vec<f64> {
+        Vec::new()
+    }
+    /// Replace the kept state by `state`, one from [`Plenum::kept_state`] or a linear combination of several;
+    /// ignored if it does not fit.
+    fn set_kept_state(&mut self, _state: &[f64]) {}
 }
 
 /// One pressure under the whole floor.
@@ -528,6 +536,25 @@ impl Plenum for Plenum2d {
 
     fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
         self.last.map(|_| self.shape_of_state(rho))
+    }
+
+    /// u, then v, then P; empty before the first call.
+    fn kept_state(&self) -> Vec<f64> {
+        let s = &self.state;
+        match self.last {
+            Some(_) => [&s.u[..], &s.v[..], &s.p[..]].concat(),
+            None => Vec::new(),
+        }
+    }
+
+    fn set_kept_state(&mut self, state: &[f64]) {
+        let s = &mut self.state;
+        let (nu, nv) = (s.u.len(), s.v.len());
+        if self.last.is_some() && state.len() == nu + nv + s.p.len() {
+            s.u.copy_from_slice(&state[..nu]);
+            s.v.copy_from_slice(&state[nu..nu + nv]);
+            s.p.copy_from_slice(&state[nu + nv..]);
+        }
     }
 
     fn flow_map(&self, frame: MapFrame) -> Option<PlenumMap> {

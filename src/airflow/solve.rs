@@ -133,9 +133,62 @@ pub struct WarmStart {
     floor_speeds_m_per_s: Vec<f64>,
     inlet_pa: f64,
     shape_pa: Vec<f64>,
+    /// The plenum's own state ([`Plenum::kept_state`]); empty for a plenum that keeps none.
+    plenum_state: Vec<f64>,
 }
 
 impl WarmStart {
+    /// A secant predictor for a solve whose inputs lie near the span of the changes from earlier solutions to
+    /// this one, e.g. a drying run's next re-solve after a few along the same drift of the air: this solution plus
+    /// `Σ cᵢ·(self − olderᵢ)` over `(olderᵢ, cᵢ)` in `older`. Pressures, plenum shape and the plenum's own state
+    /// (where all of them keep one of the same size) are combined linearly; a
+    /// speed that would change sign or move by more than a factor 2 from its value in `self` keeps that value (far
+    /// from the span the linear guess is no use, and a speed must stay positive). `None` when any of them was
+    /// solved on another grid.
+    pub fn predicted(&self, older: &[(&WarmStart, f64)]) -> Option<WarmStart> {
+        let (n, nc) = (self.pressure_pa.len(), self.shape_pa.len());
+        if !self.fits(n, nc) || older.iter().any(|(w, c)| !w.fits(n, nc) || !c.is_finite()) {
+            return None;
+        }
+        let combine = |of: fn(&WarmStart) -> &[f64]| -> Vec<f64> {
+            let mut x = of(self).to_vec();
+            for (w, c) in older {
+                for ((v, a), b) in x.iter_mut().zip(of(self)).zip(of(w)) {
+                    *v += c * (a - b);
+                }
+            }
+            x
+        };
+        let keep_speeds = |mut x: Vec<f64>, of: fn(&WarmStart) -> &[f64]| -> Vec<f64> {
+            for (s, &a) in x.iter_mut().zip(of(self)) {
+                if !(*s * a > 0.0 && (0.5..=2.0).contains(&(*s / a))) {
+                    *s = a;
+                }
+            }
+            x
+        };
+        let speeds = combine(|w| &w.speeds_m_per_s);
+        let floor_speeds = combine(|w| &w.floor_speeds_m_per_s);
+        let inlet = older.iter().fold(self.inlet_pa, |v, (w, c)| {
+            v + c * (self.inlet_pa - w.inlet_pa)
+        });
+        Some(WarmStart {
+            pressure_pa: combine(|w| &w.pressure_pa),
+            speeds_m_per_s: keep_speeds(speeds, |w| &w.speeds_m_per_s),
+            floor_speeds_m_per_s: keep_speeds(floor_speeds, |w| &w.floor_speeds_m_per_s),
+            inlet_pa: inlet,
+            shape_pa: combine(|w| &w.shape_pa),
+            plenum_state: if older
+                .iter()
+                .all(|(w, _)| w.plenum_state.len() == self.plenum_state.len())
+            {
+                combine(|w| &w.plenum_state)
+            } else {
+                Vec::new()
+            },
+        })
+    }
+
     /// True when this was solved on a grid of `cells` cells in `columns` columns.
     fn fits(&self, cells: usize, columns: usize) -> bool {
         self.pressure_pa.len() == cells
@@ -661,7 +714,7 @@ fn solve_coupled(
         }
     }
     if let Some(w) = warm.filter(|w| !newton && w.fits(n, nc)) {
-        start_warm(&mut sys, w, &mut p, &mut delta_col);
+        start_warm(&mut sys, plenum, w, &mut p, &mut delta_col);
         prev.copy_from_slice(&p);
         p_in_prev = w.inlet_pa;
     }
@@ -802,6 +855,7 @@ fn solve_coupled(
                 floor_speeds_m_per_s: sys.floor_speed.clone(),
                 inlet_pa: p_in,
                 shape_pa: delta_col.clone(),
+                plenum_state: plenum.kept_state(),
             };
             return finish(
                 container,
@@ -858,8 +912,18 @@ fn last_outer_change(changes: &[f64]) -> f64 {
     changes.last().copied().unwrap_or(f64::INFINITY)
 }
 
-/// Start the Picard iteration from a previous solution: its speeds (assembled), pressures and plenum shape.
-fn start_warm(sys: &mut BedSystem, w: &WarmStart, p: &mut [f64], delta: &mut [f64]) {
+/// Start the Picard iteration from a previous (or predicted) solution: its speeds (assembled), pressures, plenum
+/// shape and the plenum's own state, if it keeps one.
+fn start_warm(
+    sys: &mut BedSystem,
+    plenum: &mut dyn Plenum,
+    w: &WarmStart,
+    p: &mut [f64],
+    delta: &mut [f64],
+) {
+    if !w.plenum_state.is_empty() {
+        plenum.set_kept_state(&w.plenum_state);
+    }
     sys.speed_for_k.copy_from_slice(&w.speeds_m_per_s);
     sys.floor_speed.copy_from_slice(&w.floor_speeds_m_per_s);
     sys.assemble();
@@ -1131,6 +1195,8 @@ fn newton_finish(
         floor_speeds_m_per_s: it.floor_speeds.clone(),
         inlet_pa: it.p_in,
         shape_pa: delta.clone(),
+        // Newton's loop is not for the 2-D plenum, the one model with a state of its own
+        plenum_state: Vec::new(),
     };
     finish(
         ctx.container,
@@ -1163,6 +1229,58 @@ mod tests {
     use super::*;
     use crate::airflow::fan::FanCurve;
     use std::path::Path;
+
+    /// A warm start on a grid of 3 cells in 1 column whose every number is `x` times a fixed value, with plenum
+    /// state `plenum`.
+    fn warm(x: f64, plenum: Vec<f64>) -> WarmStart {
+        WarmStart {
+            pressure_pa: vec![100.0 * x; 3],
+            speeds_m_per_s: vec![0.1 * x, 0.1 * x, -0.1 * x],
+            floor_speeds_m_per_s: vec![0.1 * x],
+            inlet_pa: 120.0 * x,
+            shape_pa: vec![2.0 * x],
+            plenum_state: plenum,
+        }
+    }
+
+    #[test]
+    fn a_predicted_start_combines_the_solutions_and_keeps_speeds_near_the_last() {
+        let (last, a, b) = (
+            warm(1.0, vec![1.0, 2.0]),
+            warm(0.9, vec![0.8, 2.0]),
+            warm(0.8, vec![]),
+        );
+        // last + 0.5·(last − a): every number 1.05 times its value in the last solution
+        let p = last.predicted(&[(&a, 0.5)]).unwrap();
+        let target = warm(1.05, vec![1.1, 2.0]);
+        assert_eq!(p.pressure_pa, target.pressure_pa);
+        assert_eq!(p.speeds_m_per_s, target.speeds_m_per_s);
+        assert_eq!(p.floor_speeds_m_per_s, target.floor_speeds_m_per_s);
+        assert_eq!(
+            (p.inlet_pa, &p.shape_pa),
+            (target.inlet_pa, &target.shape_pa)
+        );
+        assert_eq!(p.plenum_state, target.plenum_state);
+        // A speed that would change sign or more than double keeps the last value; pressures do not.
+        let p = last.predicted(&[(&a, -11.0)]).unwrap();
+        assert_eq!(p.speeds_m_per_s, last.speeds_m_per_s);
+        assert!((p.pressure_pa[0] - (100.0 - 11.0 * 10.0)).abs() < 1e-9);
+        let p = last.predicted(&[(&a, 11.0)]).unwrap();
+        assert_eq!(p.speeds_m_per_s, last.speeds_m_per_s);
+        // A plenum state of another size (here none) is not combined: the start then has none.
+        assert!(last
+            .predicted(&[(&b, 0.5)])
+            .unwrap()
+            .plenum_state
+            .is_empty());
+        // Another grid: no prediction.
+        let other = WarmStart {
+            pressure_pa: vec![1.0; 4],
+            ..warm(1.0, vec![])
+        };
+        assert!(last.predicted(&[(&other, 0.5)]).is_none());
+        assert!(last.predicted(&[(&a, f64::NAN)]).is_none());
+    }
 
     /// The bundled 6.4 m trailer and its fan on a small grid, as the outer-iteration tests load them.
     fn trailer() -> (Container, FlowSpec) {
