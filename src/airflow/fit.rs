@@ -14,8 +14,12 @@
 //! centred on the crop law, the Tikhonov term of ridge regression). The prior keeps blocks the survey barely sees
 //! near 1 instead of letting them wander, and pins the overall level when a fixed total flow makes it unobservable.
 //!
-//! Sensitivities: forward differences of the whole coupled solve (`solve::solve`: Shedd's nonlinear law, floor,
-//! plenum, fan and leakage), one solve per block per iteration, run in parallel over blocks. Why not an adjoint of
+//! Sensitivities: forward differences of the whole coupled solve (`solve::solve_from`: Shedd's nonlinear law,
+//! floor, plenum, fan and leakage), one solve per block per iteration, run in parallel over blocks, each started
+//! from the solution at the iteration's point (bed and 2-D plenum field), as is each trial step: measured on the
+//! README's fit (2026-12-04, one run each, another engineer's build on the second core) 27.7 → 13.7 s on its 2-D
+//! plenum and 2.7 → 1.5 s on the duct, the same 4 iterations and 165 solves, multipliers and their intervals
+//! within 6e-5 relative of the cold solves' (the derivatives' own error is ~1e-5, below). Why not an adjoint of
 //! the bed solve: the bed system is symmetric positive definite only with the resistivities frozen, and the
 //! frozen-resistivity adjoint misses the law's feedback (raising a block's permeability raises its speed, which
 //! raises Shedd's resistivity by the factor 1 + d ln K/d ln q, about 1.3–1.5 at trailer speeds), the floor's
@@ -46,7 +50,7 @@ use super::bed::BedLaw;
 use super::fan::FlowSpec;
 use super::geometry::{Container, Grid, Permeability, PermeabilityBlock};
 use super::path::AirPath;
-use super::solve::{solve, AirflowError, AirflowSolution, SolverSettings};
+use super::solve::{solve_from, AirflowError, AirflowSolution, SolverSettings, WarmStart};
 
 /// One surveyed block of the top surface with its reading, in the model's terms.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -271,10 +275,16 @@ struct Model<'a> {
 }
 
 impl Model<'_> {
-    fn solve(&self, theta: &[f64]) -> Result<AirflowSolution, AirflowError> {
+    /// The airflow with multipliers `exp(theta)`, started from `from` (a solution for nearby multipliers) when
+    /// given.
+    fn solve(
+        &self,
+        theta: &[f64],
+        from: Option<&WarmStart>,
+    ) -> Result<AirflowSolution, AirflowError> {
         let m: Vec<f64> = theta.iter().map(|t| t.exp()).collect();
         let c = fitted_container(self.container, self.blocks, &m);
-        solve(&c, self.flow, self.law, self.air, self.settings)
+        solve_from(&c, self.flow, self.law, self.air, self.settings, from)
     }
 
     /// Standardised residuals (u_model − u_meas)/σ.
@@ -287,15 +297,21 @@ impl Model<'_> {
     }
 
     /// J[a][b] = ∂r_a/∂θ_b by forward differences, one solve per block in parallel (results in block order, so
-    /// the thread count cannot change them).
-    fn jacobian(&self, theta: &[f64], r0: &[f64], h: f64) -> Result<DMatrix<f64>, AirflowError> {
+    /// the thread count cannot change them), each started from `from`, the solution at `theta`.
+    fn jacobian(
+        &self,
+        theta: &[f64],
+        r0: &[f64],
+        h: f64,
+        from: &WarmStart,
+    ) -> Result<DMatrix<f64>, AirflowError> {
         let n = theta.len();
         let cols: Vec<Vec<f64>> = (0..n)
             .into_par_iter()
             .map(|b| {
                 let mut t = theta.to_vec();
                 t[b] += h;
-                let r = self.residuals(&self.solve(&t)?);
+                let r = self.residuals(&self.solve(&t, Some(from))?);
                 Ok(r.iter().zip(r0).map(|(a, z)| (a - z) / h).collect())
             })
             .collect::<Result<_, AirflowError>>()?;
@@ -362,7 +378,7 @@ pub fn fit_survey(
     let n = blocks.len();
     let (lo, hi) = (fit.min_multiplier.ln(), fit.max_multiplier.ln());
     let mut theta = vec![0.0; n];
-    let mut sol = model.solve(&theta)?;
+    let mut sol = model.solve(&theta, None)?;
     let start = block_velocities(&sol, &model.cols);
     let mut r = model.residuals(&sol);
     let mut solves = 1u32;
@@ -373,10 +389,11 @@ pub fn fit_survey(
     let mut iter = 0;
     loop {
         iter += 1;
-        jac = model.jacobian(&theta, &r, fit.fd_step_ln)?;
+        jac = model.jacobian(&theta, &r, fit.fd_step_ln, &sol.warm)?;
         solves += n as u32;
         let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
-        let step = lm_step(&model, &jac, &theta, &r, phi, &mut mu, fit, (lo, hi), iter)?;
+        let at = (theta.as_slice(), r.as_slice(), &sol.warm);
+        let step = lm_step(&model, &jac, at, phi, &mut mu, fit, (lo, hi), iter)?;
         solves += step.solves;
         history.push(FitIteration {
             iter,
@@ -453,11 +470,12 @@ struct Step {
 
 /// Try damped steps from θ until one lowers Φ (μ ×4 after each refusal, ÷3 after success), at most 12 tries.
 #[allow(clippy::too_many_arguments)]
+/// One Levenberg–Marquardt step from `theta` (residuals `r`, solution `from`), each trial solve started from
+/// `from`.
 fn lm_step(
     model: &Model<'_>,
     jac: &DMatrix<f64>,
-    theta: &[f64],
-    r: &[f64],
+    (theta, r, from): (&[f64], &[f64], &WarmStart),
     phi: f64,
     mu: &mut f64,
     fit: &FitSettings,
@@ -492,7 +510,7 @@ fn lm_step(
             .zip(theta)
             .map(|(a, b)| (a - b).abs())
             .fold(0.0, f64::max);
-        let sol = model.solve(&next)?;
+        let sol = model.solve(&next, Some(from))?;
         solves += 1;
         let rr = model.residuals(&sol);
         if objective(&rr, &next, fit.prior_sd_ln).0 < phi {

@@ -240,7 +240,8 @@ pub trait Plenum {
     fn kept_state(&self) -> Vec<f64> {
         Vec::new()
     }
-    /// Replace the kept state by `state`, one from [`Plenum::kept_state`] or a linear combination of several;
+    /// Replace the kept state by `state`, one from [`Plenum::kept_state`] (of this plenum or of another of the same
+    /// container and grid, as a warm start with a fresh plenum carries it) or a linear combination of several;
     /// ignored if it does not fit.
     fn set_kept_state(&mut self, _state: &[f64]) {}
 }
@@ -550,7 +551,7 @@ impl Plenum for Plenum2d {
     fn set_kept_state(&mut self, state: &[f64]) {
         let s = &mut self.state;
         let (nu, nv) = (s.u.len(), s.v.len());
-        if self.last.is_some() && state.len() == nu + nv + s.p.len() {
+        if state.len() == nu + nv + s.p.len() {
             s.u.copy_from_slice(&state[..nu]);
             s.v.copy_from_slice(&state[nu..nu + nv]);
             s.p.copy_from_slice(&state[nu + nv..]);
