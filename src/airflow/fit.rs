@@ -17,9 +17,10 @@
 //! Sensitivities: forward differences of the whole coupled solve (`solve::solve_from`: Shedd's nonlinear law,
 //! floor, plenum, fan and leakage), one solve per block per iteration, run in parallel over blocks, each started
 //! from the solution at the iteration's point (bed and 2-D plenum field), as is each trial step: measured on the
-//! README's fit (2026-12-04, one run each, another engineer's build on the second core) 27.7 → 13.7 s on its 2-D
-//! plenum and 2.7 → 1.5 s on the duct, the same 4 iterations and 165 solves, multipliers and their intervals
-//! within 6e-5 relative of the cold solves' (the derivatives' own error is ~1e-5, below). Why not an adjoint of
+//! README's fit (2026-12-04 04:02, load average 1.8, medians of 3 rounds interleaved with the cold solves' code)
+//! 18.1 → 9.2 s wall (34.0 → 16.6 s CPU) on its 2-D plenum and 1.69 → 1.06 s on the duct, the same 4 iterations
+//! and 165 solves, multipliers and their intervals within 6e-5 relative of the cold solves' (the derivatives' own
+//! error is ~1e-5, below). Why not an adjoint of
 //! the bed solve: the bed system is symmetric positive definite only with the resistivities frozen, and the
 //! frozen-resistivity adjoint misses the law's feedback (raising a block's permeability raises its speed, which
 //! raises Shedd's resistivity by the factor 1 + d ln K/d ln q, about 1.3–1.5 at trailer speeds), the floor's
