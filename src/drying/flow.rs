@@ -117,7 +117,6 @@ impl FlowProvider for SolvedFlow<'_> {
         law.packing_factor *= factor;
         let predicted = (self.last.as_ref().zip(self.last_key))
             .and_then(|(last, k)| predicted_start((k, &last.warm), &self.earlier, key));
-        let warm = predicted.as_ref().or(self.last.as_ref().map(|s| &s.warm));
         let settings = if self.settled {
             SolverSettings {
                 tolerance: self.settings.tolerance.max(self.resolve_tolerance),
@@ -126,15 +125,25 @@ impl FlowProvider for SolvedFlow<'_> {
         } else {
             self.settings
         };
-        let sol = solve_keeping(
-            self.container,
-            &self.flow,
-            &law,
-            &path,
-            &settings,
-            &mut self.plenum,
-            warm,
-        )?;
+        let mut solve_from = |warm: Option<&WarmStart>| {
+            let plenum = &mut self.plenum;
+            solve_keeping(
+                self.container,
+                &self.flow,
+                &law,
+                &path,
+                &settings,
+                plenum,
+                warm,
+            )
+        };
+        let last_warm = self.last.as_ref().map(|s| &s.warm);
+        // A predicted start that fails (none has been seen to) falls back to the last solution, which also puts
+        // back the plenum's own state.
+        let sol = match predicted.as_ref().map(|p| solve_from(Some(p))) {
+            Some(Ok(sol)) => sol,
+            _ => solve_from(last_warm)?,
+        };
         let field = field_from_solution(&sol, self.efficiency);
         if !self.settled {
             self.first = Some(sol.clone());
