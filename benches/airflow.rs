@@ -129,7 +129,19 @@ fn bench_fit(c: &mut Criterion) {
     let survey = read_survey(&path).unwrap();
     let blocks = survey.blocks_for(&container, settings.grid, 0.10).unwrap();
     let fs = FitSettings::default();
-    let run = || fit_survey(&container, &blocks, &flow, &law, &air, &settings, &fs).unwrap();
+    let run = || {
+        fit_survey(
+            &container,
+            &blocks,
+            &flow,
+            &law,
+            &air,
+            &settings,
+            &fs,
+            &mut |_| {},
+        )
+        .unwrap()
+    };
     let f = run();
     eprintln!(
         "fit of {} blocks: {} iterations, {} airflow solves, misfit {:.2}",
