@@ -8,8 +8,8 @@
 mod common;
 
 use dryfront::airflow::fit::{
-    block_columns, block_velocities, fit_survey, fitted_container, FitSettings, SurveyBlock,
-    SurveyFit,
+    block_columns, block_velocities, fit_survey, fitted_container, FitProgress, FitSettings,
+    SurveyBlock, SurveyFit,
 };
 use dryfront::airflow::{solve, AirPath, Container, FlowSpec, Grid, SolverSettings};
 use rand::distr::Distribution;
@@ -118,6 +118,7 @@ fn fit(
         &AirPath::same(common::air()),
         &settings(grid),
         fs,
+        &mut |_| {},
     )
     .unwrap()
 }
@@ -289,6 +290,71 @@ fn fit_is_the_same_on_one_and_two_threads() {
     }
 }
 
+/// What the fit tells its observer: one report at the start of each iteration, numbered 1, 2, … with the solves
+/// done so far, then one marked done with the fit's final figures. The objective Φ must fall strictly from report
+/// to report, since an iteration follows another only after an accepted step, which lowers it; the misfit alone
+/// is not bound to fall (the prior's term can fall by more than it rises: the README's fit raises it from 0.14651
+/// to 0.14664 on its last step), so it is checked against the fit's own record instead.
+#[test]
+fn fit_reports_its_progress_as_it_goes() {
+    let grid = Grid {
+        nx: 16,
+        ny: 6,
+        nz: 8,
+    };
+    let c = container();
+    let mut blocks = layout(&c, 4, 3, 0.8, 0.4);
+    let t = truth(blocks.len());
+    let flow = FlowSpec::Fan(common::fan("vane-3kw"));
+    twin(&c, &mut blocks, &t, &flow, grid, 0.05);
+    let fs = FitSettings::default();
+    let mut seen: Vec<FitProgress> = Vec::new();
+    let f = fit_survey(
+        &c,
+        &blocks,
+        &flow,
+        &common::peanut(1.5),
+        &AirPath::same(common::air()),
+        &settings(grid),
+        &fs,
+        &mut |p| seen.push(p),
+    )
+    .unwrap();
+    for p in &seen {
+        eprintln!("{p:?}");
+    }
+    // Several iterations, so that the order and the fall are tested at all (measured: 4).
+    assert!(f.iterations >= 3, "{} iterations", f.iterations);
+    let (last, during) = seen.split_last().unwrap();
+    assert_eq!(during.len(), f.iterations as usize);
+    assert!(during
+        .iter()
+        .all(|p| !p.done && p.max_iters == fs.max_iters));
+    for (k, (p, h)) in during.iter().zip(&f.history).enumerate() {
+        assert_eq!(p.iter, k as u32 + 1);
+        // The report is the iteration's starting point, which the fit records too (the same sums: exact).
+        assert_eq!((p.objective, p.misfit), (h.objective, h.misfit));
+    }
+    // One solve of the start, then per iteration one per block for its Jacobian and at least one trial step.
+    let n = blocks.len() as u32;
+    assert_eq!(during[0].solves, 1);
+    for w in during.windows(2) {
+        assert!(
+            w[1].objective < w[0].objective,
+            "{:?} then {:?}",
+            w[0],
+            w[1]
+        );
+        assert!(w[1].solves > w[0].solves + n, "{:?} then {:?}", w[0], w[1]);
+    }
+    assert!(last.done);
+    assert_eq!(
+        (last.iter, last.solves, last.objective, last.misfit),
+        (f.iterations, f.solves, f.objective, f.misfit)
+    );
+    assert!(last.objective <= during.last().unwrap().objective);
+}
+
 /// The demo's invented map (`examples/demo_survey.rs`, `survey-samples/README.md`), by block centre.
 fn demo_truth(x: f64, y: f64) -> f64 {
     if x < 2.3 && y < 0.9 {
@@ -330,6 +396,8 @@ fn readme_command_fits_the_demo_survey() {
     let stdout = String::from_utf8_lossy(&o.stdout);
     eprintln!("{stdout}{}", String::from_utf8_lossy(&o.stderr));
     assert!(o.status.success());
+    // stderr is a pipe here, not a terminal: no progress line in it.
+    assert!(!String::from_utf8_lossy(&o.stderr).contains("airflow fit:"));
     assert_eq!(std::fs::read(&survey).unwrap(), before);
     for f in [
         "container.json",

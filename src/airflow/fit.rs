@@ -175,6 +175,24 @@ pub struct FitIteration {
     pub max_step_ln: f64,
 }
 
+/// Where a fit stands, for a progress line: `fit_survey` reports one at the start of every iteration (before its
+/// Jacobian, the iteration's costly part) and one when it has finished.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FitProgress {
+    /// The iteration starting (1-based); in the last report, the iterations used.
+    pub iter: u32,
+    /// Iterations allowed (`FitSettings::max_iters`).
+    pub max_iters: u32,
+    /// Objective Φ at the current point: every accepted step lowers it.
+    pub objective: f64,
+    /// Its data part Σ r² (the prior's term can fall by more than it rises, so it may rise a little on a step).
+    pub misfit: f64,
+    /// Airflow solves done so far.
+    pub solves: u32,
+    /// Whether the fit has finished (the last report; the figures are the fit's final ones).
+    pub done: bool,
+}
+
 /// A whole fit.
 #[derive(Debug, Clone, Serialize)]
 pub struct SurveyFit {
@@ -348,7 +366,10 @@ fn check_settings(s: &FitSettings) -> Result<(), FitError> {
     }
 }
 
-/// Fit one multiplier per survey block. `settings.grid` sets the resolution of every solve.
+/// Fit one multiplier per survey block. `settings.grid` sets the resolution of every solve. `progress` is told
+/// where the fit stands at the start of every iteration and at the end (see [`FitProgress`]; `&mut |_| {}` when
+/// nobody watches); it is called on the caller's thread, between solves.
+#[allow(clippy::too_many_arguments)]
 pub fn fit_survey(
     container: &Container,
     blocks: &[SurveyBlock],
@@ -357,6 +378,7 @@ pub fn fit_survey(
     air: &AirPath,
     settings: &SolverSettings,
     fit: &FitSettings,
+    progress: &mut dyn FnMut(FitProgress),
 ) -> Result<SurveyFit, FitError> {
     check_settings(fit)?;
     let cols = block_columns(container, settings.grid, blocks);
@@ -388,11 +410,20 @@ pub fn fit_survey(
     let mut converged;
     let mut jac;
     let mut iter = 0;
+    let report = |iter, (objective, misfit), solves, done| FitProgress {
+        iter,
+        max_iters: fit.max_iters,
+        objective,
+        misfit,
+        solves,
+        done,
+    };
     loop {
         iter += 1;
+        let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
+        progress(report(iter, (phi, misfit), solves, false));
         jac = model.jacobian(&theta, &r, fit.fd_step_ln, &sol.warm)?;
         solves += n as u32;
-        let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
         let at = (theta.as_slice(), r.as_slice(), &sol.warm);
         let step = lm_step(&model, &jac, at, phi, &mut mu, fit, (lo, hi), iter)?;
         solves += step.solves;
@@ -419,6 +450,7 @@ pub fn fit_survey(
     }
     let (phi, misfit) = objective(&r, &theta, fit.prior_sd_ln);
     let cov = covariance(&jac, fit.prior_sd_ln).ok_or(FitError::Singular { iter })?;
+    progress(report(iter, (phi, misfit), solves, true));
     let modelled = block_velocities(&sol, &model.cols);
     let out = (0..n)
         .map(|b| {
@@ -470,9 +502,9 @@ struct Step {
 }
 
 /// Try damped steps from θ until one lowers Φ (μ ×4 after each refusal, ÷3 after success), at most 12 tries.
-#[allow(clippy::too_many_arguments)]
 /// One Levenberg–Marquardt step from `theta` (residuals `r`, solution `from`), each trial solve started from
 /// `from`.
+#[allow(clippy::too_many_arguments)]
 fn lm_step(
     model: &Model<'_>,
     jac: &DMatrix<f64>,

@@ -4,7 +4,7 @@
 //! by `input::survey`, the fit is `airflow::fit`, the files are `report::airflow_fit`.
 use std::path::PathBuf;
 
-use crate::airflow::fit::{block_columns, fit_survey, fitted_container, FitSettings};
+use crate::airflow::fit::{block_columns, fit_survey, fitted_container, FitProgress, FitSettings};
 use crate::error::check_range;
 use crate::input::survey::read_survey;
 use crate::report::airflow_fit::{fit_human, fit_outputs, fit_page, FitReport};
@@ -58,6 +58,21 @@ impl FitArgs {
     }
 }
 
+/// The fit's progress in the printed summary's words: where the iteration stands, the misfit and the airflow
+/// solves so far (the fit's cost). Short enough for an 80-column terminal with the label, the seconds and the
+/// padding while the iteration counts have two digits, the misfit is under 100 000, the solves under 10 000 and
+/// the seconds under 1 000 (a longer line would wrap, and each update would then leave a line behind).
+fn progress_state(p: &FitProgress) -> String {
+    let s = if p.solves == 1 { "" } else { "s" };
+    let figures = format!("misfit {:.2}, {} solve{s}", p.misfit, p.solves);
+    if p.done {
+        let s = if p.iter == 1 { "" } else { "s" };
+        format!("done in {} iteration{s}, {figures}", p.iter)
+    } else {
+        format!("iteration {} of at most {}, {figures}", p.iter, p.max_iters)
+    }
+}
+
 /// Run the fit.
 pub fn run(args: FitArgs) -> anyhow::Result<()> {
     let fs = args.settings()?;
@@ -70,6 +85,7 @@ pub fn run(args: FitArgs) -> anyhow::Result<()> {
     }
     let survey = read_survey(&args.survey)?;
     let blocks = survey.blocks_for(&l.container, l.settings.grid, sd)?;
+    let bar = super::progress::Progress::new("airflow fit", 0);
     let fit = fit_survey(
         &l.container,
         &blocks,
@@ -78,7 +94,10 @@ pub fn run(args: FitArgs) -> anyhow::Result<()> {
         &l.air,
         &l.settings,
         &fs,
-    )?;
+        &mut |p| bar.note(&progress_state(&p)),
+    );
+    bar.end();
+    let fit = fit?;
     let mult: Vec<f64> = fit.blocks.iter().map(|b| b.multiplier).collect();
     let mut fitted = fitted_container(&l.container, &blocks, &mult);
     let survey_name = args.survey.display().to_string();

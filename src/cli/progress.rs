@@ -1,8 +1,9 @@
 //! A progress line with an estimate of the time left, for commands that run many independent jobs (strategies,
-//! start times, sweep cases). Printed on stderr only when stderr is a terminal, at most every 5 %, so logs stay
-//! clean; safe to tick from worker threads.
+//! start times, sweep cases), or with a state of the caller's own words and the time so far, for work whose length
+//! is not known ahead (a fit's iterations). Printed on stderr only when stderr is a terminal, at most every 5 %, so
+//! logs stay clean; safe to tick from worker threads.
 use std::io::IsTerminal;
-use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::time::Instant;
 
 /// Counts finished jobs and shows how many are left and about how long they will take.
@@ -13,6 +14,7 @@ pub struct Progress {
     shown_pct: AtomicUsize,
     started: Instant,
     enabled: bool,
+    noted: AtomicBool,
 }
 
 impl Progress {
@@ -25,6 +27,7 @@ impl Progress {
             shown_pct: AtomicUsize::new(0),
             started: Instant::now(),
             enabled: std::io::stderr().is_terminal(),
+            noted: AtomicBool::new(false),
         }
     }
 
@@ -47,6 +50,24 @@ impl Progress {
             self.label
         );
         if done >= total {
+            eprintln!();
+        }
+    }
+
+    /// Show `state` (the caller's words, e.g. "iteration 2 of at most 30") and the seconds since the start,
+    /// overwriting the last state; [`Progress::end`] closes the line.
+    pub fn note(&self, state: &str) {
+        if !self.enabled {
+            return;
+        }
+        self.noted.store(true, Ordering::Relaxed);
+        let elapsed = self.started.elapsed().as_secs_f64();
+        eprint!("\r{}: {state}, {elapsed:.0} s   ", self.label);
+    }
+
+    /// After [`Progress::note`]: end the line, so that what follows (the results, or an error) starts on its own.
+    pub fn end(&self) {
+        if self.noted.swap(false, Ordering::Relaxed) {
             eprintln!();
         }
     }
