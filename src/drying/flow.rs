@@ -125,7 +125,7 @@ impl FlowProvider for SolvedFlow<'_> {
         } else {
             self.settings
         };
-        let mut solve_from = |warm: Option<&WarmStart>| {
+        let mut solve_at = |warm: Option<&WarmStart>| {
             let plenum = &mut self.plenum;
             solve_keeping(
                 self.container,
@@ -140,9 +140,9 @@ impl FlowProvider for SolvedFlow<'_> {
         let last_warm = self.last.as_ref().map(|s| &s.warm);
         // A predicted start that fails (none has been seen to) falls back to the last solution, which also puts
         // back the plenum's own state.
-        let sol = match predicted.as_ref().map(|p| solve_from(Some(p))) {
+        let sol = match predicted.as_ref().map(|p| solve_at(Some(p))) {
             Some(Ok(sol)) => sol,
-            _ => solve_from(last_warm)?,
+            _ => solve_at(last_warm)?,
         };
         let field = field_from_solution(&sol, self.efficiency);
         if !self.settled {
