@@ -103,6 +103,21 @@ fn twin(
     }
 }
 
+/// The trailer on a 16 × 6 × 8 grid with 12 blocks (4 × 3) at the multipliers of [`truth`], surveyed with `flow`
+/// and 5 % reading noise: the container, the surveyed blocks, the true multipliers and the grid.
+fn small_twin(flow: &FlowSpec) -> (Container, Vec<SurveyBlock>, Vec<f64>, Grid) {
+    let grid = Grid {
+        nx: 16,
+        ny: 6,
+        nz: 8,
+    };
+    let c = container();
+    let mut blocks = layout(&c, 4, 3, 0.8, 0.4);
+    let t = truth(blocks.len());
+    twin(&c, &mut blocks, &t, flow, grid, 0.05);
+    (c, blocks, t, grid)
+}
+
 fn fit(
     c: &Container,
     blocks: &[SurveyBlock],
@@ -209,16 +224,8 @@ fn noisy_twin_is_fitted_back_within_its_confidence() {
 /// while the ratios between blocks, which the survey does see, are still fitted back.
 #[test]
 fn confidence_widens_where_the_survey_barely_sees_the_map() {
-    let grid = Grid {
-        nx: 16,
-        ny: 6,
-        nz: 8,
-    };
-    let c = container();
-    let mut blocks = layout(&c, 4, 3, 0.8, 0.4);
-    let t = truth(blocks.len());
     let fan = FlowSpec::Fan(common::fan("vane-3kw"));
-    twin(&c, &mut blocks, &t, &fan, grid, 0.05);
+    let (c, blocks, t, grid) = small_twin(&fan);
     let with_fan = fit(&c, &blocks, &fan, grid, &FitSettings::default());
     let q = with_fan.solution.operating_point.plenum_flow_m3_per_s;
     let fixed = fit(
@@ -259,16 +266,8 @@ fn confidence_widens_where_the_survey_barely_sees_the_map() {
 
 #[test]
 fn fit_is_the_same_on_one_and_two_threads() {
-    let grid = Grid {
-        nx: 16,
-        ny: 6,
-        nz: 8,
-    };
-    let c = container();
-    let mut blocks = layout(&c, 4, 3, 0.8, 0.4);
-    let t = truth(blocks.len());
     let flow = FlowSpec::Fan(common::fan("vane-3kw"));
-    twin(&c, &mut blocks, &t, &flow, grid, 0.05);
+    let (c, blocks, _, grid) = small_twin(&flow);
     let run = |k: usize| {
         rayon::ThreadPoolBuilder::new()
             .num_threads(k)
@@ -297,16 +296,8 @@ fn fit_is_the_same_on_one_and_two_threads() {
 /// to 0.14664 on its last step), so it is checked against the fit's own record instead.
 #[test]
 fn fit_reports_its_progress_as_it_goes() {
-    let grid = Grid {
-        nx: 16,
-        ny: 6,
-        nz: 8,
-    };
-    let c = container();
-    let mut blocks = layout(&c, 4, 3, 0.8, 0.4);
-    let t = truth(blocks.len());
     let flow = FlowSpec::Fan(common::fan("vane-3kw"));
-    twin(&c, &mut blocks, &t, &flow, grid, 0.05);
+    let (c, blocks, _, grid) = small_twin(&flow);
     let fs = FitSettings::default();
     let mut seen: Vec<FitProgress> = Vec::new();
     let f = fit_survey(
