@@ -20,15 +20,16 @@
 //! README's fit (2026-12-04 04:02, load average 1.8, medians of 3 rounds interleaved with the cold solves' code)
 //! 18.1 → 9.2 s wall (34.0 → 16.6 s CPU) on its 2-D plenum and 1.69 → 1.06 s on the duct, the same 4 iterations
 //! and 165 solves, multipliers and their intervals within 6e-5 relative of the cold solves' (the derivatives' own
-//! error is ~1e-5, below). Why not an adjoint of
-//! the bed solve: the bed system is symmetric positive definite only with the resistivities frozen, and the
-//! frozen-resistivity adjoint misses the law's feedback (raising a block's permeability raises its speed, which
-//! raises Shedd's resistivity by the factor 1 + d ln K/d ln q, about 1.3–1.5 at trailer speeds), the floor's
-//! quadratic law and the fan's slope; that error would move the fitted point itself (the gradient Jᵀr would be
-//! wrong), not only slow the iteration. Differences of the full solve are exact for the discrete model up to the
-//! step (1e-3 in ln m; the solve's relative tolerance 1e-8 leaves ~1e-5 relative error in each derivative), need
-//! nothing from the solver's internals, and cost n + 1 solves per iteration: at the default 32 × 12 × 16 grid about
-//! 20 ms each (measured; see `benches/airflow.rs` for the whole fit's time).
+//! error is ~1e-5, below).
+//!
+//! Why not an adjoint of the bed solve: the bed system is symmetric positive definite only with the resistivities
+//! frozen, and the frozen-resistivity adjoint misses the law's feedback (raising a block's permeability raises its
+//! speed, which raises Shedd's resistivity by the factor 1 + d ln K/d ln q, about 1.3–1.5 at trailer speeds), the
+//! floor's quadratic law and the fan's slope; that error would move the fitted point itself (the gradient Jᵀr
+//! would be wrong), not only slow the iteration. Differences of the full solve are exact for the discrete model up
+//! to the step (1e-3 in ln m; the solve's relative tolerance 1e-8 leaves ~1e-5 relative error in each derivative),
+//! need nothing from the solver's internals, and cost n + 1 solves per iteration: at the default 32 × 12 × 16 grid
+//! about 20 ms each on the duct (measured; see `benches/airflow.rs` for the whole fit's time).
 //!
 //! Iteration: at θ, J = ∂r/∂θ by differences; H = JᵀJ + I/s_p², g = Jᵀr + θ/s_p². Blocks at a bound whose gradient
 //! pushes outward are held; the free ones take the Levenberg–Marquardt step (H + μ·diag H)δ = −g, projected onto
@@ -501,9 +502,8 @@ struct Step {
     solves: u32,
 }
 
-/// Try damped steps from θ until one lowers Φ (μ ×4 after each refusal, ÷3 after success), at most 12 tries.
-/// One Levenberg–Marquardt step from `theta` (residuals `r`, solution `from`), each trial solve started from
-/// `from`.
+/// One Levenberg–Marquardt step from θ (residuals `r`, solution `from`): damped steps tried until one lowers Φ
+/// (μ ×4 after each refusal, ÷3 after success), at most 12 tries, each trial solve started from `from`.
 #[allow(clippy::too_many_arguments)]
 fn lm_step(
     model: &Model<'_>,
