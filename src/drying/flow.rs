@@ -76,8 +76,8 @@ pub struct SolvedFlow<'a> {
     /// Ambient and plenum air density and D272 factor the last solution was solved for; a request with the same
     /// three reuses it.
     pub last_key: Option<(f64, f64, f64)>,
-    /// The solutions before the last one, newest first, by their keys as `last_key` (at most [`KEPT_EARLIER`]):
-    /// with the last, the drift of the air that the next re-solve starts from ([`predicted_start`]).
+    /// The solutions before the last one, newest first, by their keys as `last_key` (at most four): with the
+    /// last, the drift of the air that the next re-solve starts from (see the module docs).
     pub earlier: Vec<(Key, WarmStart)>,
     /// The plenum, kept between re-solves (a 2-D plenum keeps its flow field: each re-solve starts from it).
     pub plenum: Option<Box<dyn Plenum + Send>>,
