@@ -223,7 +223,7 @@ fn drying_runs_resolve_from_the_last_solution() {
 }
 
 /// A drying run keeps its plenum between re-solves: a 2-D plenum starts each re-solve from its last flow field and
-/// shape (`Plenum::kept_shape_pa`), so the re-solve takes fewer outer steps than a cold solve and lands on the
+/// shape (the warm start's, `Plenum::kept_state`), so the re-solve takes fewer outer steps than a cold solve and lands on the
 /// same answer within the solves' tolerance.
 #[test]
 fn drying_runs_keep_the_two_d_plenum_between_resolves() {

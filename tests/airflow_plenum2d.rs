@@ -515,9 +515,6 @@ impl Plenum for AsBefore {
     fn converged(&self) -> bool {
         self.plenum.converged()
     }
-    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
-        self.plenum.kept_shape_pa(rho)
-    }
 }
 
 /// The floor response (the outflow implicit in the plenum pressure inside the plenum's iterations) changes how the

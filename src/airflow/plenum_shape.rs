@@ -22,7 +22,8 @@
 //! opening.
 //!
 //! Status: the coupled loop calls the 2-D plenum inexactly: 20 Anderson-accelerated SIMPLEC iterations per call
-//! from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`, `ANDERSON_DEPTH`), and stops only when the bed has
+//! (fewer in a loose re-solve, below) from the kept field (`SIMPLEC_PER_CALL`, `RELAX_ACCELERATED`,
+//! `ANDERSON_DEPTH`), and stops only when the bed has
 //! settled and the plenum meets its own tolerance ([`Plenum::converged`]). Within a call the floor outflow answers
 //! the plenum pressure through each column's conductance to the bed ([`FloorResponse`]), so the plenum's pressure
 //! distribution meets the bed's resistance inside the plenum's own iterations rather than only from one outer step
@@ -40,9 +41,11 @@
 //! average 8–15): at 32 × 12 × 10, 31 outer / 600 SIMPLEC iterations, about 1 s of CPU (it was 352 outer
 //! iterations and 23 s of CPU with plain SIMPLEC to 1e-7 on every call); at 64 × 24 × 32 with the fan, 150 outer /
 //! 2 980 SIMPLEC iterations, about 26–31 s of CPU, against the 0.5 s and about 0.2 s for the 1-D duct; a
-//! warm re-solve (from the kept field and its shape, [`Plenum::kept_shape_pa`]) takes 129 / 2 560, 0.8 of cold. The plenum is the whole cost, and its slowest SIMPLEC mode needs more
-//! iterations on a finer plenum grid. So the container file chooses it (`"plenum": {"model": "2d"}`) and the 1-D
-//! duct stays the default.
+//! warm re-solve (from the kept field and its shape) took 129 / 2 560, 0.8 of cold; the plenum was the whole cost,
+//! and the container file had to choose it (`"plenum": {"model": "2d"}`). Since 2026-12-04 it is the default
+//! wherever the bed grid resolves it (`Container::plenum_model_on`), a loose re-solve's calls end once the plenum
+//! meets its tolerance after at least [`LOOSE_MIN_PER_CALL`] iterations, and a solve's warm start carries the
+//! plenum's own field ([`Plenum::kept_state`]), into a kept plenum or a fresh one.
 use serde::{Deserialize, Serialize};
 
 use super::geometry::{Container, Grid};
@@ -230,11 +233,6 @@ pub trait Plenum {
     /// Let a plenum solved iteratively meet a tolerance in proportion to the coupled loop's `outer` tolerance,
     /// and in a loose re-solve end its calls once it does (a direct model ignores it).
     fn set_outer_tolerance(&mut self, _outer: f64) {}
-    /// δ per column of the state the plenum keeps from its last call, at density `rho`, or None if it keeps none:
-    /// where a re-solve during a drying run starts its plenum shape (a warm start), instead of a uniform plenum.
-    fn kept_shape_pa(&self, _rho_kg_per_m3: f64) -> Option<Vec<f64>> {
-        None
-    }
     /// The state the plenum keeps between calls, flattened, or empty if it keeps none (a direct model): with
     /// [`Plenum::set_kept_state`], how a re-solve's predicted start (`WarmStart::predicted`) reaches the 2-D flow.
     fn kept_state(&self) -> Vec<f64> {
@@ -533,10 +531,6 @@ impl Plenum for Plenum2d {
         } else {
             SIMPLEC_PER_CALL
         };
-    }
-
-    fn kept_shape_pa(&self, rho: f64) -> Option<Vec<f64>> {
-        self.last.map(|_| self.shape_of_state(rho))
     }
 
     /// u, then v, then P; empty before the first call.

@@ -662,11 +662,8 @@ fn solve_coupled(
     let mut p_in_prev = 0.0;
     let mut p = vec![0.0; n];
     let mut prev = vec![0.0; n];
-    // a plenum that keeps its field from a previous solve (the 2-D flow) starts from that field's shape
-    let mut delta_col = plenum
-        .kept_shape_pa(rho)
-        .filter(|d| d.len() == nc)
-        .unwrap_or_else(|| vec![0.0; nc]);
+    // uniform, unless a warm start gives the shape (and the 2-D plenum's own field, `start_warm`)
+    let mut delta_col = vec![0.0; nc];
     let mut linear_total = 0;
     let mut last_change: f64 = 1.0;
     let closure = Closure {
