@@ -161,11 +161,7 @@ fn bench_fit(c: &mut Criterion) {
     let law = peanut_law();
     let air = AirPath::same(AirState::from_rh(25.0, 0.7, 101_325.0));
     let grid = SolverSettings::default().grid;
-    let command = SolverSettings {
-        grid,
-        plenum: container.plenum_model_on(grid),
-        ..SolverSettings::default()
-    };
+    let command = SolverSettings::for_container(&container, grid);
     let duct = SolverSettings {
         grid,
         plenum: PlenumModel::default(),

@@ -64,11 +64,7 @@ fn main() {
     let m: Vec<f64> = blocks.iter().map(truth).collect();
     // the plenum model `dryfront airflow` uses on this grid by default (the 2-D plenum), so the default fit
     // models the survey with the model that made it
-    let grid = SolverSettings::default().grid;
-    let settings = SolverSettings {
-        plenum: c.plenum_model_on(grid),
-        ..SolverSettings::default()
-    };
+    let settings = SolverSettings::for_container(&c, SolverSettings::default().grid);
     let air = AirPath::same(AirState::from_rh(25.0, 0.70, 101_325.0));
     let law = dryfront::load::bed_law(&crop);
     let sol = solve(

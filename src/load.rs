@@ -265,11 +265,7 @@ fn provider<'a>(spec: &'a LoadSpec, container: &'a Container) -> SolvedFlow<'a> 
         container,
         flow: spec.flow.clone(),
         law: bed_law(&spec.crop),
-        settings: SolverSettings {
-            grid: spec.grid,
-            plenum: container.plenum_model_on(spec.grid),
-            ..SolverSettings::default()
-        },
+        settings: SolverSettings::for_container(container, spec.grid),
         resolve_tolerance: RESOLVE_TOLERANCE,
         efficiency: spec.efficiency,
         bed_erh: Box::new(move |pod_db: f64| pod_erh(&*material, pod_db, BED_ERH_REFERENCE_C)),

@@ -198,6 +198,18 @@ impl WarmStart {
     }
 }
 
+impl SolverSettings {
+    /// The default settings on `grid`, with the plenum model `container` gets there ([`Container::plenum_model_on`]:
+    /// the one its file names, else the grid's default): how a command or a load solves a container's air.
+    pub fn for_container(container: &Container, grid: Grid) -> Self {
+        SolverSettings {
+            grid,
+            plenum: container.plenum_model_on(grid),
+            ..SolverSettings::default()
+        }
+    }
+}
+
 impl Default for SolverSettings {
     /// Default grid, manifold plenum, tolerance 1e-8 on pressure, 1e-10 on the linear residual.
     fn default() -> Self {

@@ -283,11 +283,7 @@ pub(crate) fn load(args: &AirflowOptions) -> anyhow::Result<Loaded> {
         ny: args.ny,
         nz: args.nz,
     };
-    let settings = SolverSettings {
-        grid,
-        plenum: container.plenum_model_on(grid),
-        ..SolverSettings::default()
-    };
+    let settings = SolverSettings::for_container(&container, grid);
     let used = Used::new(&air, &flow, bed);
     Ok(Loaded {
         container,
