@@ -338,8 +338,14 @@ criterion_main!(benches);
 // With the earlier line-Jacobi preconditioner, same machine and day: 405 ms, 21 outer / 353 CG, and 4.42 s,
 // 24 outer / 808 CG (criterion point estimates).
 //
-// airflow fit (bench_fit) on the command's plenum model (the 2-D plenum) and on the duct, measured 2026-12-04
-// 03:40–03:46 with another engineer's build and bench running (load average 2.5 → 4.1), command
+// airflow fit (bench_fit) with every sensitivity and trial solve started from the solution at the fit's point
+// (`airflow::fit`), measured 2026-12-04 04:08 on the quiet machine (load average 1.7–1.9), command
+// `cargo bench --bench airflow -- fit --warm-up-time 1`, 10 samples of one fit each:
+//   command's plenum: median 9.30 s (8.79–9.84 s), 4 iterations / 165 airflow solves — the 10 s target met.
+//   duct: median 888 ms (861–920 ms).
+//
+// airflow fit (bench_fit) on the command's plenum model (the 2-D plenum) and on the duct, cold solves, measured
+// 2026-12-04 03:40–03:46 with another engineer's build and bench running (load average 2.5 → 4.1), command
 // `nice -n 10 cargo bench --bench airflow -- fit`, 10 samples of one fit each:
 //   command's plenum: median 28.5 s (24.9–32.1 s; samples 14.9–38.9 s), 4 iterations / 165 airflow solves — the
 //   10 s target not met (the whole command, once, in the same session: 33.0 s wall / 36.6 s CPU).
