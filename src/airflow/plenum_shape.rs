@@ -44,7 +44,7 @@
 //! warm re-solve (from the kept field and its shape) took 129 / 2 560, 0.8 of cold; the plenum was the whole cost,
 //! and the container file had to choose it (`"plenum": {"model": "2d"}`). Since 2026-12-04 it is the default
 //! wherever the bed grid resolves it (`Container::plenum_model_on`), a loose re-solve's calls end once the plenum
-//! meets its tolerance after at least [`LOOSE_MIN_PER_CALL`] iterations, and a solve's warm start carries the
+//! meets its tolerance after at least `LOOSE_MIN_PER_CALL` iterations, and a solve's warm start carries the
 //! plenum's own field ([`Plenum::kept_state`]), into a kept plenum or a fresh one.
 use serde::{Deserialize, Serialize};
 
