@@ -16,10 +16,10 @@ pub struct SeriesAmbient<'a> {
 impl Ambient for SeriesAmbient<'_> {
     fn at(&self, elapsed_s: f64) -> Option<AmbientSample> {
         let t = self.start + Duration::milliseconds((elapsed_s * 1000.0).round() as i64);
-        let sample = self.series.at(t).ok()?;
+        let air = self.series.air_at(t).ok()?;
         let local = t.with_timezone(&self.series.site().utc_offset);
         Some(AmbientSample {
-            air: sample.air,
+            air,
             local_hour: local.hour(),
         })
     }

@@ -52,6 +52,14 @@ pub struct AirSample {
     pub air: AirState,
 }
 
+/// Where an instant falls in a series (see `WeatherSeries::interpolated`).
+enum Instant {
+    /// On hour `i` (or past the last).
+    Hour(usize),
+    /// Between two hours, with the air interpolated there.
+    Between(AirState),
+}
+
 /// A time outside the series was asked for.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[error("time {time} is outside the weather series ({start} to {end})")]
@@ -311,11 +319,32 @@ impl WeatherSeries {
     /// The weather at any instant within the series: linear in dry bulb, humidity ratio and pressure between the
     /// neighbouring hours; RH derived from them (capped at 1). O(1).
     pub fn at(&self, time: DateTime<FixedOffset>) -> Result<AirSample, OutsideSeries> {
+        match self.interpolated(time)? {
+            Instant::Hour(i) => Ok(self.hour(i)),
+            Instant::Between(air) => Ok(AirSample {
+                t_c: air.t_c,
+                rh: psychro::rh_from_humidity_ratio(air.t_c, air.w, air.p_pa).clamp(0.0, 1.0),
+                p_pa: air.p_pa,
+                air,
+            }),
+        }
+    }
+
+    /// The air of [`WeatherSeries::at`] alone, without the RH it derives (a drying run reads the air every step).
+    pub fn air_at(&self, time: DateTime<FixedOffset>) -> Result<AirState, OutsideSeries> {
+        Ok(match self.interpolated(time)? {
+            Instant::Hour(i) => self.hour(i).air,
+            Instant::Between(air) => air,
+        })
+    }
+
+    /// Where `time` falls: on (within 1e-12 h of) an hour or at the end, or between two hours with the air there.
+    fn interpolated(&self, time: DateTime<FixedOffset>) -> Result<Instant, OutsideSeries> {
         let h = self.index_of(time)?;
         let i = (h.floor() as usize).min(self.len() - 1);
         let f = h - i as f64;
         if f <= 1e-12 || i + 1 >= self.len() {
-            return Ok(self.hour(i));
+            return Ok(Instant::Hour(i));
         }
         let lerp = |v: &[f64]| v[i] + f * (v[i + 1] - v[i]);
         let (t_c, p_pa) = (lerp(&self.t_c), lerp(&self.p_pa));
@@ -323,13 +352,7 @@ impl WeatherSeries {
         // saturated) hours passes above it: cap the humidity ratio at saturation, or foggy hours would give air
         // at 100.01 % RH.
         let w = lerp(&self.w).min(psychro::saturation_humidity_ratio(t_c, p_pa));
-        let rh = psychro::rh_from_humidity_ratio(t_c, w, p_pa).clamp(0.0, 1.0);
-        Ok(AirSample {
-            t_c,
-            rh,
-            p_pa,
-            air: AirState { t_c, w, p_pa },
-        })
+        Ok(Instant::Between(AirState { t_c, w, p_pa }))
     }
 
     /// The hours `start <= t < start + duration`, as a new series. `start` need not fall on the hour.
