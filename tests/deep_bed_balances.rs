@@ -154,3 +154,38 @@ fn layers_above_an_adsorbing_layer_may_cool_below_the_plenum_dew_point_but_not_b
         );
     }
 }
+
+#[test]
+fn a_run_without_the_adiabatic_bound_is_the_same_run() {
+    // A season's loads leave the bound off (no season output reads it): that must change nothing but the
+    // bound's two figures, which say they were not added up (NaN), not 0.
+    let case = Case {
+        max_hours: 30.0,
+        ..Case::default()
+    };
+    let (on, _) = case.run();
+    let (off, _) = Case {
+        adiabatic_bound: false,
+        ..case
+    }
+    .run();
+    assert!(on.balances.adiabatic_capacity_kg > 0.0);
+    assert!(off.balances.adiabatic_capacity_kg.is_nan());
+    assert!(off.balances.max_removal_vs_adiabatic.is_nan());
+    let rest = |o: &dryfront::drying::run::Outcome| {
+        let balances = dryfront::drying::run::Balances {
+            adiabatic_capacity_kg: 0.0,
+            max_removal_vs_adiabatic: 0.0,
+            ..o.balances
+        };
+        // Debug prints every float to the bit (and NaN alike), which `==` on the structs would not compare
+        format!(
+            "{:?}",
+            dryfront::drying::run::Outcome {
+                balances,
+                ..o.clone()
+            }
+        )
+    };
+    assert_eq!(rest(&on), rest(&off));
+}

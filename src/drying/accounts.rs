@@ -68,6 +68,19 @@ pub struct StepAir {
 }
 
 impl Balances {
+    /// These accounts, with the adiabatic bound's figures NaN when the run does not add it up.
+    pub fn with_adiabatic_bound(self, kept: bool) -> Self {
+        if kept {
+            self
+        } else {
+            Balances {
+                max_removal_vs_adiabatic: f64::NAN,
+                adiabatic_capacity_kg: f64::NAN,
+                ..self
+            }
+        }
+    }
+
     /// Add one step; returns the water the peanuts gave up in it, kg.
     pub fn add_step<'a>(
         &mut self,

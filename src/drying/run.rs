@@ -160,6 +160,10 @@ pub struct RunSettings {
     pub under_dry_tolerance_wb: f64,
     /// Batch-average drying rate counted as too fast, percentage points per hour.
     pub safe_rate_pct_per_h: f64,
+    /// Add up the adiabatic-saturation bound of the plenum air each step (`Balances::adiabatic_capacity_kg`,
+    /// DOMAIN.md §6.3; a wet-bulb solve a step). Runs whose balances nobody reads (a season's loads) leave it off,
+    /// and their two bound figures are NaN.
+    pub adiabatic_bound: bool,
 }
 
 impl Default for RunSettings {
@@ -179,6 +183,7 @@ impl Default for RunSettings {
             over_dry_kernel_wb: 0.09,
             under_dry_tolerance_wb: 0.005,
             safe_rate_pct_per_h: 0.5,
+            adiabatic_bound: true,
         }
     }
 }
@@ -478,7 +483,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             tracker,
             bal: Balances {
                 water_start_kg: water_kg,
-                ..Balances::default()
+                ..Balances::default().with_adiabatic_bound(settings.adiabatic_bound)
             },
             rate: RateWatch::new(initial_kernel_wb, settings.safe_rate_pct_per_h),
             start: StartFigures {
@@ -740,7 +745,9 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                 dry_air_kg: r.dry_air_kg_per_m2 * self.bed.column_area_m2,
             }),
         );
-        self.bal.add_adiabatic_bound(&air, removed);
+        if self.settings.adiabatic_bound {
+            self.bal.add_adiabatic_bound(&air, removed);
+        }
         self.t_s += dt_s;
         self.steps += 1;
         let before = self.levels;

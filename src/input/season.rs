@@ -105,6 +105,8 @@ pub fn season_template(
         target_kernel_wb: bp.rules.target_kernel_pct / 100.0,
         stop: bp.rules.stop_rule,
         safe_rate_pct_per_h: crop.safety.max_drying_rate_pct_wb_per_h,
+        // a season keeps each load's hours, fuel and shrink, not its balances
+        adiabatic_bound: false,
         ..RunSettings::default()
     };
     let template = LoadTemplate {

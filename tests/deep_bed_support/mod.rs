@@ -35,6 +35,8 @@ pub struct Case {
     pub max_hours: f64,
     /// Initial peanut temperature, °C (ambient when `None`).
     pub peanut_c: Option<f64>,
+    /// Add up the adiabatic bound (`RunSettings::adiabatic_bound`).
+    pub adiabatic_bound: bool,
 }
 
 impl Default for Case {
@@ -51,6 +53,7 @@ impl Default for Case {
             dt_s: 360.0,
             max_hours: 120.0,
             peanut_c: None,
+            adiabatic_bound: true,
         }
     }
 }
@@ -87,6 +90,7 @@ impl Case {
         let settings = RunSettings {
             dt_s: self.dt_s,
             max_hours: self.max_hours,
+            adiabatic_bound: self.adiabatic_bound,
             ..RunSettings::default()
         };
         run_fixed(
