@@ -7,6 +7,9 @@
 //! The deep-bed seasons run inside one pool (as the command does), with the loads dried in order and with
 //! look-ahead (several at once), side by side.
 //!
+//! (c) The 20-season × 600-load ensemble as a whole `season sweep` command, on the screening grid and on the
+//! default season grid.
+//!
 //! Run: `cargo bench --bench season -- --warm-up-time 1 --measurement-time 2`.
 
 #[path = "../tests/season_support/mod.rs"]
@@ -127,5 +130,40 @@ fn deep_bed(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, event_logic, deep_bed);
+/// The ensemble of issue 16's targets, as the command runs it: `season sweep` of 20 seasons × 600 loads on 30 of
+/// the Wrenfield wagons, both policies (`fcfs` and `wait-limit`), each season with its own synthetic weather, on the
+/// screening grid (2 × 1 × 5) and on the default season grid (4 × 2 × 10). One sample is one whole process (its
+/// files included); the default grid's ten samples take about six minutes, so filter with
+/// `cargo bench --bench season -- "ensemble/2x1x5"` for the screening grid alone.
+fn ensemble(c: &mut Criterion) {
+    let root = env!("CARGO_MANIFEST_DIR");
+    let scratch = tempfile::tempdir().unwrap();
+    let mut g = c.benchmark_group("season sweep ensemble");
+    g.sample_size(10);
+    for grid in ["2x1x5", "4x2x10"] {
+        let out = scratch.path().join(grid);
+        g.bench_function(
+            format!("{grid}/20 seasons x 600 loads, 30 dryers, 2 policies"),
+            |b| {
+                b.iter(|| {
+                    let status = std::process::Command::new(env!("CARGO_BIN_EXE_dryfront"))
+                        .current_dir(root)
+                        .args(["season", "sweep", "--scenario"])
+                        .arg(format!("{root}/models/buying-points/wrenfield.json"))
+                        .args(["--dryers", "30", "--seasons", "20", "--loads", "600"])
+                        .args(["--grid", grid, "--replace", "--out"])
+                        .arg(&out)
+                        .stdout(std::process::Stdio::null())
+                        .stderr(std::process::Stdio::null())
+                        .status()
+                        .unwrap();
+                    assert!(status.success());
+                })
+            },
+        );
+    }
+    g.finish();
+}
+
+criterion_group!(benches, event_logic, deep_bed, ensemble);
 criterion_main!(benches);
