@@ -1,7 +1,7 @@
 //! What the season's coarse grids cost: a full-resolution load is far too costly to repeat hundreds of times, so the
 //! season runs each load on a coarse grid (by default 4 × 2 columns × 10 layers, 0.2 h steps, airflow solved once
 //! per load at its start). Here a sample of demo loads is run on that grid, on the screening grid that README
-//! suggests for large sweeps (`--grid 2x1x5`, a quarter of the cells' work and less), and on the single-load default
+//! suggests for large sweeps (`--grid 2x1x5`, an eighth of the cells), and on the single-load default
 //! grid (16 × 6 × 20, 0.1 h steps) on the same weather; all solve the airflow once at the start, so what is measured
 //! is the cost of the coarse grid and step. Hours to target must agree with the fine grid's within 3 % on either
 //! coarse grid (the season issue's bound); fuel and over-dried mass differences are printed for the record.
