@@ -33,7 +33,8 @@
 //! References: ASAE S448 (thin-layer drying); Page, Henderson–Pabis and two-term forms as tabulated in thin-layer
 //! papers (DOMAIN.md §3.2); Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (time form from memory).
 
-use crate::props::sorption::{Isotherm, Sorption, U_MAX, U_MIN};
+use crate::props::lanes::{self, four, Lane, Lanes};
+use crate::props::sorption::{Isotherm, MoistureUnit, Sorption, RH_MAX, RH_MIN, U_MAX, U_MIN};
 use crate::units::wb_from_db;
 
 /// Molar gas constant, J/(mol·K) (CODATA 2018, exact).
@@ -436,6 +437,8 @@ pub fn step_pod(model: &PodModel, s: PodState, t_c: f64, rh: f64, dt_s: f64) -> 
 /// [`step_pod`] for one model over many calls: what depends on the model's constants alone (rate-law divisions,
 /// the kernel-to-hull dry-matter ratio, which kernel rate applies) is worked out once, as the same expressions, so
 /// every step is the same to the bit as [`step_pod`]'s.
+// One per material, stepped millions of times: boxing the larger variant would add a pointer chase to every step.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum PodStepper {
     /// One compartment (nothing to work out ahead).
@@ -462,6 +465,27 @@ pub struct TwoCompartmentTerms {
     kernel_rate: Option<KernelRate>,
     /// See [`TwoCompartmentStep::kernel_ratio`].
     kernel_ratio: Option<f64>,
+    /// The constants of [`PodStepper::step4`]'s four-lane path, when the model has that path.
+    lanes: Option<LaneTerms>,
+}
+
+/// What [`PodStepper::step4`] needs to step four pods of a model whose one-pass path is exact (a Cromarty hull and
+/// kernel, the kernel's rate a fixed ratio of the hull's Arrhenius rate), each the value the scalar step uses.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct LaneTerms {
+    hull_rate: RateTerms,
+    /// Kernel rate over hull rate.
+    rate_ratio: f64,
+    /// Kernel over hull dry matter.
+    r: f64,
+    /// κ of [`TwoCompartmentStep::kernel_ratio`].
+    kappa: f64,
+    /// The hull's oil content, decimal.
+    oil: f64,
+    /// `s/(1 − D_o)` of [`Isotherm::erh_log_complement`]'s Cromarty form (s = 100, percent dry basis).
+    g_scale: f64,
+    /// The hull's adsorption offset.
+    adsorption_offset_db: f64,
 }
 
 /// A kernel rate constant that does not depend on the RH inside the hull.
@@ -516,11 +540,36 @@ impl PodStepper {
                     ) if kernel_rate.is_some() => Some((1.0 - d_k) / (1.0 - d_h)),
                     _ => None,
                 };
-                let terms = TwoCompartmentTerms {
-                    r: (1.0 - hull_fraction) / hull_fraction,
-                    hull_rate: hull.thin_layer.rate().map(RateTerms::of),
+                let r = (1.0 - hull_fraction) / hull_fraction;
+                let hull_rate = hull.thin_layer.rate().map(RateTerms::of);
+                let lanes = match (
+                    hull_rate,
                     kernel_rate,
                     kernel_ratio,
+                    hull.sorption.desorption,
+                ) {
+                    (
+                        Some(hull_rate),
+                        Some(KernelRate::RatioToHull(rate_ratio)),
+                        Some(kappa),
+                        Isotherm::Cromarty { oil_content_db },
+                    ) => Some(LaneTerms {
+                        hull_rate,
+                        rate_ratio,
+                        r,
+                        kappa,
+                        oil: oil_content_db,
+                        g_scale: MoistureUnit::PercentDb.scale() / (1.0 - oil_content_db),
+                        adsorption_offset_db: hull.sorption.adsorption_offset_db,
+                    }),
+                    _ => None,
+                };
+                let terms = TwoCompartmentTerms {
+                    r,
+                    hull_rate,
+                    kernel_rate,
+                    kernel_ratio,
+                    lanes,
                 };
                 PodStepper::TwoCompartment {
                     hull,
@@ -565,6 +614,143 @@ impl PodStepper {
             }
         }
     }
+}
+
+impl PodStepper {
+    /// Four pods stepped as [`PodStepper::step`] steps each (the cells of four columns at one layer, as
+    /// `drying::layer::step_columns4` steps them). For a model whose one-pass path is exact (two Cromarty
+    /// compartments, the kernel's rate a fixed ratio of the hull's), that path runs lane by lane in plain arithmetic
+    /// ([`props::lanes`](crate::props::lanes) in place of the C library's `exp` and `log`), compiled for 256-bit
+    /// vectors where the processor has AVX2 (chosen at run time) and for plain registers elsewhere, with the same
+    /// result to the bit either way. Results agree with `step`'s to within round-off (a few units in the last
+    /// place, checked in the tests). A lane that leaves the path (a second pass needed, a double eigenvalue, a
+    /// moisture outside the forms' range, a non-finite value) and every lane of any other model take `step`.
+    pub fn step4(&self, s: [PodState; 4], t_c: Lanes, rh: Lanes, dt_s: f64) -> [PodState; 4] {
+        let lanes = match self {
+            PodStepper::TwoCompartment { terms, .. } => terms.lanes,
+            PodStepper::Single(_) => None,
+        };
+        let Some(lt) = lanes else {
+            return four(|i| self.step(s[i], t_c[i], rh[i], dt_s));
+        };
+        let (out, exact) = step_lanes_best(&lt, &s, t_c, rh, dt_s);
+        four(|i| {
+            if exact[i] {
+                out[i]
+            } else {
+                self.step(s[i], t_c[i], rh[i], dt_s)
+            }
+        })
+    }
+}
+
+/// The exact one-pass path of [`TwoCompartmentStep`] for four pods on the lanes `V`, each expression the scalar
+/// one's in the same order (the rate law, the Cromarty EMC target with its hysteresis band, the closed-form kernel
+/// line, Putzer's matrix exponential), with the exponentials and the log complement from [`lanes`]. Returns the
+/// states and, per lane, whether the scalar step takes this path too (the one-pass line exact over the step, the
+/// eigenvalues apart, everything finite).
+#[inline(always)]
+fn step_lanes<V: Lane>(
+    lt: &LaneTerms,
+    s: &[PodState; 4],
+    t_c: Lanes,
+    rh: Lanes,
+    dt_s: f64,
+) -> ([PodState; 4], [bool; 4]) {
+    let c = V::splat;
+    let (t, rh) = (V::load(t_c), V::load(rh));
+    let m_h = V::load(four(|i| s[i].m_hull_db));
+    let m_k = V::load(four(|i| s[i].m_kernel_db));
+    let dt_h = c(dt_s.max(0.0) / 3600.0);
+    // rates: RateTerms::k_per_h, KernelRate::RatioToHull
+    let rt = lt.hull_rate;
+    let inv = c(1.0).div(t.add(c(KELVIN))).sub(c(rt.inv_t_ref));
+    let arg = c(rt.neg_ea_over_r).mul(inv).sub(c(rt.rh_slope).mul(rh));
+    let k_h = c(rt.k_ref_per_h).mul(lanes::exp(arg));
+    let k_kh = k_h.mul(c(lt.rate_ratio));
+    // the hull's target: Sorption::target_db on Isotherm::emc_db's Cromarty form
+    let t_factor = c(1.1).add(t.mul(c(1.0 / 90.0)));
+    let lc = lanes::log_complement(rh.max(c(RH_MIN)).min(c(RH_MAX)));
+    let factor = c(1.0 - lt.oil).div(t_factor.mul(c(100.0)));
+    let des = c(440.0).mul(lc).sqrt().mul(factor).max(c(0.0));
+    let ads = des.sub(c(lt.adsorption_offset_db)).max(c(0.0));
+    let eq_h = m_h.ge(des).select(des, ads.ge(m_h).select(ads, m_h));
+    // the kernel line at M_h: TwoCompartmentStep::linearise in closed form, u from Isotherm::erh_log_complement
+    let x = m_h.mul(t_factor.mul(c(lt.g_scale)));
+    let u = x.mul(x).mul(c(1.0 / 440.0));
+    let slope = c(lt.kappa);
+    // TwoCompartmentStep::solve with expm2
+    let rk = c(lt.r).mul(k_kh);
+    let a11 = c(0.0).sub(k_h).sub(rk.mul(slope));
+    let a12 = rk;
+    let a21 = k_kh.mul(slope);
+    let a22 = c(0.0).sub(k_kh);
+    let tr = a11.add(a22);
+    let det = a11.mul(a22).sub(a12.mul(a21));
+    let root = c(0.25).mul(tr).mul(tr).sub(det).max(c(0.0)).sqrt();
+    let (l1, l2) = (c(0.5).mul(tr).add(root), c(0.5).mul(tr).sub(root));
+    let (e1, e2) = (lanes::exp(l1.mul(dt_h)), lanes::exp(l2.mul(dt_h)));
+    let inv_gap = c(1.0).div(l1.sub(l2));
+    let c0 = l1.mul(e2).sub(l2.mul(e1)).mul(inv_gap);
+    let c1 = e1.sub(e2).mul(inv_gap);
+    let (e11, e12) = (c0.add(c1.mul(a11)), c1.mul(a12));
+    let (e21, e22) = (c1.mul(a21), c0.add(c1.mul(a22)));
+    let eq_k = slope.mul(m_h).add(slope.mul(eq_h.sub(m_h)));
+    let (d_h, d_k) = (m_h.sub(eq_h), m_k.sub(eq_k));
+    let hull = eq_h.add(e11.mul(d_h)).add(e12.mul(d_k)).max(c(0.0));
+    let kernel = eq_k.add(e21.mul(d_h)).add(e22.mul(d_k)).max(c(0.0));
+    // TwoCompartmentStep::line_is_exact, and the branches of linearise and expm2 this path stands for
+    let within = |v: V| v.ge(c(U_MIN)).and(c(U_MAX).ge(v));
+    let q = hull.div(m_h);
+    let finite = |v: V| v.sub(v).ge(c(0.0));
+    let exact = m_h
+        .gt(c(0.0))
+        .and(within(u))
+        .and(within(u.mul(q.mul(q))))
+        .and(l1.sub(l2).mul(dt_h).gt(c(1e-6)))
+        .and(finite(hull))
+        .and(finite(kernel))
+        .truth();
+    let (hull, kernel) = (hull.store(), kernel.store());
+    let out = four(|i| PodState {
+        m_hull_db: hull[i],
+        m_kernel_db: kernel[i],
+        m_curve_start_db: s[i].m_curve_start_db,
+    });
+    (out, four(|i| exact[i] && lt.kappa > 0.0))
+}
+
+/// [`step_lanes`] compiled for AVX2.
+///
+/// # Safety
+/// Only on a processor with AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn step_lanes_avx2(
+    lt: &LaneTerms,
+    s: &[PodState; 4],
+    t_c: Lanes,
+    rh: Lanes,
+    dt_s: f64,
+) -> ([PodState; 4], [bool; 4]) {
+    step_lanes::<lanes::Avx2>(lt, s, t_c, rh, dt_s)
+}
+
+/// [`step_lanes`] on the processor's widest lanes: AVX2 where it has them (checked once per call; the check reads
+/// a cached flag), plain values elsewhere, with the same result to the bit.
+fn step_lanes_best(
+    lt: &LaneTerms,
+    s: &[PodState; 4],
+    t_c: Lanes,
+    rh: Lanes,
+    dt_s: f64,
+) -> ([PodState; 4], [bool; 4]) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2 (checked just above).
+        return unsafe { step_lanes_avx2(lt, s, t_c, rh, dt_s) };
+    }
+    step_lanes::<lanes::Plain>(lt, s, t_c, rh, dt_s)
 }
 
 /// What one two-compartment step keeps fixed over its passes: air target, rates and time.
@@ -744,6 +930,133 @@ fn expm2(a: [[f64; 2]; 2], t: f64) -> [[f64; 2]; 2] {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Pod states, air temperatures and RH spread over drying, rewetting, the hysteresis band and the RH clamps,
+    /// from a fixed seed.
+    fn spread(n: usize) -> Vec<(PodState, f64, f64)> {
+        let mut seed = 0x2545_f491_4f6c_dd1d_u64;
+        let mut unit = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        (0..n)
+            .map(|_| {
+                let s = PodState {
+                    m_hull_db: 0.02 + 0.6 * unit(),
+                    m_kernel_db: 0.04 + 0.4 * unit(),
+                    m_curve_start_db: 0.3,
+                };
+                let rh = match (unit() * 10.0) as u32 {
+                    0 => 1e-7,
+                    1 => 1.0 - 1e-12,
+                    _ => unit(),
+                };
+                (s, 5.0 + 50.0 * unit(), rh)
+            })
+            .collect()
+    }
+
+    fn bundled_peanut() -> PodStepper {
+        let crop =
+            crate::crop::Crop::load_named("peanut-inshell").expect("bundled peanut model loads");
+        PodStepper::new(&crop.moisture)
+    }
+
+    /// `step4` against `step` on the bundled peanut, whose model has the four-lane path: every lane within 2.5e-16
+    /// (dry-basis decimal) of the scalar result, most lanes through the four-lane path, and each lane's result the
+    /// same to the bit whatever its neighbours. The two differ only in the exponentials and logarithms, each within
+    /// 2 ulp of the C library's (`props::lanes`); measured 2.2e-16 at worst, 4 units in the last place of a moisture
+    /// of 0.25–0.5. The bound is absolute because a result can be much smaller than the terms it is summed from
+    /// (a dry hull rewetting towards a near-saturated equilibrium: 16 ulp of the result there).
+    #[test]
+    fn four_pods_at_once_step_as_one_pod_does_to_round_off() {
+        let stepper = bundled_peanut();
+        let PodStepper::TwoCompartment { terms, .. } = stepper else {
+            panic!("the bundled peanut is a two-compartment model")
+        };
+        let lt = terms
+            .lanes
+            .expect("the bundled peanut has the four-lane path");
+        let cases = spread(4_000);
+        let (mut worst, mut exact): (f64, usize) = (0.0, 0);
+        for (q, group) in cases.chunks(4).enumerate() {
+            let s = four(|i| group[i].0);
+            let (t, rh) = (four(|i| group[i].1), four(|i| group[i].2));
+            for dt_s in [36.0, 360.0, 3_600.0] {
+                let out = stepper.step4(s, t, rh, dt_s);
+                exact += step_lanes::<lanes::Plain>(&lt, &s, t, rh, dt_s)
+                    .1
+                    .iter()
+                    .filter(|e| **e)
+                    .count();
+                for i in 0..4 {
+                    let one = stepper.step(s[i], t[i], rh[i], dt_s);
+                    for (a, b) in [
+                        (out[i].m_hull_db, one.m_hull_db),
+                        (out[i].m_kernel_db, one.m_kernel_db),
+                    ] {
+                        worst = worst.max((a - b).abs());
+                    }
+                    assert_eq!(
+                        out[i].m_curve_start_db.to_bits(),
+                        one.m_curve_start_db.to_bits()
+                    );
+                }
+                // the same pods in the other order: each lane's result does not depend on its neighbours
+                let turned = [3, 2, 1, 0];
+                let back = stepper.step4(
+                    turned.map(|i| s[i]),
+                    turned.map(|i| t[i]),
+                    turned.map(|i| rh[i]),
+                    dt_s,
+                );
+                for i in 0..4 {
+                    assert_eq!(back[3 - i], out[i], "group {q}, lane {i}");
+                }
+            }
+        }
+        assert!(worst <= 2.5e-16, "{worst:e}");
+        assert!(
+            exact > 9_000,
+            "only {exact} of 12 000 lanes took the four-lane path"
+        );
+    }
+
+    /// The AVX2 and plain implementations of the four-lane path give the same bits (where the processor has AVX2;
+    /// elsewhere there is only the plain one).
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn the_four_lane_path_is_the_same_to_the_bit_on_avx2_and_on_plain_lanes() {
+        if !std::arch::is_x86_feature_detected!("avx2") {
+            return;
+        }
+        let PodStepper::TwoCompartment { terms, .. } = bundled_peanut() else {
+            panic!("the bundled peanut is a two-compartment model")
+        };
+        let lt = terms
+            .lanes
+            .expect("the bundled peanut has the four-lane path");
+        for group in spread(4_000).chunks(4) {
+            let s = four(|i| group[i].0);
+            let (t, rh) = (four(|i| group[i].1), four(|i| group[i].2));
+            let plain = step_lanes::<lanes::Plain>(&lt, &s, t, rh, 360.0);
+            // SAFETY: the processor has AVX2 (checked above).
+            let avx2 = unsafe { step_lanes_avx2(&lt, &s, t, rh, 360.0) };
+            assert_eq!(plain.1, avx2.1);
+            for i in 0..4 {
+                assert_eq!(
+                    plain.0[i].m_hull_db.to_bits(),
+                    avx2.0[i].m_hull_db.to_bits()
+                );
+                assert_eq!(
+                    plain.0[i].m_kernel_db.to_bits(),
+                    avx2.0[i].m_kernel_db.to_bits()
+                );
+            }
+        }
+    }
 
     fn cromarty_pod(k_h: f64, k_kh: f64, ea_kernel: f64) -> PodModel {
         let compartment = |oil: f64, k: f64, ea: f64| Compartment {
