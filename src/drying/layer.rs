@@ -19,6 +19,7 @@
 //! References: Thompson, Peart & Foster (1968) Trans. ASAE 11(4):582–586 (layer structure; step details in our own
 //! notation, DOMAIN.md §6.1); ASHRAE Handbook—Fundamentals 2017 ch. 1 (moist-air enthalpy).
 
+use crate::props::lanes::{four, Lanes};
 use crate::props::psychro::{
     humidity_ratio_from_vapour_pressure, vapour_pressure_from_humidity_ratio, SaturationTable,
     CP_DRY_AIR, CP_VAPOUR, CP_WATER, EPS_WATER_AIR, HFG0,
@@ -41,6 +42,17 @@ pub struct CellMoisture {
 pub trait LayerMaterial: Sync {
     /// Advance the thin-layer law over `dt_s` at constant air temperature and RH (decimal).
     fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture;
+    /// Four cells at once, each as [`LayerMaterial::thin_layer_step`] steps it to within round-off (the four
+    /// columns of [`step_columns4`] at one layer); override where four at a time are cheaper than four one by one.
+    fn thin_layer_step4(
+        &self,
+        m: [CellMoisture; 4],
+        t_c: Lanes,
+        rh: Lanes,
+        dt_s: f64,
+    ) -> [CellMoisture; 4] {
+        four(|i| self.thin_layer_step(m[i], t_c[i], rh[i], dt_s))
+    }
     /// Whole-pod moisture, dry basis (dry-matter-weighted mean of the compartments).
     fn pod_db(&self, m: CellMoisture) -> f64;
     /// Equilibrium RH (decimal) of the outer compartment at `t_c`: the air leaving a layer cannot be wetter.
@@ -155,6 +167,246 @@ pub struct ColumnForcing {
     pub dt_s: f64,
 }
 
+/// What one column's step keeps fixed: its material, the saturation table, the peanuts' dry heat capacity, the
+/// dry air through the column over the step (kg/m²) and the barometric pressure.
+struct StepConsts<'a, M: ?Sized> {
+    material: &'a M,
+    sat: &'static SaturationTable,
+    cp_dm: f64,
+    air_kg: f64,
+    p_pa: f64,
+}
+
+impl<M: ?Sized> Clone for StepConsts<'_, M> {
+    fn clone(&self) -> Self {
+        *self
+    }
+}
+impl<M: ?Sized> Copy for StepConsts<'_, M> {}
+
+impl<'a, M: LayerMaterial + ?Sized> StepConsts<'a, M> {
+    fn of(material: &'a M, forcing: &ColumnForcing) -> Self {
+        StepConsts {
+            material,
+            sat: SaturationTable::get(),
+            cp_dm: material.cp_dry_j_per_kg_k(),
+            air_kg: forcing.dry_air_kg_per_m2_s * forcing.dt_s,
+            p_pa: forcing.p_pa,
+        }
+    }
+}
+
+/// A cell mixed with the air entering it (step 1 of [`step_column`]): what the thin-layer law and the exhaust need.
+struct Mixed {
+    m: CellMoisture,
+    air: LayerAir,
+    dm: f64,
+    r: f64,
+    t_before: f64,
+    pod0: f64,
+    t_e: f64,
+    p_w_in: f64,
+    p_ws_e: f64,
+    rh_e: f64,
+    e_in: f64,
+    extra_latent: f64,
+}
+
+/// Sensible mixing of cell `m` (at `th` °C, `dm` kg dry matter per m²) with the air entering it.
+#[inline(always)]
+fn mix<M: LayerMaterial + ?Sized>(
+    c: &StepConsts<'_, M>,
+    m: CellMoisture,
+    th: f64,
+    dm: f64,
+    air: LayerAir,
+) -> Mixed {
+    let StepConsts {
+        material,
+        sat,
+        cp_dm,
+        air_kg,
+        p_pa,
+    } = *c;
+    let t_before = th;
+    let r = dm / air_kg;
+    let pod0 = material.pod_db(m);
+    let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
+    let c_grain = cp_dm + CP_WATER * pod0;
+    // 1. sensible mixing
+    let t_e = (c_air * air.t_c + r * c_grain * th) / (c_air + r * c_grain);
+    let p_w_in = vapour_pressure_from_humidity_ratio(air.w, p_pa);
+    let p_ws_e = sat.pressure_pa(t_e);
+    let rh_e = (p_w_in / p_ws_e).min(1.0);
+    // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
+    let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * th;
+    let ratio = material.latent_heat_ratio(t_e, m);
+    let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
+    Mixed {
+        m,
+        air,
+        dm,
+        r,
+        t_before,
+        pod0,
+        t_e,
+        p_w_in,
+        p_ws_e,
+        rh_e,
+        e_in,
+        extra_latent,
+    }
+}
+
+/// The rest of a cell's step once the thin-layer law has given `m_new` (steps 3–6 of [`step_column`]: exhaust,
+/// equilibrium cap, condensation, the column's totals): the cell's new moisture and the air leaving it, whose
+/// temperature is the cell's.
+#[inline(always)]
+fn finish<M: LayerMaterial + ?Sized>(
+    c: &StepConsts<'_, M>,
+    x: &Mixed,
+    m_new: CellMoisture,
+    k: usize,
+    totals: &mut ColumnStepTotals,
+) -> (CellMoisture, LayerAir) {
+    let StepConsts {
+        material,
+        sat,
+        cp_dm,
+        air_kg,
+        p_pa,
+    } = *c;
+    let Mixed {
+        ref m,
+        air,
+        dm,
+        r,
+        t_before,
+        pod0,
+        t_e,
+        p_w_in,
+        p_ws_e,
+        e_in,
+        extra_latent,
+        ..
+    } = *x;
+    let mut d_m = pod0 - material.pod_db(m_new);
+    let out_state = |d_m: f64| {
+        let w_out = air.w + r * d_m;
+        let pod1 = pod0 - d_m;
+        let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
+            / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
+        (w_out, t_out)
+    };
+    let (mut w_out, mut t_out) = out_state(d_m);
+    let mut p_ws_out = sat.pressure_pa(t_out);
+    let mut m_next = m_new;
+    // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
+    // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
+    if d_m > 0.0 {
+        let full = m_new;
+        let partial = |s: f64| CellMoisture {
+            hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
+            kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
+            curve_start_db: full.curve_start_db,
+        };
+        let d_m_full = d_m;
+        // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
+        // near saturation; the air's 1 − RH = 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
+        let dryness = |w: f64, p_ws: f64| {
+            let eps_w = EPS_WATER_AIR + w;
+            (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
+        };
+        let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
+            (-material.surface_erh_log_complement(partial(s), t)).exp() - dryness(w, p_ws)
+        };
+        let u_hi = material.surface_erh_log_complement(partial(1.0), t_out);
+        let dryness_hi = dryness(w_out, p_ws_out);
+        // exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness is
+        // not positive, and most uncapped cells are settled without the exponential.
+        let surely_below = dryness_hi * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi / 6.0))) >= 1.0;
+        let e_hi = if surely_below {
+            0.0
+        } else {
+            (-u_hi).exp() - dryness_hi
+        };
+        if e_hi > 0.0 {
+            // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
+            // saturation pressure is known already.
+            let e_lo =
+                (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(air.w, p_ws_e);
+            // The exhaust at the last fraction tried, which is usually the one returned.
+            let mut last = (f64::NAN, w_out, t_out, p_ws_out);
+            let s = cap_fraction(e_lo, e_hi, |s| {
+                let (w, t) = out_state(s * d_m_full);
+                last = (s, w, t, sat.pressure_pa(t));
+                excess_at(s, w, t, last.3)
+            });
+            m_next = partial(s);
+            d_m = s * d_m_full;
+            if last.0.to_bits() == s.to_bits() {
+                (_, w_out, t_out, p_ws_out) = last;
+            } else {
+                (w_out, t_out) = out_state(d_m);
+                p_ws_out = sat.pressure_pa(t_out);
+            }
+        }
+    }
+    // 5. condensation check
+    let w_sat = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
+    if w_out > w_sat {
+        let pod1 = pod0 - d_m;
+        let e_rhs = e_in - r * d_m * extra_latent;
+        // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
+        let f = |t: f64| {
+            let ws = sat.saturation_humidity_ratio(t, p_pa);
+            let pod = pod1 + (w_out - ws) / r;
+            CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t - e_rhs
+        };
+        let (mut lo, mut hi) = (t_out, t_out + 30.0);
+        while f(hi) < 0.0 {
+            hi += 30.0;
+        }
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            if f(mid) > 0.0 {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        let t_s = 0.5 * (lo + hi);
+        p_ws_out = sat.pressure_pa(t_s);
+        let w_s = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
+        let condensate = w_out - w_s;
+        m_next = material.add_water(m_next, condensate / r);
+        totals.condensate_kg_per_m2 += condensate * air_kg;
+        d_m -= condensate / r;
+        t_out = t_s;
+        w_out = w_s;
+        // The condensate's share of sorption heat is not counted: it returns as free water.
+        totals.sorption_heat_j_per_m2 += (pod0 - pod1) * dm * extra_latent;
+    } else {
+        totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
+    }
+    if totals.below_floor.is_none() {
+        if let Some(floor) = below_floor(t_out, p_ws_out, t_before, air.t_c, p_w_in) {
+            totals.below_floor = Some((k, t_out, floor));
+        }
+    }
+    totals.water_removed_kg_per_m2 += d_m * dm;
+    totals.max_rh_out = totals
+        .max_rh_out
+        .max(vapour_pressure_from_humidity_ratio(w_out, p_pa) / p_ws_out);
+    (
+        m_next,
+        LayerAir {
+            t_c: t_out,
+            w: w_out,
+        },
+    )
+}
+
 /// Advance one column over one time step.
 ///
 /// The column's layers run bottom to top (see [`ColumnMut`], [`CellMoisture`]); `forcing` gives the plenum air,
@@ -165,6 +417,11 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
     column: ColumnMut<'_>,
     forcing: ColumnForcing,
 ) -> (LayerAir, ColumnStepTotals) {
+    let mut totals = ColumnStepTotals::default();
+    let c = StepConsts::of(material, &forcing);
+    if c.air_kg <= 0.0 {
+        return (forcing.air_in, totals);
+    }
     let ColumnMut {
         hull_db,
         kernel_db,
@@ -172,19 +429,6 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         temp_c,
         dry_matter_kg_per_m2,
     } = column;
-    let ColumnForcing {
-        air_in,
-        dry_air_kg_per_m2_s,
-        p_pa,
-        dt_s,
-    } = forcing;
-    let mut totals = ColumnStepTotals::default();
-    let air_kg = dry_air_kg_per_m2_s * dt_s;
-    if air_kg <= 0.0 {
-        return (air_in, totals);
-    }
-    let cp_dm = material.cp_dry_j_per_kg_k();
-    let sat = SaturationTable::get();
     // Re-sliced to one length so the loop below needs no bounds checks.
     let n = dry_matter_kg_per_m2.len();
     let (hull_db, kernel_db, curve_start_db, temp_c) = (
@@ -193,153 +437,89 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         &mut curve_start_db[..n],
         &mut temp_c[..n],
     );
-    let mut air = air_in;
+    let mut air = forcing.air_in;
     for k in 0..n {
         let dm = dry_matter_kg_per_m2[k];
         if dm <= 0.0 {
             continue;
         }
-        let m = &CellMoisture {
+        let m = CellMoisture {
             hull_db: hull_db[k],
             kernel_db: kernel_db[k],
             curve_start_db: curve_start_db[k],
         };
-        let th = &mut temp_c[k];
-        let t_before = *th;
-        let r = dm / air_kg;
-        let pod0 = material.pod_db(*m);
-        let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
-        let c_grain = cp_dm + CP_WATER * pod0;
-        // 1. sensible mixing
-        let t_e = (c_air * air.t_c + r * c_grain * *th) / (c_air + r * c_grain);
-        let p_w_in = vapour_pressure_from_humidity_ratio(air.w, p_pa);
-        let p_ws_e = sat.pressure_pa(t_e);
-        let rh_e = (p_w_in / p_ws_e).min(1.0);
-        // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
-        let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * *th;
-        let ratio = material.latent_heat_ratio(t_e, *m);
-        let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
+        let x = mix(&c, m, temp_c[k], dm, air);
         // 2. thin-layer law
-        let m_new = material.thin_layer_step(*m, t_e, rh_e, dt_s);
-        let mut d_m = pod0 - material.pod_db(m_new);
-        let out_state = |d_m: f64| {
-            let w_out = air.w + r * d_m;
-            let pod1 = pod0 - d_m;
-            let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
-                / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
-            (w_out, t_out)
-        };
-        let (mut w_out, mut t_out) = out_state(d_m);
-        let mut p_ws_out = sat.pressure_pa(t_out);
-        let mut m_next = m_new;
-        // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
-        // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
-        if d_m > 0.0 {
-            let full = m_new;
-            let partial = |s: f64| CellMoisture {
-                hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
-                kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
-                curve_start_db: full.curve_start_db,
-            };
-            let d_m_full = d_m;
-            // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
-            // near saturation; the air's 1 − RH = 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
-            let dryness = |w: f64, p_ws: f64| {
-                let eps_w = EPS_WATER_AIR + w;
-                (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
-            };
-            let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
-                (-material.surface_erh_log_complement(partial(s), t)).exp() - dryness(w, p_ws)
-            };
-            let u_hi = material.surface_erh_log_complement(partial(1.0), t_out);
-            let dryness_hi = dryness(w_out, p_ws_out);
-            // exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness is
-            // not positive, and most uncapped cells are settled without the exponential.
-            let surely_below = dryness_hi * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi / 6.0))) >= 1.0;
-            let e_hi = if surely_below {
-                0.0
-            } else {
-                (-u_hi).exp() - dryness_hi
-            };
-            if e_hi > 0.0 {
-                // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
-                // saturation pressure is known already.
-                let e_lo =
-                    (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(air.w, p_ws_e);
-                // The exhaust at the last fraction tried, which is usually the one returned.
-                let mut last = (f64::NAN, w_out, t_out, p_ws_out);
-                let s = cap_fraction(e_lo, e_hi, |s| {
-                    let (w, t) = out_state(s * d_m_full);
-                    last = (s, w, t, sat.pressure_pa(t));
-                    excess_at(s, w, t, last.3)
-                });
-                m_next = partial(s);
-                d_m = s * d_m_full;
-                if last.0.to_bits() == s.to_bits() {
-                    (_, w_out, t_out, p_ws_out) = last;
-                } else {
-                    (w_out, t_out) = out_state(d_m);
-                    p_ws_out = sat.pressure_pa(t_out);
-                }
-            }
-        }
-        // 5. condensation check
-        let w_sat = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
-        if w_out > w_sat {
-            let pod1 = pod0 - d_m;
-            let e_rhs = e_in - r * d_m * extra_latent;
-            // f(T) = enthalpy of saturated air + peanuts holding the condensate, minus the energy available.
-            let f = |t: f64| {
-                let ws = sat.saturation_humidity_ratio(t, p_pa);
-                let pod = pod1 + (w_out - ws) / r;
-                CP_DRY_AIR * t + ws * (HFG0 + CP_VAPOUR * t) + r * (cp_dm + CP_WATER * pod) * t
-                    - e_rhs
-            };
-            let (mut lo, mut hi) = (t_out, t_out + 30.0);
-            while f(hi) < 0.0 {
-                hi += 30.0;
-            }
-            for _ in 0..60 {
-                let mid = 0.5 * (lo + hi);
-                if f(mid) > 0.0 {
-                    hi = mid;
-                } else {
-                    lo = mid;
-                }
-            }
-            let t_s = 0.5 * (lo + hi);
-            p_ws_out = sat.pressure_pa(t_s);
-            let w_s = humidity_ratio_from_vapour_pressure(p_ws_out, p_pa);
-            let condensate = w_out - w_s;
-            m_next = material.add_water(m_next, condensate / r);
-            totals.condensate_kg_per_m2 += condensate * air_kg;
-            d_m -= condensate / r;
-            t_out = t_s;
-            w_out = w_s;
-            // The condensate's share of sorption heat is not counted: it returns as free water.
-            totals.sorption_heat_j_per_m2 += (pod0 - pod1) * dm * extra_latent;
-        } else {
-            totals.sorption_heat_j_per_m2 += d_m * dm * extra_latent;
-        }
-        if totals.below_floor.is_none() {
-            if let Some(floor) = below_floor(t_out, p_ws_out, t_before, air.t_c, p_w_in) {
-                totals.below_floor = Some((k, t_out, floor));
-            }
-        }
-        totals.water_removed_kg_per_m2 += d_m * dm;
-        totals.max_rh_out = totals
-            .max_rh_out
-            .max(vapour_pressure_from_humidity_ratio(w_out, p_pa) / p_ws_out);
+        let m_new = material.thin_layer_step(m, x.t_e, x.rh_e, forcing.dt_s);
+        let (m_next, out) = finish(&c, &x, m_new, k, &mut totals);
         hull_db[k] = m_next.hull_db;
         kernel_db[k] = m_next.kernel_db;
         curve_start_db[k] = m_next.curve_start_db;
-        *th = t_out;
-        air = LayerAir {
-            t_c: t_out,
-            w: w_out,
-        };
+        temp_c[k] = out.t_c;
+        air = out;
     }
     (air, totals)
+}
+
+/// Four columns advanced over one time step together, layer by layer: each cell as [`step_column`] steps it, the
+/// four cells of a layer through one [`LayerMaterial::thin_layer_step4`] call (so each column's result is
+/// `step_column`'s to within round-off, and does not depend on the other three). A column with no air, or with
+/// fewer layers, sits out the layers it does not have; an empty column (no layers) pads a group of fewer than
+/// four. Columns stepped with different time steps go one by one through `step_column`.
+pub fn step_columns4<M: LayerMaterial + ?Sized>(
+    material: &M,
+    columns: [ColumnMut<'_>; 4],
+    forcing: [ColumnForcing; 4],
+) -> [(LayerAir, ColumnStepTotals); 4] {
+    let dt_s = forcing[0].dt_s;
+    if forcing.iter().any(|f| f.dt_s.to_bits() != dt_s.to_bits()) {
+        let mut out = [(forcing[0].air_in, ColumnStepTotals::default()); 4];
+        for ((o, column), f) in out.iter_mut().zip(columns).zip(forcing) {
+            *o = step_column(material, column, f);
+        }
+        return out;
+    }
+    let mut columns = columns;
+    let consts = four(|l| StepConsts::of(material, &forcing[l]));
+    let mut totals = [ColumnStepTotals::default(); 4];
+    let mut air = four(|l| forcing[l].air_in);
+    let layers = four(|l| columns[l].dry_matter_kg_per_m2.len());
+    for k in 0..layers.into_iter().max().unwrap_or(0) {
+        let mixed = four(|l| {
+            let col = &columns[l];
+            let dm = col.dry_matter_kg_per_m2.get(k).copied().unwrap_or(0.0);
+            (consts[l].air_kg > 0.0 && dm > 0.0).then(|| {
+                let m = CellMoisture {
+                    hull_db: col.hull_db[k],
+                    kernel_db: col.kernel_db[k],
+                    curve_start_db: col.curve_start_db[k],
+                };
+                mix(&consts[l], m, col.temp_c[k], dm, air[l])
+            })
+        });
+        // a lane with no cell here steps a copy of one that has (its result is not used)
+        let Some(any) = mixed.iter().flatten().next() else {
+            continue;
+        };
+        let lane = |l: usize| mixed[l].as_ref().unwrap_or(any);
+        let m_new = material.thin_layer_step4(
+            four(|l| lane(l).m),
+            four(|l| lane(l).t_e),
+            four(|l| lane(l).rh_e),
+            dt_s,
+        );
+        for (l, x) in mixed.iter().enumerate() {
+            let Some(x) = x else { continue };
+            let (m_next, out) = finish(&consts[l], x, m_new[l], k, &mut totals[l]);
+            let col = &mut columns[l];
+            col.hull_db[k] = m_next.hull_db;
+            col.kernel_db[k] = m_next.kernel_db;
+            col.curve_start_db[k] = m_next.curve_start_db;
+            col.temp_c[k] = out.t_c;
+            air[l] = out;
+        }
+    }
+    four(|l| (air[l], totals[l]))
 }
 
 /// How close below the hulls' equilibrium RH (decimal) the equilibrium cap lets the exhaust leave: the capped step

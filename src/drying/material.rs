@@ -5,6 +5,7 @@
 
 use crate::crop::Crop;
 use crate::drying::layer::{CellMoisture, LayerMaterial};
+use crate::props::lanes::{four, Lanes};
 use crate::props::thermal::bound_water_latent_heat_ratio;
 use crate::props::thin_layer::{PodModel, PodState, PodStepper};
 
@@ -97,6 +98,17 @@ impl LayerMaterial for CropMaterial {
     #[inline]
     fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture {
         from_pod(self.stepper.step(to_pod(m), t_c, rh, dt_s))
+    }
+    #[inline]
+    fn thin_layer_step4(
+        &self,
+        m: [CellMoisture; 4],
+        t_c: Lanes,
+        rh: Lanes,
+        dt_s: f64,
+    ) -> [CellMoisture; 4] {
+        let out = self.stepper.step4(four(|i| to_pod(m[i])), t_c, rh, dt_s);
+        four(|i| from_pod(out[i]))
     }
     #[inline]
     fn pod_db(&self, m: CellMoisture) -> f64 {
