@@ -17,7 +17,7 @@ use super::bed::{BedState, ColumnTotals};
 use super::bounds::{Bounds, Violation};
 use super::heater::Heater;
 use super::layer::{
-    step_column, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
+    step_columns4, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
 };
 pub use super::record::SeriesRow;
 use super::record::{record, PathAir};
@@ -27,6 +27,7 @@ use super::zones::{
     column_mass_below, dry_kg_below, shrink_kg, zone_masses, Thresholds, ZoneMasses,
 };
 use crate::airflow::solve::AirflowError;
+use crate::props::lanes::four;
 use crate::props::psychro::{self, AirState};
 use crate::units::wb_from_db;
 
@@ -349,16 +350,14 @@ pub trait RunObserver {
 }
 impl RunObserver for () {}
 
-/// One column's slices as the layer step takes them: hull, kernel, curve start, temperature, dry matter, flux.
-type Lanes<'a> = (
+/// Four columns' slices as the layer step takes them (fewer at the end of the bed): hull, kernel, curve start,
+/// temperature, dry matter.
+type Quad<'a> = (
     (
-        (
-            ((&'a mut [f64], &'a mut [f64]), &'a mut [f64]),
-            &'a mut [f64],
-        ),
-        &'a [f64],
+        ((&'a mut [f64], &'a mut [f64]), &'a mut [f64]),
+        &'a mut [f64],
     ),
-    &'a f64,
+    &'a [f64],
 );
 
 /// Below this many cells a step runs its columns on the calling thread: handing a few hundred cells to the pool
@@ -640,52 +639,83 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         let start = bed.curve_start_db.as_slice_mut().expect(layout);
         let temp = bed.temp_c.as_slice_mut().expect(layout);
         let dm = bed.dry_matter_kg_per_m2.as_slice().expect(layout);
-        let column = |(((((h, k), c), t), d), &g): Lanes<'_>| {
-            let forcing = ColumnForcing {
-                dry_air_kg_per_m2_s: g,
+        // Columns go four at a time, in fixed groups by index (0–3, 4–7, …) whatever the thread count, so every
+        // column is stepped the same way on any number of threads.
+        let quad = |((((h, k), c), t), d): Quad<'_>, g: &[f64]| -> [Option<ColumnResult>; 4] {
+            let q = g.len();
+            let (mut hs, mut ks, mut cs, mut ts) = (
+                h.chunks_mut(nz),
+                k.chunks_mut(nz),
+                c.chunks_mut(nz),
+                t.chunks_mut(nz),
+            );
+            let mut ds = d.chunks(nz);
+            // a group of fewer than four is padded with empty columns
+            let mut next = || ColumnMut {
+                hull_db: hs.next().unwrap_or_default(),
+                kernel_db: ks.next().unwrap_or_default(),
+                curve_start_db: cs.next().unwrap_or_default(),
+                temp_c: ts.next().unwrap_or_default(),
+                dry_matter_kg_per_m2: ds.next().unwrap_or_default(),
+            };
+            let columns = [next(), next(), next(), next()];
+            let forcing = four(|l| ColumnForcing {
+                dry_air_kg_per_m2_s: g.get(l).copied().unwrap_or(0.0),
                 ..base
-            };
-            let column = ColumnMut {
-                hull_db: &mut *h,
-                kernel_db: &mut *k,
-                curve_start_db: &mut *c,
-                temp_c: &mut *t,
-                dry_matter_kg_per_m2: d,
-            };
-            let (exhaust, totals) = step_column(material, column, forcing);
-            ColumnResult {
-                violation: bounds.check_column(h, k, t, &totals),
-                totals,
-                exhaust,
-                dry_air_kg_per_m2: g * dt_s,
-                after: ColumnTotals::of(
-                    material,
-                    (&*h).into(),
-                    (&*k).into(),
-                    (&*c).into(),
-                    (&*t).into(),
-                    d.into(),
-                ),
-                below_target_dm: column_mass_below((&*k).into(), d.into(), target_db),
-            }
+            });
+            let stepped = step_columns4(material, columns, forcing);
+            let (h, k, c, t) = (&*h, &*k, &*c, &*t);
+            four(|l| {
+                (l < q).then(|| {
+                    let cells = l * nz..(l + 1) * nz;
+                    let (h, k, c, t, d) = (
+                        &h[cells.clone()],
+                        &k[cells.clone()],
+                        &c[cells.clone()],
+                        &t[cells.clone()],
+                        &d[cells],
+                    );
+                    let (exhaust, totals) = stepped[l];
+                    ColumnResult {
+                        violation: bounds.check_column(h, k, t, &totals),
+                        totals,
+                        exhaust,
+                        dry_air_kg_per_m2: g[l] * dt_s,
+                        after: ColumnTotals::of(
+                            material,
+                            h.into(),
+                            k.into(),
+                            c.into(),
+                            t.into(),
+                            d.into(),
+                        ),
+                        below_target_dm: column_mass_below(k.into(), d.into(), target_db),
+                    }
+                })
+            })
         };
+        let group = 4 * nz;
+        self.results.clear();
         if hull.len() < PARALLEL_MIN_CELLS {
             // A small bed (a season's coarse grid) steps faster on this thread than handed to the pool and back.
-            self.results.clear();
-            let lanes = (hull.chunks_mut(nz).zip(kernel.chunks_mut(nz)))
-                .zip(start.chunks_mut(nz))
-                .zip(temp.chunks_mut(nz))
-                .zip(dm.chunks(nz))
-                .zip(flux.iter());
-            self.results.extend(lanes.map(column));
+            let quads = (hull.chunks_mut(group).zip(kernel.chunks_mut(group)))
+                .zip(start.chunks_mut(group))
+                .zip(temp.chunks_mut(group))
+                .zip(dm.chunks(group))
+                .zip(flux.chunks(4));
+            for (cells, g) in quads {
+                self.results.extend(quad(cells, g).into_iter().flatten());
+            }
         } else {
-            (hull.par_chunks_mut(nz).zip(kernel.par_chunks_mut(nz)))
-                .zip(start.par_chunks_mut(nz))
-                .zip(temp.par_chunks_mut(nz))
-                .zip(dm.par_chunks(nz))
-                .zip(flux.par_iter())
-                .map(column)
-                .collect_into_vec(&mut self.results);
+            let stepped: Vec<[Option<ColumnResult>; 4]> =
+                (hull.par_chunks_mut(group).zip(kernel.par_chunks_mut(group)))
+                    .zip(start.par_chunks_mut(group))
+                    .zip(temp.par_chunks_mut(group))
+                    .zip(dm.par_chunks(group))
+                    .zip(flux.par_chunks(4))
+                    .map(|(cells, g)| quad(cells, g))
+                    .collect();
+            self.results.extend(stepped.into_iter().flatten().flatten());
         }
     }
 
