@@ -1,6 +1,7 @@
 //! Four values at a time: the exponential and logarithm the pod law needs, written once over a small vector
 //! trait ([`Lane`]) that has two implementations, plain `[f64; 4]` ([`Plain`]) and 256-bit AVX2 registers
-//! ([`Avx2`], x86-64 only, chosen at run time by the caller, `PodStepper::step4`).
+//! (`Avx2`, x86-64 only, private to the crate: its operations are safe to call only where the processor has AVX2,
+//! which its one user, `PodStepper::step4`, checks at run time).
 //!
 //! Why not the C library's: its `exp` and `log` take one value a call, and the layer step's pod law spends about
 //! half its time in them and in the arithmetic around them (DEVELOPERS.md, "Speed work of 2026-12-04").
@@ -238,7 +239,7 @@ const ONE: u64 = 0x3ff0_0000_0000_0000;
 /// 256-bit AVX2 registers. Only for code compiled with the `avx2` target feature on a processor that has it.
 #[cfg(target_arch = "x86_64")]
 #[derive(Clone, Copy)]
-pub struct Avx2(std::arch::x86_64::__m256d);
+pub(crate) struct Avx2(std::arch::x86_64::__m256d);
 
 #[cfg(target_arch = "x86_64")]
 mod avx2 {
