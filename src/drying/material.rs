@@ -118,7 +118,7 @@ impl LayerMaterial for CropMaterial {
     fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
         self.model.hull().sorption.desorption.erh(t_c, m.hull_db)
     }
-    #[inline]
+    #[inline(always)]
     fn surface_erh_log_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
         self.model
             .hull()
@@ -127,7 +127,7 @@ impl LayerMaterial for CropMaterial {
             .erh_log_complement(t_c, m.hull_db)
             .0
     }
-    #[inline]
+    #[inline(always)]
     fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {
         // Water leaves the pod through the hull: its isotherm sets the heat of desorption. Bilinear look-up,
         // clamped at the table's edges.
