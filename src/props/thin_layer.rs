@@ -486,6 +486,9 @@ struct LaneTerms {
     g_scale: f64,
     /// The hull's adsorption offset.
     adsorption_offset_db: f64,
+    /// The processor has AVX2: checked once when the stepper is built (it is never read from a file, so the flag
+    /// always describes the processor it runs on), not on every call of the hot path.
+    avx2: bool,
 }
 
 /// A kernel rate constant that does not depend on the RH inside the hull.
@@ -561,6 +564,7 @@ impl PodStepper {
                         oil: oil_content_db,
                         g_scale: MoistureUnit::PercentDb.scale() / (1.0 - oil_content_db),
                         adsorption_offset_db: hull.sorption.adsorption_offset_db,
+                        avx2: has_avx2(),
                     }),
                     _ => None,
                 };
@@ -736,8 +740,16 @@ unsafe fn step_lanes_avx2(
     step_lanes::<lanes::Avx2>(lt, s, t_c, rh, dt_s)
 }
 
-/// [`step_lanes`] on the processor's widest lanes: AVX2 where it has them (checked once per call; the check reads
-/// a cached flag), plain values elsewhere, with the same result to the bit.
+/// Whether the processor has AVX2 (always false off x86-64).
+fn has_avx2() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    return std::arch::is_x86_feature_detected!("avx2");
+    #[cfg(not(target_arch = "x86_64"))]
+    false
+}
+
+/// [`step_lanes`] on the processor's widest lanes: AVX2 where it has them ([`LaneTerms::avx2`]), plain values
+/// elsewhere, with the same result to the bit.
 fn step_lanes_best(
     lt: &LaneTerms,
     s: &[PodState; 4],
@@ -746,8 +758,8 @@ fn step_lanes_best(
     dt_s: f64,
 ) -> ([PodState; 4], [bool; 4]) {
     #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2 (checked just above).
+    if lt.avx2 {
+        // SAFETY: `lt.avx2` was set from the run-time check on this processor (`has_avx2`).
         return unsafe { step_lanes_avx2(lt, s, t_c, rh, dt_s) };
     }
     step_lanes::<lanes::Plain>(lt, s, t_c, rh, dt_s)
