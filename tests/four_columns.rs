@@ -168,3 +168,20 @@ fn four_columns_step_together_as_one_by_one_to_round_off_on_the_bundled_peanut()
     }
     assert_ne!(cells4, cells1, "the four-lane path was not taken");
 }
+
+/// Columns stepped over different time steps cannot share one four-pod call: each goes through `step_column`, so
+/// the group's results are the one-by-one results to the bit (and the column with the shorter step is not stepped
+/// with the others' step).
+#[test]
+fn four_columns_with_different_time_steps_step_one_by_one() {
+    let material = peanut().1;
+    let (start, mut forcing) = columns();
+    forcing[1].dt_s = 180.0;
+    let (mut together, mut alone) = (start.clone(), start);
+    let [a, b, c, d] = &mut together;
+    let out4 = step_columns4(&material, [view(a), view(b), view(c), view(d)], forcing);
+    for (l, cells) in alone.iter_mut().enumerate() {
+        assert_eq!(out4[l], step_column(&material, view(cells), forcing[l]));
+    }
+    assert_eq!(together, alone);
+}
