@@ -9,6 +9,14 @@ use super::layer::{CellMoisture, LayerMaterial};
 use crate::error::{check_range, InputError};
 use crate::units::{db_from_wb, wb_from_db};
 
+/// A column (a lane along the layers) of a bed array as a slice: the bed's arrays are built in standard layout, so
+/// each column's layers are contiguous.
+pub fn contiguous<'a>(column: &ArrayView1<'a, f64>) -> &'a [f64] {
+    column
+        .to_slice()
+        .expect("bed arrays are in standard layout")
+}
+
 /// Moisture, temperature and dry matter of every cell of a load.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BedState {
@@ -199,7 +207,10 @@ impl BedState {
             .zip(lanes(&self.curve_start_db))
             .zip(lanes(&self.temp_c))
             .zip(lanes(&self.dry_matter_kg_per_m2))
-            .map(move |((((h, k), c), t), d)| ColumnTotals::of(material, h, k, c, t, d))
+            .map(move |((((h, k), c), t), d)| {
+                let [h, k, c, t, d] = [h, k, c, t, d].map(|v| contiguous(&v));
+                ColumnTotals::of(material, h, k, c, t, d)
+            })
     }
 
     /// Total water held, kg.
@@ -281,36 +292,36 @@ impl ColumnTotals {
     /// Totals of one column's cells (all views the same length, bottom layer first).
     pub fn of<M: LayerMaterial + ?Sized>(
         material: &M,
-        hull_db: ArrayView1<f64>,
-        kernel_db: ArrayView1<f64>,
-        curve_start_db: ArrayView1<f64>,
-        temp_c: ArrayView1<f64>,
-        dry_matter_kg_per_m2: ArrayView1<f64>,
+        hull_db: &[f64],
+        kernel_db: &[f64],
+        curve_start_db: &[f64],
+        temp_c: &[f64],
+        dry_matter_kg_per_m2: &[f64],
     ) -> Self {
-        Zip::from(hull_db)
-            .and(kernel_db)
-            .and(curve_start_db)
-            .and(temp_c)
-            .and(dry_matter_kg_per_m2)
-            .fold(
-                ColumnTotals {
-                    pod_water_kg_per_m2: 0.0,
-                    kernel_db_dm_kg_per_m2: 0.0,
-                    max_temp_c: f64::MIN,
-                },
-                |acc, &hull_db, &kernel_db, &curve_start_db, &t, &dm| {
-                    let pod = material.pod_db(CellMoisture {
-                        hull_db,
-                        kernel_db,
-                        curve_start_db,
-                    });
-                    ColumnTotals {
-                        pod_water_kg_per_m2: acc.pod_water_kg_per_m2 + pod * dm,
-                        kernel_db_dm_kg_per_m2: acc.kernel_db_dm_kg_per_m2 + kernel_db * dm,
-                        max_temp_c: f64::max(acc.max_temp_c, t),
-                    }
-                },
-            )
+        let mut acc = ColumnTotals {
+            pod_water_kg_per_m2: 0.0,
+            kernel_db_dm_kg_per_m2: 0.0,
+            max_temp_c: f64::MIN,
+        };
+        let n = hull_db.len();
+        // re-sliced to one length so the loop below needs no bounds checks
+        let (kernel_db, curve_start_db, temp_c, dm) = (
+            &kernel_db[..n],
+            &curve_start_db[..n],
+            &temp_c[..n],
+            &dry_matter_kg_per_m2[..n],
+        );
+        for k in 0..n {
+            let pod = material.pod_db(CellMoisture {
+                hull_db: hull_db[k],
+                kernel_db: kernel_db[k],
+                curve_start_db: curve_start_db[k],
+            });
+            acc.pod_water_kg_per_m2 += pod * dm[k];
+            acc.kernel_db_dm_kg_per_m2 += kernel_db[k] * dm[k];
+            acc.max_temp_c = f64::max(acc.max_temp_c, temp_c[k]);
+        }
+        acc
     }
 
     /// Mass-weighted mean kernel moisture (wet basis) from the summed `kernel_db_dm_kg_per_m2` and the summed dry

@@ -681,15 +681,8 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                         totals,
                         exhaust,
                         dry_air_kg_per_m2: g[l] * dt_s,
-                        after: ColumnTotals::of(
-                            material,
-                            h.into(),
-                            k.into(),
-                            c.into(),
-                            t.into(),
-                            d.into(),
-                        ),
-                        below_target_dm: column_mass_below(k.into(), d.into(), target_db),
+                        after: ColumnTotals::of(material, h, k, c, t, d),
+                        below_target_dm: column_mass_below(k, d, target_db),
                     }
                 })
             })

@@ -8,9 +8,9 @@
 //! The method is our own choice (stated in the outputs); the thresholds are the trade's (common practice, no source):
 //! over-dried below 9 % kernel w.b., still wet above target + 0.5 point.
 
-use ndarray::{Array2, ArrayView1};
+use ndarray::Array2;
 
-use super::bed::BedState;
+use super::bed::{contiguous, BedState};
 use super::layer::LayerMaterial;
 use super::run::RunSettings;
 use crate::units::{db_from_wb, wb_from_db};
@@ -27,12 +27,10 @@ fn share_below(a: f64, b: f64, threshold: f64) -> f64 {
 
 /// Dry mass per m² of one column whose kernel moisture (dry basis) lies below `threshold_db`, with the profile
 /// linear in cumulative dry mass between layer centres. `kernel_db` and `dry_matter` run from the floor up.
-pub fn column_mass_below(
-    kernel_db: ArrayView1<f64>,
-    dry_matter: ArrayView1<f64>,
-    threshold_db: f64,
-) -> f64 {
+pub fn column_mass_below(kernel_db: &[f64], dry_matter: &[f64], threshold_db: f64) -> f64 {
     let n = kernel_db.len();
+    // re-sliced to one length so the loop below needs no bounds checks
+    let dry_matter = &dry_matter[..n];
     if n == 0 {
         return 0.0;
     }
@@ -124,7 +122,7 @@ pub fn dry_kg_below(bed: &BedState, threshold_db: f64) -> f64 {
         .lanes(ndarray::Axis(2))
         .into_iter()
         .zip(bed.dry_matter_kg_per_m2.lanes(ndarray::Axis(2)))
-        .map(|(k, d)| column_mass_below(k, d, threshold_db))
+        .map(|(k, d)| column_mass_below(contiguous(&k), contiguous(&d), threshold_db))
         .sum();
     per_m2 * bed.column_area_m2
 }
@@ -172,8 +170,9 @@ pub fn zone_maps(bed: &BedState, s: &RunSettings) -> ZoneMaps {
             let d = bed.dry_matter_kg_per_m2.slice(ndarray::s![i, j, ..]);
             let total = d.sum();
             top[[i, j]] = wb_from_db(k.dot(&d) / total) * 100.0;
-            over[[i, j]] = column_mass_below(k, d, th.over_db) / total;
-            under[[i, j]] = 1.0 - column_mass_below(k, d, th.under_db) / total;
+            let (ks, ds) = (contiguous(&k), contiguous(&d));
+            over[[i, j]] = column_mass_below(ks, ds, th.over_db) / total;
+            under[[i, j]] = 1.0 - column_mass_below(ks, ds, th.under_db) / total;
         }
     }
     let mut side = Array2::zeros((nx, nz));
@@ -213,17 +212,25 @@ mod tests {
         // between centres, so 0.11 lies at mass 2.0: half the column is below it.
         let m = arr1(&[0.08, 0.10, 0.12, 0.14]);
         let d = arr1(&[1.0, 1.0, 1.0, 1.0]);
-        assert!((column_mass_below(m.view(), d.view(), 0.11) - 2.0).abs() < 1e-12);
+        assert!(
+            (column_mass_below(m.as_slice().unwrap(), d.as_slice().unwrap(), 0.11) - 2.0).abs()
+                < 1e-12
+        );
         // At the driest centre nothing is below (the end half-layer is constant); above the wettest, everything.
-        assert!(column_mass_below(m.view(), d.view(), 0.08).abs() < 1e-15);
-        assert!((column_mass_below(m.view(), d.view(), 0.20) - 4.0).abs() < 1e-15);
+        assert!(
+            column_mass_below(m.as_slice().unwrap(), d.as_slice().unwrap(), 0.08).abs() < 1e-15
+        );
+        assert!(
+            (column_mass_below(m.as_slice().unwrap(), d.as_slice().unwrap(), 0.20) - 4.0).abs()
+                < 1e-15
+        );
     }
 
     #[test]
     fn the_mass_below_moves_continuously_as_a_layer_crosses() {
         // One layer's moisture passes through the threshold: whole-cell counting would jump by a layer's mass.
         let d = arr1(&[1.0, 1.0, 1.0]);
-        let at = |x: f64| column_mass_below(arr1(&[0.08, x, 0.14]).view(), d.view(), 0.10);
+        let at = |x: f64| column_mass_below(&[0.08, x, 0.14], d.as_slice().unwrap(), 0.10);
         let (a, b) = (at(0.10 - 1e-9), at(0.10 + 1e-9));
         assert!((a - b).abs() < 1e-6, "{a} vs {b}");
     }
