@@ -82,7 +82,27 @@ impl Bounds {
                 1.0,
             );
         }
-        for k in 0..temp_c.len() {
+        // One pass with no early exit screens the column; only a column that fails it is searched for its first
+        // violation, in the order below. The limits are capped at the largest finite value, so that the screen's
+        // comparisons also fail for infinities (and, as every comparison does, for NaN).
+        let (m_hi, t_hi) = (
+            self.m_hi_db.min(f64::MAX),
+            (self.t_hi_c + TEMP_TOL_K).min(f64::MAX),
+        );
+        let n = temp_c.len();
+        let (hull, kernel) = (&hull_db[..n], &kernel_db[..n]);
+        let mut in_bounds = true;
+        for k in 0..n {
+            let (h, m, t) = (hull[k], kernel[k], temp_c[k]);
+            in_bounds &= (h >= 0.0)
+                & (h <= m_hi)
+                & (m >= 0.0)
+                & (m <= m_hi)
+                & (t >= -f64::MAX)
+                & (t <= t_hi);
+        }
+        let n = if in_bounds { 0 } else { n };
+        for k in 0..n {
             for (name, m) in [
                 ("hull moisture (d.b.)", hull_db[k]),
                 ("kernel moisture (d.b.)", kernel_db[k]),
