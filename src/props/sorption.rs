@@ -168,6 +168,26 @@ fn log_complement(rh: f64) -> f64 {
     }
 }
 
+/// The Cromarty form's log complement `u` of the ERH at `m_db` (dry-basis decimal, positive) and `t_c` °C, with
+/// `du/dm`; `s` is the scale of the form's moisture unit. Written with constant reciprocals so that no division
+/// waits on T or M (this sits on the layer step's critical path); `s/(1 − D_o)` depends on neither.
+#[inline(always)]
+fn cromarty_log_complement(oil_content_db: f64, s: f64, t_c: f64, m_db: f64) -> (f64, f64) {
+    let g = (1.1 + t_c * (1.0 / 90.0)) * (s / (1.0 - oil_content_db));
+    let x = m_db * g;
+    (x * x * (1.0 / 440.0), x * g * (2.0 / 440.0))
+}
+
+/// `(u, du/dm)` as it is below [`U_CAP`], else `(U_CAP, 0)`; NaN fails the test too.
+#[inline(always)]
+fn below_u_cap((u, du_dm): (f64, f64)) -> (f64, f64) {
+    if u < U_CAP {
+        (u, du_dm)
+    } else {
+        (U_CAP, 0.0)
+    }
+}
+
 #[inline]
 fn positive(term: f64) -> f64 {
     term.max(TEMP_TERM_MIN)
@@ -267,8 +287,20 @@ impl Isotherm {
     /// hull → air → kernel through it needs no exp/ln round trip and keeps full precision near saturation, where
     /// ERH itself rounds to 1. Consistent with [`Isotherm::erh`]: `ERH = 1 − exp(−u)`; a non-positive moisture
     /// gives `(0, 0)`; where the ERH form saturates the result is capped at [`U_CAP`] with slope 0.
-    #[inline]
+    #[inline(always)]
     pub fn erh_log_complement(&self, t_c: f64, m_db: f64) -> (f64, f64) {
+        match *self {
+            // The bundled peanut's hull form, in the layer step's hot path: kept inline there (the whole match is
+            // too large to be), the same arithmetic as the arm below.
+            Isotherm::Cromarty { oil_content_db } if m_db > 0.0 => below_u_cap(
+                cromarty_log_complement(oil_content_db, self.unit().scale(), t_c, m_db),
+            ),
+            _ => self.erh_log_complement_of_form(t_c, m_db),
+        }
+    }
+
+    /// [`Isotherm::erh_log_complement`] for every form.
+    fn erh_log_complement_of_form(&self, t_c: f64, m_db: f64) -> (f64, f64) {
         if m_db <= 0.0 || m_db.is_nan() {
             return (0.0, 0.0);
         }
@@ -292,11 +324,7 @@ impl Isotherm {
                 (u, u * b / m_db)
             }
             Isotherm::Cromarty { oil_content_db } => {
-                // Written with constant reciprocals so that no division waits on T or M (this sits on the layer
-                // step's critical path); s/(1 − D_o) depends on neither.
-                let g = (1.1 + t_c * (1.0 / 90.0)) * (s / (1.0 - oil_content_db));
-                let x = m_db * g;
-                (x * x * (1.0 / 440.0), x * g * (2.0 / 440.0))
+                cromarty_log_complement(oil_content_db, s, t_c, m_db)
             }
             Isotherm::ModifiedChungPfost { a, b, c, .. } => {
                 let v = a / positive(t_c + c) * (-b * m).exp();
@@ -325,12 +353,7 @@ impl Isotherm {
                 via_rh(rh, if dm_drh > 0.0 { 1.0 / dm_drh } else { 0.0 })
             }
         };
-        // NaN fails the test too.
-        if u < U_CAP {
-            (u, du_dm)
-        } else {
-            (U_CAP, 0.0)
-        }
+        below_u_cap((u, du_dm))
     }
 
     /// EMC (dry-basis decimal) in air whose RH has log complement `u = −ln(1 − RH)`, with `dM/du`. Consistent
