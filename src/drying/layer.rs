@@ -118,6 +118,7 @@ const FLOOR_TOL_K: f64 = 1e-6;
 /// most saturated and holds at least the water it brought). The floor is local: air dried by adsorption in a lower
 /// layer can evaporatively cool the layers above it below the *plenum* air's dew point, as a desiccant cooler
 /// does, so no bound from the plenum air alone holds for a whole column.
+#[inline(always)]
 fn below_floor(
     t_out: f64,
     p_ws_out: f64,
@@ -485,32 +486,36 @@ pub fn step_columns4<M: LayerMaterial + ?Sized>(
     let mut air = four(|l| forcing[l].air_in);
     let layers = four(|l| columns[l].dry_matter_kg_per_m2.len());
     for k in 0..layers.into_iter().max().unwrap_or(0) {
-        let mixed = four(|l| {
-            let col = &columns[l];
-            let dm = col.dry_matter_kg_per_m2.get(k).copied().unwrap_or(0.0);
-            (consts[l].air_kg > 0.0 && dm > 0.0).then(|| {
-                let m = CellMoisture {
-                    hull_db: col.hull_db[k],
-                    kernel_db: col.kernel_db[k],
-                    curve_start_db: col.curve_start_db[k],
-                };
-                mix(&consts[l], m, col.temp_c[k], dm, air[l])
-            })
+        let dm = four(|l| match columns[l].dry_matter_kg_per_m2.get(k) {
+            Some(&dm) if consts[l].air_kg > 0.0 => dm,
+            _ => 0.0,
         });
+        let active = four(|l| dm[l] > 0.0);
         // a lane with no cell here steps a copy of one that has (its result is not used)
-        let Some(any) = mixed.iter().flatten().next() else {
+        let Some(first) = active.iter().position(|&a| a) else {
             continue;
         };
-        let lane = |l: usize| mixed[l].as_ref().unwrap_or(any);
+        let mixed = four(|l| {
+            let l = if active[l] { l } else { first };
+            let col = &columns[l];
+            let m = CellMoisture {
+                hull_db: col.hull_db[k],
+                kernel_db: col.kernel_db[k],
+                curve_start_db: col.curve_start_db[k],
+            };
+            mix(&consts[l], m, col.temp_c[k], dm[l], air[l])
+        });
         let m_new = material.thin_layer_step4(
-            four(|l| lane(l).m),
-            four(|l| lane(l).t_e),
-            four(|l| lane(l).rh_e),
+            four(|l| mixed[l].m),
+            four(|l| mixed[l].t_e),
+            four(|l| mixed[l].rh_e),
             dt_s,
         );
-        for (l, x) in mixed.iter().enumerate() {
-            let Some(x) = x else { continue };
-            let (m_next, out) = finish(&consts[l], x, m_new[l], k, &mut totals[l]);
+        for l in 0..4 {
+            if !active[l] {
+                continue;
+            }
+            let (m_next, out) = finish(&consts[l], &mixed[l], m_new[l], k, &mut totals[l]);
             let col = &mut columns[l];
             col.hull_db[k] = m_next.hull_db;
             col.kernel_db[k] = m_next.kernel_db;
