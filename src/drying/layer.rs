@@ -322,14 +322,19 @@ fn finish<M: LayerMaterial + ?Sized>(
             (-material.surface_erh_log_complement(partial(s), t)).exp() - dryness(w, p_ws)
         };
         let u_hi = material.surface_erh_log_complement(partial(1.0), t_out);
-        let dryness_hi = dryness(w_out, p_ws_out);
         // exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness is
-        // not positive, and most uncapped cells are settled without the exponential.
-        let surely_below = dryness_hi * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi / 6.0))) >= 1.0;
+        // not positive, and most uncapped cells are settled without the exponential. The test is written without
+        // dryness's division (its denominator p_ws·(ε + W) is positive), which sits on the layer's dependent
+        // chain. It may round differently from the test with the division only within a few ulp of equality, where
+        // the bound's slack (u⁴/24 relative, far above round-off for any moisture a hull holds) leaves the excess
+        // negative either way, so the branch taken and every result are the same.
+        let eps_w = EPS_WATER_AIR + w_out;
+        let (den, num) = (p_ws_out * eps_w, p_ws_out * eps_w - p_pa * w_out);
+        let surely_below = num * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi * (1.0 / 6.0)))) >= den;
         let e_hi = if surely_below {
             0.0
         } else {
-            (-u_hi).exp() - dryness_hi
+            (-u_hi).exp() - dryness(w_out, p_ws_out)
         };
         if e_hi > 0.0 {
             // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
