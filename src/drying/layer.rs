@@ -213,8 +213,8 @@ struct Mixed {
     extra_latent: f64,
 }
 
-/// Sensible mixing of cell `m` (at `th` °C, `dm` kg dry matter per m²) with the air entering it.
-#[inline(always)]
+/// Sensible mixing of cell `m` (at `th` °C, `dm` kg dry matter per m²) with the air entering it: [`mix4`]'s
+/// arithmetic, for one cell (the single-column step is no hot path; the four-column step is).
 fn mix<M: LayerMaterial + ?Sized>(
     c: &StepConsts<'_, M>,
     m: CellMoisture,
@@ -222,41 +222,54 @@ fn mix<M: LayerMaterial + ?Sized>(
     dm: f64,
     air: LayerAir,
 ) -> Mixed {
-    let StepConsts {
-        material,
-        sat,
-        cp_dm,
-        air_kg,
-        p_pa,
-    } = *c;
-    let t_before = th;
-    let r = dm / air_kg;
-    let pod0 = material.pod_db(m);
-    let c_air = CP_DRY_AIR + CP_VAPOUR * air.w;
-    let c_grain = cp_dm + CP_WATER * pod0;
+    let [x, ..] = mix4(&[*c; 4], [m; 4], [th; 4], [dm; 4], [air; 4]);
+    x
+}
+
+/// Sensible mixing of four cells (`m` at `th` °C, `dm` kg dry matter per m², with the air entering each), each
+/// lane's arithmetic alone and the four side by side, so that the compiler can pair them in vector registers.
+#[inline(always)]
+fn mix4<M: LayerMaterial + ?Sized>(
+    c: &[StepConsts<'_, M>; 4],
+    m: [CellMoisture; 4],
+    th: Lanes,
+    dm: Lanes,
+    air: [LayerAir; 4],
+) -> [Mixed; 4] {
+    // one material and one saturation table for the four (as every caller has)
+    let (material, sat) = (c[0].material, c[0].sat);
+    let w = four(|l| air[l].w);
+    let ta = four(|l| air[l].t_c);
+    let r = four(|l| dm[l] / c[l].air_kg);
+    let pod0 = four(|l| material.pod_db(m[l]));
+    let c_air = four(|l| CP_DRY_AIR + CP_VAPOUR * w[l]);
+    let c_grain = four(|l| c[l].cp_dm + CP_WATER * pod0[l]);
     // 1. sensible mixing
-    let t_e = (c_air * air.t_c + r * c_grain * th) / (c_air + r * c_grain);
-    let p_w_in = vapour_pressure_from_humidity_ratio(air.w, p_pa);
-    let p_ws_e = sat.pressure_pa(t_e);
-    let rh_e = (p_w_in / p_ws_e).min(1.0);
+    let t_e =
+        four(|l| (c_air[l] * ta[l] + r[l] * c_grain[l] * th[l]) / (c_air[l] + r[l] * c_grain[l]));
+    let p_w_in = four(|l| vapour_pressure_from_humidity_ratio(w[l], c[l].p_pa));
+    let p_ws_e = four(|l| sat.pressure_pa(t_e[l]));
+    let rh_e = four(|l| (p_w_in[l] / p_ws_e[l]).min(1.0));
     // Enthalpy in: air (per kg dry air) + peanuts (per kg dry air through the layer).
-    let e_in = CP_DRY_AIR * air.t_c + air.w * (HFG0 + CP_VAPOUR * air.t_c) + r * c_grain * th;
-    let ratio = material.latent_heat_ratio(t_e, m);
-    let extra_latent = (ratio - 1.0) * free_water_latent_j_per_kg(t_e);
-    Mixed {
-        m,
-        air,
-        dm,
-        r,
-        t_before,
-        pod0,
-        t_e,
-        p_w_in,
-        p_ws_e,
-        rh_e,
-        e_in,
-        extra_latent,
-    }
+    let e_in = four(|l| {
+        CP_DRY_AIR * ta[l] + w[l] * (HFG0 + CP_VAPOUR * ta[l]) + r[l] * c_grain[l] * th[l]
+    });
+    let ratio = four(|l| material.latent_heat_ratio(t_e[l], m[l]));
+    let extra_latent = four(|l| (ratio[l] - 1.0) * free_water_latent_j_per_kg(t_e[l]));
+    four(|l| Mixed {
+        m: m[l],
+        air: air[l],
+        dm: dm[l],
+        r: r[l],
+        t_before: th[l],
+        pod0: pod0[l],
+        t_e: t_e[l],
+        p_w_in: p_w_in[l],
+        p_ws_e: p_ws_e[l],
+        rh_e: rh_e[l],
+        e_in: e_in[l],
+        extra_latent: extra_latent[l],
+    })
 }
 
 /// The rest of a cell's step once the thin-layer law has given `m_new` (steps 3–6 of [`step_column`]: exhaust,
@@ -500,16 +513,21 @@ pub fn step_columns4<M: LayerMaterial + ?Sized>(
         let Some(first) = active.iter().position(|&a| a) else {
             continue;
         };
-        let mixed = four(|l| {
-            let l = if active[l] { l } else { first };
-            let col = &columns[l];
-            let m = CellMoisture {
-                hull_db: col.hull_db[k],
-                kernel_db: col.kernel_db[k],
-                curve_start_db: col.curve_start_db[k],
-            };
-            mix(&consts[l], m, col.temp_c[k], dm[l], air[l])
-        });
+        let lane = four(|l| if active[l] { l } else { first });
+        let mixed = mix4(
+            &four(|l| consts[lane[l]]),
+            four(|l| {
+                let col = &columns[lane[l]];
+                CellMoisture {
+                    hull_db: col.hull_db[k],
+                    kernel_db: col.kernel_db[k],
+                    curve_start_db: col.curve_start_db[k],
+                }
+            }),
+            four(|l| columns[lane[l]].temp_c[k]),
+            four(|l| dm[lane[l]]),
+            four(|l| air[lane[l]]),
+        );
         let m_new = material.thin_layer_step4(
             four(|l| mixed[l].m),
             four(|l| mixed[l].t_e),
