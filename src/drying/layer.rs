@@ -198,6 +198,7 @@ impl<'a, M: LayerMaterial + ?Sized> StepConsts<'a, M> {
 }
 
 /// A cell mixed with the air entering it (step 1 of [`step_column`]): what the thin-layer law and the exhaust need.
+#[derive(Clone, Copy)]
 struct Mixed {
     m: CellMoisture,
     air: LayerAir,
@@ -272,14 +273,97 @@ fn mix4<M: LayerMaterial + ?Sized>(
     })
 }
 
-/// The rest of a cell's step once the thin-layer law has given `m_new` (steps 3–6 of [`step_column`]: exhaust,
-/// equilibrium cap, condensation, the column's totals): the cell's new moisture and the air leaving it, whose
-/// temperature is the cell's.
+/// The air leaving a cell whose pods lost `d_m` (dry basis) over the step: humidity ratio and temperature, from the
+/// cell's energy balance.
+#[inline(always)]
+fn out_state<M: LayerMaterial + ?Sized>(c: &StepConsts<'_, M>, x: &Mixed, d_m: f64) -> (f64, f64) {
+    let w_out = x.air.w + x.r * d_m;
+    let pod1 = x.pod0 - d_m;
+    let t_out = (x.e_in - w_out * HFG0 - x.r * d_m * x.extra_latent)
+        / (CP_DRY_AIR + CP_VAPOUR * w_out + x.r * (c.cp_dm + CP_WATER * pod1));
+    (w_out, t_out)
+}
+
+/// The air's 1 − RH at humidity ratio `w` and saturation pressure `p_ws`: 1 − p_w/p_ws with p_w = p·W/(ε + W), over
+/// one division.
+#[inline(always)]
+fn dryness(p_pa: f64, w: f64, p_ws: f64) -> f64 {
+    let eps_w = EPS_WATER_AIR + w;
+    (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
+}
+
+/// The cell's state a fraction `s` of the way from `m` to `full` (both compartments alike; the curve start is the
+/// full step's).
+#[inline(always)]
+fn partial(m: &CellMoisture, full: &CellMoisture, s: f64) -> CellMoisture {
+    CellMoisture {
+        hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
+        kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
+        curve_start_db: full.curve_start_db,
+    }
+}
+
+/// The exhaust of a cell's uncapped thin-layer step (step 3 of [`step_column`]), and by how much its RH exceeds the
+/// hulls' equilibrium RH when the cell dried (`e_hi`: positive when the equilibrium cap applies).
+#[derive(Clone, Copy)]
+struct Exhaust {
+    d_m: f64,
+    w_out: f64,
+    t_out: f64,
+    p_ws_out: f64,
+    e_hi: f64,
+}
+
+/// The exhausts of four cells once the thin-layer law has given `m_new`, lane-array by lane-array as in [`mix4`]:
+/// straight-line work but for the one exponential of an uncertain cap test.
+#[inline(always)]
+fn exhaust4<M: LayerMaterial + ?Sized>(
+    c: &[StepConsts<'_, M>; 4],
+    x: &[Mixed; 4],
+    m_new: [CellMoisture; 4],
+) -> [Exhaust; 4] {
+    let (material, sat) = (c[0].material, c[0].sat);
+    let d_m = four(|l| x[l].pod0 - material.pod_db(m_new[l]));
+    let out = four(|l| out_state(&c[l], &x[l], d_m[l]));
+    let p_ws_out = four(|l| sat.pressure_pa(out[l].1));
+    let u_hi =
+        four(|l| material.surface_erh_log_complement(partial(&x[l].m, &m_new[l], 1.0), out[l].1));
+    // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits near
+    // saturation. exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness
+    // is not positive, and most uncapped cells are settled without the exponential. The test is written without
+    // dryness's division (its denominator p_ws·(ε + W) is positive), which sits on the layer's dependent chain. It
+    // may round differently from the test with the division only within a few ulp of equality, where the bound's
+    // slack (u⁴/24 relative, far above round-off for any moisture a hull holds) leaves the excess negative either
+    // way, so the branch taken and every result are the same.
+    let surely_below = four(|l| {
+        let (w, p_ws, u) = (out[l].0, p_ws_out[l], u_hi[l]);
+        let eps_w = EPS_WATER_AIR + w;
+        let (den, num) = (p_ws * eps_w, p_ws * eps_w - c[l].p_pa * w);
+        num * (1.0 + u * (1.0 + u * (0.5 + u * (1.0 / 6.0)))) >= den
+    });
+    four(|l| Exhaust {
+        d_m: d_m[l],
+        w_out: out[l].0,
+        t_out: out[l].1,
+        p_ws_out: p_ws_out[l],
+        // no cap unless the cell dried (a NaN change does not)
+        e_hi: if d_m[l] > 0.0 && !surely_below[l] {
+            (-u_hi[l]).exp() - dryness(c[l].p_pa, out[l].0, p_ws_out[l])
+        } else {
+            0.0
+        },
+    })
+}
+
+/// The rest of a cell's step once the thin-layer law has given `m_new` and [`exhaust4`] its exhaust (steps 4–6 of
+/// [`step_column`]: equilibrium cap, condensation, the column's totals): the cell's new moisture and the air leaving
+/// it, whose temperature is the cell's.
 #[inline(always)]
 fn finish<M: LayerMaterial + ?Sized>(
     c: &StepConsts<'_, M>,
     x: &Mixed,
     m_new: CellMoisture,
+    ex: Exhaust,
     k: usize,
     totals: &mut ColumnStepTotals,
 ) -> (CellMoisture, LayerAir) {
@@ -304,71 +388,40 @@ fn finish<M: LayerMaterial + ?Sized>(
         extra_latent,
         ..
     } = *x;
-    let mut d_m = pod0 - material.pod_db(m_new);
-    let out_state = |d_m: f64| {
-        let w_out = air.w + r * d_m;
-        let pod1 = pod0 - d_m;
-        let t_out = (e_in - w_out * HFG0 - r * d_m * extra_latent)
-            / (CP_DRY_AIR + CP_VAPOUR * w_out + r * (cp_dm + CP_WATER * pod1));
-        (w_out, t_out)
-    };
-    let (mut w_out, mut t_out) = out_state(d_m);
-    let mut p_ws_out = sat.pressure_pa(t_out);
+    let Exhaust {
+        mut d_m,
+        mut w_out,
+        mut t_out,
+        mut p_ws_out,
+        e_hi,
+    } = ex;
     let mut m_next = m_new;
     // 6. equilibrium cap when drying: scale the thin-layer change by s in [0, 1] (both compartments alike, so
     // the pod change scales linearly) until the exhaust RH meets the hulls' equilibrium RH.
-    if d_m > 0.0 {
-        let full = m_new;
-        let partial = |s: f64| CellMoisture {
-            hull_db: m.hull_db + s * (full.hull_db - m.hull_db),
-            kernel_db: m.kernel_db + s * (full.kernel_db - m.kernel_db),
-            curve_start_db: full.curve_start_db,
-        };
+    if e_hi > 0.0 {
         let d_m_full = d_m;
-        // RH_out − ERH_hull, written as (1 − ERH_hull) − (1 − RH_out) so that neither side loses digits
-        // near saturation; the air's 1 − RH = 1 − p_w/p_ws with p_w = p·W/(ε + W), over one division.
-        let dryness = |w: f64, p_ws: f64| {
-            let eps_w = EPS_WATER_AIR + w;
-            (p_ws * eps_w - p_pa * w) / (p_ws * eps_w)
-        };
         let excess_at = |s: f64, w: f64, t: f64, p_ws: f64| {
-            (-material.surface_erh_log_complement(partial(s), t)).exp() - dryness(w, p_ws)
+            (-material.surface_erh_log_complement(partial(m, &m_new, s), t)).exp()
+                - dryness(p_pa, w, p_ws)
         };
-        let u_hi = material.surface_erh_log_complement(partial(1.0), t_out);
-        // exp(u) ≥ 1 + u + u²/2 + u³/6 for u ≥ 0, so when dryness·(that) ≥ 1 the excess exp(−u) − dryness is
-        // not positive, and most uncapped cells are settled without the exponential. The test is written without
-        // dryness's division (its denominator p_ws·(ε + W) is positive), which sits on the layer's dependent
-        // chain. It may round differently from the test with the division only within a few ulp of equality, where
-        // the bound's slack (u⁴/24 relative, far above round-off for any moisture a hull holds) leaves the excess
-        // negative either way, so the branch taken and every result are the same.
-        let eps_w = EPS_WATER_AIR + w_out;
-        let (den, num) = (p_ws_out * eps_w, p_ws_out * eps_w - p_pa * w_out);
-        let surely_below = num * (1.0 + u_hi * (1.0 + u_hi * (0.5 + u_hi * (1.0 / 6.0)))) >= den;
-        let e_hi = if surely_below {
-            0.0
+        // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose saturation
+        // pressure is known already.
+        let e_lo =
+            (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(p_pa, air.w, p_ws_e);
+        // The exhaust at the last fraction tried, which is usually the one returned.
+        let mut last = (f64::NAN, w_out, t_out, p_ws_out);
+        let s = cap_fraction(e_lo, e_hi, |s| {
+            let (w, t) = out_state(c, x, s * d_m_full);
+            last = (s, w, t, sat.pressure_pa(t));
+            excess_at(s, w, t, last.3)
+        });
+        m_next = partial(m, &m_new, s);
+        d_m = s * d_m_full;
+        if last.0.to_bits() == s.to_bits() {
+            (_, w_out, t_out, p_ws_out) = last;
         } else {
-            (-u_hi).exp() - dryness(w_out, p_ws_out)
-        };
-        if e_hi > 0.0 {
-            // With no moisture change the air leaves at the mixing state (T = t_e, W = W_in), whose
-            // saturation pressure is known already.
-            let e_lo =
-                (-material.surface_erh_log_complement(*m, t_e)).exp() - dryness(air.w, p_ws_e);
-            // The exhaust at the last fraction tried, which is usually the one returned.
-            let mut last = (f64::NAN, w_out, t_out, p_ws_out);
-            let s = cap_fraction(e_lo, e_hi, |s| {
-                let (w, t) = out_state(s * d_m_full);
-                last = (s, w, t, sat.pressure_pa(t));
-                excess_at(s, w, t, last.3)
-            });
-            m_next = partial(s);
-            d_m = s * d_m_full;
-            if last.0.to_bits() == s.to_bits() {
-                (_, w_out, t_out, p_ws_out) = last;
-            } else {
-                (w_out, t_out) = out_state(d_m);
-                p_ws_out = sat.pressure_pa(t_out);
-            }
+            (w_out, t_out) = out_state(c, x, d_m);
+            p_ws_out = sat.pressure_pa(t_out);
         }
     }
     // 5. condensation check
@@ -470,7 +523,8 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
         let x = mix(&c, m, temp_c[k], dm, air);
         // 2. thin-layer law
         let m_new = material.thin_layer_step(m, x.t_e, x.rh_e, forcing.dt_s);
-        let (m_next, out) = finish(&c, &x, m_new, k, &mut totals);
+        let [ex, ..] = exhaust4(&[c; 4], &[x; 4], [m_new; 4]);
+        let (m_next, out) = finish(&c, &x, m_new, ex, k, &mut totals);
         hull_db[k] = m_next.hull_db;
         kernel_db[k] = m_next.kernel_db;
         curve_start_db[k] = m_next.curve_start_db;
@@ -514,8 +568,9 @@ pub fn step_columns4<M: LayerMaterial + ?Sized>(
             continue;
         };
         let lane = four(|l| if active[l] { l } else { first });
+        let lane_consts = four(|l| consts[lane[l]]);
         let mixed = mix4(
-            &four(|l| consts[lane[l]]),
+            &lane_consts,
             four(|l| {
                 let col = &columns[lane[l]];
                 CellMoisture {
@@ -534,11 +589,12 @@ pub fn step_columns4<M: LayerMaterial + ?Sized>(
             four(|l| mixed[l].rh_e),
             dt_s,
         );
+        let ex = exhaust4(&lane_consts, &mixed, m_new);
         for l in 0..4 {
             if !active[l] {
                 continue;
             }
-            let (m_next, out) = finish(&consts[l], &mixed[l], m_new[l], k, &mut totals[l]);
+            let (m_next, out) = finish(&consts[l], &mixed[l], m_new[l], ex[l], k, &mut totals[l]);
             let col = &mut columns[l];
             col.hull_db[k] = m_next.hull_db;
             col.kernel_db[k] = m_next.kernel_db;
