@@ -136,9 +136,14 @@ impl LayerMaterial for CropMaterial {
         // Both are clamped to be non-negative and small: `as u32` truncates them as `as usize` would, cheaper.
         let (i, j) = (x as u32 as usize, y as u32 as usize);
         let (fx, fy) = (x - i as f64, y - j as f64);
-        let at = |i: usize, j: usize| self.latent_ratio[i * NM + j];
-        let a = at(i, j) + fy * (at(i, j + 1) - at(i, j));
-        let b = at(i + 1, j) + fy * (at(i + 1, j + 1) - at(i + 1, j));
+        // the two table rows' neighbouring pairs, each fetched with one bounds check
+        let pair = |i: usize| {
+            let p = &self.latent_ratio[i * NM + j..][..2];
+            (p[0], p[1])
+        };
+        let ((a0, a1), (b0, b1)) = (pair(i), pair(i + 1));
+        let a = a0 + fy * (a1 - a0);
+        let b = b0 + fy * (b1 - b0);
         a + fx * (b - a)
     }
     #[inline]
