@@ -214,19 +214,6 @@ struct Mixed {
     extra_latent: f64,
 }
 
-/// Sensible mixing of cell `m` (at `th` °C, `dm` kg dry matter per m²) with the air entering it: [`mix4`]'s
-/// arithmetic, for one cell (the single-column step is no hot path; the four-column step is).
-fn mix<M: LayerMaterial + ?Sized>(
-    c: &StepConsts<'_, M>,
-    m: CellMoisture,
-    th: f64,
-    dm: f64,
-    air: LayerAir,
-) -> Mixed {
-    let [x, ..] = mix4(&[*c; 4], [m; 4], [th; 4], [dm; 4], [air; 4]);
-    x
-}
-
 /// Sensible mixing of four cells (`m` at `th` °C, `dm` kg dry matter per m², with the air entering each), each
 /// lane's arithmetic alone and the four side by side, so that the compiler can pair them in vector registers.
 #[inline(always)]
@@ -520,7 +507,9 @@ pub fn step_column<M: LayerMaterial + ?Sized>(
             kernel_db: kernel_db[k],
             curve_start_db: curve_start_db[k],
         };
-        let x = mix(&c, m, temp_c[k], dm, air);
+        // the four-cell parts with the cell in every lane (this one-column step is no hot path; the four-column
+        // step is)
+        let [x, ..] = mix4(&[c; 4], [m; 4], [temp_c[k]; 4], [dm; 4], [air; 4]);
         // 2. thin-layer law
         let m_new = material.thin_layer_step(m, x.t_e, x.rh_e, forcing.dt_s);
         let [ex, ..] = exhaust4(&[c; 4], &[x; 4], [m_new; 4]);
