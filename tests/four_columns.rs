@@ -3,48 +3,11 @@
 //! the bundled peanut, whose four pods go through the four-lane path of its pod law.
 mod deep_bed_support;
 
-use deep_bed_support::peanut;
+use deep_bed_support::{peanut, SteppedBy};
 use dryfront::drying::layer::{
-    step_column, step_columns4, CellMoisture, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir,
-    LayerMaterial,
+    step_column, step_columns4, ColumnForcing, ColumnMut, ColumnStepTotals, LayerAir, LayerMaterial,
 };
 use dryfront::drying::material::CropMaterial;
-
-/// The peanut with the trait's default four-at-a-time step (one pod after another).
-struct OneByOne(CropMaterial);
-
-impl LayerMaterial for OneByOne {
-    fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture {
-        self.0.thin_layer_step(m, t_c, rh, dt_s)
-    }
-    fn pod_db(&self, m: CellMoisture) -> f64 {
-        self.0.pod_db(m)
-    }
-    fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
-        self.0.surface_erh(m, t_c)
-    }
-    fn surface_erh_log_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
-        self.0.surface_erh_log_complement(m, t_c)
-    }
-    fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {
-        self.0.latent_heat_ratio(t_c, m)
-    }
-    fn cp_dry_j_per_kg_k(&self) -> f64 {
-        self.0.cp_dry_j_per_kg_k()
-    }
-    fn add_water(&self, m: CellMoisture, d_pod_db: f64) -> CellMoisture {
-        self.0.add_water(m, d_pod_db)
-    }
-    fn kernel_fraction(&self) -> f64 {
-        self.0.kernel_fraction()
-    }
-    fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture {
-        self.0.initial_state(kernel_db, t_c)
-    }
-    fn moisture_ceiling_db(&self) -> f64 {
-        self.0.moisture_ceiling_db()
-    }
-}
 
 /// One column's cells: hull, kernel, curve start, temperature, dry matter.
 type Cells = [Vec<f64>; 5];
@@ -124,7 +87,11 @@ fn both_ways<M: LayerMaterial>(material: &M) -> [Stepped; 2] {
 
 #[test]
 fn four_columns_step_together_as_one_by_one_to_the_bit_with_pods_stepped_one_by_one() {
-    let [together, alone] = both_ways(&OneByOne(peanut().1));
+    // the peanut with the trait's default four-at-a-time step (one pod after another)
+    let one_by_one = SteppedBy(peanut().1, |p: &CropMaterial, m, t_c, rh, dt_s| {
+        p.thin_layer_step(m, t_c, rh, dt_s)
+    });
+    let [together, alone] = both_ways(&one_by_one);
     assert_eq!(together, alone);
     // the cases are what they say: the humid column took up water and condensed some
     let totals = &together.1[0][1].1;

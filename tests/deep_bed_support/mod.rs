@@ -4,7 +4,7 @@
 use dryfront::crop::Crop;
 use dryfront::drying::bed::{BedState, InitialMoisture};
 use dryfront::drying::heater::{Fuel, Heater, HeaterStrategy};
-use dryfront::drying::layer::LayerMaterial;
+use dryfront::drying::layer::{CellMoisture, LayerMaterial};
 use dryfront::drying::material::CropMaterial;
 use dryfront::drying::run::{
     Ambient, ConstantAmbient, FixedFlow, FlowField, Outcome, Run, RunSettings,
@@ -17,6 +17,47 @@ pub fn peanut() -> (Crop, CropMaterial) {
     let crop = Crop::load_named("peanut-inshell").expect("bundled peanut model loads");
     let material = CropMaterial::new(&crop);
     (crop, material)
+}
+
+/// The bundled peanut as a layer material whose thin-layer step is `step(peanut, m, t_c, rh, dt_s)`, everything
+/// else the peanut's own; its four-at-a-time step is the trait's default, one pod after another. The seam for the
+/// tests that change one cell's step or step the pods one by one.
+pub struct SteppedBy<F>(pub CropMaterial, pub F);
+
+impl<F> LayerMaterial for SteppedBy<F>
+where
+    F: Fn(&CropMaterial, CellMoisture, f64, f64, f64) -> CellMoisture + Sync,
+{
+    fn thin_layer_step(&self, m: CellMoisture, t_c: f64, rh: f64, dt_s: f64) -> CellMoisture {
+        (self.1)(&self.0, m, t_c, rh, dt_s)
+    }
+    fn pod_db(&self, m: CellMoisture) -> f64 {
+        self.0.pod_db(m)
+    }
+    fn surface_erh(&self, m: CellMoisture, t_c: f64) -> f64 {
+        self.0.surface_erh(m, t_c)
+    }
+    fn surface_erh_log_complement(&self, m: CellMoisture, t_c: f64) -> f64 {
+        self.0.surface_erh_log_complement(m, t_c)
+    }
+    fn latent_heat_ratio(&self, t_c: f64, m: CellMoisture) -> f64 {
+        self.0.latent_heat_ratio(t_c, m)
+    }
+    fn cp_dry_j_per_kg_k(&self) -> f64 {
+        self.0.cp_dry_j_per_kg_k()
+    }
+    fn add_water(&self, m: CellMoisture, d_pod_db: f64) -> CellMoisture {
+        self.0.add_water(m, d_pod_db)
+    }
+    fn kernel_fraction(&self) -> f64 {
+        self.0.kernel_fraction()
+    }
+    fn initial_state(&self, kernel_db: f64, t_c: f64) -> CellMoisture {
+        self.0.initial_state(kernel_db, t_c)
+    }
+    fn moisture_ceiling_db(&self) -> f64 {
+        self.0.moisture_ceiling_db()
+    }
 }
 
 /// A uniform-bed case.
