@@ -419,7 +419,9 @@ pub struct Run<'a, M: LayerMaterial + ?Sized> {
     series: Vec<SeriesRow>,
     next_record_s: f64,
     stopped: Option<StopReason>,
-    results: Vec<ColumnResult>,
+    /// The last step's column results, four columns a group as the layer step goes (the last group padded with
+    /// `None`); [`in_column_order`] reads them in column order.
+    results: Vec<[Option<ColumnResult>; 4]>,
 }
 
 impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
@@ -688,7 +690,6 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
             })
         };
         let group = 4 * nz;
-        self.results.clear();
         if hull.len() < PARALLEL_MIN_CELLS {
             // A small bed (a season's coarse grid) steps faster on this thread than handed to the pool and back.
             let quads = (hull.chunks_mut(group).zip(kernel.chunks_mut(group)))
@@ -696,28 +697,23 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
                 .zip(temp.chunks_mut(group))
                 .zip(dm.chunks(group))
                 .zip(flux.chunks(4));
-            for (cells, g) in quads {
-                self.results.extend(quad(cells, g).into_iter().flatten());
-            }
+            self.results.clear();
+            self.results.extend(quads.map(|(cells, g)| quad(cells, g)));
         } else {
-            let stepped: Vec<[Option<ColumnResult>; 4]> =
-                (hull.par_chunks_mut(group).zip(kernel.par_chunks_mut(group)))
-                    .zip(start.par_chunks_mut(group))
-                    .zip(temp.par_chunks_mut(group))
-                    .zip(dm.par_chunks(group))
-                    .zip(flux.par_chunks(4))
-                    .map(|(cells, g)| quad(cells, g))
-                    .collect();
-            self.results.extend(stepped.into_iter().flatten().flatten());
+            (hull.par_chunks_mut(group).zip(kernel.par_chunks_mut(group)))
+                .zip(start.par_chunks_mut(group))
+                .zip(temp.par_chunks_mut(group))
+                .zip(dm.par_chunks(group))
+                .zip(flux.par_chunks(4))
+                .map(|(cells, g)| quad(cells, g))
+                .collect_into_vec(&mut self.results);
         }
     }
 
     /// The first out-of-bounds cell, in column order.
     fn check_bounds(&self, hours: f64) -> Result<(), RunError> {
         let ny = self.bed.dim().1;
-        match self
-            .results
-            .iter()
+        match in_column_order(&self.results)
             .enumerate()
             .find_map(|(c, r)| r.violation.map(|v| (c, v)))
         {
@@ -761,7 +757,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         };
         let removed = self.bal.add_step(
             &air,
-            self.results.iter().map(|r| ColumnFlux {
+            in_column_order(&self.results).map(|r| ColumnFlux {
                 totals: &r.totals,
                 exhaust_t_c: r.exhaust.t_c,
                 exhaust_w: r.exhaust.w,
@@ -777,7 +773,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
         self.update_totals();
         self.rate.observe(hours, self.levels.mean_kernel_wb);
         let tally = self.cross(&before);
-        let exhaust = mean_exhaust(&self.results, plenum.p_pa);
+        let exhaust = mean_exhaust(in_column_order(&self.results), plenum.p_pa);
         let row = self.maybe_record(
             &sample,
             PathAir {
@@ -819,7 +815,7 @@ impl<'a, M: LayerMaterial + ?Sized> Run<'a, M> {
     /// Bed totals from the columns' results (summed in column order).
     fn update_totals(&mut self) {
         let (mut water, mut kernel_dm, mut above, mut peak) = (0.0, 0.0, 0.0, f64::MIN);
-        for (r, dm) in self.results.iter().zip(&self.column_dm) {
+        for (r, dm) in in_column_order(&self.results).zip(&self.column_dm) {
             water += r.after.pod_water_kg_per_m2;
             kernel_dm += r.after.kernel_db_dm_kg_per_m2;
             above += dm - r.below_target_dm;
@@ -989,7 +985,12 @@ pub fn start_plenum_estimate(heater: &Heater, first: &AmbientSample) -> AirState
         .plenum
 }
 
-fn mean_exhaust(results: &[ColumnResult], p_pa: f64) -> AirState {
+/// Column results kept four columns a group, in column order.
+fn in_column_order(results: &[[Option<ColumnResult>; 4]]) -> impl Iterator<Item = &ColumnResult> {
+    results.iter().flatten().flatten()
+}
+
+fn mean_exhaust<'r>(results: impl Iterator<Item = &'r ColumnResult>, p_pa: f64) -> AirState {
     let (mut air, mut h, mut w) = (0.0, 0.0, 0.0);
     for r in results {
         air += r.dry_air_kg_per_m2;
